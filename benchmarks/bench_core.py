@@ -1,0 +1,337 @@
+"""Benchmark of placer's exact search against a plain CP-SAT model and the hand method.
+
+Run from the repository root::
+
+    python benchmarks/bench_core.py [--repeat N] [--quick] [--cpsat-seconds S]
+
+Three invented Wrenmoor shop rotors, all with at most 4 parts and the whole
+trade-off front k = 0..4:
+
+(a) fan hub, 12-hole bolt circle at 150 mm, 5 steel washer sizes (from
+    catalogs/washers-steel.toml when present), up to 3 washers per bolt,
+    30 of each on hand;
+(b) pump impeller, 36 holes at 210 mm, 12 sizes 2..40 g, one per hole;
+(c) wheel rim, 120 slots at 190 mm, 12 clip sizes 5..60 g in 5 g steps,
+    one per slot.
+
+Each case has a fixed, seeded set of required corrections with magnitudes
+between 1.5 and 3.5 times the largest part's g·mm and random angles.  For
+each correction it measures
+
+* the exact front, cold (PlacementSearch built for the correction, as one job
+  is run) and warm (one search built beforehand and reused), median time,
+  and whether every entry is proven (``Front.optimal``);
+* a plain CP-SAT model (integer count per position and item, capacity, stock
+  and part-count constraints, the residual bounded by a 16-sided polygon),
+  for K = 3 and K = 4 parts, one worker, with a time limit: time, whether it
+  proved its own (polygonal) optimum, and the Euclidean residual of its
+  incumbent relative to the exact one;
+* the hand method (placer.split.handbook_plan): residual relative to the
+  exact front at the same part count (2) and at 4 parts, and the parts used.
+
+Times are wall-clock, in process, after imports.  Printing is the point of
+this script; it is not part of the package.
+"""
+
+from __future__ import annotations
+
+import argparse
+import math
+import statistics
+import sys
+import time
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+REPO = Path(__file__).resolve().parent.parent
+if str(REPO) not in sys.path:
+    sys.path.insert(0, str(REPO))
+
+import numpy as np  # noqa: E402
+import scipy.spatial  # noqa: E402,F401  (imported here so no timing pays for it)
+from ortools.sat.python import cp_model  # noqa: E402
+
+from placer.search import ABS_TOL, REL_TOL, PlacementSearch  # noqa: E402
+from placer.split import handbook_plan, residual_gmm  # noqa: E402
+
+MAX_PARTS = 4
+POLYGON_SIDES = 16
+CPSAT_SCALE = 100.0
+"""Effects are rounded to 1/CPSAT_SCALE g·mm for the integer model."""
+DIRECTION_SCALE = 10_000
+"""cos and sin of the polygon's directions are rounded to 1/DIRECTION_SCALE."""
+WASHERS_FALLBACK_G = (1.13, 1.83, 3.57, 6.27, 11.25)
+WASHERS_FILE = REPO / "catalogs" / "washers-steel.toml"
+
+
+@dataclass(frozen=True)
+class Case:
+    """One benchmark rotor: positions on one circle, stock items, a time target."""
+
+    label: str
+    n_positions: int
+    radius_mm: float
+    item_masses_g: tuple[float, ...]
+    capacity: int
+    stock: int
+    target_s: float
+    seed: int
+
+    @property
+    def angles_deg(self) -> np.ndarray:
+        return np.arange(self.n_positions) * 360.0 / self.n_positions
+
+    @property
+    def radii_mm(self) -> np.ndarray:
+        return np.full(self.n_positions, self.radius_mm)
+
+    def effects(self) -> np.ndarray:
+        """effect[j, k] = -mass_g[k] * radius_mm[j] * exp(i angle_j), one channel."""
+        phase = np.exp(1j * np.radians(self.angles_deg))
+        masses = np.asarray(self.item_masses_g)
+        return -(self.radii_mm * phase)[:, None] * masses[None, :]
+
+    def corrections(self, count: int) -> list[complex]:
+        rng = np.random.default_rng(self.seed)
+        largest_gmm = max(self.item_masses_g) * self.radius_mm
+        magnitudes = rng.uniform(1.5, 3.5, size=count) * largest_gmm
+        angles = rng.uniform(0.0, 2.0 * math.pi, size=count)
+        return [complex(m * np.exp(1j * a)) for m, a in zip(magnitudes, angles)]
+
+    def search(self) -> PlacementSearch:
+        return PlacementSearch(self.effects(), np.full(self.n_positions, self.capacity),
+                               np.full(len(self.item_masses_g), self.stock), MAX_PARTS)
+
+
+def washer_masses() -> tuple[tuple[float, ...], str]:
+    if WASHERS_FILE.exists():
+        with WASHERS_FILE.open("rb") as handle:
+            items = tomllib.load(handle)["items"]
+        return tuple(float(item["mass_g"]) for item in items), WASHERS_FILE.name
+    return WASHERS_FALLBACK_G, "built-in list"
+
+
+def build_cases() -> tuple[list[Case], str]:
+    washers, source = washer_masses()
+    cases = [
+        Case("(a) 12 holes x 5 washers, cap 3", 12, 150.0, washers, 3, 30, 0.020, 101),
+        Case("(b) 36 holes x 12 sizes, cap 1", 36, 210.0,
+             (2.0, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0, 12.0, 16.0, 20.0, 30.0, 40.0), 1, 30, 0.100, 202),
+        Case("(c) 120 slots x 12 clips, cap 1", 120, 190.0,
+             tuple(float(m) for m in range(5, 61, 5)), 1, 30, 1.000, 303),
+    ]
+    return cases, source
+
+
+# ----------------------------------------------------------------- CP-SAT
+def cpsat_solve(case: Case, correction_gmm: complex, max_parts: int,
+                seconds: float) -> tuple[float, bool, float]:
+    """Plain CP-SAT model; returns (time s, proved optimal, Euclidean residual g·mm)."""
+    effects = case.effects()
+    n_pos, n_items = effects.shape
+    model = cp_model.CpModel()
+    x = [[model.NewIntVar(0, case.capacity, f"x{j}_{k}") for k in range(n_items)]
+         for j in range(n_pos)]
+    for j in range(n_pos):
+        model.Add(sum(x[j]) <= case.capacity)
+    for k in range(n_items):
+        model.Add(sum(x[j][k] for j in range(n_pos)) <= case.stock)
+    model.Add(sum(v for row in x for v in row) <= max_parts)
+    ex = np.rint(effects.real * CPSAT_SCALE).astype(int)
+    ey = np.rint(effects.imag * CPSAT_SCALE).astype(int)
+    rx = int(round(correction_gmm.real * CPSAT_SCALE)) + sum(
+        int(ex[j, k]) * x[j][k] for j in range(n_pos) for k in range(n_items))
+    ry = int(round(correction_gmm.imag * CPSAT_SCALE)) + sum(
+        int(ey[j, k]) * x[j][k] for j in range(n_pos) for k in range(n_items))
+    reach = int(abs(correction_gmm) * CPSAT_SCALE
+                + max_parts * np.abs(effects).max() * CPSAT_SCALE) + 1
+    z = model.NewIntVar(0, reach, "z")
+    for side in range(POLYGON_SIDES):
+        phi = 2.0 * math.pi * side / POLYGON_SIDES
+        c = int(round(math.cos(phi) * DIRECTION_SCALE))
+        s = int(round(math.sin(phi) * DIRECTION_SCALE))
+        model.Add(DIRECTION_SCALE * z >= c * rx + s * ry)
+    model.Minimize(z)
+    solver = cp_model.CpSolver()
+    solver.parameters.max_time_in_seconds = seconds
+    solver.parameters.num_workers = 1
+    started = time.perf_counter()
+    status = solver.Solve(model)
+    elapsed = time.perf_counter() - started
+    if status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+        return elapsed, False, math.inf
+    parts = [(j, k, solver.Value(x[j][k])) for j in range(n_pos) for k in range(n_items)
+             if solver.Value(x[j][k])]
+    residual = residual_gmm(correction_gmm, parts, case.angles_deg, case.radii_mm,
+                            case.item_masses_g)
+    return elapsed, status == cp_model.OPTIMAL, residual
+
+
+# ----------------------------------------------------------------- helpers
+def ratio(value: float, exact: float) -> float | None:
+    """value / exact, or None when the exact residual is ~0 (within the proof tolerance)."""
+    if exact <= ABS_TOL:
+        return None
+    return value / exact
+
+
+def median_or_none(values: list[float | None]) -> float | None:
+    kept = [v for v in values if v is not None and math.isfinite(v)]
+    return statistics.median(kept) if kept else None
+
+
+def fmt(value: float | None, spec: str = ".3f") -> str:
+    return "n/a" if value is None else format(value, spec)
+
+
+def beats_exact(found: float, exact: float) -> bool:
+    """True if a residual is below the exact one by more than the proof tolerance."""
+    return found < min(exact / (1.0 + REL_TOL), exact - ABS_TOL) - 1e-9
+
+
+def run_case(case: Case, n_corrections: int, repeat: int, n_cpsat: int,
+             cpsat_seconds: float) -> dict:
+    corrections = case.corrections(n_corrections)
+    cold, warm, optimal, fronts = [], [], 0, []
+    for correction in corrections:
+        target = np.array([correction])
+        for _ in range(repeat):
+            started = time.perf_counter()
+            front = case.search().front(target)
+            cold.append(time.perf_counter() - started)
+        fronts.append(front)
+        optimal += front.optimal
+    search = case.search()
+    search.front(np.array([corrections[0]]))          # builds the pair table once
+    for correction in corrections:
+        for _ in range(repeat):
+            started = time.perf_counter()
+            search.front(np.array([correction]))
+            warm.append(time.perf_counter() - started)
+
+    exact = {k: [f.entries[k].residual_norm for f in fronts] for k in range(MAX_PARTS + 1)}
+    cpsat = {}
+    for k in (3, 4):
+        times, proved, ratios, beaten, found = [], 0, [], 0, []
+        for index in range(min(n_cpsat, n_corrections)):
+            elapsed, is_optimal, residual = cpsat_solve(case, corrections[index], k,
+                                                        cpsat_seconds)
+            times.append(elapsed)
+            found.append(residual)
+            proved += is_optimal
+            ratios.append(ratio(residual, exact[k][index]))
+            beaten += beats_exact(residual, exact[k][index])
+        cpsat[k] = dict(time=statistics.median(times), proved=proved, runs=len(times),
+                        exact=statistics.median(exact[k][:len(times)]),
+                        residual=statistics.median(found),
+                        ratio=median_or_none(ratios),
+                        worst=max((r for r in ratios if r is not None), default=None),
+                        beaten=beaten)
+
+    hand_vs2, hand_vs4, hand_parts, hand_residual = [], [], [], []
+    for index, correction in enumerate(corrections):
+        parts = handbook_plan(correction, case.angles_deg, case.radii_mm,
+                              [True] * case.n_positions, case.item_masses_g)
+        residual = residual_gmm(correction, parts, case.angles_deg, case.radii_mm,
+                                case.item_masses_g)
+        hand_vs2.append(ratio(residual, exact[2][index]))
+        hand_vs4.append(ratio(residual, exact[4][index]))
+        hand_parts.append(sum(count for _, _, count in parts))
+        hand_residual.append(residual)
+
+    return dict(case=case, n=n_corrections, placements=search.n,
+                cold=statistics.median(cold), cold_max=max(cold),
+                warm=statistics.median(warm), optimal=optimal,
+                exact_median={k: statistics.median(v) for k, v in exact.items()},
+                cpsat=cpsat,
+                hand_vs2=median_or_none(hand_vs2), hand_vs4=median_or_none(hand_vs4),
+                hand_parts=statistics.median(hand_parts),
+                hand_residual=statistics.median(hand_residual))
+
+
+# ----------------------------------------------------------------- output
+def print_report(rows: list[dict], args: argparse.Namespace, washer_source: str,
+                 total_s: float) -> None:
+    rerun = "python benchmarks/bench_core.py" + (" --quick" if args.quick else "")
+    rerun += (f" --repeat {args.repeat} --cpsat-seconds {args.cpsat_seconds:g}"
+              f" --cpsat-count {args.cpsat_count}")
+    print(f"Rerun: {rerun}")
+    print(f"       (from the repository root; washers from {washer_source}; "
+          f"max {MAX_PARTS} parts; fronts k = 0..{MAX_PARTS})")
+    print()
+    n = rows[0]["n"]
+    print(f"Exact front: median time over {n} corrections x {args.repeat} repeats "
+          "(cold = PlacementSearch built per correction; warm = one search reused)")
+    head = f"{'case':34} {'placements':>10} {'cold ms':>9} {'max ms':>9} {'warm ms':>9} " \
+           f"{'target ms':>9} {'cold<=target':>12} {'optimal':>8}"
+    print(head)
+    print("-" * len(head))
+    for r in rows:
+        case = r["case"]
+        verdict = "pass" if r["cold"] <= case.target_s else "FAIL"
+        print(f"{case.label:34} {r['placements']:>10} {1e3 * r['cold']:>9.1f} "
+              f"{1e3 * r['cold_max']:>9.1f} {1e3 * r['warm']:>9.1f} {1e3 * case.target_s:>9.0f} "
+              f"{verdict:>12} {r['optimal']:>4}/{r['n']:<3}")
+    print()
+    n_cp = rows[0]["cpsat"][3]["runs"]
+    print(f"Plain CP-SAT ({POLYGON_SIDES}-gon bound, 1 worker, {args.cpsat_seconds:g} s limit) on "
+          f"the first {n_cp} corrections; ratio = CP-SAT residual / exact residual, same K")
+    head = f"{'case':34} {'K':>2} {'median s':>9} {'proved':>7} {'CP-SAT gmm':>11} " \
+           f"{'exact gmm':>10} {'ratio med':>10} {'ratio max':>10} {'beat exact':>10}"
+    print(head)
+    print("-" * len(head))
+    for r in rows:
+        for k in (3, 4):
+            c = r["cpsat"][k]
+            print(f"{r['case'].label if k == 3 else '':34} {k:>2} {c['time']:>9.2f} "
+                  f"{c['proved']:>3}/{c['runs']:<3} {c['residual']:>11.2f} {c['exact']:>10.2f} "
+                  f"{fmt(c['ratio']):>10} {fmt(c['worst']):>10} {c['beaten']:>10}")
+    print()
+    print(f"Hand method (split onto the bracketing holes, nearest part each), median over {n} "
+          "corrections")
+    head = f"{'case':34} {'parts used':>10} {'hand gmm':>10} {'exact k=2 gmm':>14} " \
+           f"{'exact k=4 gmm':>14} {'vs k=2':>8} {'vs k=4':>10}"
+    print(head)
+    print("-" * len(head))
+    for r in rows:
+        print(f"{r['case'].label:34} {r['hand_parts']:>10g} {r['hand_residual']:>10.2f} "
+              f"{r['exact_median'][2]:>14.2f} {r['exact_median'][4]:>14.2f} "
+              f"{fmt(r['hand_vs2']):>8} {fmt(r['hand_vs4'], '.1f'):>10}")
+    print()
+    print("Ratios are skipped (n/a) where the exact residual is within "
+          f"{ABS_TOL} g·mm of zero; 'beat exact' counts CP-SAT residuals below the exact one "
+          f"by more than the proof tolerance (0.5 % or {ABS_TOL} g·mm) and should be 0.")
+    print(f"Total run time {total_s:.1f} s.")
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--repeat", type=int, default=None,
+                        help="timed runs per correction (default 3; 1 with --quick)")
+    parser.add_argument("--quick", action="store_true",
+                        help="5 corrections per case, CP-SAT on 1, 2 s CP-SAT limit")
+    parser.add_argument("--cpsat-seconds", type=float, default=None,
+                        help="CP-SAT time limit per solve (default 5; 2 with --quick)")
+    parser.add_argument("--cpsat-count", type=int, default=None,
+                        help="corrections per case also given to CP-SAT (default 5 of 9; "
+                             "1 with --quick)")
+    args = parser.parse_args(argv)
+    if args.repeat is None:
+        args.repeat = 1 if args.quick else 3
+    if args.cpsat_seconds is None:
+        args.cpsat_seconds = 2.0 if args.quick else 5.0
+    if args.cpsat_count is None:
+        args.cpsat_count = 1 if args.quick else 5
+    n_corrections = 5 if args.quick else 9
+    n_cpsat = min(args.cpsat_count, n_corrections)
+    started = time.perf_counter()
+    cases, washer_source = build_cases()
+    rows = [run_case(case, n_corrections, args.repeat, n_cpsat, args.cpsat_seconds)
+            for case in cases]
+    print_report(rows, args, washer_source, time.perf_counter() - started)
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,1 @@
+"""Bundled catalogue files (packaged as placer.catalogs)."""

@@ -1,0 +1,5 @@
+"""``python -m placer`` runs the command line."""
+
+from placer.cli import main
+
+raise SystemExit(main())

@@ -1,0 +1,66 @@
+"""Stock parts: items and catalogues, and where bundled catalogues live."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from pathlib import Path
+
+
+@dataclass(frozen=True)
+class Item:
+    """One stock size.
+
+    Parameters
+    ----------
+    id : str
+        The label on the drawer or bin.
+    mass_g : float
+        Mass of one part [g].
+    stock : int or None
+        Parts on hand; None means as many as needed.
+    description : str
+        Free text.
+    """
+
+    id: str
+    mass_g: float
+    stock: int | None = None
+    description: str = ""
+
+
+@dataclass(frozen=True)
+class Catalog:
+    """A drawer of stock parts.
+
+    ``source`` identifies the catalogue: planes of one job whose catalogues
+    have the same source share its stock.
+    """
+
+    name: str
+    items: tuple[Item, ...]
+    source: str
+    description: str = ""
+
+    def item_index(self, item_id: str) -> int:
+        for index, item in enumerate(self.items):
+            if item.id == item_id:
+                return index
+        raise KeyError(item_id)
+
+
+def bundled_dir() -> Path:
+    """Folder of the bundled catalogue files, installed or in a source checkout."""
+    try:
+        from importlib.resources import files
+
+        folder = Path(str(files("placer.catalogs")))
+        if folder.is_dir():
+            return folder
+    except (ModuleNotFoundError, TypeError):
+        pass
+    return Path(__file__).resolve().parent.parent / "catalogs"
+
+
+def bundled_names() -> list[str]:
+    """Names of the bundled catalogues (file names without ``.toml``)."""
+    return sorted(p.stem for p in bundled_dir().glob("*.toml"))

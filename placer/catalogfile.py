@@ -1,0 +1,72 @@
+"""Catalogue files (TOML) -> :class:`placer.catalog.Catalog`.
+
+Format::
+
+    name = "Steel washers, ISO 7089"
+    description = "optional free text"
+    [[items]]
+    id = "M8"
+    mass_g = 1.83
+    stock = 40            # optional: parts on hand
+    description = "..."   # optional
+"""
+
+from __future__ import annotations
+
+import difflib
+from pathlib import Path
+
+from placer.catalog import Catalog, Item, bundled_dir, bundled_names
+from placer.errors import CatalogError
+from placer.fields import Table, read_toml
+
+
+def read_catalog(path: Path) -> Catalog:
+    """Read and check one catalogue file."""
+    path = Path(path)
+    root = Table(read_toml(path, CatalogError, "catalogue file"), str(path), "", CatalogError)
+    root.allow_only(("name", "description", "items"))
+    name = root.text("name", required=True)
+    items = []
+    seen: set[str] = set()
+    for table in root.tables("items", required=True):
+        table.allow_only(("id", "mass_g", "stock", "description"))
+        item_id = table.text("id", required=True)
+        if not item_id.strip():
+            raise table.fail("id", "is empty", "a label such as 'M8'")
+        if item_id in seen:
+            raise table.fail("id", f"'{item_id}' appears twice", "each id once")
+        seen.add(item_id)
+        items.append(Item(
+            id=item_id,
+            mass_g=table.number("mass_g", required=True, positive=True),
+            stock=table.integer("stock", minimum=0),
+            description=table.text("description", default=""),
+        ))
+    return Catalog(name=name, items=tuple(items), source=str(path.resolve()),
+                   description=root.text("description", default=""))
+
+
+def resolve_catalog(reference: str, base_dir: Path, job_file: str, key: str) -> Path:
+    """A catalogue path relative to the job file, or the name of a bundled one."""
+    candidate = Path(reference)
+    if not candidate.is_absolute():
+        candidate = base_dir / candidate
+    if candidate.is_file():
+        return candidate
+    if reference.endswith(".toml") or "/" in reference or "\\" in reference:
+        raise CatalogError(f"catalogue file '{candidate}' not found", file=job_file, key=key,
+                           expected="a path relative to the job file, or a bundled name")
+    bundled = bundled_dir() / f"{reference}.toml"
+    if bundled.is_file():
+        return bundled
+    names = bundled_names()
+    close = difflib.get_close_matches(reference, names, n=1)
+    hint = f"did you mean '{close[0]}'? " if close else ""
+    raise CatalogError(f"no catalogue file or bundled catalogue '{reference}'", file=job_file,
+                       key=key, expected=f"{hint}a file path or one of: {', '.join(names)}")
+
+
+def load_bundled(name: str) -> Catalog:
+    """Read a bundled catalogue by name."""
+    return read_catalog(resolve_catalog(name, Path.cwd(), "catalogue name", "name"))

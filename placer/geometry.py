@@ -1,0 +1,81 @@
+"""Correction planes and their fixed positions.
+
+A plane has numbered positions (bolt holes, blades, rim slots), each at an
+angle from the reference mark and a radius.  Position numbers start at 1, as
+they are painted or counted on the rotor; arrays inside placer are indexed
+from 0 (position number = index + 1).
+"""
+
+from __future__ import annotations
+
+import cmath
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+
+@dataclass(frozen=True)
+class PlaneGeometry:
+    """The positions of one correction plane.
+
+    Parameters
+    ----------
+    name : str
+        Free text, as the technician calls the plane ("drive side").
+    angles_deg : tuple of float
+        Angle of each position [deg] from the reference mark, in the job's
+        angle sense; position i is ``angles_deg[i - 1]``.
+    radii_mm : tuple of float
+        Radius of each position [mm], the radius at which a part's mass acts.
+    blocked : frozenset of int
+        Position numbers that take no part.
+    capacity : int
+        Most parts on one position (different items may stack on it).
+    """
+
+    name: str
+    angles_deg: tuple[float, ...]
+    radii_mm: tuple[float, ...]
+    blocked: frozenset[int] = frozenset()
+    capacity: int = 1
+
+    @property
+    def n_positions(self) -> int:
+        return len(self.angles_deg)
+
+    def capacities(self) -> np.ndarray:
+        """Parts each position may take, 0 where blocked (index = number - 1)."""
+        caps = np.full(self.n_positions, self.capacity, dtype=np.int64)
+        for number in self.blocked:
+            caps[number - 1] = 0
+        return caps
+
+    def unit_vectors_mm(self) -> np.ndarray:
+        """radius_mm·e^{i·angle} of each position [mm], complex."""
+        angles = np.radians(np.asarray(self.angles_deg, dtype=float))
+        return np.asarray(self.radii_mm, dtype=float) * np.exp(1j * angles)
+
+    def is_equally_spaced(self) -> bool:
+        """True when positions are equally spaced at one radius (rotational symmetry)."""
+        if len(set(self.radii_mm)) != 1 or self.n_positions < 2:
+            return False
+        steps = np.diff(np.concatenate([self.angles_deg, [self.angles_deg[0] + 360.0]]))
+        return bool(np.allclose(steps, 360.0 / self.n_positions))
+
+
+def equally_spaced_deg(count: int, start_deg: float = 0.0) -> tuple[float, ...]:
+    """Angles of ``count`` equally spaced positions, position 1 at ``start_deg`` [deg]."""
+    return tuple((start_deg + 360.0 * i / count) % 360.0 for i in range(count))
+
+
+def gmm_vector(magnitude_gmm: float, angle_deg: float) -> complex:
+    """An unbalance or correction as a complex number [g·mm] at ``angle_deg``."""
+    return cmath.rect(magnitude_gmm, math.radians(angle_deg))
+
+
+def angle_of_deg(vector: complex) -> float:
+    """Angle of a complex vector in [0, 360) degrees (0 for the zero vector)."""
+    if vector == 0:
+        return 0.0
+    return math.degrees(cmath.phase(vector)) % 360.0

@@ -1,0 +1,57 @@
+"""A balancing job: the rotor, its correction planes and what each plane needs."""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from placer.catalog import Catalog
+from placer.geometry import PlaneGeometry
+
+DEFAULT_MAX_PARTS = 4
+"""Longest plan considered when the job does not say."""
+
+DEFAULT_ANGLE_SENSE = "against rotation"
+"""Sense in which angles are counted from the reference mark when the job does not say."""
+
+
+@dataclass(frozen=True)
+class Rotor:
+    """The rotor as a whole.
+
+    ``grade_mm_s``, ``mass_kg`` and ``service_rpm`` together give the
+    permissible residual unbalance; ``com_distances_mm`` (distance from the
+    centre of mass to each plane, in plane order) shares it between planes.
+    """
+
+    name: str
+    mass_kg: float | None = None
+    service_rpm: float | None = None
+    grade_mm_s: float | None = None
+    com_distances_mm: tuple[float, ...] | None = None
+    angle_sense: str = DEFAULT_ANGLE_SENSE
+
+
+@dataclass(frozen=True)
+class PlaneJob:
+    """One correction plane: where parts can go, which parts, what is needed.
+
+    ``correction_gmm`` is the required correction as a complex number
+    [g·mm] at the angle where mass must be added; ``given_as`` says how the
+    job stated it, for the sheet.
+    """
+
+    geometry: PlaneGeometry
+    catalog: Catalog
+    correction_gmm: complex
+    given_as: str
+    tolerance_gmm: float | None = None
+    max_parts: int = DEFAULT_MAX_PARTS
+
+
+@dataclass(frozen=True)
+class Job:
+    """Everything one ``placer solve`` run works on."""
+
+    rotor: Rotor
+    planes: tuple[PlaneJob, ...]
+    source: str

@@ -1,0 +1,164 @@
+"""Job files (TOML) -> :class:`placer.job.Job`.  The only reader of job files."""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from placer.catalog import Catalog
+from placer.catalogfile import read_catalog, resolve_catalog
+from placer.errors import JobError, ToleranceError
+from placer.fields import Table, read_toml
+from placer.geometry import PlaneGeometry, equally_spaced_deg, gmm_vector
+from placer.job import DEFAULT_ANGLE_SENSE, DEFAULT_MAX_PARTS, Job, PlaneJob, Rotor
+from placer.tolerance import parse_grade
+
+ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense")
+PLANE_KEYS = ("name", "radius_mm", "radii_mm", "positions", "start_deg", "angles_deg", "blocked",
+              "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "max_parts")
+VECTOR_KEYS = ("mass_g", "gmm", "angle_deg")
+ANGLE_SENSES = ("against rotation", "with rotation", "clockwise", "counterclockwise")
+MAX_POSITIONS = 3600
+MAX_PARTS_LIMIT = 8
+
+
+def read_job(path: Path) -> Job:
+    """Read and check a job file, with its catalogues."""
+    path = Path(path)
+    file = str(path)
+    root = Table(read_toml(path, JobError, "job file"), file, "", JobError)
+    root.allow_only(("rotor", "planes"))
+    rotor = _rotor(root.sub("rotor", required=True))
+    catalogs: dict[Path, Catalog] = {}
+    planes = []
+    for table in root.tables("planes", required=True):
+        planes.append(_plane(table, path.parent, catalogs))
+    if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(planes):
+        raise JobError(f"gives {len(rotor.com_distances_mm)} distances for {len(planes)} planes",
+                       file=file, key="rotor.com_distances_mm", expected="one distance per plane")
+    return Job(rotor=rotor, planes=tuple(planes), source=file)
+
+
+def _rotor(t: Table) -> Rotor:
+    t.allow_only(ROTOR_KEYS)
+    grade = None
+    if t.has("grade"):
+        raw = t.data["grade"]
+        if isinstance(raw, bool) or not isinstance(raw, (str, int, float)):
+            raise t.fail("grade", "is not a grade", "a grade such as \"G6.3\"")
+        try:
+            grade = parse_grade(raw)
+        except ToleranceError as exc:
+            raise t.fail("grade", exc.detail, exc.expected) from None
+    distances = None
+    if t.has("com_distances_mm"):
+        values = t.array("com_distances_mm")
+        distances = tuple(t.check_number(f"com_distances_mm[{i + 1}]", v, non_negative=True)
+                          for i, v in enumerate(values))
+    sense = t.text("angle_sense", default=DEFAULT_ANGLE_SENSE)
+    if sense not in ANGLE_SENSES:
+        raise t.fail("angle_sense", f"is '{sense}'", "one of " + ", ".join(ANGLE_SENSES))
+    return Rotor(
+        name=t.text("name", default="rotor"),
+        mass_kg=t.number("mass_kg", positive=True),
+        service_rpm=t.number("service_rpm", positive=True),
+        grade_mm_s=grade,
+        com_distances_mm=distances,
+        angle_sense=sense,
+    )
+
+
+def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog]) -> PlaneJob:
+    t.allow_only(PLANE_KEYS)
+    name = t.text("name", default=t.path)
+    angles = _angles(t)
+    radii = _radii(t, len(angles))
+    blocked = _blocked(t, len(angles))
+    capacity = t.integer("capacity", default=1, minimum=1, maximum=12)
+    reference = t.text("catalog", required=True)
+    catalog_path = resolve_catalog(reference, base_dir, t.file, t.key("catalog"))
+    key = catalog_path.resolve()
+    if key not in catalogs:
+        catalogs[key] = read_catalog(catalog_path)
+    correction, given_as = _requirement(t)
+    return PlaneJob(
+        geometry=PlaneGeometry(name=name, angles_deg=angles, radii_mm=radii,
+                               blocked=blocked, capacity=capacity),
+        catalog=catalogs[key],
+        correction_gmm=correction,
+        given_as=given_as,
+        tolerance_gmm=t.number("tolerance_gmm", non_negative=True),
+        max_parts=t.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
+                            maximum=MAX_PARTS_LIMIT),
+    )
+
+
+def _angles(t: Table) -> tuple[float, ...]:
+    if t.has("positions") and t.has("angles_deg"):
+        raise t.fail("angles_deg", "given together with 'positions'", "one of the two")
+    if t.has("angles_deg"):
+        values = t.array("angles_deg")
+        if not values:
+            raise t.fail("angles_deg", "is empty", "at least one angle")
+        if len(values) > MAX_POSITIONS:
+            raise t.fail("angles_deg", f"has {len(values)} angles", f"at most {MAX_POSITIONS}")
+        return tuple(t.check_number(f"angles_deg[{i + 1}]", v) % 360.0
+                     for i, v in enumerate(values))
+    if not t.has("positions"):
+        raise t.fail("positions", "missing", "a count of equally spaced positions, or angles_deg")
+    count = t.integer("positions", minimum=1, maximum=MAX_POSITIONS)
+    start = t.number("start_deg", default=0.0)
+    return equally_spaced_deg(count, start)
+
+
+def _radii(t: Table, count: int) -> tuple[float, ...]:
+    if t.has("radii_mm"):
+        values = t.array("radii_mm")
+        if len(values) != count:
+            raise t.fail("radii_mm", f"has {len(values)} radii for {count} positions",
+                         "one radius per position")
+        return tuple(t.check_number(f"radii_mm[{i + 1}]", v, positive=True)
+                     for i, v in enumerate(values))
+    radius = t.number("radius_mm", required=True, positive=True)
+    return (radius,) * count
+
+
+def _blocked(t: Table, count: int) -> frozenset[int]:
+    values = t.array("blocked") or []
+    numbers = set()
+    for i, value in enumerate(values):
+        numbers.add(t.check_integer(f"blocked[{i + 1}]", value, minimum=1, maximum=count))
+    return frozenset(numbers)
+
+
+def _requirement(t: Table) -> tuple[complex, str]:
+    given = [k for k in ("correction", "unbalance") if t.has(k)]
+    if not given:
+        raise t.fail("correction", "missing",
+                     "correction = { mass_g = ..., angle_deg = ... } or unbalance = { ... }")
+    if len(given) == 2:
+        raise t.fail("unbalance", "given together with 'correction'", "one of the two")
+    which = given[0]
+    v = t.sub(which)
+    v.allow_only(VECTOR_KEYS)
+    if v.has("mass_g") and v.has("gmm"):
+        raise v.fail("gmm", "given together with 'mass_g'", "one of mass_g or gmm")
+    angle = v.number("angle_deg", required=True)
+    if v.has("mass_g"):
+        radius = t.number("radius_mm") if t.has("radius_mm") else None
+        if radius is None:
+            raise v.fail("mass_g", "needs the plane's radius_mm",
+                         "gmm = ... when positions have their own radii_mm")
+        mass = v.number("mass_g", non_negative=True)
+        magnitude, text = mass * radius, f"{which} {mass:g} g at {angle:g}°"
+    elif v.has("gmm"):
+        magnitude = v.number("gmm", non_negative=True)
+        text = f"{which} {magnitude:g} g·mm at {angle:g}°"
+    else:
+        raise v.fail("mass_g", "missing", "mass_g = ... or gmm = ...")
+    vector = gmm_vector(magnitude, angle)
+    if which == "unbalance":
+        vector = -vector
+    if not (math.isfinite(vector.real) and math.isfinite(vector.imag)):
+        raise v.fail(None, "is not finite", "finite numbers")
+    return vector, text

@@ -1,0 +1,69 @@
+"""The JSON shape of a solved job (``placer solve JOB --json``)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from placer.geometry import angle_of_deg
+from placer.plan import PlanOption
+from placer.solve import JobResult, PlaneResult
+
+
+def _round(value: float, digits: int = 4) -> float:
+    return float(round(value, digits))
+
+
+def option_dict(option: PlanOption) -> dict[str, Any]:
+    """One plan: part count, residual and the parts (position numbers from 1)."""
+    return {
+        "part_count": option.part_count,
+        "residual_gmm": _round(option.residual_gmm),
+        "residual_angle_deg": _round(option.residual_angle_deg, 2),
+        "lower_bound_gmm": _round(option.lower_bound_gmm),
+        "proven": option.proven,
+        "parts": [
+            {"position": p.position, "angle_deg": _round(p.angle_deg, 4),
+             "radius_mm": p.radius_mm, "item": p.item, "mass_g": p.mass_g, "count": p.count}
+            for p in option.parts
+        ],
+    }
+
+
+def plane_dict(result: PlaneResult) -> dict[str, Any]:
+    """One plane's result."""
+    plane = result.plane
+    chosen = option_dict(result.chosen)
+    chosen["within_tolerance"] = result.within_tolerance
+    return {
+        "name": result.name,
+        "optimal": result.optimal,
+        "tolerance_gmm": None if result.tolerance_gmm is None else _round(result.tolerance_gmm),
+        "tolerance_source": result.tolerance_source,
+        "required": {
+            "gmm": _round(abs(plane.correction_gmm)),
+            "angle_deg": _round(angle_of_deg(plane.correction_gmm), 2),
+            "given_as": plane.given_as,
+        },
+        "catalog": plane.catalog.name,
+        "pareto": [option_dict(o) for o in result.front],
+        "chosen": chosen,
+        "notes": list(result.notes),
+        "method": result.method,
+        "elapsed_s": _round(result.elapsed_s, 4),
+    }
+
+
+def job_dict(result: JobResult) -> dict[str, Any]:
+    """The whole JSON object for a job."""
+    rotor = result.job.rotor
+    return {
+        "job": result.job.source,
+        "rotor": {"name": rotor.name, "mass_kg": rotor.mass_kg, "service_rpm": rotor.service_rpm,
+                  "grade_mm_s": rotor.grade_mm_s},
+        "angle_convention": f"degrees from the reference mark, counted {rotor.angle_sense}",
+        "permissible_gmm": None if result.permissible_gmm is None
+        else _round(result.permissible_gmm),
+        "within_tolerance": result.all_within,
+        "notes": list(result.notes),
+        "planes": [plane_dict(p) for p in result.planes],
+    }

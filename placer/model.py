@@ -1,0 +1,206 @@
+"""The CP-SAT model: the general engine for side constraints.
+
+The exact search (:mod:`placer.search`) proves the trade-off front of each
+plane on its own.  Two things it does not do are left to this integer model,
+solved by OR-Tools CP-SAT:
+
+* stock shared by several planes of one job (one drawer for both sides of a
+  fan): all planes are solved together, seeded with the search's plans;
+* a part count the search declines because its tables would grow past its
+  budget (many positions and items with a long plan).
+
+The residual norm is exact up to integer scaling: each residual component
+is an integer linear expression, squared with a multiplication constraint,
+so the objective is the squared Euclidean norm, not a polygon.  Scaling
+rounds each effect by at most half a unit; :func:`min_residual` turns the
+solver's bound into a proven lower bound on the true residual by taking
+that rounding off again.
+
+References
+----------
+Perron, L. and Didier, F., CP-SAT, OR-Tools (Google), v9; the
+multiplication constraint is ``AddMultiplicationEquality`` (OR-Tools
+documentation).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from placer.search import PartList
+
+_SCALE_UNITS = 20000.0
+"""Integer units the largest effect or target is scaled to."""
+
+
+@dataclass(frozen=True)
+class ModelPlane:
+    """One plane as the integer model sees it (arrays as in :class:`PlacementSearch`)."""
+
+    effects: np.ndarray
+    target: np.ndarray
+    capacity: np.ndarray
+    stock: np.ndarray
+    max_parts: int
+    tolerance: float | None = None
+    stock_group: str = ""
+    hint: PartList = ()
+
+
+@dataclass(frozen=True)
+class ModelOutcome:
+    """Parts per plane, whether the solver proved them optimal, and bounds."""
+
+    parts: tuple[PartList, ...]
+    proven: bool
+    lower_bounds: tuple[float, ...]
+    status: str
+
+
+class _Built:
+    def __init__(self, planes: list[ModelPlane], group_stock: dict[str, np.ndarray]) -> None:
+        from ortools.sat.python import cp_model
+
+        self.cp_model = cp_model
+        self.model = cp_model.CpModel()
+        self.x: list[dict[tuple[int, int], object]] = []
+        self.squares = []
+        self.counts = []
+        self.scales = []
+        self.errors = []
+        self.within = []
+        group_terms: dict[str, dict[int, list]] = {}
+        for p, plane in enumerate(planes):
+            n_pos, n_items, n_ch = plane.effects.shape
+            ref = max(float(np.abs(plane.target).max(initial=0.0)),
+                      float(np.abs(plane.effects).max(initial=0.0)), 1e-12)
+            scale = _SCALE_UNITS / ref
+            self.scales.append(scale)
+            xs = {}
+            for j in range(n_pos):
+                if plane.capacity[j] <= 0:
+                    continue
+                for k in range(n_items):
+                    upper = int(min(plane.capacity[j], plane.stock[k], plane.max_parts))
+                    if upper > 0:
+                        xs[j, k] = self.model.NewIntVar(0, upper, f"x{p}_{j}_{k}")
+            self.x.append(xs)
+            for j in range(n_pos):
+                on_j = [v for (jj, _), v in xs.items() if jj == j]
+                if on_j:
+                    self.model.Add(sum(on_j) <= int(plane.capacity[j]))
+            for k in range(n_items):
+                of_k = [v for (_, kk), v in xs.items() if kk == k]
+                if of_k:
+                    self.model.Add(sum(of_k) <= int(plane.stock[k]))
+                    group_terms.setdefault(plane.stock_group, {}).setdefault(k, []).extend(of_k)
+            count = sum(xs.values()) if xs else 0
+            self.model.Add(count <= plane.max_parts)
+            self.counts.append(count)
+            total_sq = []
+            bound = int(_SCALE_UNITS * (1 + plane.max_parts)) + 2
+            for c in range(n_ch):
+                for part in (np.real, np.imag):
+                    expr = int(round(float(part(plane.target[c])) * scale))
+                    for (j, k), v in xs.items():
+                        coef = int(round(float(part(plane.effects[j, k, c])) * scale))
+                        if coef:
+                            expr = expr + coef * v
+                    comp = self.model.NewIntVar(-bound, bound, "")
+                    self.model.Add(comp == expr)
+                    sq = self.model.NewIntVar(0, bound * bound, "")
+                    self.model.AddMultiplicationEquality(sq, [comp, comp])
+                    total_sq.append(sq)
+            square = self.model.NewIntVar(0, bound * bound * len(total_sq), f"sq{p}")
+            self.model.Add(square == sum(total_sq))
+            self.squares.append(square)
+            # Each scaled component is off by at most 0.5 (target) + 0.5 per part.
+            self.errors.append(math.sqrt(len(total_sq)) * 0.5 * (1 + plane.max_parts))
+            if plane.tolerance is not None:
+                w = self.model.NewBoolVar(f"w{p}")
+                limit = int(math.floor((plane.tolerance * scale) ** 2))
+                self.model.Add(square <= limit).OnlyEnforceIf(w)
+                self.within.append(w)
+            for (j, k, n) in plane.hint:
+                if (j, k) in xs:
+                    self.model.AddHint(xs[j, k], int(n))
+        for group, per_item in group_terms.items():
+            if group in group_stock:
+                for k, terms in per_item.items():
+                    self.model.Add(sum(terms) <= int(group_stock[group][k]))
+
+    def solve(self, time_limit_s: float):
+        solver = self.cp_model.CpSolver()
+        solver.parameters.max_time_in_seconds = max(0.05, time_limit_s)
+        solver.parameters.num_workers = 2
+        status = solver.Solve(self.model)
+        return solver, status
+
+    def parts(self, solver) -> tuple[PartList, ...]:
+        out = []
+        for xs in self.x:
+            out.append(tuple(sorted((j, k, int(solver.Value(v)))
+                                    for (j, k), v in xs.items() if solver.Value(v) > 0)))
+        return tuple(out)
+
+
+def solve_shared_stock(planes: list[ModelPlane], group_stock: dict[str, np.ndarray],
+                       time_limit_s: float = 10.0) -> ModelOutcome:
+    """All planes at once under shared stock, lexicographically.
+
+    First the most planes within tolerance, then the fewest parts in all,
+    then the least sum of squared residuals (each plane scaled to its own
+    size so that no plane dominates).
+    """
+    built = _Built(planes, group_stock)
+    cp_model = built.cp_model
+    stages = []
+    if built.within:
+        stages.append(("max", sum(built.within)))
+    stages.append(("min", sum(built.counts)))
+    stages.append(("min", sum(built.squares)))
+    proven = True
+    solver = status = None
+    for sense, objective in stages:
+        if sense == "max":
+            built.model.Maximize(objective)
+        else:
+            built.model.Minimize(objective)
+        solver, status = built.solve(time_limit_s / len(stages))
+        if status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+            return ModelOutcome(tuple(p.hint for p in planes), False,
+                                tuple(0.0 for _ in planes), solver.StatusName(status))
+        proven &= status == cp_model.OPTIMAL
+        value = int(round(solver.ObjectiveValue()))
+        if sense == "max":
+            built.model.Add(objective >= value)
+        else:
+            built.model.Add(objective <= value)
+        built.model.ClearHints()
+        for xs in built.x:
+            for v in xs.values():
+                built.model.AddHint(v, solver.Value(v))
+    return ModelOutcome(built.parts(solver), proven, tuple(0.0 for _ in planes),
+                        solver.StatusName(status))
+
+
+def min_residual(plane: ModelPlane, time_limit_s: float = 10.0) -> ModelOutcome:
+    """Least residual of one plane with at most ``plane.max_parts`` parts.
+
+    The lower bound is the solver's bound on the scaled squared norm, turned
+    back into g·mm with the rounding error taken off, so it holds for the
+    true residual.
+    """
+    built = _Built([plane], {})
+    built.model.Minimize(built.squares[0])
+    solver, status = built.solve(time_limit_s)
+    cp_model = built.cp_model
+    if status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+        return ModelOutcome((plane.hint,), False, (0.0,), solver.StatusName(status))
+    bound = max(0.0, solver.BestObjectiveBound())
+    lower = max(0.0, (math.sqrt(bound) - built.errors[0]) / built.scales[0])
+    return ModelOutcome(built.parts(solver), status == cp_model.OPTIMAL, (lower,),
+                        solver.StatusName(status))

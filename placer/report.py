@@ -1,0 +1,171 @@
+"""The fitting sheet in the terminal (rich).  Renders; never computes."""
+
+from __future__ import annotations
+
+from rich import box
+from rich.console import Console, Group
+from rich.panel import Panel
+from rich.table import Table
+from rich.text import Text
+
+from placer.catalog import Catalog
+from placer.geometry import angle_of_deg
+from placer.solve import JobResult, PlaneResult
+from placer.tolerance import PlaneShare
+
+CAUTIONS = (
+    "Lock out and tag out the machine before fitting or removing any part; "
+    "try a start to prove it is isolated.",
+    "A part that comes off a spinning rotor is a projectile: fasten every part "
+    "as the machine maker specifies, and keep clear of the plane of rotation on test runs.",
+    "Local codes and the machine maker's instructions come first.",
+)
+
+
+def _verdict(within: bool | None) -> Text:
+    if within is None:
+        return Text("no tolerance given", style="bold")
+    if within:
+        return Text("[OK] WITHIN TOLERANCE", style="bold green")
+    return Text("[!!] OUTSIDE TOLERANCE", style="bold red reverse")
+
+
+def _header(result: JobResult) -> Panel:
+    rotor = result.job.rotor
+    lines = Text()
+    lines.append(f"{rotor.name}\n", style="bold")
+    facts = []
+    if rotor.mass_kg is not None:
+        facts.append(f"mass {rotor.mass_kg:g} kg")
+    if rotor.service_rpm is not None:
+        facts.append(f"service speed {rotor.service_rpm:g} r/min")
+    if rotor.grade_mm_s is not None:
+        facts.append(f"grade G{rotor.grade_mm_s:g}")
+    if result.permissible_gmm is not None:
+        facts.append(f"U_per {result.permissible_gmm:.1f} g·mm (ISO 21940-11)")
+    if facts:
+        lines.append(", ".join(facts) + "\n")
+    lines.append(f"Angles: degrees from the reference mark, counted {rotor.angle_sense}; "
+                 "position numbers as marked on the rotor.")
+    return Panel(lines, title="placer fitting sheet", title_align="left", box=box.HEAVY)
+
+
+def _parts_table(result: PlaneResult) -> Table:
+    table = Table(box=box.SIMPLE_HEAVY, show_edge=False, pad_edge=False)
+    table.add_column("Pos.", justify="right")
+    table.add_column("Angle °", justify="right")
+    table.add_column("Item")
+    table.add_column("Count", justify="right")
+    table.add_column("Mass g", justify="right")
+    table.add_column("g·mm", justify="right")
+    for p in result.chosen.parts:
+        table.add_row(str(p.position), f"{p.angle_deg:.1f}", p.item, str(p.count),
+                      f"{p.mass_g * p.count:g}", f"{p.mass_g * p.count * p.radius_mm:.0f}")
+    return table
+
+
+def _front_table(result: PlaneResult) -> Table:
+    table = Table(title="Trade-off: parts against residual", title_justify="left",
+                  box=box.SIMPLE, show_edge=False, pad_edge=False)
+    table.add_column("Parts", justify="right")
+    table.add_column("Residual g·mm", justify="right")
+    table.add_column("of required", justify="right")
+    table.add_column("Verdict")
+    table.add_column("")
+    required = result.required_gmm
+    rows = [result.chosen] if result.chosen.used_parts == 0 else []
+    rows += list(result.front)
+    for option in rows:
+        share = "" if required == 0 else f"{option.residual_gmm / required:.1%}"
+        if result.tolerance_gmm is None:
+            verdict = "-"
+        else:
+            verdict = "within" if option.residual_gmm <= result.tolerance_gmm else "outside"
+        mark = "<- chosen" if option.parts == result.chosen.parts else ""
+        proof = "" if option.proven else " (not proven)"
+        table.add_row(str(option.used_parts), f"{option.residual_gmm:.2f}{proof}", share,
+                      verdict, mark)
+    return table
+
+
+def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> Panel:
+    plane = result.plane
+    geometry = plane.geometry
+    info = Text()
+    radii = sorted(set(geometry.radii_mm))
+    radius = f"r {radii[0]:g} mm" if len(radii) == 1 else f"r {radii[0]:g}-{radii[-1]:g} mm"
+    blocked = (", blocked " + ", ".join(str(b) for b in sorted(geometry.blocked))
+               if geometry.blocked else "")
+    info.append(f"{geometry.n_positions} positions, {radius}{blocked}; up to "
+                f"{geometry.capacity} part(s) per position; catalogue: {plane.catalog.name}\n")
+    info.append(f"Required: {abs(plane.correction_gmm):.1f} g·mm at "
+                f"{angle_of_deg(plane.correction_gmm):.1f}° ({plane.given_as})\n")
+    if not result.chosen.parts:
+        info.append("Fit: nothing - the plane is already as good as the parts allow.\n",
+                    style="bold")
+    body = [info]
+    if result.chosen.parts:
+        body.append(Text("Fit these parts:", style="bold"))
+        body.append(_parts_table(result))
+    res = Text()
+    res.append(f"Residual {result.chosen.residual_gmm:.2f} g·mm", style="bold")
+    res.append(f" (further correction would go at {result.chosen.residual_angle_deg:.1f}°)\n")
+    if result.tolerance_gmm is not None:
+        res.append(f"Tolerance {result.tolerance_gmm:.2f} g·mm - {result.tolerance_source}")
+        if share is not None and plane.tolerance_gmm is None:
+            res.append(f" [{share.name}]")
+        res.append("\n")
+    res.append_text(_verdict(result.within_tolerance))
+    if not result.optimal:
+        res.append("\nNot every plan below was proven optimal in the time limit.", style="yellow")
+    body.append(res)
+    body.append(_front_table(result))
+    for note in result.notes:
+        body.append(Text(f"Note: {note}", style="bold yellow"))
+    return Panel(Group(*body), title=f"Plane {index}: {geometry.name}", title_align="left",
+                 box=box.ROUNDED)
+
+
+def render_job(result: JobResult, console: Console) -> None:
+    """Print the fitting sheet of a solved job."""
+    console.print(_header(result))
+    for i, plane in enumerate(result.planes, start=1):
+        share = None
+        if result.shares is not None:
+            share = result.shares[i - 1]
+        console.print(_plane_panel(i, plane, share))
+    for note in result.notes:
+        console.print(Text(f"Note: {note}", style="bold yellow"))
+    summary = "All planes within tolerance." if result.all_within else \
+        "At least one plane is OUTSIDE tolerance: see the notes above before running the machine."
+    console.print(Text(summary, style="bold"))
+    console.print(Panel("\n".join(f"- {c}" for c in CAUTIONS), title="Cautions",
+                        title_align="left", box=box.SQUARE))
+
+
+def render_catalog_list(names: list[str], catalogs: list[Catalog], console: Console) -> None:
+    """The bundled catalogues, one line each."""
+    table = Table(title="Bundled catalogues", box=box.SIMPLE, title_justify="left")
+    table.add_column("Name")
+    table.add_column("Title")
+    table.add_column("Items", justify="right")
+    table.add_column("Masses g")
+    for name, catalog in zip(names, catalogs):
+        masses = [i.mass_g for i in catalog.items]
+        table.add_row(name, catalog.name, str(len(masses)), f"{min(masses):g}-{max(masses):g}")
+    console.print(table)
+    console.print("Show one with: placer catalogs NAME")
+
+
+def render_catalog(catalog: Catalog, console: Console) -> None:
+    """One catalogue's items."""
+    table = Table(title=catalog.name, box=box.SIMPLE, title_justify="left",
+                  caption=catalog.description or None)
+    table.add_column("Id")
+    table.add_column("Mass g", justify="right")
+    table.add_column("Stock", justify="right")
+    table.add_column("Description")
+    for item in catalog.items:
+        table.add_row(item.id, f"{item.mass_g:g}", "-" if item.stock is None else str(item.stock),
+                      item.description)
+    console.print(table)

@@ -1,0 +1,377 @@
+"""Exact search for the best placement of discrete parts.
+
+The problem in its general shape::
+
+    residual = target + sum_n count_n * effect_n
+
+``effect_n`` is what one part of item k fitted at position j does, as one
+complex value per channel: for a correction plane it is minus the part's
+unbalance in g·mm (one channel); for field balancing it will be the predicted
+vibration at several sensors.  The search finds, for every part count
+k = 0 .. max_parts, the least Euclidean norm of the residual over all
+selections of at most k parts that respect the capacity of each position
+(0 for blocked ones) and the stock of each item.
+
+How the search proves its answer (Notes)
+----------------------------------------
+* Placements (position, item) are sorted by the norm of their effect,
+  largest first, so a multiset written in non-decreasing index order lists
+  its parts from largest to smallest.
+* Meet in the middle: every feasible pair of placements is tabulated once,
+  with its summed effect, in a k-d tree (exact Euclidean distances).  A
+  selection of k parts is its k-2 largest parts (the "head") plus a pair.
+* Bound from the largest part that is left: a head of j parts whose smallest
+  part has norm m can only be completed to k parts with residual below U if
+  ``|target + head| - (k - j) * m < U`` (triangle inequality), so heads that
+  fail it are never expanded or looked up.
+* The incumbent U is the best residual with fewer parts, then shrinks as
+  heads are looked up, most promising first.  Every head that survives is
+  looked up exactly (nearest feasible pair; when the nearest few pairs all
+  clash with the head on a position or an item, the pair table is scanned in
+  full for that head), so the result is the proven optimum.
+* Above a size budget the search gives up on a part count and leaves it to
+  the CP-SAT model (:mod:`placer.model`), which reports its own proof status.
+
+References
+----------
+Meet-in-the-middle and branch-and-bound are textbook combinatorial search
+(e.g. Horowitz and Sahni, "Computing partitions with applications to the
+knapsack problem", J. ACM 21 (1974) 277-292; from memory).
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+
+PartList = tuple[tuple[int, int, int], ...]
+"""Parts as (position_index, item_index, count), sorted by position then item."""
+
+ABS_TOL = 0.01
+"""Absolute proof tolerance on the residual, in the target's unit (g·mm)."""
+REL_TOL = 0.005
+"""Relative proof tolerance on the residual (0.5 %)."""
+
+_NEIGHBOURS_FIRST = 4
+_NEIGHBOURS_SECOND = 32
+_CHUNK_ROWS = 65536
+_MAX_PAIRS = 4_000_000
+_MAX_HEAD_ROWS = 6_000_000
+
+
+@dataclass(frozen=True)
+class Selection:
+    """The best selection found with at most ``part_count`` parts."""
+
+    part_count: int
+    parts: PartList
+    residual: np.ndarray = field(repr=False)
+    residual_norm: float
+    lower_bound: float
+    proven: bool
+
+    @property
+    def used_parts(self) -> int:
+        """Number of parts the selection really uses (may be below part_count)."""
+        return sum(count for _, _, count in self.parts)
+
+
+@dataclass(frozen=True)
+class Front:
+    """Least residual for every part count 0 .. max_parts."""
+
+    entries: tuple[Selection, ...]
+    elapsed_s: float
+    method: str
+
+    @property
+    def optimal(self) -> bool:
+        return all(entry.proven for entry in self.entries)
+
+
+def residual_of(target: np.ndarray, effects: np.ndarray, parts: PartList) -> np.ndarray:
+    """Residual ``target + sum count * effects[position, item]`` of a part list.
+
+    Parameters
+    ----------
+    target : complex array (n_channels,)
+    effects : complex array (n_positions, n_items, n_channels)
+    parts : (position_index, item_index, count) triples
+    """
+    total = np.array(target, dtype=complex, copy=True)
+    for position, item, count in parts:
+        total = total + count * effects[position, item]
+    return total
+
+
+def is_proven(found: float, lower_bound: float) -> bool:
+    """True when ``found`` is within 0.5 % or 0.01 of the proven ``lower_bound``."""
+    return found <= max(lower_bound * (1.0 + REL_TOL), lower_bound + ABS_TOL) + 1e-12
+
+
+class PlacementSearch:
+    """Exact search over one set of positions and items, reusable for many targets.
+
+    Everything that does not depend on the target (placements, their
+    ordering, the pair table and its k-d tree) is built once here, so a
+    production line can solve rotor after rotor without rebuilding it.
+
+    Parameters
+    ----------
+    effects : complex array (n_positions, n_items, n_channels)
+        Effect of one part of each item at each position.
+    capacity : int array (n_positions,)
+        Most parts on each position; 0 for a blocked position.
+    stock : int array (n_items,)
+        Parts of each item on hand.
+    max_parts : int
+        Longest selection considered.
+    """
+
+    def __init__(self, effects: np.ndarray, capacity: np.ndarray, stock: np.ndarray,
+                 max_parts: int) -> None:
+        effects = np.asarray(effects, dtype=complex)
+        if effects.ndim == 2:
+            effects = effects[:, :, None]
+        self.effects = effects
+        self.n_positions, self.n_items, self.n_channels = effects.shape
+        self.capacity = np.minimum(np.asarray(capacity, dtype=np.int64), max_parts)
+        self.stock = np.minimum(np.asarray(stock, dtype=np.int64), max_parts)
+        self.max_parts = int(max_parts)
+        usable = (self.capacity[:, None] > 0) & (self.stock[None, :] > 0)
+        usable &= np.linalg.norm(effects, axis=2) > 0
+        pos, item = np.nonzero(usable)
+        eff = effects[pos, item, :]
+        norm = np.linalg.norm(eff, axis=1)
+        order = np.lexsort((item, pos, -norm))
+        self.pos_of = pos[order]
+        self.item_of = item[order]
+        self.eff = eff[order]
+        self.mag = norm[order]
+        self.n = len(self.pos_of)
+        self.eff_real = _as_real(self.eff)
+        self._pairs: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
+        self._tree = None
+        self.pair_table_too_large = self.n * (self.n + 1) // 2 > _MAX_PAIRS
+
+    # ----------------------------------------------------------------- tables
+    def _pair_table(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        if self._pairs is None:
+            a, b = np.triu_indices(self.n)
+            ok = _feasible(np.stack([a, b], axis=1), self.pos_of, self.item_of,
+                           self.capacity, self.stock)
+            a, b = a[ok], b[ok]
+            self._pairs = (a, b, self.eff_real[a] + self.eff_real[b])
+        return self._pairs
+
+    def _pair_tree(self):
+        if self._tree is None:
+            from scipy.spatial import cKDTree
+
+            _, _, sums = self._pair_table()
+            self._tree = cKDTree(sums, balanced_tree=False, compact_nodes=False, leafsize=16)
+        return self._tree
+
+    # ----------------------------------------------------------------- search
+    def front(self, target: np.ndarray, max_parts: int | None = None) -> Front:
+        """Least residual for each part count 0 .. max_parts for this ``target``."""
+        started = time.perf_counter()
+        k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
+        target = np.atleast_1d(np.asarray(target, dtype=complex))
+        t_real = _as_real(target[None, :])[0]
+        best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
+        best_norm = float(np.linalg.norm(t_real))
+        entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
+        method = "exact"
+        for k in range(1, k_max + 1):
+            if best_norm <= ABS_TOL or self.n == 0:
+                entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, True))
+                continue
+            found = self._best_with(k, t_real, best_norm)
+            if found is None:
+                method = "exact+cp-sat"
+                entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, False))
+                continue
+            row, value = found
+            if row is not None and value < best_norm:
+                best_rows.append(row)
+                best_norm = value
+            # Every k-part selection was examined: best_norm is the least residual.
+            entries.append(self._selection(k, target, best_rows[-1], best_norm, best_norm, True))
+        return Front(tuple(entries), time.perf_counter() - started, method)
+
+    def _best_with(self, k: int, t_real: np.ndarray, bound: float):
+        """Best selection of exactly k parts below ``bound``; None if over budget."""
+        if k == 1:
+            values = np.linalg.norm(t_real + self.eff_real, axis=1)
+            i = int(np.argmin(values))
+            return np.array([i]), float(values[i])
+        if self.pair_table_too_large:
+            return None
+        a, b, sums = self._pair_table()
+        if k == 2:
+            if len(a) == 0:
+                return None, np.inf
+            values = np.linalg.norm(t_real + sums, axis=1)
+            i = int(np.argmin(values))
+            return np.array([a[i], b[i]]), float(values[i])
+        heads, head_sums = self._heads(k - 2, k, t_real, bound)
+        if heads is None:
+            return None
+        return self._complete(heads, head_sums, t_real, bound)
+
+    def _heads(self, size: int, k: int, t_real: np.ndarray, bound: float):
+        """All feasible heads of ``size`` parts that pass the remaining-part bound."""
+        if size == 1:
+            rows = np.arange(self.n, dtype=np.int64)[:, None]
+            sums = self.eff_real
+        else:
+            a, b, sums = self._pair_table()
+            rows = np.stack([a, b], axis=1)
+        keep = _head_bound(sums, rows, self.mag, k, t_real) < bound
+        rows, sums = rows[keep], sums[keep]
+        for _ in range(min(size, 2), size):
+            new_rows, new_sums = [], []
+            for start in range(0, len(rows), max(1, _CHUNK_ROWS // max(1, self.n))):
+                r = rows[start:start + max(1, _CHUNK_ROWS // max(1, self.n))]
+                s = sums[start:start + len(r)]
+                last = r[:, -1]
+                cand = np.arange(self.n)[None, :] >= last[:, None]
+                ri, ci = np.nonzero(cand)
+                grown = np.concatenate([r[ri], ci[:, None]], axis=1)
+                grown_sums = s[ri] + self.eff_real[ci]
+                ok = _feasible(grown, self.pos_of, self.item_of, self.capacity, self.stock)
+                ok &= _head_bound(grown_sums, grown, self.mag, k, t_real) < bound
+                new_rows.append(grown[ok])
+                new_sums.append(grown_sums[ok])
+                if sum(len(x) for x in new_rows) > _MAX_HEAD_ROWS:
+                    return None, None
+            rows = np.concatenate(new_rows) if new_rows else np.zeros((0, rows.shape[1] + 1), np.int64)
+            sums = np.concatenate(new_sums) if new_sums else np.zeros((0, t_real.size))
+        return rows, sums
+
+    def _complete(self, heads: np.ndarray, head_sums: np.ndarray, t_real: np.ndarray,
+                  bound: float):
+        """Complete each head with its nearest feasible pair; the best below ``bound``."""
+        a, b, sums = self._pair_table()
+        if len(a) == 0 or len(heads) == 0:
+            return None, np.inf
+        tree = self._pair_tree()
+        k = heads.shape[1] + 2
+        priority = _head_bound(head_sums, heads, self.mag, k, t_real)
+        order = np.argsort(priority, kind="stable")
+        heads, head_sums, priority = heads[order], head_sums[order], priority[order]
+        best_row, best_value = None, bound
+        start = 0
+        while start < len(heads):
+            stop = start + _CHUNK_ROWS
+            live = priority[start:stop] < best_value
+            h, hs = heads[start:stop][live], head_sums[start:stop][live]
+            start = stop
+            if len(h) == 0:
+                continue
+            queries = -(t_real + hs)
+            for n_neigh in (_NEIGHBOURS_FIRST, _NEIGHBOURS_SECOND, None):
+                if len(h) == 0:
+                    break
+                if n_neigh is None:
+                    for row, q in zip(h, queries):
+                        row_best = _scan_row(row, q, a, b, sums, self, best_value)
+                        if row_best is not None and row_best[1] < best_value:
+                            best_row, best_value = row_best
+                    break
+                n_neigh = min(n_neigh, len(a))
+                dist, idx = tree.query(queries, k=n_neigh, distance_upper_bound=best_value,
+                                       workers=-1)
+                dist = dist.reshape(len(h), n_neigh)
+                idx = idx.reshape(len(h), n_neigh)
+                finite = np.isfinite(dist)
+                safe = np.where(finite, idx, 0)
+                combos = np.concatenate([np.repeat(h, n_neigh, axis=0),
+                                         a[safe].reshape(-1, 1), b[safe].reshape(-1, 1)], axis=1)
+                ok = _feasible(combos, self.pos_of, self.item_of, self.capacity,
+                               self.stock).reshape(len(h), n_neigh) & finite
+                has = ok.any(axis=1)
+                first = np.argmax(ok, axis=1)
+                got = dist[np.arange(len(h)), first]
+                if has.any():
+                    j = int(np.argmin(np.where(has, got, np.inf)))
+                    if got[j] < best_value:
+                        pair = idx[j, first[j]]
+                        best_row = np.concatenate([h[j], [a[pair], b[pair]]])
+                        best_value = float(got[j])
+                # Rows whose every neighbour clashed and the last is still within
+                # the bound may have a feasible pair further out: look again.
+                again = ~has & finite[:, -1] & (n_neigh < len(a))
+                h, queries = h[again], queries[again]
+        if best_row is None:
+            return None, np.inf
+        return best_row, float(np.linalg.norm(t_real + self.eff_real[best_row].sum(axis=0)))
+
+    # ----------------------------------------------------------------- output
+    def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
+                   lower: float, proven: bool) -> Selection:
+        counts: dict[tuple[int, int], int] = {}
+        for placement in row:
+            key = (int(self.pos_of[placement]), int(self.item_of[placement]))
+            counts[key] = counts.get(key, 0) + 1
+        parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
+        residual = residual_of(target, self.effects, parts)
+        return Selection(k, parts, residual, float(np.linalg.norm(residual)), float(lower), proven)
+
+
+def _as_real(values: np.ndarray) -> np.ndarray:
+    """Complex (rows, channels) to real (rows, 2*channels): real parts, then imaginary."""
+    return np.concatenate([values.real, values.imag], axis=1)
+
+
+def _head_bound(sums: np.ndarray, rows: np.ndarray, mag: np.ndarray, k: int,
+                t_real: np.ndarray) -> np.ndarray:
+    """Least residual any completion of these heads to k parts could reach."""
+    remaining = k - rows.shape[1]
+    return np.linalg.norm(t_real + sums, axis=1) - remaining * mag[rows[:, -1]]
+
+
+def _feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
+              capacity: np.ndarray, stock: np.ndarray) -> np.ndarray:
+    """Which multisets of placements (one per row) respect capacity and stock."""
+    width = rows.shape[1]
+    ok = np.ones(len(rows), dtype=bool)
+    if width <= 1:
+        return ok
+    pos = pos_of[rows]
+    item = item_of[rows]
+    tight_pos = capacity.min() < width
+    tight_item = stock.min() < width
+    for c in range(width):
+        if tight_pos:
+            same = np.ones(len(rows), dtype=np.int64)
+            for d in range(width):
+                if d != c:
+                    same += pos[:, c] == pos[:, d]
+            ok &= same <= capacity[pos[:, c]]
+        if tight_item:
+            same = np.ones(len(rows), dtype=np.int64)
+            for d in range(width):
+                if d != c:
+                    same += item[:, c] == item[:, d]
+            ok &= same <= stock[item[:, c]]
+    return ok
+
+
+def _scan_row(row, query, a, b, sums, search: PlacementSearch, bound: float):
+    """Nearest feasible pair to ``query`` for one head, by a full scan."""
+    dist = np.linalg.norm(sums - query, axis=1)
+    candidates = np.nonzero(dist < bound)[0]
+    if len(candidates) == 0:
+        return None
+    candidates = candidates[np.argsort(dist[candidates], kind="stable")]
+    combos = np.concatenate([np.repeat(row[None, :], len(candidates), axis=0),
+                             a[candidates, None], b[candidates, None]], axis=1)
+    ok = _feasible(combos, search.pos_of, search.item_of, search.capacity, search.stock)
+    if not ok.any():
+        return None
+    j = candidates[int(np.argmax(ok))]
+    return np.concatenate([row, [a[j], b[j]]]), float(dist[j])

@@ -1,0 +1,248 @@
+"""Solving a whole job: tolerance per plane, exact fronts, chosen plans, shared stock.
+
+Pure: takes a :class:`placer.job.Job`, returns a :class:`JobResult`.
+"""
+
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from placer.geometry import angle_of_deg
+from placer.job import Job, PlaneJob
+from placer.plan import FittedPart, PlanOption, choose, improving
+from placer.residual import residual_vector_gmm
+from placer.search import PartList, PlacementSearch, Selection, is_proven, residual_of
+from placer.tolerance import PlaneShare, allocate_to_planes, permissible_residual_gmm
+
+DEFAULT_TIME_LIMIT_S = 10.0
+"""Time the CP-SAT model may take for one decision when it is needed."""
+
+
+@dataclass(frozen=True)
+class PlaneResult:
+    """The outcome for one correction plane."""
+
+    plane: PlaneJob
+    tolerance_gmm: float | None
+    tolerance_source: str
+    front: tuple[PlanOption, ...]
+    chosen: PlanOption
+    within_tolerance: bool | None
+    optimal: bool
+    notes: tuple[str, ...]
+    elapsed_s: float
+    method: str
+
+    @property
+    def name(self) -> str:
+        return self.plane.geometry.name
+
+    @property
+    def required_gmm(self) -> float:
+        return abs(self.plane.correction_gmm)
+
+
+@dataclass(frozen=True)
+class JobResult:
+    """The outcome for a whole job."""
+
+    job: Job
+    planes: tuple[PlaneResult, ...]
+    permissible_gmm: float | None
+    shares: tuple[PlaneShare, ...] | None
+    notes: tuple[str, ...]
+
+    @property
+    def all_within(self) -> bool:
+        """False when any plane with a tolerance is outside it."""
+        return all(p.within_tolerance is not False for p in self.planes)
+
+
+@dataclass(frozen=True)
+class PlaneArrays:
+    """One plane as arrays for the search and the model."""
+
+    effects: np.ndarray
+    target: np.ndarray
+    capacity: np.ndarray
+    stock: np.ndarray
+
+
+def plane_arrays(plane: PlaneJob) -> PlaneArrays:
+    """Effects of one part of each item at each position: -mass_g·radius_mm·e^{iθ} [g·mm]."""
+    masses = np.array([item.mass_g for item in plane.catalog.items], dtype=float)
+    unit = plane.geometry.unit_vectors_mm()
+    effects = -(unit[:, None] * masses[None, :])[:, :, None]
+    stock = np.array([plane.max_parts if item.stock is None else item.stock
+                      for item in plane.catalog.items], dtype=np.int64)
+    return PlaneArrays(effects, np.array([plane.correction_gmm]), plane.geometry.capacities(),
+                       stock)
+
+
+def exact_front(arrays: PlaneArrays, max_parts: int,
+                time_limit_s: float = DEFAULT_TIME_LIMIT_S,
+                search: PlacementSearch | None = None) -> tuple[list[Selection], float, str]:
+    """The trade-off front of one plane, proven; CP-SAT takes what the search declines."""
+    started = time.perf_counter()
+    if search is None:
+        search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, max_parts)
+    front = search.front(arrays.target)
+    entries = list(front.entries)
+    method = "exact search"
+    for k, entry in enumerate(entries):
+        if entry.proven:
+            continue
+        from placer.model import ModelPlane, min_residual
+
+        method = "exact search + CP-SAT"
+        previous = entries[k - 1]
+        outcome = min_residual(ModelPlane(arrays.effects, arrays.target, arrays.capacity,
+                                          arrays.stock, k, hint=previous.parts), time_limit_s)
+        parts = outcome.parts[0]
+        residual = residual_of(arrays.target, arrays.effects, parts)
+        norm = float(np.linalg.norm(residual))
+        if norm >= previous.residual_norm:
+            parts, residual, norm = previous.parts, previous.residual, previous.residual_norm
+        lower = min(outcome.lower_bounds[0], norm)
+        entries[k] = Selection(k, parts, residual, norm, lower,
+                               outcome.proven or is_proven(norm, lower))
+    # At most k parts is never worse than at most k - 1, and is proven only if both are.
+    for k in range(1, len(entries)):
+        before, entry = entries[k - 1], entries[k]
+        if entry.residual_norm > before.residual_norm:
+            entry = replace(before, part_count=k)
+        entries[k] = replace(entry, proven=entry.proven and before.proven,
+                             lower_bound=min(entry.lower_bound, before.lower_bound))
+    return entries, time.perf_counter() - started, method
+
+
+def to_option(plane: PlaneJob, entry: Selection) -> PlanOption:
+    """A search result in domain terms, its residual recomputed from the listed parts."""
+    geometry, items = plane.geometry, plane.catalog.items
+    parts = tuple(FittedPart(position=j + 1, angle_deg=geometry.angles_deg[j],
+                             radius_mm=geometry.radii_mm[j], item=items[k].id,
+                             mass_g=items[k].mass_g, count=c) for j, k, c in entry.parts)
+    vector = residual_vector_gmm(plane.correction_gmm, parts)
+    return PlanOption(part_count=entry.part_count, parts=parts, residual_gmm=abs(vector),
+                      residual_angle_deg=angle_of_deg(vector),
+                      lower_bound_gmm=entry.lower_bound, proven=entry.proven)
+
+
+def _tolerances(job: Job) -> tuple[float | None, tuple[PlaneShare, ...] | None, list[str]]:
+    rotor = job.rotor
+    given = [rotor.grade_mm_s is not None, rotor.mass_kg is not None,
+             rotor.service_rpm is not None]
+    if not all(given):
+        notes = []
+        if any(given):
+            notes.append("grade, mass_kg and service_rpm are all needed for a tolerance "
+                         "from the balance quality grade; planes use tolerance_gmm only")
+        return None, None, notes
+    u_per = permissible_residual_gmm(rotor.grade_mm_s, rotor.mass_kg, rotor.service_rpm)
+    names = [p.geometry.name for p in job.planes]
+    shares = allocate_to_planes(u_per, names, rotor.com_distances_mm)
+    return u_per, tuple(shares), []
+
+
+def _reach_note(plane: PlaneJob) -> str | None:
+    largest = max(item.mass_g for item in plane.catalog.items) * max(plane.geometry.radii_mm)
+    reach = plane.max_parts * largest
+    need = abs(plane.correction_gmm)
+    if need > reach:
+        return (f"cannot be reached: the correction is {need:.1f} g·mm but {plane.max_parts} of "
+                f"the largest item reach at most {reach:.1f} g·mm; raise max_parts, use a "
+                "heavier item or check the reading")
+    return None
+
+
+def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> JobResult:
+    """Solve every plane of ``job`` and choose a plan for each."""
+    u_per, shares, job_notes = _tolerances(job)
+    results = []
+    arrays_of = []
+    for index, plane in enumerate(job.planes):
+        arrays = plane_arrays(plane)
+        arrays_of.append(arrays)
+        if plane.tolerance_gmm is not None:
+            tolerance, source = plane.tolerance_gmm, "job file (tolerance_gmm)"
+        elif shares is not None:
+            tolerance = shares[index].permissible_gmm
+            source = f"{shares[index].share:.0%} of U_per from the grade"
+        else:
+            tolerance, source = None, "none given"
+        entries, elapsed, method = exact_front(arrays, plane.max_parts, time_limit_s)
+        chosen = choose(entries, tolerance)
+        notes = [n for n in (_reach_note(plane),) if n]
+        results.append(_plane_result(plane, tolerance, source, entries, chosen, notes,
+                                     elapsed, method))
+    results, stock_notes = _share_stock(job, results, arrays_of, time_limit_s)
+    return JobResult(job=job, planes=tuple(results), permissible_gmm=u_per, shares=shares,
+                     notes=tuple(job_notes + stock_notes))
+
+
+def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, method,
+                  optimal=None) -> PlaneResult:
+    option = to_option(plane, chosen)
+    within = None if tolerance is None else option.residual_gmm <= tolerance
+    return PlaneResult(
+        plane=plane, tolerance_gmm=tolerance, tolerance_source=source,
+        front=tuple(to_option(plane, e) for e in improving(entries)), chosen=option,
+        within_tolerance=within,
+        optimal=all(e.proven for e in entries) if optimal is None else optimal,
+        notes=tuple(notes), elapsed_s=elapsed, method=method)
+
+
+def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArrays],
+                 time_limit_s: float) -> tuple[list[PlaneResult], list[str]]:
+    """Re-plan planes that draw on one catalogue when their plans overdraw its stock."""
+    notes = []
+    groups: dict[str, list[int]] = {}
+    for i, plane in enumerate(job.planes):
+        groups.setdefault(plane.catalog.source, []).append(i)
+    for source, members in groups.items():
+        catalog = job.planes[members[0]].catalog
+        if len(members) < 2 or all(item.stock is None for item in catalog.items):
+            continue
+        used: dict[str, int] = {}
+        for i in members:
+            for part in results[i].chosen.parts:
+                used[part.item] = used.get(part.item, 0) + part.count
+        over = [item for item in catalog.items
+                if item.stock is not None and used.get(item.id, 0) > item.stock]
+        if not over:
+            continue
+        from placer.model import ModelPlane, solve_shared_stock
+
+        stock = np.array([10**6 if item.stock is None else item.stock for item in catalog.items])
+        model_planes = []
+        for i in members:
+            plane, arrays = job.planes[i], arrays_of[i]
+            hint = tuple((p.position - 1, catalog.item_index(p.item), p.count)
+                         for p in results[i].chosen.parts)
+            model_planes.append(ModelPlane(arrays.effects, arrays.target, arrays.capacity,
+                                           arrays.stock, plane.max_parts,
+                                           results[i].tolerance_gmm, source, hint))
+        outcome = solve_shared_stock(model_planes, {source: stock}, time_limit_s)
+        names = ", ".join(job.planes[i].geometry.name for i in members)
+        short = ", ".join(item.id for item in over)
+        notes.append(f"planes {names} share catalogue '{catalog.name}' and the separate plans "
+                     f"needed more {short} than in stock: plans chosen together"
+                     + ("" if outcome.proven else " (not proven optimal in the time limit)"))
+        for i, parts in zip(members, outcome.parts):
+            results[i] = _rechosen(results[i], arrays_of[i], parts, outcome.proven)
+    return results, notes
+
+
+def _rechosen(result: PlaneResult, arrays: PlaneArrays, parts: PartList,
+              proven: bool) -> PlaneResult:
+    residual = residual_of(arrays.target, arrays.effects, parts)
+    count = sum(c for _, _, c in parts)
+    entry = Selection(count, parts, residual, float(np.linalg.norm(residual)), 0.0, proven)
+    option = to_option(result.plane, entry)
+    within = None if result.tolerance_gmm is None else option.residual_gmm <= result.tolerance_gmm
+    notes = result.notes + ("plan chosen together with the other planes that share its stock",)
+    return replace(result, chosen=option, within_tolerance=within,
+                   optimal=result.optimal and proven, notes=notes)
