@@ -72,6 +72,7 @@ class _Built:
         self.scales = []
         self.errors = []
         self.within = []
+        self.outside_sq = []
         group_terms: dict[str, dict[int, list]] = {}
         for p, plane in enumerate(planes):
             n_pos, n_items, n_ch = plane.effects.shape
@@ -119,11 +120,17 @@ class _Built:
             self.squares.append(square)
             # Each scaled component is off by at most 0.5 (target) + 0.5 per part.
             self.errors.append(math.sqrt(len(total_sq)) * 0.5 * (1 + plane.max_parts))
+            # o = the squared residual of a plane that is not within tolerance, else 0.
+            outside = self.model.NewIntVar(0, bound * bound * len(total_sq), f"o{p}")
             if plane.tolerance is not None:
                 w = self.model.NewBoolVar(f"w{p}")
                 limit = int(math.floor((plane.tolerance * scale) ** 2))
                 self.model.Add(square <= limit).OnlyEnforceIf(w)
+                self.model.Add(outside >= square).OnlyEnforceIf(w.Not())
                 self.within.append(w)
+            else:
+                self.model.Add(outside >= square)
+            self.outside_sq.append(outside)
             for (j, k, n) in plane.hint:
                 if (j, k) in xs:
                     self.model.AddHint(xs[j, k], int(n))
@@ -151,15 +158,17 @@ def solve_shared_stock(planes: list[ModelPlane], group_stock: dict[str, np.ndarr
                        time_limit_s: float = 10.0) -> ModelOutcome:
     """All planes at once under shared stock, lexicographically.
 
-    First the most planes within tolerance, then the fewest parts in all,
-    then the least sum of squared residuals (each plane scaled to its own
-    size so that no plane dominates).
+    First the most planes within tolerance; then the least residual of the
+    planes that are not within (or have no tolerance); then the fewest parts
+    in all; then the least sum of squared residuals.  Residuals are each
+    plane's own, scaled to its own size so that no plane dominates.
     """
     built = _Built(planes, group_stock)
     cp_model = built.cp_model
     stages = []
     if built.within:
         stages.append(("max", sum(built.within)))
+    stages.append(("min", sum(built.outside_sq)))
     stages.append(("min", sum(built.counts)))
     stages.append(("min", sum(built.squares)))
     proven = True

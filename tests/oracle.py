@@ -1,0 +1,43 @@
+"""Brute-force enumeration: the true optimum of small placement problems.
+
+Independent of placer's search: it lists every multiset of placements up to
+k parts, keeps those that respect capacity and stock, and takes the least
+Euclidean residual.  Used as the oracle the exact search is checked against.
+"""
+
+from __future__ import annotations
+
+import itertools
+
+import numpy as np
+
+
+def brute_front(effects: np.ndarray, target: np.ndarray, capacity, stock, max_parts: int):
+    """Least residual norm with at most k parts, k = 0 .. max_parts, by enumeration."""
+    effects = np.asarray(effects, dtype=complex)
+    if effects.ndim == 2:
+        effects = effects[:, :, None]
+    target = np.atleast_1d(np.asarray(target, dtype=complex))
+    n_pos, n_items, _ = effects.shape
+    placements = [(j, k) for j in range(n_pos) for k in range(n_items)
+                  if capacity[j] > 0 and stock[k] > 0]
+    best = [float(np.linalg.norm(target))]
+    for k in range(1, max_parts + 1):
+        value = best[-1]
+        for combo in itertools.combinations_with_replacement(range(len(placements)), k):
+            pos_count: dict[int, int] = {}
+            item_count: dict[int, int] = {}
+            for c in combo:
+                j, i = placements[c]
+                pos_count[j] = pos_count.get(j, 0) + 1
+                item_count[i] = item_count.get(i, 0) + 1
+            if any(n > capacity[j] for j, n in pos_count.items()):
+                continue
+            if any(n > stock[i] for i, n in item_count.items()):
+                continue
+            total = target.copy()
+            for c in combo:
+                total = total + effects[placements[c][0], placements[c][1]]
+            value = min(value, float(np.linalg.norm(total)))
+        best.append(value)
+    return best

@@ -1,0 +1,122 @@
+"""Solving whole jobs: tolerances per plane, choice from the front, shared stock, fallbacks."""
+
+from __future__ import annotations
+
+import cmath
+import math
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+import placer.search
+from oracle import brute_front
+from placer.jobfile import read_job
+from placer.plan import choose
+from placer.residual import residual_vector_gmm
+from placer.solve import PlaneArrays, exact_front, solve_job
+from test_search import ring_effects
+
+CATALOG = """
+name = "test drawer"
+[[items]]
+id = "A"
+mass_g = 5.0
+stock = {stock}
+[[items]]
+id = "B"
+mass_g = 2.0
+"""
+
+
+def write_job(tmp_path: Path, body: str, stock: int = 10) -> Path:
+    (tmp_path / "drawer.toml").write_text(CATALOG.format(stock=stock))
+    job = tmp_path / "job.toml"
+    job.write_text(body)
+    return job
+
+
+TWO_PLANES = """
+[rotor]
+name = "test rotor"
+mass_kg = 12.0
+service_rpm = 2950
+grade = "G2.5"
+{extra}
+[[planes]]
+name = "A side"
+radius_mm = 100.0
+positions = 4
+catalog = "drawer.toml"
+correction = {{ mass_g = 5.0, angle_deg = 0.0 }}
+[[planes]]
+name = "B side"
+radius_mm = 100.0
+positions = 4
+catalog = "drawer.toml"
+correction = {{ mass_g = 5.0, angle_deg = 90.0 }}
+"""
+
+
+def test_grade_share_gives_each_plane_half(tmp_path):
+    result = solve_job(read_job(write_job(tmp_path, TWO_PLANES.format(extra=""))))
+    # ISO 21940-11: U_per = 1000·G·m/ω = 1000·2.5·12/(2π·2950/60) = 97.11 g·mm,
+    # half each for equal shares (symmetric rotor).
+    u_per = 1000 * 2.5 * 12 / (2 * math.pi * 2950 / 60)
+    assert result.permissible_gmm == pytest.approx(u_per)
+    assert [p.tolerance_gmm for p in result.planes] == pytest.approx([u_per / 2] * 2)
+
+
+def test_lever_rule_share_from_centre_of_mass_distances(tmp_path):
+    job = write_job(tmp_path, TWO_PLANES.format(extra="com_distances_mm = [100.0, 300.0]"))
+    result = solve_job(read_job(job))
+    # Lever rule (ISO 21940-11 allocation): U_A = U·L_B/L = 0.75 U, held to 0.7 U
+    # (the 0.3-0.7 limits are from memory), U_B = 0.3 U.
+    u = result.permissible_gmm
+    assert [p.tolerance_gmm for p in result.planes] == pytest.approx([0.7 * u, 0.3 * u])
+
+
+def test_shared_stock_is_planned_together(tmp_path):
+    # Both planes want the one 5 g part (exact); the drawer has one.
+    result = solve_job(read_job(write_job(tmp_path, TWO_PLANES.format(extra=""), stock=1)))
+    used = sum(p.count for r in result.planes for p in r.chosen.parts if p.item == "A")
+    assert used == 1
+    assert any("share catalogue" in n for n in result.notes)
+    for r in result.planes:
+        again = abs(residual_vector_gmm(r.plane.correction_gmm, r.chosen.parts))
+        assert again == pytest.approx(r.chosen.residual_gmm)
+
+
+def test_already_within_tolerance_needs_no_parts():
+    entries_effects = ring_effects(6, [1.0], 100.0)
+    arrays = PlaneArrays(entries_effects[:, :, None], np.array([30.0 + 0j]), np.ones(6, int),
+                         np.array([4]))
+    entries, _, _ = exact_front(arrays, 3)
+    assert choose(entries, 40.0).parts == ()
+    assert choose(entries, None).residual_norm <= 30.0
+
+
+def test_unreachable_correction_is_solved_and_flagged(tmp_path):
+    body = TWO_PLANES.format(extra="").replace("mass_g = 5.0, angle_deg = 90.0",
+                                               "mass_g = 500.0, angle_deg = 90.0")
+    result = solve_job(read_job(write_job(tmp_path, body)))
+    plane = result.planes[1]
+    assert plane.within_tolerance is False
+    assert plane.chosen.parts
+    assert any("cannot be reached" in n for n in plane.notes)
+    assert not result.all_within
+
+
+def test_cp_sat_takes_over_when_tables_are_over_budget(monkeypatch):
+    """Force the search to decline every part count above 1: CP-SAT must prove them."""
+    monkeypatch.setattr(placer.search, "_MAX_PAIRS", 0)
+    effects = ring_effects(5, [1.5, 4.0], 100.0)
+    target = np.array([620.0 * cmath.exp(1j * 0.7)])
+    arrays = PlaneArrays(effects[:, :, None], target, np.full(5, 2), np.array([3, 3]))
+    entries, _, method = exact_front(arrays, 3, time_limit_s=20.0)
+    assert "CP-SAT" in method
+    expected = brute_front(effects, target, np.full(5, 2), np.array([3, 3]), 3)
+    size = max(abs(target[0]), np.abs(effects).max())
+    # Oracle: exhaustive enumeration; the model's integer scaling allows 5e-4 of the size.
+    assert [e.residual_norm for e in entries] == pytest.approx(expected, abs=5e-4 * size)
+    assert all(e.proven for e in entries)
