@@ -89,7 +89,7 @@ def _solve(args: argparse.Namespace) -> int:
     if args.json:
         from placer.jsonout import job_dict
 
-        print(json.dumps(job_dict(result), indent=1, ensure_ascii=False))
+        print(json.dumps(job_dict(result), indent=2, ensure_ascii=False))
     else:
         from placer.report import render_job
 

@@ -9,20 +9,16 @@ from placer.plan import PlanOption
 from placer.solve import JobResult, PlaneResult
 
 
-def _round(value: float, digits: int = 4) -> float:
-    return float(round(value, digits))
-
-
 def option_dict(option: PlanOption) -> dict[str, Any]:
     """One plan: part count, residual and the parts (position numbers from 1)."""
     return {
         "part_count": option.part_count,
-        "residual_gmm": _round(option.residual_gmm),
-        "residual_angle_deg": _round(option.residual_angle_deg, 2),
-        "lower_bound_gmm": _round(option.lower_bound_gmm),
+        "residual_gmm": float(option.residual_gmm),
+        "residual_angle_deg": float(option.residual_angle_deg),
+        "lower_bound_gmm": float(option.lower_bound_gmm),
         "proven": option.proven,
         "parts": [
-            {"position": p.position, "angle_deg": _round(p.angle_deg, 4),
+            {"position": p.position, "angle_deg": float(p.angle_deg),
              "radius_mm": p.radius_mm, "item": p.item, "mass_g": p.mass_g, "count": p.count}
             for p in option.parts
         ],
@@ -37,11 +33,11 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
     return {
         "name": result.name,
         "optimal": result.optimal,
-        "tolerance_gmm": None if result.tolerance_gmm is None else _round(result.tolerance_gmm),
+        "tolerance_gmm": None if result.tolerance_gmm is None else float(result.tolerance_gmm),
         "tolerance_source": result.tolerance_source,
         "required": {
-            "gmm": _round(abs(plane.correction_gmm)),
-            "angle_deg": _round(angle_of_deg(plane.correction_gmm), 2),
+            "gmm": float(abs(plane.correction_gmm)),
+            "angle_deg": float(angle_of_deg(plane.correction_gmm)),
             "given_as": plane.given_as,
         },
         "catalog": plane.catalog.name,
@@ -49,7 +45,7 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
         "chosen": chosen,
         "notes": list(result.notes),
         "method": result.method,
-        "elapsed_s": _round(result.elapsed_s, 4),
+        "elapsed_s": float(result.elapsed_s),
     }
 
 
@@ -62,7 +58,7 @@ def job_dict(result: JobResult) -> dict[str, Any]:
                   "grade_mm_s": rotor.grade_mm_s},
         "angle_convention": f"degrees from the reference mark, counted {rotor.angle_sense}",
         "permissible_gmm": None if result.permissible_gmm is None
-        else _round(result.permissible_gmm),
+        else float(result.permissible_gmm),
         "within_tolerance": result.all_within,
         "notes": list(result.notes),
         "planes": [plane_dict(p) for p in result.planes],
