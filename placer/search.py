@@ -46,6 +46,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+NORMS = ("euclidean", "max")
+"""Norms the search can minimise over the channels of the residual."""
+
 PartList = tuple[tuple[int, int, int], ...]
 """Parts as (position_index, item_index, count), sorted by position then item."""
 
@@ -128,15 +131,26 @@ class PlacementSearch:
         Parts of each item on hand.
     max_parts : int
         Longest selection considered.
+    norm : {"euclidean", "max"}
+        What is least: the Euclidean norm over all channels (root of the sum
+        of squares), or the largest channel magnitude.  Both are norms, so the
+        bounds hold; the k-d tree works in Euclidean distance, which bounds
+        the largest magnitude from above and from below by a factor
+        sqrt(n_channels), and candidates are re-scored exactly.
     """
 
     def __init__(self, effects: np.ndarray, capacity: np.ndarray, stock: np.ndarray,
-                 max_parts: int) -> None:
+                 max_parts: int, norm: str = "euclidean") -> None:
         effects = np.asarray(effects, dtype=complex)
         if effects.ndim == 2:
             effects = effects[:, :, None]
+        if norm not in NORMS:
+            raise ValueError(f"norm must be one of {NORMS}, not {norm!r}")
+        self.norm = norm
         self.effects = effects
         self.n_positions, self.n_items, self.n_channels = effects.shape
+        # Euclidean distance d between real vectors bounds the chosen norm below by d / widen.
+        self.widen = 1.0 if norm == "euclidean" else float(np.sqrt(self.n_channels))
         self.capacity = np.minimum(np.asarray(capacity, dtype=np.int64), max_parts)
         self.stock = np.minimum(np.asarray(stock, dtype=np.int64), max_parts)
         self.max_parts = int(max_parts)
@@ -144,12 +158,12 @@ class PlacementSearch:
         usable &= np.linalg.norm(effects, axis=2) > 0
         pos, item = np.nonzero(usable)
         eff = effects[pos, item, :]
-        norm = np.linalg.norm(eff, axis=1)
-        order = np.lexsort((item, pos, -norm))
+        size = self._norm(_as_real(eff))
+        order = np.lexsort((item, pos, -size))
         self.pos_of = pos[order]
         self.item_of = item[order]
         self.eff = eff[order]
-        self.mag = norm[order]
+        self.mag = size[order]
         self.n = len(self.pos_of)
         self.eff_real = _as_real(self.eff)
         self._pairs: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
@@ -182,7 +196,7 @@ class PlacementSearch:
         target = np.atleast_1d(np.asarray(target, dtype=complex))
         t_real = _as_real(target[None, :])[0]
         best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
-        best_norm = float(np.linalg.norm(t_real))
+        best_norm = float(self._norm(t_real[None, :])[0])
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
         method = "exact"
         for k in range(1, k_max + 1):
@@ -205,7 +219,7 @@ class PlacementSearch:
     def _best_with(self, k: int, t_real: np.ndarray, bound: float):
         """Best selection of exactly k parts below ``bound``; None if over budget."""
         if k == 1:
-            values = np.linalg.norm(t_real + self.eff_real, axis=1)
+            values = self._norm(t_real + self.eff_real)
             i = int(np.argmin(values))
             return np.array([i]), float(values[i])
         if self.pair_table_too_large:
@@ -214,7 +228,7 @@ class PlacementSearch:
         if k == 2:
             if len(a) == 0:
                 return None, np.inf
-            values = np.linalg.norm(t_real + sums, axis=1)
+            values = self._norm(t_real + sums)
             i = int(np.argmin(values))
             return np.array([a[i], b[i]]), float(values[i])
         heads, head_sums = self._heads(k - 2, k, t_real, bound)
@@ -230,7 +244,7 @@ class PlacementSearch:
         else:
             a, b, sums = self._pair_table()
             rows = np.stack([a, b], axis=1)
-        keep = _head_bound(sums, rows, self.mag, k, t_real) < bound
+        keep = self._head_bound(sums, rows, k, t_real) < bound
         rows, sums = rows[keep], sums[keep]
         for _ in range(min(size, 2), size):
             new_rows, new_sums = [], []
@@ -243,7 +257,7 @@ class PlacementSearch:
                 grown = np.concatenate([r[ri], ci[:, None]], axis=1)
                 grown_sums = s[ri] + self.eff_real[ci]
                 ok = _feasible(grown, self.pos_of, self.item_of, self.capacity, self.stock)
-                ok &= _head_bound(grown_sums, grown, self.mag, k, t_real) < bound
+                ok &= self._head_bound(grown_sums, grown, k, t_real) < bound
                 new_rows.append(grown[ok])
                 new_sums.append(grown_sums[ok])
                 if sum(len(x) for x in new_rows) > _MAX_HEAD_ROWS:
@@ -254,13 +268,13 @@ class PlacementSearch:
 
     def _complete(self, heads: np.ndarray, head_sums: np.ndarray, t_real: np.ndarray,
                   bound: float):
-        """Complete each head with its nearest feasible pair; the best below ``bound``."""
+        """Complete each head with its best feasible pair; the best below ``bound``."""
         a, b, sums = self._pair_table()
         if len(a) == 0 or len(heads) == 0:
             return None, np.inf
         tree = self._pair_tree()
         k = heads.shape[1] + 2
-        priority = _head_bound(head_sums, heads, self.mag, k, t_real)
+        priority = self._head_bound(head_sums, heads, k, t_real)
         order = np.argsort(priority, kind="stable")
         heads, head_sums, priority = heads[order], head_sums[order], priority[order]
         best_row, best_value = None, bound
@@ -270,21 +284,18 @@ class PlacementSearch:
             live = priority[start:stop] < best_value
             h, hs = heads[start:stop][live], head_sums[start:stop][live]
             start = stop
-            if len(h) == 0:
-                continue
-            queries = -(t_real + hs)
             for n_neigh in (_NEIGHBOURS_FIRST, _NEIGHBOURS_SECOND, None):
                 if len(h) == 0:
                     break
                 if n_neigh is None:
-                    for row, q in zip(h, queries):
-                        row_best = _scan_row(row, q, a, b, sums, self, best_value)
+                    for row, head_sum in zip(h, hs):
+                        row_best = self._scan_row(row, t_real + head_sum, best_value)
                         if row_best is not None and row_best[1] < best_value:
                             best_row, best_value = row_best
                     break
                 n_neigh = min(n_neigh, len(a))
-                dist, idx = tree.query(queries, k=n_neigh, distance_upper_bound=best_value,
-                                       workers=-1)
+                dist, idx = tree.query(-(t_real + hs), k=n_neigh,
+                                       distance_upper_bound=best_value * self.widen, workers=-1)
                 dist = dist.reshape(len(h), n_neigh)
                 idx = idx.reshape(len(h), n_neigh)
                 finite = np.isfinite(dist)
@@ -293,22 +304,57 @@ class PlacementSearch:
                                          a[safe].reshape(-1, 1), b[safe].reshape(-1, 1)], axis=1)
                 ok = _feasible(combos, self.pos_of, self.item_of, self.capacity,
                                self.stock).reshape(len(h), n_neigh) & finite
-                has = ok.any(axis=1)
-                first = np.argmax(ok, axis=1)
-                got = dist[np.arange(len(h)), first]
-                if has.any():
-                    j = int(np.argmin(np.where(has, got, np.inf)))
-                    if got[j] < best_value:
-                        pair = idx[j, first[j]]
-                        best_row = np.concatenate([h[j], [a[pair], b[pair]]])
-                        best_value = float(got[j])
-                # Rows whose every neighbour clashed and the last is still within
-                # the bound may have a feasible pair further out: look again.
-                again = ~has & finite[:, -1] & (n_neigh < len(a))
-                h, queries = h[again], queries[again]
+                if self.norm == "euclidean":
+                    value = dist
+                else:
+                    value = self._norm((t_real + np.repeat(hs, n_neigh, axis=0)
+                                        + sums[safe.ravel()])).reshape(len(h), n_neigh)
+                value = np.where(ok, value, np.inf)
+                choice = np.argmin(value, axis=1)
+                row_value = value[np.arange(len(h)), choice]
+                j = int(np.argmin(row_value))
+                if row_value[j] < best_value:
+                    pair = idx[j, choice[j]]
+                    best_row = np.concatenate([h[j], [a[pair], b[pair]]])
+                    best_value = float(row_value[j])
+                # A pair beyond the last neighbour is at least dist_last / widen away
+                # in the chosen norm; rows not settled by that look further.
+                settled = row_value <= dist[:, -1] / self.widen
+                again = finite[:, -1] & ~settled & (n_neigh < len(a))
+                h, hs = h[again], hs[again]
         if best_row is None:
             return None, np.inf
-        return best_row, float(np.linalg.norm(t_real + self.eff_real[best_row].sum(axis=0)))
+        total = t_real + self.eff_real[best_row].sum(axis=0)
+        return best_row, float(self._norm(total[None, :])[0])
+
+    def _scan_row(self, row: np.ndarray, residual_head: np.ndarray, bound: float):
+        """Best feasible pair for one head, by a full scan of the pair table."""
+        a, b, sums = self._pair_table()
+        value = self._norm(residual_head + sums)
+        candidates = np.nonzero(value < bound)[0]
+        if len(candidates) == 0:
+            return None
+        candidates = candidates[np.argsort(value[candidates], kind="stable")]
+        combos = np.concatenate([np.repeat(row[None, :], len(candidates), axis=0),
+                                 a[candidates, None], b[candidates, None]], axis=1)
+        ok = _feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
+        if not ok.any():
+            return None
+        j = candidates[int(np.argmax(ok))]
+        return np.concatenate([row, [a[j], b[j]]]), float(value[j])
+
+    def _norm(self, real_rows: np.ndarray) -> np.ndarray:
+        """The chosen norm of each row of real vectors (real parts, then imaginary)."""
+        if self.norm == "euclidean":
+            return np.linalg.norm(real_rows, axis=1)
+        c = real_rows.shape[1] // 2
+        return np.sqrt((real_rows[:, :c] ** 2 + real_rows[:, c:] ** 2).max(axis=1))
+
+    def _head_bound(self, sums: np.ndarray, rows: np.ndarray, k: int,
+                    t_real: np.ndarray) -> np.ndarray:
+        """Least residual any completion of these heads to k parts could reach."""
+        remaining = k - rows.shape[1]
+        return self._norm(t_real + sums) - remaining * self.mag[rows[:, -1]]
 
     # ----------------------------------------------------------------- output
     def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
@@ -319,19 +365,13 @@ class PlacementSearch:
             counts[key] = counts.get(key, 0) + 1
         parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
         residual = residual_of(target, self.effects, parts)
-        return Selection(k, parts, residual, float(np.linalg.norm(residual)), float(lower), proven)
+        value = float(self._norm(_as_real(residual[None, :]))[0])
+        return Selection(k, parts, residual, value, float(lower), proven)
 
 
 def _as_real(values: np.ndarray) -> np.ndarray:
     """Complex (rows, channels) to real (rows, 2*channels): real parts, then imaginary."""
     return np.concatenate([values.real, values.imag], axis=1)
-
-
-def _head_bound(sums: np.ndarray, rows: np.ndarray, mag: np.ndarray, k: int,
-                t_real: np.ndarray) -> np.ndarray:
-    """Least residual any completion of these heads to k parts could reach."""
-    remaining = k - rows.shape[1]
-    return np.linalg.norm(t_real + sums, axis=1) - remaining * mag[rows[:, -1]]
 
 
 def _feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
@@ -359,19 +399,3 @@ def _feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
                     same += item[:, c] == item[:, d]
             ok &= same <= stock[item[:, c]]
     return ok
-
-
-def _scan_row(row, query, a, b, sums, search: PlacementSearch, bound: float):
-    """Nearest feasible pair to ``query`` for one head, by a full scan."""
-    dist = np.linalg.norm(sums - query, axis=1)
-    candidates = np.nonzero(dist < bound)[0]
-    if len(candidates) == 0:
-        return None
-    candidates = candidates[np.argsort(dist[candidates], kind="stable")]
-    combos = np.concatenate([np.repeat(row[None, :], len(candidates), axis=0),
-                             a[candidates, None], b[candidates, None]], axis=1)
-    ok = _feasible(combos, search.pos_of, search.item_of, search.capacity, search.stock)
-    if not ok.any():
-        return None
-    j = candidates[int(np.argmax(ok))]
-    return np.concatenate([row, [a[j], b[j]]]), float(dist[j])

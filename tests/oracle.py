@@ -12,8 +12,15 @@ import itertools
 import numpy as np
 
 
-def brute_front(effects: np.ndarray, target: np.ndarray, capacity, stock, max_parts: int):
-    """Least residual norm with at most k parts, k = 0 .. max_parts, by enumeration."""
+def brute_front(effects: np.ndarray, target: np.ndarray, capacity, stock, max_parts: int,
+                norm: str = "euclidean"):
+    """Least residual norm with at most k parts, k = 0 .. max_parts, by enumeration.
+
+    ``norm`` is "euclidean" (root of the sum of squared channel magnitudes) or
+    "max" (the largest channel magnitude).
+    """
+    measure = (lambda v: float(np.linalg.norm(v))) if norm == "euclidean" else \
+        (lambda v: float(np.abs(v).max()))
     effects = np.asarray(effects, dtype=complex)
     if effects.ndim == 2:
         effects = effects[:, :, None]
@@ -21,7 +28,7 @@ def brute_front(effects: np.ndarray, target: np.ndarray, capacity, stock, max_pa
     n_pos, n_items, _ = effects.shape
     placements = [(j, k) for j in range(n_pos) for k in range(n_items)
                   if capacity[j] > 0 and stock[k] > 0]
-    best = [float(np.linalg.norm(target))]
+    best = [measure(target)]
     for k in range(1, max_parts + 1):
         value = best[-1]
         for combo in itertools.combinations_with_replacement(range(len(placements)), k):
@@ -38,6 +45,6 @@ def brute_front(effects: np.ndarray, target: np.ndarray, capacity, stock, max_pa
             total = target.copy()
             for c in combo:
                 total = total + effects[placements[c][0], placements[c][1]]
-            value = min(value, float(np.linalg.norm(total)))
+            value = min(value, measure(total))
         best.append(value)
     return best
