@@ -66,6 +66,46 @@ def _parser() -> argparse.ArgumentParser:
                      help="distances from the centre of mass to plane A and plane B [mm] "
                           "(lever rule; default equal shares)")
     tol.add_argument("--json", action="store_true", help="print JSON instead of text")
+    field = sub.add_parser("field", help="plan from vibration readings of trial runs",
+                           description="Read a session file (reference run, trial runs, "
+                                       "optional check run), work out the influence "
+                                       "coefficients and the correction, and plan the parts "
+                                       "for all planes together by least predicted vibration.")
+    field.add_argument("session", metavar="SESSION", help="session file (TOML), see examples/")
+    field.add_argument("--json", action="store_true", help="print one JSON object")
+    field.add_argument("--norm", choices=("max", "rms"),
+                       help="least largest reading (max) or least root-sum-square over "
+                            "sensors (rms); overrides the session's [solve] norm")
+    field.add_argument("--max-parts", type=int, metavar="N",
+                       help="most parts in all planes together (overrides [solve] max_parts)")
+    field.add_argument("--save", action="store_true",
+                       help="store the visit (runs, readings, coefficients, plan) in the "
+                            "machine history database")
+    field.add_argument("--db", metavar="FILE",
+                       help="history database (default: $PLACER_DB, else placer/history.sqlite "
+                            "in the user's data folder)")
+    field.add_argument("--width", type=int, default=None, metavar="COLUMNS",
+                       help="width of the sheet in columns")
+
+    machines = sub.add_parser("machines", help="list the machines in the history database",
+                              description="List the machines stored in the history database, "
+                                          "with their number of visits and the last one.")
+    machines.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
+    machines.add_argument("--json", action="store_true", help="print JSON")
+    history = sub.add_parser("history", help="show one machine's visits",
+                             description="Show a machine's stored visits: date, coefficients, "
+                                         "plan and predicted result.")
+    history.add_argument("machine", metavar="MACHINE", help="machine id, as in [machine] id")
+    history.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
+    history.add_argument("--json", action="store_true", help="print JSON")
+
+    trial = sub.add_parser("trial", help="suggest a trial mass before the first trial run",
+                           description="Trial mass whose centrifugal force is 10 % of the "
+                                       "rotor's weight (rule of thumb, from memory).")
+    trial.add_argument("--mass-kg", required=True, type=float, help="rotor mass [kg]")
+    trial.add_argument("--rpm", required=True, type=float, help="speed of the trial run [r/min]")
+    trial.add_argument("--radius-mm", required=True, type=float,
+                       help="radius the trial weight goes on [mm]")
     return parser
 
 
@@ -146,10 +186,143 @@ def _tolerance(args: argparse.Namespace) -> int:
     print(f"  = {u_per / args.mass_kg:.2f} g·mm/kg permissible specific unbalance")
     rule = ("one plane takes the full value" if args.planes == 1 else
             "lever rule from the distances, each share held to 30-70 % (limits from memory)"
-            if args.distances_mm else "equal shares (symmetric rotor)")
-    print(f"Per plane ({rule}):")
+            if args.distances_mm else "equal shares, as for a symmetric rotor")
+    print(f"Per plane, {rule}:")
     for s in shares:
         print(f"  plane {s.name}: {s.share:.0%} = {s.permissible_gmm:.1f} g·mm")
+    return EXIT_OK
+
+
+def _field(args: argparse.Namespace) -> int:
+    from dataclasses import replace
+
+    from placer.fieldplan import solve_session
+    from placer.sessionfile import read_session
+
+    session = read_session(Path(args.session))
+    if args.norm:
+        session = replace(session, norm=args.norm)
+    if args.max_parts is not None:
+        if not 1 <= args.max_parts <= 8:
+            raise InputError(f"is {args.max_parts}", key="--max-parts", expected="1 to 8")
+        session = replace(session, max_parts=args.max_parts)
+    stored = label = None
+    if session.coefficients == "stored":
+        from placer.history import History, default_db_path
+
+        path = Path(args.db) if args.db else default_db_path()
+        if not path.exists():
+            raise InputError(f"no history database at {path}", file=session.source,
+                             key="solve.coefficients",
+                             expected="a database with this machine's coefficients (--db)")
+        with History(path) as db:
+            found = db.latest_coefficients(session.machine_id,
+                                           [c.name for c in session.channels],
+                                           len(session.planes))
+        if found is None:
+            raise InputError(f"no stored coefficients for machine '{session.machine_id}' with "
+                             "these sensors and planes", file=session.source,
+                             key="solve.coefficients", expected="coefficients = \"runs\" and "
+                             "trial runs, or a visit saved with --save")
+        stored, label = found
+    try:
+        result = solve_session(session, stored, label or "")
+    except ValueError as exc:
+        raise InputError(str(exc), file=session.source, key="runs") from None
+    if args.save:
+        from placer.fieldrecord import visit_record
+        from placer.history import History, default_db_path
+
+        path = Path(args.db) if args.db else default_db_path()
+        with History(path) as db:
+            visit_id = db.save_visit(visit_record(result))
+        print(f"placer: visit {visit_id} of {session.machine_id} saved in {path}",
+              file=sys.stderr)
+    if args.json:
+        from placer.fieldreport import field_dict
+
+        print(json.dumps(field_dict(result), indent=2, ensure_ascii=False))
+    else:
+        from placer.fieldreport import render_field
+
+        render_field(result, _console(args.width))
+    return EXIT_OUTSIDE if result.within_limit is False else EXIT_OK
+
+
+def _machines(args: argparse.Namespace) -> int:
+    from placer.history import History, default_db_path
+
+    path = Path(args.db) if args.db else default_db_path()
+    if not path.exists():
+        print(f"No history database yet at {path}; 'placer field SESSION --save' starts one.")
+        return EXIT_OK
+    with History(path) as db:
+        rows = db.machines()
+    if args.json:
+        print(json.dumps([{"id": m.id, "name": m.name, "visits": m.visits,
+                           "last_visit": m.last_visit} for m in rows], indent=2))
+        return EXIT_OK
+    from rich.table import Table
+
+    table = Table(title=f"Machines in {path}", title_justify="left")
+    for column in ("Id", "Name", "Visits", "Last visit"):
+        table.add_column(column)
+    for m in rows:
+        table.add_row(m.id, m.name, str(m.visits), m.last_visit or "-")
+    _console().print(table)
+    return EXIT_OK
+
+
+def _history(args: argparse.Namespace) -> int:
+    from placer.history import History, default_db_path
+
+    path = Path(args.db) if args.db else default_db_path()
+    if not path.exists():
+        raise InputError(f"no history database at {path}", key="--db",
+                         expected="a database written by 'placer field --save'")
+    with History(path) as db:
+        visits = db.visits(args.machine)
+        known = [m.id for m in db.machines()]
+    if not visits:
+        import difflib
+
+        close = difflib.get_close_matches(args.machine, known, n=1)
+        raise InputError(f"no visits of machine '{args.machine}'", key="MACHINE",
+                         expected=(f"did you mean '{close[0]}'? " if close else "")
+                         + "one of: " + (", ".join(known) or "none stored"))
+    if args.json:
+        print(json.dumps([{"id": v.id, "started_at": v.started_at,
+                           "coefficient_source": v.coefficient_source,
+                           "condition": v.condition, "runs": v.runs, "result": v.result}
+                          for v in visits], indent=2))
+        return EXIT_OK
+    from rich.table import Table
+
+    table = Table(title=f"Visits of {args.machine}", title_justify="left")
+    for column in ("Visit", "Date", "Runs", "Coefficients", "Cond.", "Plan", "Predicted"):
+        table.add_column(column)
+    for v in visits:
+        plan = ", ".join(f"P{m.plane + 1}#{m.position} {m.item}x{m.count}" for m in v.planned)
+        before = v.result.get("vibration_before")
+        after = v.result.get("vibration_after")
+        predicted = "-" if after is None else f"{before:.2f} -> {after:.2f}"
+        table.add_row(str(v.id), v.started_at, str(v.runs), v.coefficient_source,
+                      "-" if v.condition is None else f"{v.condition:.1f}", plan or "-",
+                      predicted)
+    _console().print(table)
+    return EXIT_OK
+
+
+def _trial(args: argparse.Namespace) -> int:
+    from placer.fieldreport import trial_suggestion
+
+    for key, value in (("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
+                       ("--radius-mm", args.radius_mm)):
+        if not (value > 0 and value < float("inf")):
+            raise InputError(f"is {value:g}", key=key, expected="a number above zero")
+    print(trial_suggestion(args.mass_kg, args.rpm, args.radius_mm))
+    print("Fit it as firmly as a final weight; lock out before fitting; keep clear of the "
+          "plane of rotation on the run.")
     return EXIT_OK
 
 
@@ -160,7 +333,8 @@ def main(argv: list[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_BAD_INPUT
-    handlers = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance}
+    handlers = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance,
+                "field": _field, "machines": _machines, "history": _history, "trial": _trial}
     try:
         return handlers[args.command](args)
     except InputError as exc:

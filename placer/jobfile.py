@@ -39,8 +39,8 @@ def read_job(path: Path) -> Job:
     return Job(rotor=rotor, planes=tuple(planes), source=file)
 
 
-def _rotor(t: Table) -> Rotor:
-    t.allow_only(ROTOR_KEYS)
+def _rotor(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
+    t.allow_only(ROTOR_KEYS + extra_keys)
     grade = None
     if t.has("grade"):
         raw = t.data["grade"]
@@ -70,6 +70,26 @@ def _rotor(t: Table) -> Rotor:
 
 def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog]) -> PlaneJob:
     t.allow_only(PLANE_KEYS)
+    geometry, catalog = plane_geometry(t, base_dir, catalogs)
+    correction, given_as = _requirement(t)
+    return PlaneJob(
+        geometry=geometry,
+        catalog=catalog,
+        correction_gmm=correction,
+        given_as=given_as,
+        tolerance_gmm=t.number("tolerance_gmm", non_negative=True),
+        max_parts=t.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
+                            maximum=MAX_PARTS_LIMIT),
+    )
+
+
+def plane_geometry(t: Table, base_dir: Path,
+                   catalogs: dict[Path, Catalog]) -> tuple[PlaneGeometry, Catalog]:
+    """A plane's positions and catalogue from its table (shared with session files).
+
+    ``catalogs`` caches catalogues by resolved path, so that planes naming the
+    same file share one Catalog (and its stock).
+    """
     name = t.text("name", default=t.path)
     angles = _angles(t)
     radii = _radii(t, len(angles))
@@ -80,17 +100,9 @@ def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog]) -> PlaneJob:
     key = catalog_path.resolve()
     if key not in catalogs:
         catalogs[key] = read_catalog(catalog_path)
-    correction, given_as = _requirement(t)
-    return PlaneJob(
-        geometry=PlaneGeometry(name=name, angles_deg=angles, radii_mm=radii,
-                               blocked=blocked, capacity=capacity),
-        catalog=catalogs[key],
-        correction_gmm=correction,
-        given_as=given_as,
-        tolerance_gmm=t.number("tolerance_gmm", non_negative=True),
-        max_parts=t.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
-                            maximum=MAX_PARTS_LIMIT),
-    )
+    geometry = PlaneGeometry(name=name, angles_deg=angles, radii_mm=radii, blocked=blocked,
+                             capacity=capacity)
+    return geometry, catalogs[key]
 
 
 def _angles(t: Table) -> tuple[float, ...]:

@@ -1,0 +1,97 @@
+"""Vibration readings: amplitude units, amplitude measures and phase conventions.
+
+A once-per-revolution reading is a phasor A·e^{iφ}.  Inside placer every
+reading is held as a complex number in the session's amplitude unit, as a
+peak value, with its phase counted in the rotor's angle sense, so that
+weights (in the same sense) and readings combine linearly:
+V = V0 + Σ α·W.
+
+Phase lag is counted from the reference pulse to the vibration peak.  A
+heavy spot placed further from the reference mark *against* rotation passes
+the sensor later, so phase lag grows with angles counted against rotation,
+and phase lead with angles counted with rotation.
+
+References
+----------
+Influence-coefficient balancing with complex phasors; the rule that weight
+angles must be counted in the same sense as the phase lag for W = -V0/α to
+hold (../shared/REFERENCES.md, "Influence coefficients").  Peak, peak-to-peak
+and rms of a sinusoid: peak-to-peak = 2·peak, rms = peak/√2 (sinusoid
+identities).  1 mil = 0.001 in = 25.4 µm; 1 in/s = 25.4 mm/s (definition of
+the inch).
+"""
+
+from __future__ import annotations
+
+import cmath
+import math
+
+AMPLITUDE_UNITS = {"um": ("displacement", 1.0), "mils": ("displacement", 25.4),
+                   "mm/s": ("velocity", 1.0), "in/s": ("velocity", 25.4)}
+"""Amplitude units: quantity and factor to the base unit (µm or mm/s)."""
+
+UNIT_ALIASES = {"µm": "um", "micron": "um", "microns": "um", "mil": "mils",
+                "ips": "in/s", "mm/sec": "mm/s"}
+
+MEASURES = {"peak": 1.0, "peak-to-peak": 0.5, "rms": math.sqrt(2.0)}
+"""Factor from each amplitude measure to peak, for a sinusoid."""
+
+PHASE_SENSES = ("lag", "lead")
+"""Phase lag counts against rotation, phase lead with rotation."""
+
+
+def canonical_unit(unit: str) -> str | None:
+    """The unit's canonical spelling, or None if placer does not know it."""
+    unit = unit.strip()
+    unit = UNIT_ALIASES.get(unit, unit)
+    return unit if unit in AMPLITUDE_UNITS else None
+
+
+def convert_amplitude(value: float, unit: str, measure: str, to_unit: str,
+                      to_measure: str = "peak", speed_rpm: float | None = None) -> float:
+    """An amplitude in another unit and measure.
+
+    Displacement and velocity convert only with the speed of a 1× sinusoid:
+    velocity = ω·displacement (ω in rad/s).
+    """
+    quantity, factor = AMPLITUDE_UNITS[unit]
+    to_quantity, to_factor = AMPLITUDE_UNITS[to_unit]
+    base = value * factor * MEASURES[measure]
+    if quantity != to_quantity:
+        if speed_rpm is None:
+            raise ValueError("displacement and velocity convert only at a known speed")
+        omega = 2.0 * math.pi * speed_rpm / 60.0
+        # µm·(rad/s) = 1e-3 mm/s
+        base = base * omega * 1e-3 if quantity == "displacement" else base / (omega * 1e-3)
+    return base / to_factor / MEASURES[to_measure]
+
+
+def phase_in_rotor_sense(phase_deg: float, phase_sense: str, rotor_sense: str,
+                         rotation: str | None = None) -> float:
+    """A reading's phase as an angle counted in the rotor's angle sense [deg].
+
+    Parameters
+    ----------
+    phase_deg : float
+        The phase as read [deg].
+    phase_sense : {"lag", "lead"}
+    rotor_sense : str
+        The job's angle sense: "against rotation", "with rotation",
+        "clockwise" or "counterclockwise" (seen from the working side).
+    rotation : {"clockwise", "counterclockwise"} or None
+        Sense of rotation seen from the same side; needed only when the
+        rotor's angles are clockwise or counterclockwise.
+    """
+    against = phase_deg if phase_sense == "lag" else -phase_deg
+    if rotor_sense in ("clockwise", "counterclockwise"):
+        if rotation is None:
+            raise ValueError("the rotation sense is needed when angles are clockwise or "
+                             "counterclockwise")
+        rotor_sense = "with rotation" if rotor_sense == rotation else "against rotation"
+    value = against if rotor_sense == "against rotation" else -against
+    return value % 360.0
+
+
+def phasor(amplitude: float, angle_deg: float) -> complex:
+    """amplitude·e^{i·angle}."""
+    return cmath.rect(amplitude, math.radians(angle_deg))

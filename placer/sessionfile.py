@@ -1,0 +1,227 @@
+"""Session files (TOML) of a field-balancing visit -> :class:`placer.session.Session`.
+
+Format (see examples/exhaust-fan-visit.toml)::
+
+    [machine]   id = "WM-0417", name = "..."
+    [rotor]     as in a job, plus rotation = "clockwise" (when angles are
+                clockwise/counterclockwise) and plane_separation_mm
+    [readings]  unit = "mm/s" | "in/s" | "um" | "mils"; measure = "peak" |
+                "peak-to-peak" | "rms"; phase = "lag" | "lead"
+    [[sensors]] name, weight (optional, default 1)
+    [[planes]]  as in a job, without correction or tolerance
+    [[runs]]    name, kind = "reference" | "trial" | "check",
+                readings = [[amplitude, phase_deg], ...] one pair per sensor,
+                trial = [{ plane = 1, mass_g = 20.0, position = 3 }]   (or angle_deg)
+                removed = true    (trial weights taken off after the run; default)
+                fitted = [{ plane = 1, position = 5, item = "M12", count = 1 }]   (check runs)
+    [solve]     norm = "max" | "rms"; max_parts = 4; coefficients = "runs" | "stored";
+                vibration_limit = 1.0 (optional, session unit: fewest parts below it)
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+import numpy as np
+
+from placer.catalog import Catalog
+from placer.errors import JobError
+from placer.fields import Table, read_toml
+from placer.jobfile import PLANE_KEYS, _rotor, plane_geometry
+from placer.readings import (MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense,
+                             phasor)
+from placer.session import FIELD_NORMS, RUN_KINDS, Channel, FieldPlane, PlacedMass, Run, Session
+
+FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
+    "correction", "unbalance", "tolerance_gmm", "max_parts"))
+ROTATIONS = ("clockwise", "counterclockwise")
+
+
+class SessionError(JobError):
+    """A session file is missing, unreadable or holds a bad value."""
+
+
+def read_session(path: Path) -> Session:
+    """Read and check a session file, with its catalogues."""
+    path = Path(path)
+    file = str(path)
+    root = Table(read_toml(path, SessionError, "session file"), file, "", SessionError)
+    root.allow_only(("machine", "rotor", "readings", "sensors", "planes", "runs", "solve"))
+    machine = root.sub("machine", required=True)
+    machine.allow_only(("id", "name"))
+    machine_id = machine.text("id", required=True).strip()
+    if not machine_id:
+        raise machine.fail("id", "is empty", "a machine tag such as \"WM-0417\"")
+    rotor_table = root.sub("rotor", required=True)
+    rotor = _rotor(rotor_table, ("rotation", "plane_separation_mm"))
+    rotation = rotor_table.text("rotation")
+    if rotation is not None and rotation not in ROTATIONS:
+        raise rotor_table.fail("rotation", f"is '{rotation}'", "clockwise or counterclockwise")
+    if rotor.angle_sense in ROTATIONS and rotation is None:
+        raise rotor_table.fail("rotation", "missing",
+                               "the sense of rotation, as the angles are "
+                               f"{rotor.angle_sense} (clockwise or counterclockwise)")
+    separation = rotor_table.number("plane_separation_mm", positive=True)
+
+    readings = root.sub("readings", required=True)
+    readings.allow_only(("unit", "measure", "phase"))
+    unit_text = readings.text("unit", required=True)
+    unit = canonical_unit(unit_text)
+    if unit is None:
+        raise readings.fail("unit", f"is '{unit_text}'", "um, mils, mm/s or in/s")
+    measure = readings.text("measure", required=True)
+    if measure not in MEASURES:
+        raise readings.fail("measure", f"is '{measure}'", "peak, peak-to-peak or rms")
+    phase = readings.text("phase", required=True)
+    if phase not in PHASE_SENSES:
+        raise readings.fail("phase", f"is '{phase}'", "lag or lead")
+
+    channels = []
+    for t in root.tables("sensors", required=True):
+        t.allow_only(("name", "weight"))
+        channels.append(Channel(t.text("name", default=t.path),
+                                t.number("weight", default=1.0, positive=True)))
+    names = [c.name for c in channels]
+    if len(set(names)) != len(names):
+        raise root.fail("sensors", "two sensors have the same name", "a distinct name each")
+
+    catalogs: dict[Path, Catalog] = {}
+    planes = []
+    for t in root.tables("planes", required=True):
+        t.allow_only(FIELD_PLANE_KEYS)
+        geometry, catalog = plane_geometry(t, path.parent, catalogs)
+        planes.append(FieldPlane(geometry, catalog))
+
+    solve = root.sub("solve") or Table({}, file, "solve", SessionError)
+    solve.allow_only(("norm", "max_parts", "coefficients", "vibration_limit"))
+    norm = solve.text("norm", default="max")
+    if norm not in FIELD_NORMS:
+        raise solve.fail("norm", f"is '{norm}'", "max (largest reading) or rms (sum of squares)")
+    coefficients = solve.text("coefficients", default="runs")
+    if coefficients not in ("runs", "stored"):
+        raise solve.fail("coefficients", f"is '{coefficients}'", "runs or stored")
+
+    convert = _Converter(measure, phase, rotor.angle_sense, rotation)
+    runs = tuple(_run(t, convert, len(channels), planes)
+                 for t in root.tables("runs", required=True))
+    _check_runs(root, runs, len(planes), coefficients)
+    return Session(
+        machine_id=machine_id, machine_name=machine.text("name", default=machine_id),
+        rotor=rotor, rotation=rotation, plane_separation_mm=separation, unit=unit,
+        measure=measure, phase_sense=phase, channels=tuple(channels), planes=tuple(planes),
+        runs=runs, norm=norm,
+        max_parts=solve.integer("max_parts", default=4, minimum=1, maximum=8),
+        coefficients=coefficients, source=file,
+        vibration_limit=solve.number("vibration_limit", positive=True))
+
+
+class _Converter:
+    """Readings as read -> peak amplitude, phase in the rotor's angle sense."""
+
+    def __init__(self, measure: str, phase: str, rotor_sense: str, rotation: str | None):
+        self.measure, self.phase, self.sense, self.rotation = measure, phase, rotor_sense, rotation
+
+    def __call__(self, amplitude: float, phase_deg: float) -> complex:
+        angle = phase_in_rotor_sense(phase_deg, self.phase, self.sense, self.rotation)
+        return phasor(amplitude * MEASURES[self.measure], angle)
+
+
+def _run(t: Table, convert: _Converter, n_channels: int, planes: list[FieldPlane]) -> Run:
+    t.allow_only(("name", "kind", "readings", "trial", "removed", "fitted"))
+    kind = t.text("kind", required=True)
+    if kind not in RUN_KINDS:
+        raise t.fail("kind", f"is '{kind}'", "reference, trial or check")
+    values = t.array("readings", required=True)
+    if len(values) != n_channels:
+        raise t.fail("readings", f"has {len(values)} readings for {n_channels} sensors",
+                     "one [amplitude, phase_deg] pair per sensor, in sensor order")
+    raw, phasors = [], []
+    for i, pair in enumerate(values, start=1):
+        key = f"readings[{i}]"
+        if not isinstance(pair, list) or len(pair) != 2:
+            raise t.fail(key, "is not a pair", "[amplitude, phase_deg]")
+        amplitude = t.check_number(key + "[1]", pair[0], non_negative=True)
+        phase = t.check_number(key + "[2]", pair[1])
+        raw.append((amplitude, phase))
+        phasors.append(convert(amplitude, phase))
+    added = []
+    if kind == "trial":
+        if t.has("fitted"):
+            raise t.fail("fitted", "given on a trial run", "trial = [...] on trial runs")
+        for i, w in enumerate(t.array("trial", required=True) or [], start=1):
+            added.append(_mass(Table(w, t.file, f"{t.key('trial')}[{i}]", t.error), planes,
+                               trial=True))
+        if not added:
+            raise t.fail("trial", "is empty", "the trial weight(s) fitted for this run")
+        removed = t.data.get("removed", True)
+        if not isinstance(removed, bool):
+            raise t.fail("removed", "is not true/false", "true (taken off after the run) or false")
+    else:
+        for bad in ("trial", "removed"):
+            if t.has(bad):
+                raise t.fail(bad, f"given on a {kind} run", "trial weights on trial runs only")
+        removed = False
+        if kind == "check":
+            for i, w in enumerate(t.array("fitted") or [], start=1):
+                added.append(_mass(Table(w, t.file, f"{t.key('fitted')}[{i}]", t.error),
+                                   planes, trial=False))
+        elif t.has("fitted"):
+            raise t.fail("fitted", "given on a reference run", "fitted = [...] on check runs")
+    return Run(name=t.text("name", default=kind), kind=kind, readings=np.array(phasors),
+               raw=tuple(raw), added=tuple(added), removed_after=removed)
+
+
+def _mass(w: Table, planes: list[FieldPlane], trial: bool) -> PlacedMass:
+    keys = ("plane", "mass_g", "position", "angle_deg", "radius_mm") if trial else (
+        "plane", "position", "item", "count")
+    w.allow_only(keys)
+    plane_no = w.integer("plane", required=True, minimum=1, maximum=len(planes))
+    plane = planes[plane_no - 1]
+    geometry = plane.geometry
+    if trial:
+        mass = w.number("mass_g", required=True, positive=True)
+        item, count = None, 1
+    else:
+        item = w.text("item", required=True)
+        try:
+            found = plane.catalog.items[plane.catalog.item_index(item)]
+        except KeyError:
+            raise w.fail("item", f"'{item}' is not in catalogue '{plane.catalog.name}'",
+                         "an item id of the plane's catalogue") from None
+        mass, count = found.mass_g, w.integer("count", default=1, minimum=1)
+    position = w.integer("position", minimum=1, maximum=geometry.n_positions)
+    if position is not None and w.has("angle_deg"):
+        raise w.fail("angle_deg", "given together with 'position'", "one of the two")
+    if position is not None:
+        angle = geometry.angles_deg[position - 1]
+        radius = geometry.radii_mm[position - 1]
+    elif trial and w.has("angle_deg"):
+        angle = w.number("angle_deg") % 360.0
+        radius = w.number("radius_mm", positive=True) or geometry.radii_mm[0]
+    else:
+        raise w.fail("position", "missing", "position = N" + (" or angle_deg" if trial else ""))
+    if trial and w.has("radius_mm") and position is not None:
+        radius = w.number("radius_mm", positive=True)
+    if not math.isfinite(angle):
+        raise w.fail("angle_deg", "is not finite", "a number")
+    return PlacedMass(plane=plane_no - 1, mass_g=mass, angle_deg=angle, radius_mm=radius,
+                      position=position, item=item, count=count)
+
+
+def _check_runs(root: Table, runs: tuple[Run, ...], n_planes: int, coefficients: str) -> None:
+    if runs[0].kind != "reference":
+        raise root.fail("runs[1].kind", f"is '{runs[0].kind}'", "the first run to be the reference")
+    if any(r.kind == "reference" for r in runs[1:]):
+        raise root.fail("runs", "has more than one reference run", "one reference run, first")
+    trials = [r for r in runs if r.kind == "trial"]
+    if coefficients == "runs" and len(trials) < n_planes:
+        raise root.fail("runs", f"has {len(trials)} trial runs for {n_planes} planes",
+                        "a trial run per plane, or [solve] coefficients = \"stored\"")
+    seen_check = False
+    for i, r in enumerate(runs, start=1):
+        if r.kind == "check":
+            seen_check = True
+        elif r.kind == "trial" and seen_check:
+            raise root.fail(f"runs[{i}].kind", "is a trial run after a check run",
+                            "trial runs before check runs")
