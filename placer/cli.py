@@ -306,7 +306,8 @@ def _history(args: argparse.Namespace) -> int:
         before = v.result.get("vibration_before")
         after = v.result.get("vibration_after")
         predicted = "-" if after is None else f"{before:.2f} -> {after:.2f}"
-        table.add_row(str(v.id), v.started_at, str(v.runs), v.coefficient_source,
+        table.add_row(str(v.id), v.started_at[:16].replace("T", " "), str(v.runs),
+                      v.coefficient_source.replace(" of this visit", ""),
                       "-" if v.condition is None else f"{v.condition:.1f}", plan or "-",
                       predicted)
     _console().print(table)

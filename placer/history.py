@@ -1,0 +1,660 @@
+"""The machine history database: field-balancing visits stored per machine.
+
+One SQLite file (stdlib ``sqlite3``) holds every machine seen, every visit
+to it (the runs with their readings as read and as converted phasors, the
+masses fitted and planned, the influence coefficients and a summary of the
+result).  A later visit can reuse the newest coefficients measured with the
+same sensors and planes instead of repeating the trial runs.
+
+Where the file lives: see :func:`default_db_path`.
+
+Schema (version :data:`SCHEMA_VERSION`)::
+
+    schema_version(version)                      one row
+    machines(id PK, name, created_at)
+    visits(id PK, machine_id -> machines, started_at, session_file, unit,
+           measure, phase_sense, angle_sense, coefficient_source, condition,
+           result_json)
+    channels(visit_id -> visits, channel_index, name)   PK (visit_id, channel_index)
+    planes(visit_id -> visits, plane_index, name)       PK (visit_id, plane_index)
+    runs(id PK, visit_id -> visits, seq, name, kind)    UNIQUE (visit_id, seq)
+    readings(run_id -> runs, channel_index, amplitude, phase_deg, re, im)
+    coefficients(visit_id -> visits, channel_index, plane_index, re, im)
+    masses(id PK, visit_id -> visits, run_id -> runs or NULL, role, plane_index,
+           position, angle_deg, radius_mm, mass_g, item, count, removed_after)
+
+Foreign keys are enforced on every connection.  Masses with ``run_id`` NULL
+are the visit's planned correction; the others were fitted for that run.
+Visits are written once and never changed; only a machine's name follows
+its latest saved visit.
+
+Journal mode: the default rollback journal (``journal_mode=DELETE``) with
+``synchronous=FULL``, chosen over WAL because the history is a single file
+that users copy, back up or keep in a synced or network folder: WAL needs
+shared memory that network file systems do not provide and keeps recent
+commits in a ``-wal`` side file that a plain copy can leave behind.  placer
+writes one visit at a time, so WAL's concurrent readers buy nothing.  A
+writer killed mid-transaction leaves a hot journal that the next opening of
+the file rolls back.
+
+Opening a file: a new or empty file gets the version 1 schema and is then
+brought up to :data:`SCHEMA_VERSION` by the same :data:`MIGRATIONS` an
+older file goes through, in one transaction.  A file written by a newer
+placer, a file that is not a SQLite database and a SQLite database of some
+other program are refused with :class:`HistoryError`.
+
+References
+----------
+SQLite documentation, "Atomic Commit In SQLite" and "Write-Ahead Logging"
+(sqlite.org: rollback journal, hot journals, WAL on network file systems);
+"SQL As Understood By SQLite", BEGIN IMMEDIATE, UPSERT.  XDG Base Directory
+Specification 0.8 (freedesktop.org), ``$XDG_DATA_HOME``.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import sqlite3
+import sys
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, fields
+from datetime import datetime, timezone
+from pathlib import Path
+from types import TracebackType
+
+import numpy as np
+
+from placer.errors import PlacerError
+
+SCHEMA_VERSION = 1
+"""Schema version this placer writes; files of a newer version are refused."""
+
+MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {}
+"""Schema upgrades: ``MIGRATIONS[v](connection)`` turns version v into v + 1.
+
+Each runs inside the opening transaction (foreign keys on) and must leave
+the data consistent; the version row is updated after the last one."""
+
+MASS_ROLES = ("trial", "fitted", "planned")
+"""What a stored mass was: a trial weight, a part fitted for a run, or planned."""
+
+DB_FILE_NAME = "history.sqlite"
+EXPECTED_FILE = "a placer history database"
+
+_SCHEMA_V1 = """
+CREATE TABLE schema_version (version INTEGER NOT NULL);
+CREATE TABLE machines (
+    id TEXT PRIMARY KEY,
+    name TEXT NOT NULL,
+    created_at TEXT NOT NULL
+);
+CREATE TABLE visits (
+    id INTEGER PRIMARY KEY,
+    machine_id TEXT NOT NULL REFERENCES machines (id),
+    started_at TEXT NOT NULL,
+    session_file TEXT NOT NULL,
+    unit TEXT NOT NULL,
+    measure TEXT NOT NULL,
+    phase_sense TEXT NOT NULL,
+    angle_sense TEXT NOT NULL,
+    coefficient_source TEXT NOT NULL,
+    condition REAL,
+    result_json TEXT NOT NULL
+);
+CREATE INDEX visits_by_machine ON visits (machine_id, started_at);
+CREATE TABLE channels (
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    channel_index INTEGER NOT NULL,
+    name TEXT NOT NULL,
+    PRIMARY KEY (visit_id, channel_index)
+);
+CREATE TABLE planes (
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    plane_index INTEGER NOT NULL,
+    name TEXT NOT NULL,
+    PRIMARY KEY (visit_id, plane_index)
+);
+CREATE TABLE runs (
+    id INTEGER PRIMARY KEY,
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    seq INTEGER NOT NULL,
+    name TEXT NOT NULL,
+    kind TEXT NOT NULL,
+    UNIQUE (visit_id, seq)
+);
+CREATE TABLE readings (
+    run_id INTEGER NOT NULL REFERENCES runs (id) ON DELETE CASCADE,
+    channel_index INTEGER NOT NULL,
+    amplitude REAL NOT NULL,
+    phase_deg REAL NOT NULL,
+    re REAL NOT NULL,
+    im REAL NOT NULL,
+    PRIMARY KEY (run_id, channel_index)
+);
+CREATE TABLE coefficients (
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    channel_index INTEGER NOT NULL,
+    plane_index INTEGER NOT NULL,
+    re REAL NOT NULL,
+    im REAL NOT NULL,
+    PRIMARY KEY (visit_id, channel_index, plane_index)
+);
+CREATE TABLE masses (
+    id INTEGER PRIMARY KEY,
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    run_id INTEGER REFERENCES runs (id) ON DELETE CASCADE,
+    role TEXT NOT NULL CHECK (role IN ('trial', 'fitted', 'planned')),
+    plane_index INTEGER NOT NULL,
+    position INTEGER,
+    angle_deg REAL NOT NULL,
+    radius_mm REAL NOT NULL,
+    mass_g REAL NOT NULL,
+    item TEXT,
+    count INTEGER NOT NULL,
+    removed_after INTEGER NOT NULL CHECK (removed_after IN (0, 1))
+);
+CREATE INDEX masses_by_visit ON masses (visit_id);
+CREATE INDEX masses_by_run ON masses (run_id);
+"""
+
+
+class HistoryError(PlacerError):
+    """The history database cannot be opened, read or written."""
+
+
+def default_db_path() -> Path:
+    """Where the history database lives unless ``--db`` names one.
+
+    In this order: the environment variable ``PLACER_DB`` if set and not
+    empty; else ``$XDG_DATA_HOME/placer/history.sqlite`` if ``XDG_DATA_HOME``
+    is an absolute path; else on Windows ``%APPDATA%/placer/history.sqlite``
+    (``~/AppData/Roaming`` when ``APPDATA`` is unset) and elsewhere
+    ``~/.local/share/placer/history.sqlite``.
+
+    Returns
+    -------
+    Path
+        The file (it need not exist yet).
+
+    References
+    ----------
+    XDG Base Directory Specification 0.8: ``$XDG_DATA_HOME``, default
+    ``$HOME/.local/share``; relative paths in it are to be ignored.
+    """
+    explicit = os.environ.get("PLACER_DB")
+    if explicit:
+        return Path(explicit).expanduser()
+    xdg = os.environ.get("XDG_DATA_HOME")
+    if xdg and Path(xdg).is_absolute():
+        return Path(xdg) / "placer" / DB_FILE_NAME
+    if sys.platform == "win32":
+        appdata = os.environ.get("APPDATA")
+        base = Path(appdata) if appdata else Path.home() / "AppData" / "Roaming"
+        return base / "placer" / DB_FILE_NAME
+    return Path.home() / ".local" / "share" / "placer" / DB_FILE_NAME
+
+
+@dataclass(frozen=True)
+class MassRecord:
+    """A mass on a correction plane, as stored.
+
+    ``plane`` is 0-based; ``position`` the position number if it sat on one;
+    ``angle_deg`` in the rotor's angle sense [°], ``radius_mm`` [mm],
+    ``mass_g`` of one item [g], ``count`` items; ``role`` one of
+    :data:`MASS_ROLES`; ``removed_after`` whether it came off after its run.
+    """
+
+    plane: int
+    position: int | None
+    angle_deg: float
+    radius_mm: float
+    mass_g: float
+    item: str | None
+    count: int
+    role: str
+    removed_after: bool
+
+
+@dataclass(frozen=True)
+class RunRecord:
+    """One run: ``readings`` (amplitude, phase_deg) per channel as read, and
+    ``phasors`` the same readings converted to the session's convention."""
+
+    name: str
+    kind: str
+    readings: tuple[tuple[float, float], ...]
+    phasors: tuple[complex, ...]
+    masses: tuple[MassRecord, ...]
+
+
+@dataclass(frozen=True, eq=False)
+class VisitRecord:
+    """Everything stored about one visit to a machine.
+
+    ``started_at`` is ISO 8601 text; ``coefficients`` the influence
+    coefficients, channels × planes [reading unit per g·mm], or None;
+    ``condition`` their condition number; ``result`` a JSON-serialisable
+    summary (it reads back as JSON gives it: lists for tuples).  Equality
+    compares the coefficient arrays element by element.
+    """
+
+    machine_id: str
+    machine_name: str
+    started_at: str
+    session_file: str
+    unit: str
+    measure: str
+    phase_sense: str
+    angle_sense: str
+    channel_names: tuple[str, ...]
+    plane_names: tuple[str, ...]
+    runs: tuple[RunRecord, ...]
+    coefficients: np.ndarray | None
+    condition: float | None
+    coefficient_source: str
+    planned: tuple[MassRecord, ...]
+    result: dict
+
+    def __post_init__(self) -> None:
+        if self.coefficients is not None:
+            matrix = np.array(self.coefficients, dtype=complex)
+            matrix.setflags(write=False)
+            object.__setattr__(self, "coefficients", matrix)
+
+    def __eq__(self, other: object) -> bool:
+        if not isinstance(other, VisitRecord):
+            return NotImplemented
+        for field in fields(self):
+            mine, theirs = getattr(self, field.name), getattr(other, field.name)
+            if field.name == "coefficients":
+                if (mine is None) != (theirs is None):
+                    return False
+                if mine is not None and (mine.shape != theirs.shape
+                                         or not np.array_equal(mine, theirs)):
+                    return False
+            elif mine != theirs:
+                return False
+        return True
+
+
+@dataclass(frozen=True)
+class MachineSummary:
+    """A machine in the history: its number of visits and the last one's start."""
+
+    id: str
+    name: str
+    visits: int
+    last_visit: str | None
+
+
+@dataclass(frozen=True)
+class VisitSummary:
+    """One line of a machine's history."""
+
+    id: int
+    started_at: str
+    coefficient_source: str
+    condition: float | None
+    runs: int
+    planned: tuple[MassRecord, ...]
+    result: dict
+
+
+class History:
+    """The history database, opened (and created if new) for reading and writing.
+
+    Parameters
+    ----------
+    path : Path
+        The database file; missing parent folders are created.
+
+    Raises
+    ------
+    HistoryError
+        The file is not a placer history database, was written by a newer
+        placer, or cannot be opened.
+    """
+
+    def __init__(self, path: Path) -> None:
+        self.path = Path(path)
+        try:
+            self.path.parent.mkdir(parents=True, exist_ok=True)
+            self._conn = sqlite3.connect(self.path, timeout=10.0, isolation_level=None)
+        except (OSError, sqlite3.Error) as exc:
+            raise HistoryError(f"cannot open: {exc}", file=str(self.path)) from exc
+        try:
+            self._prepare()
+        except BaseException:
+            self._conn.close()
+            raise
+
+    def __enter__(self) -> History:
+        return self
+
+    def __exit__(self, kind: type[BaseException] | None, value: BaseException | None,
+                 traceback: TracebackType | None) -> None:
+        self.close()
+
+    def close(self) -> None:
+        """Close the connection."""
+        self._conn.close()
+
+    def _error(self, detail: str, key: str | None = None,
+               expected: str | None = None) -> HistoryError:
+        return HistoryError(detail, file=str(self.path), key=key, expected=expected)
+
+    def _prepare(self) -> None:
+        conn = self._conn
+        try:
+            conn.execute("PRAGMA foreign_keys = ON")
+            conn.execute("PRAGMA journal_mode = DELETE")
+            conn.execute("PRAGMA synchronous = FULL")
+            version = self._stored_version()
+            if version is not None and version >= SCHEMA_VERSION:
+                self._refuse_newer(version)
+                return
+            conn.execute("BEGIN IMMEDIATE")
+            try:
+                version = self._stored_version()
+                if version is None:
+                    # one statement at a time: executescript() would commit first
+                    for statement in _SCHEMA_V1.split(";"):
+                        if statement.strip():
+                            conn.execute(statement)
+                    conn.execute("INSERT INTO schema_version VALUES (1)")
+                    version = 1
+                self._refuse_newer(version)
+                for step in range(version, SCHEMA_VERSION):
+                    if step not in MIGRATIONS:
+                        raise self._error(f"no migration from schema version {step}",
+                                          key="schema_version",
+                                          expected=f"schema version {SCHEMA_VERSION}")
+                    MIGRATIONS[step](conn)
+                conn.execute("UPDATE schema_version SET version = ?", (SCHEMA_VERSION,))
+                conn.execute("COMMIT")
+            except BaseException:
+                if conn.in_transaction:
+                    conn.execute("ROLLBACK")
+                raise
+        except sqlite3.DatabaseError as exc:
+            if getattr(exc, "sqlite_errorname", "") == "SQLITE_NOTADB":
+                raise self._error("is not a SQLite database", expected=EXPECTED_FILE) from exc
+            raise self._error(f"cannot open: {exc}") from exc
+
+    def _stored_version(self) -> int | None:
+        """The file's schema version, or None for a new, empty file."""
+        tables = {name for (name,) in self._conn.execute(
+            "SELECT name FROM sqlite_master WHERE type = 'table'")}
+        if not tables:
+            return None
+        if "schema_version" not in tables:
+            raise self._error("is a SQLite database of another program",
+                              expected=EXPECTED_FILE)
+        rows = self._conn.execute("SELECT version FROM schema_version").fetchall()
+        if len(rows) != 1 or not isinstance(rows[0][0], int):
+            raise self._error(f"schema_version holds {rows!r}", key="schema_version",
+                              expected="one integer version")
+        return rows[0][0]
+
+    def _refuse_newer(self, version: int) -> None:
+        if version > SCHEMA_VERSION:
+            raise self._error(
+                f"was written by a newer placer (schema version {version}; this placer "
+                f"reads up to {SCHEMA_VERSION}); update placer to use it",
+                key="schema_version", expected=f"schema version {SCHEMA_VERSION} or older")
+
+    def save_visit(self, record: VisitRecord) -> int:
+        """Store a visit, and its machine (new, or renamed), in one transaction.
+
+        Parameters
+        ----------
+        record : VisitRecord
+            The visit; every run has one reading and one phasor per channel.
+
+        Returns
+        -------
+        int
+            The new visit's id.
+
+        Raises
+        ------
+        HistoryError
+            The record is inconsistent, or the database cannot be written;
+            nothing of the visit is stored.
+        """
+        _check_record(record)
+        conn = self._conn
+        try:
+            conn.execute("BEGIN IMMEDIATE")
+            try:
+                visit_id = self._write_visit(record)
+                conn.execute("COMMIT")
+            except BaseException:
+                if conn.in_transaction:
+                    conn.execute("ROLLBACK")
+                raise
+        except sqlite3.Error as exc:
+            raise self._error(f"cannot save the visit: {exc}") from exc
+        return visit_id
+
+    def _write_visit(self, record: VisitRecord) -> int:
+        conn = self._conn
+        now = datetime.now(timezone.utc).isoformat(timespec="seconds")
+        conn.execute("INSERT INTO machines (id, name, created_at) VALUES (?, ?, ?) "
+                     "ON CONFLICT (id) DO UPDATE SET name = excluded.name",
+                     (record.machine_id, record.machine_name, now))
+        visit_id = conn.execute(
+            "INSERT INTO visits (machine_id, started_at, session_file, unit, measure, "
+            "phase_sense, angle_sense, coefficient_source, condition, result_json) "
+            "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            (record.machine_id, record.started_at, record.session_file, record.unit,
+             record.measure, record.phase_sense, record.angle_sense,
+             record.coefficient_source,
+             None if record.condition is None else float(record.condition),
+             json.dumps(record.result, ensure_ascii=False))).lastrowid
+        conn.executemany("INSERT INTO channels (visit_id, channel_index, name) VALUES (?, ?, ?)",
+                         [(visit_id, i, name) for i, name in enumerate(record.channel_names)])
+        conn.executemany("INSERT INTO planes (visit_id, plane_index, name) VALUES (?, ?, ?)",
+                         [(visit_id, i, name) for i, name in enumerate(record.plane_names)])
+        for seq, run in enumerate(record.runs):
+            run_id = conn.execute(
+                "INSERT INTO runs (visit_id, seq, name, kind) VALUES (?, ?, ?, ?)",
+                (visit_id, seq, run.name, run.kind)).lastrowid
+            conn.executemany(
+                "INSERT INTO readings (run_id, channel_index, amplitude, phase_deg, re, im) "
+                "VALUES (?, ?, ?, ?, ?, ?)",
+                [(run_id, i, float(amplitude), float(phase_deg), value.real, value.imag)
+                 for i, ((amplitude, phase_deg), value)
+                 in enumerate(zip(run.readings, map(complex, run.phasors)))])
+            self._write_masses(visit_id, run_id, run.masses)
+        if record.coefficients is not None:
+            conn.executemany(
+                "INSERT INTO coefficients (visit_id, channel_index, plane_index, re, im) "
+                "VALUES (?, ?, ?, ?, ?)",
+                [(visit_id, i, j, float(value.real), float(value.imag))
+                 for (i, j), value in np.ndenumerate(record.coefficients)])
+        self._write_masses(visit_id, None, record.planned)
+        return visit_id
+
+    def _write_masses(self, visit_id: int, run_id: int | None,
+                      masses: Sequence[MassRecord]) -> None:
+        self._conn.executemany(
+            "INSERT INTO masses (visit_id, run_id, role, plane_index, position, angle_deg, "
+            "radius_mm, mass_g, item, count, removed_after) "
+            "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            [(visit_id, run_id, m.role, m.plane, m.position, float(m.angle_deg),
+              float(m.radius_mm), float(m.mass_g), m.item, m.count, int(bool(m.removed_after)))
+             for m in masses])
+
+    def machines(self) -> list[MachineSummary]:
+        """Every machine stored, by id, with its number of visits and the last one."""
+        rows = self._conn.execute(
+            "SELECT m.id, m.name, COUNT(v.id), MAX(v.started_at) FROM machines AS m "
+            "LEFT JOIN visits AS v ON v.machine_id = m.id GROUP BY m.id ORDER BY m.id")
+        return [MachineSummary(*row) for row in rows]
+
+    def visits(self, machine_id: str) -> list[VisitSummary]:
+        """A machine's visits, oldest first (empty for an unknown machine)."""
+        rows = self._conn.execute(
+            "SELECT v.id, v.started_at, v.coefficient_source, v.condition, "
+            "(SELECT COUNT(*) FROM runs AS r WHERE r.visit_id = v.id), v.result_json "
+            "FROM visits AS v WHERE v.machine_id = ? ORDER BY v.started_at, v.id",
+            (machine_id,)).fetchall()
+        return [VisitSummary(visit_id, started_at, source, condition, runs,
+                             self._read_masses(visit_id).get(None, ()), json.loads(result))
+                for visit_id, started_at, source, condition, runs, result in rows]
+
+    def visit(self, visit_id: int) -> VisitRecord:
+        """The full record of one visit, as it was saved.
+
+        Raises
+        ------
+        HistoryError
+            No visit has this id.
+        """
+        conn = self._conn
+        row = conn.execute(
+            "SELECT v.machine_id, m.name, v.started_at, v.session_file, v.unit, v.measure, "
+            "v.phase_sense, v.angle_sense, v.coefficient_source, v.condition, v.result_json "
+            "FROM visits AS v JOIN machines AS m ON m.id = v.machine_id WHERE v.id = ?",
+            (visit_id,)).fetchone()
+        if row is None:
+            raise self._error(f"no visit {visit_id}", key="visit_id",
+                              expected="the id of a saved visit")
+        (machine_id, machine_name, started_at, session_file, unit, measure, phase_sense,
+         angle_sense, source, condition, result_json) = row
+        channel_names = self._names("channels", "channel_index", visit_id)
+        plane_names = self._names("planes", "plane_index", visit_id)
+        masses = self._read_masses(visit_id)
+        runs = []
+        for run_id, name, kind in conn.execute(
+                "SELECT id, name, kind FROM runs WHERE visit_id = ? ORDER BY seq", (visit_id,)):
+            readings = conn.execute(
+                "SELECT amplitude, phase_deg, re, im FROM readings WHERE run_id = ? "
+                "ORDER BY channel_index", (run_id,)).fetchall()
+            runs.append(RunRecord(name, kind, tuple((a, p) for a, p, _, _ in readings),
+                                  tuple(complex(re, im) for _, _, re, im in readings),
+                                  masses.get(run_id, ())))
+        return VisitRecord(machine_id, machine_name, started_at, session_file, unit, measure,
+                           phase_sense, angle_sense, channel_names, plane_names, tuple(runs),
+                           self._read_coefficients(visit_id, len(channel_names),
+                                                   len(plane_names)),
+                           condition, source, masses.get(None, ()), json.loads(result_json))
+
+    def latest_coefficients(self, machine_id: str, channel_names: Sequence[str],
+                            n_planes: int) -> tuple[np.ndarray, str] | None:
+        """The newest stored coefficients of a machine that fit this set-up.
+
+        Parameters
+        ----------
+        machine_id : str
+            The machine.
+        channel_names : sequence of str
+            The channels, in order; a stored visit must have the same names
+            in the same order.
+        n_planes : int
+            Number of correction planes; a stored visit must have as many.
+
+        Returns
+        -------
+        (ndarray, str) or None
+            The matrix (channels × planes, complex) and which visit it came
+            from (``"visit 3 of 2026-11-02T10:15"``); None when no visit of
+            the machine fits, or the machine is unknown.
+        """
+        wanted = tuple(channel_names)
+        candidates = self._conn.execute(
+            "SELECT v.id, v.started_at FROM visits AS v WHERE v.machine_id = ? AND EXISTS "
+            "(SELECT 1 FROM coefficients AS c WHERE c.visit_id = v.id) "
+            "ORDER BY v.started_at DESC, v.id DESC", (machine_id,)).fetchall()
+        for visit_id, started_at in candidates:
+            if self._names("channels", "channel_index", visit_id) != wanted:
+                continue
+            if len(self._names("planes", "plane_index", visit_id)) != n_planes:
+                continue
+            matrix = self._read_coefficients(visit_id, len(wanted), n_planes)
+            return matrix, f"visit {visit_id} of {started_at}"
+        return None
+
+    def _names(self, table: str, index: str, visit_id: int) -> tuple[str, ...]:
+        rows = self._conn.execute(
+            f"SELECT name FROM {table} WHERE visit_id = ? ORDER BY {index}", (visit_id,))
+        return tuple(name for (name,) in rows)
+
+    def _read_coefficients(self, visit_id: int, n_channels: int,
+                           n_planes: int) -> np.ndarray | None:
+        rows = self._conn.execute(
+            "SELECT channel_index, plane_index, re, im FROM coefficients WHERE visit_id = ?",
+            (visit_id,)).fetchall()
+        if not rows:
+            return None
+        if len(rows) != n_channels * n_planes:
+            raise self._error(f"visit {visit_id} has {len(rows)} coefficients",
+                              key="coefficients",
+                              expected=f"{n_channels} × {n_planes} (channels × planes)")
+        matrix = np.empty((n_channels, n_planes), dtype=complex)
+        for i, j, re, im in rows:
+            matrix[i, j] = complex(re, im)
+        return matrix
+
+    def _read_masses(self, visit_id: int) -> dict[int | None, tuple[MassRecord, ...]]:
+        """A visit's masses by run id (None: the planned correction), in saved order."""
+        grouped: dict[int | None, list[MassRecord]] = {}
+        for row in self._conn.execute(
+                "SELECT run_id, plane_index, position, angle_deg, radius_mm, mass_g, item, "
+                "count, role, removed_after FROM masses WHERE visit_id = ? ORDER BY id",
+                (visit_id,)):
+            run_id, *values, removed_after = row
+            grouped.setdefault(run_id, []).append(MassRecord(*values, bool(removed_after)))
+        return {run_id: tuple(masses) for run_id, masses in grouped.items()}
+
+
+def _check_record(record: VisitRecord) -> None:
+    """Refuse a record the schema cannot hold faithfully (before any writing)."""
+    def bad(key: str, expected: str, detail: str = "is not stored") -> HistoryError:
+        return HistoryError(detail, key=key, expected=expected)
+
+    if not record.machine_id:
+        raise bad("machine_id", "a machine id")
+    try:
+        datetime.fromisoformat(record.started_at)
+    except (TypeError, ValueError):
+        raise bad("started_at", "an ISO 8601 date and time",
+                  f"is {record.started_at!r}") from None
+    n_channels, n_planes = len(record.channel_names), len(record.plane_names)
+    for r, run in enumerate(record.runs):
+        if len(run.readings) != n_channels or len(run.phasors) != n_channels:
+            raise bad(f"runs[{r}].readings", f"{n_channels} readings and phasors, one per channel",
+                      f"has {len(run.readings)} readings and {len(run.phasors)} phasors")
+        values = [v for pair in run.readings for v in pair]
+        values += [part for z in map(complex, run.phasors) for part in (z.real, z.imag)]
+        if not all(math.isfinite(v) for v in values):
+            raise bad(f"runs[{r}].readings", "finite numbers", "holds NaN or infinity")
+        _check_masses(run.masses, n_planes, f"runs[{r}].masses", bad)
+    _check_masses(record.planned, n_planes, "planned", bad)
+    if record.coefficients is not None:
+        if record.coefficients.shape != (n_channels, n_planes):
+            raise bad("coefficients", f"{n_channels} × {n_planes} (channels × planes)",
+                      f"has shape {record.coefficients.shape}")
+        if not np.all(np.isfinite(record.coefficients)):
+            raise bad("coefficients", "finite numbers", "holds NaN or infinity")
+    if record.condition is not None and math.isnan(record.condition):
+        raise bad("condition", "a number or None", "is NaN")
+    try:
+        json.dumps(record.result)
+    except (TypeError, ValueError) as exc:
+        raise bad("result", "a JSON-serialisable dict", str(exc)) from None
+
+
+def _check_masses(masses: Sequence[MassRecord], n_planes: int, key: str,
+                  bad: Callable[..., HistoryError]) -> None:
+    for k, mass in enumerate(masses):
+        if mass.role not in MASS_ROLES:
+            raise bad(f"{key}[{k}].role", " or ".join(MASS_ROLES), f"is {mass.role!r}")
+        if not 0 <= mass.plane < n_planes:
+            raise bad(f"{key}[{k}].plane", f"0 to {n_planes - 1}", f"is {mass.plane}")
+        if not all(math.isfinite(v) for v in (mass.angle_deg, mass.radius_mm, mass.mass_g)):
+            raise bad(f"{key}[{k}]", "finite angle_deg, radius_mm and mass_g",
+                      "holds NaN or infinity")

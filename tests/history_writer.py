@@ -1,0 +1,142 @@
+"""Helpers for test_history.py, and the writer process its kill test starts.
+
+As a script: ``python history_writer.py DB MARKER PAUSE_AT N_RUNS`` opens the
+history database DB, starts saving a large visit (machine ``WM-KILL``,
+N_RUNS runs) and, when the PAUSE_AT-th batch of readings has been inserted,
+writes MARKER and sleeps inside the open transaction until it is killed.
+The pause comes from wrapping the sqlite3 connection here, in test code;
+placer.history has no hook for it.
+
+The scenario is invented: fans and pumps of the Wrenmoor shop.
+"""
+
+from __future__ import annotations
+
+import os
+import sqlite3
+import sys
+import time
+from collections.abc import Callable
+from pathlib import Path
+
+import numpy as np
+
+from placer.history import History, MassRecord, RunRecord, VisitRecord
+from placer.readings import phasor
+
+
+class WatchedConnection:
+    """A sqlite3 connection that calls ``after_insert(sql)`` after each INSERT.
+
+    Everything else is passed through to the wrapped connection.
+    """
+
+    def __init__(self, connection: sqlite3.Connection,
+                 after_insert: Callable[[str], None]) -> None:
+        self._connection = connection
+        self._after_insert = after_insert
+
+    def execute(self, sql: str, parameters: object = ()) -> sqlite3.Cursor:
+        cursor = self._connection.execute(sql, parameters)
+        self._watch(sql)
+        return cursor
+
+    def executemany(self, sql: str, parameters: object) -> sqlite3.Cursor:
+        cursor = self._connection.executemany(sql, parameters)
+        self._watch(sql)
+        return cursor
+
+    def _watch(self, sql: str) -> None:
+        if sql.lstrip().upper().startswith("INSERT"):
+            self._after_insert(sql)
+
+    def __getattr__(self, name: str) -> object:
+        return getattr(self._connection, name)
+
+
+def watch_connections(after_insert: Callable[[str], None]) -> list[sqlite3.Connection]:
+    """Make ``sqlite3.connect`` return watched connections; returns the real ones opened."""
+    real_connect = sqlite3.connect
+    opened: list[sqlite3.Connection] = []
+
+    def connect(*args: object, **kwargs: object) -> WatchedConnection:
+        connection = real_connect(*args, **kwargs)
+        opened.append(connection)
+        return WatchedConnection(connection, after_insert)
+
+    sqlite3.connect = connect
+    return opened
+
+
+def make_visit(machine_id: str = "WM-EF-07",
+               machine_name: str = "Wrenmoor shop exhaust fan 7", *,
+               started_at: str = "2026-11-02T10:15", n_runs: int = 3,
+               channel_names: tuple[str, ...] = ("outboard H", "inboard H"),
+               n_planes: int = 2, seed: int = 7, coefficients: bool = True) -> VisitRecord:
+    """A visit with readings, trial and fitted masses, coefficients and a plan.
+
+    Values come from a seeded generator: readings rounded as an instrument
+    shows them, phasors and coefficients with all 53 bits of their mantissa
+    so that a round trip is checked to the last bit.
+    """
+    rng = np.random.default_rng(seed)
+    n_channels = len(channel_names)
+    runs = []
+    for r in range(n_runs):
+        readings = tuple((round(float(rng.uniform(0.5, 12.0)), 2),
+                          float(rng.integers(0, 360))) for _ in range(n_channels))
+        if r == 0:
+            kind, masses = "reference", ()
+        elif r < n_runs - 1 or n_runs == 2:
+            kind = "trial"
+            masses = (MassRecord((r - 1) % n_planes, None, float(rng.integers(0, 360)), 212.5,
+                                 18.0, None, 1, "trial", True),)
+        else:
+            kind = "check"
+            masses = (MassRecord(0, 4, 90.0, 212.5, 5.0, "WB-5", 2, "fitted", False),
+                      MassRecord(n_planes - 1, None, 17.5, 198.0, 3.25, None, 1, "fitted",
+                                 False))
+        runs.append(RunRecord(f"run {r + 1}", kind, readings,
+                              tuple(phasor(a, p) for a, p in readings), masses))
+    matrix = None
+    condition = None
+    if coefficients:
+        matrix = (rng.normal(size=(n_channels, n_planes))
+                  + 1j * rng.normal(size=(n_channels, n_planes))) * 1e-3
+        condition = float(np.linalg.cond(matrix))
+    planned = (MassRecord(0, 7, 315.0, 212.5, 10.0, "WB-10", 1, "planned", False),
+               MassRecord(n_planes - 1, 2, 45.0, 212.5, 2.5, "WB-2.5", 3, "planned", False))
+    result = {"vibration_before": 7.31, "vibration_after": 0.42, "within_limit": True,
+              "warnings": ["trial run 2 changed outboard H by 24 %"], "limit": None}
+    return VisitRecord(machine_id, machine_name, started_at, "wrenmoor-ef07.toml", "mm/s",
+                       "rms", "lag", "with rotation", tuple(channel_names),
+                       tuple(f"plane {k + 1}" for k in range(n_planes)), tuple(runs), matrix,
+                       condition, "runs" if coefficients else "none", planned, result)
+
+
+def main(db: str, marker: str, pause_at: str, n_runs: str) -> None:
+    batches = 0
+
+    def after_insert(sql: str) -> None:
+        nonlocal batches
+        if "INTO readings" in sql:
+            batches += 1
+            if batches == int(pause_at):
+                partial = Path(marker + ".part")
+                partial.write_text(f"{os.getpid()} {batches}\n")
+                partial.replace(marker)
+                time.sleep(120)
+
+    opened = watch_connections(after_insert)
+    history = History(Path(db))
+    # A small page cache makes SQLite spill changed pages into the database
+    # file before the commit, so the kill leaves uncommitted pages there.
+    opened[0].execute("PRAGMA cache_size = 4")
+    history.save_visit(make_visit("WM-KILL", "Wrenmoor pump P-3", n_runs=int(n_runs),
+                                  channel_names=tuple(f"sensor {k}" for k in range(8)),
+                                  started_at="2026-11-03T08:00", seed=3))
+    sys.exit("the writer was not stopped mid-transaction")
+
+
+if __name__ == "__main__":
+    main(*sys.argv[1:])

@@ -1,0 +1,387 @@
+"""Tests of placer.history, the machine history database.
+
+What the checks are measured against: the record that was saved (a round
+trip must give back every value to the last bit: SQLite REAL is an IEEE 754
+double, SQLite documentation "Datatypes In SQLite"), SQLite's own
+``PRAGMA integrity_check`` and ``foreign_key_check``, row counts read with
+the stdlib sqlite3 module directly, and the XDG Base Directory
+Specification 0.8 for the default location.  A machine "killed" mid-write is
+a real process ended with SIGKILL.
+"""
+
+from __future__ import annotations
+
+import os
+import pickle
+import signal
+import sqlite3
+import subprocess
+import sys
+import time
+from dataclasses import FrozenInstanceError, replace
+from pathlib import Path
+
+import numpy as np
+import pytest
+
+from history_writer import make_visit, watch_connections
+from placer import history
+from placer.errors import PlacerError
+from placer.history import History, HistoryError, MachineSummary, default_db_path
+
+WRITER = Path(__file__).with_name("history_writer.py")
+
+
+def table_counts(path: Path) -> dict[str, int]:
+    """Rows in every table of the file, read without placer."""
+    connection = sqlite3.connect(path)
+    try:
+        tables = [name for (name,) in connection.execute(
+            "SELECT name FROM sqlite_master WHERE type = 'table' ORDER BY name")]
+        return {t: connection.execute(f"SELECT COUNT(*) FROM {t}").fetchone()[0]
+                for t in tables}
+    finally:
+        connection.close()
+
+
+@pytest.fixture
+def db(tmp_path: Path) -> Path:
+    return tmp_path / "shop" / "history.sqlite"
+
+
+# -- where the file lives ---------------------------------------------------
+
+@pytest.mark.parametrize("env, platform, expected", [
+    ({"PLACER_DB": "/data/wrenmoor.sqlite", "XDG_DATA_HOME": "/xdg"}, "linux",
+     "/data/wrenmoor.sqlite"),
+    ({"XDG_DATA_HOME": "/xdg"}, "linux", "/xdg/placer/history.sqlite"),
+    # XDG Base Directory Specification 0.8: unset, empty or relative -> $HOME/.local/share
+    ({}, "linux", "/home/ada/.local/share/placer/history.sqlite"),
+    ({"XDG_DATA_HOME": ""}, "linux", "/home/ada/.local/share/placer/history.sqlite"),
+    ({"XDG_DATA_HOME": "relative/data"}, "linux", "/home/ada/.local/share/placer/history.sqlite"),
+    ({"APPDATA": "/appdata"}, "win32", "/appdata/placer/history.sqlite"),
+])
+def test_default_db_path(monkeypatch: pytest.MonkeyPatch, env: dict[str, str], platform: str,
+                         expected: str) -> None:
+    for name in ("PLACER_DB", "XDG_DATA_HOME", "APPDATA"):
+        monkeypatch.delenv(name, raising=False)
+    for name, value in env.items():
+        monkeypatch.setenv(name, value)
+    monkeypatch.setenv("HOME", "/home/ada")
+    monkeypatch.setattr(sys, "platform", platform)
+    assert default_db_path() == Path(expected)
+
+
+# -- round trip -------------------------------------------------------------
+
+def test_full_visit_round_trip_is_exact(db: Path) -> None:
+    record = make_visit()
+    with History(db) as h:
+        visit_id = h.save_visit(record)
+        back = h.visit(visit_id)
+    assert db.parent.is_dir()
+    assert back == record
+    # field by field as well, so that a failure says where: complex values bit for bit
+    assert back.coefficients.dtype == np.complex128
+    assert np.array_equal(back.coefficients, record.coefficients)
+    assert back.condition == record.condition
+    for got, want in zip(back.runs, record.runs, strict=True):
+        assert got.readings == want.readings
+        assert got.phasors == want.phasors
+        assert got.masses == want.masses
+    assert back.planned == record.planned
+    assert back.result == record.result
+    one_ulp_off = record.coefficients.copy()
+    one_ulp_off[1, 0] = complex(one_ulp_off[1, 0].real, np.nextafter(one_ulp_off[1, 0].imag, 1))
+    assert back != replace(record, coefficients=one_ulp_off)
+    assert back != replace(record, coefficients=None)
+
+
+def test_visit_without_coefficients_round_trip(db: Path) -> None:
+    record = make_visit(coefficients=False)
+    with History(db) as h:
+        assert h.visit(h.save_visit(record)) == record
+
+
+def test_records_are_frozen() -> None:
+    record = make_visit()
+    with pytest.raises(FrozenInstanceError):
+        record.machine_id = "WM-EF-08"
+    with pytest.raises(ValueError):
+        record.coefficients[0, 0] = 0
+
+
+def test_unknown_visit_id_is_refused(db: Path) -> None:
+    with History(db) as h, pytest.raises(HistoryError, match="no visit 41"):
+        h.visit(41)
+
+
+# -- listings -----------------------------------------------------------------
+
+def test_machines_and_visits_counts(db: Path) -> None:
+    with History(db) as h:
+        # saved out of time order: visits() lists oldest first
+        second = h.save_visit(make_visit(started_at="2026-11-09T14:00"))
+        first = h.save_visit(make_visit(started_at="2026-11-02T10:15", n_runs=4))
+        h.save_visit(make_visit("WM-CP-2", "Wrenmoor cooling pump 2",
+                                started_at="2026-10-30T09:00"))
+        h.save_visit(make_visit(machine_name="Wrenmoor exhaust fan 7 (new motor)",
+                                started_at="2027-01-15T08:30", coefficients=False))
+        assert h.machines() == [
+            MachineSummary("WM-CP-2", "Wrenmoor cooling pump 2", 1, "2026-10-30T09:00"),
+            MachineSummary("WM-EF-07", "Wrenmoor exhaust fan 7 (new motor)", 3,
+                           "2027-01-15T08:30"),
+        ]
+        visits = h.visits("WM-EF-07")
+    assert [v.id for v in visits[:2]] == [first, second]
+    assert [v.started_at for v in visits] == ["2026-11-02T10:15", "2026-11-09T14:00",
+                                             "2027-01-15T08:30"]
+    assert [v.runs for v in visits] == [4, 3, 3]
+    assert [v.coefficient_source for v in visits] == ["runs", "runs", "none"]
+    assert visits[2].condition is None
+    assert visits[0].condition == make_visit(n_runs=4).condition
+    assert visits[0].planned == make_visit().planned
+    assert visits[0].result == make_visit().result
+
+
+def test_unknown_machine_gives_nothing(db: Path) -> None:
+    with History(db) as h:
+        assert h.machines() == []
+        h.save_visit(make_visit())
+        assert h.visits("WM-EF-70") == []
+        assert h.latest_coefficients("WM-EF-70", ["outboard H", "inboard H"], 2) is None
+
+
+def test_latest_coefficients_picks_newest_matching_visit(db: Path) -> None:
+    channels = ("outboard H", "inboard H")
+    with History(db) as h:
+        h.save_visit(make_visit(started_at="2026-10-01T09:00", seed=1))
+        wanted = make_visit(started_at="2026-11-02T10:15", seed=2)
+        wanted_id = h.save_visit(wanted)
+        # newer, but none fits: no coefficients, channels swapped, other plane count
+        h.save_visit(make_visit(started_at="2026-12-01T09:00", coefficients=False))
+        h.save_visit(make_visit(started_at="2026-12-02T09:00", channel_names=channels[::-1]))
+        h.save_visit(make_visit(started_at="2026-12-03T09:00", n_planes=1))
+        h.save_visit(make_visit("WM-CP-2", started_at="2027-01-01T09:00"))
+        matrix, label = h.latest_coefficients("WM-EF-07", list(channels), 2)
+        assert h.latest_coefficients("WM-EF-07", ["outboard H"], 2) is None
+        assert h.latest_coefficients("WM-EF-07", list(channels), 3) is None
+    assert np.array_equal(matrix, wanted.coefficients)
+    assert label == f"visit {wanted_id} of 2026-11-02T10:15"
+
+
+# -- restart in a new process -------------------------------------------------
+
+def test_visit_survives_restart_in_new_process(db: Path, tmp_path: Path) -> None:
+    record = make_visit()
+    with History(db) as h:
+        visit_id = h.save_visit(record)
+    out = tmp_path / "read-back.pickle"
+    code = ("import pickle, sys; from pathlib import Path; from placer.history import History\n"
+            "with History(Path(sys.argv[1])) as h:\n"
+            "    data = (h.visit(int(sys.argv[2])), h.machines())\n"
+            "Path(sys.argv[3]).write_bytes(pickle.dumps(data))\n")
+    subprocess.run([sys.executable, "-c", code, str(db), str(visit_id), str(out)],
+                   check=True, timeout=60)
+    back, machines = pickle.loads(out.read_bytes())
+    assert back == record
+    assert machines == [MachineSummary("WM-EF-07", record.machine_name, 1, record.started_at)]
+
+
+# -- schema version and migrations ------------------------------------------
+
+def test_schema_version_is_stored(db: Path) -> None:
+    History(db).close()
+    connection = sqlite3.connect(db)
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(1,)]
+    assert connection.execute("PRAGMA journal_mode").fetchone() == ("delete",)
+    connection.close()
+    assert history.SCHEMA_VERSION == 1
+
+
+def test_newer_schema_version_is_refused(db: Path) -> None:
+    with History(db) as h:
+        h.save_visit(make_visit())
+    connection = sqlite3.connect(db)
+    connection.execute("UPDATE schema_version SET version = 2")
+    connection.commit()
+    connection.close()
+    with pytest.raises(HistoryError, match="newer placer") as caught:
+        History(db)
+    assert isinstance(caught.value, PlacerError)
+    assert caught.value.file == str(db)
+    assert caught.value.key == "schema_version"
+
+
+def add_visit_notes(connection: sqlite3.Connection) -> None:
+    """A made-up migration 1 -> 2: a notes column on visits."""
+    connection.execute("ALTER TABLE visits ADD COLUMN notes TEXT NOT NULL DEFAULT ''")
+
+
+def test_older_file_is_migrated(db: Path, tmp_path: Path,
+                                monkeypatch: pytest.MonkeyPatch) -> None:
+    record = make_visit()
+    with History(db) as h:
+        visit_id = h.save_visit(record)
+    monkeypatch.setattr(history, "SCHEMA_VERSION", 2)
+    monkeypatch.setattr(history, "MIGRATIONS", {1: add_visit_notes})
+    with History(db) as h:
+        assert h.visit(visit_id) == record
+    fresh = tmp_path / "fresh.sqlite"
+    History(fresh).close()
+    for path in (db, fresh):
+        connection = sqlite3.connect(path)
+        assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
+        columns = [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
+        assert columns[-1] == "notes"
+        connection.close()
+
+
+def test_missing_migration_leaves_file_unchanged(db: Path,
+                                                 monkeypatch: pytest.MonkeyPatch) -> None:
+    History(db).close()
+    monkeypatch.setattr(history, "SCHEMA_VERSION", 3)
+    monkeypatch.setattr(history, "MIGRATIONS", {1: add_visit_notes})
+    with pytest.raises(HistoryError, match="no migration from schema version 2"):
+        History(db)
+    connection = sqlite3.connect(db)
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(1,)]
+    assert "notes" not in [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
+    connection.close()
+
+
+# -- files that are not a history ---------------------------------------------
+
+def test_file_that_is_not_a_database_is_refused(tmp_path: Path) -> None:
+    path = tmp_path / "notes.sqlite"
+    path.write_text("Wrenmoor shop: exhaust fan 7 balanced on Tuesday, 0.4 mm/s.\n" * 20)
+    before = path.read_bytes()
+    with pytest.raises(HistoryError, match="is not a SQLite database") as caught:
+        History(path)
+    assert caught.value.file == str(path)
+    assert caught.value.key is None
+    assert caught.value.expected == "a placer history database"
+    assert path.read_bytes() == before
+
+
+def test_database_of_another_program_is_refused(tmp_path: Path) -> None:
+    path = tmp_path / "stock.sqlite"
+    connection = sqlite3.connect(path)
+    connection.execute("CREATE TABLE parts (name TEXT)")
+    connection.commit()
+    connection.close()
+    with pytest.raises(HistoryError, match="another program") as caught:
+        History(path)
+    assert caught.value.expected == "a placer history database"
+
+
+# -- all or nothing -----------------------------------------------------------
+
+@pytest.mark.parametrize("machine_id, machine_name", [
+    ("WM-CP-2", "Wrenmoor cooling pump 2"),      # a new machine
+    ("WM-EF-07", "Wrenmoor exhaust fan 7, renamed"),  # a known machine, renamed
+])
+def test_failure_inside_save_leaves_no_trace(db: Path, monkeypatch: pytest.MonkeyPatch,
+                                             machine_id: str, machine_name: str) -> None:
+    with History(db) as h:
+        h.save_visit(make_visit())
+    before = table_counts(db)
+    inserts = 0
+
+    def fail_midway(sql: str) -> None:
+        nonlocal inserts
+        inserts += 1
+        if inserts == 8:  # machine, visit, channels, planes, then into the runs
+            raise RuntimeError("power cut")
+
+    monkeypatch.setattr(sqlite3, "connect", sqlite3.connect)  # restored after the test
+    watch_connections(fail_midway)
+    with History(db) as h:
+        with pytest.raises(RuntimeError, match="power cut"):
+            h.save_visit(make_visit(machine_id, machine_name, n_runs=5))
+        assert inserts == 8
+        assert table_counts(db) == before
+        assert h.machines() == [MachineSummary("WM-EF-07", "Wrenmoor shop exhaust fan 7", 1,
+                                               "2026-11-02T10:15")]
+        assert h.visits("WM-CP-2") == []
+        # the connection is usable again: no transaction was left open
+        inserts = -1000
+        h.save_visit(make_visit(machine_id, machine_name))
+        assert MachineSummary(machine_id, machine_name, len(h.visits(machine_id)),
+                              "2026-11-02T10:15") in h.machines()
+
+
+@pytest.mark.parametrize("change, key", [
+    (lambda r: replace(r, channel_names=r.channel_names[:1]), "runs[0].readings"),
+    (lambda r: replace(r, plane_names=("plane 1", "plane 2", "plane 3")), "coefficients"),
+    (lambda r: replace(r, planned=(replace(r.planned[0], role="spare"),)), "planned[0].role"),
+    (lambda r: replace(r, planned=(replace(r.planned[0], plane=2),)), "planned[0].plane"),
+    (lambda r: replace(r, started_at="Tuesday"), "started_at"),
+    (lambda r: replace(r, condition=float("nan")), "condition"),
+    (lambda r: replace(r, result={"plan": {1, 2}}), "result"),
+])
+def test_inconsistent_record_is_refused_before_writing(db: Path, change, key: str) -> None:
+    with History(db) as h:
+        before = table_counts(db)
+        with pytest.raises(HistoryError) as caught:
+            h.save_visit(change(make_visit()))
+    assert caught.value.key == key
+    assert table_counts(db) == before
+
+
+# -- a writer killed mid-transaction ----------------------------------------
+
+def test_writer_killed_mid_transaction_leaves_no_partial_visit(db: Path, tmp_path: Path) -> None:
+    committed = make_visit()
+    with History(db) as h:
+        committed_id = h.save_visit(committed)
+    before = table_counts(db)
+    size_before = db.stat().st_size
+    marker = tmp_path / "mid-write"
+    n_runs, pause_at = 400, 300
+    writer = subprocess.Popen([sys.executable, str(WRITER), str(db), str(marker),
+                               str(pause_at), str(n_runs)],
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    try:
+        deadline = time.monotonic() + 30
+        while not marker.exists():
+            if writer.poll() is not None:
+                pytest.fail(f"writer ended early: {writer.communicate()[1].decode()}")
+            if time.monotonic() > deadline:
+                pytest.fail("writer did not reach the middle of its transaction")
+            time.sleep(0.02)
+        pid, batches = marker.read_text().split()
+        assert (int(pid), int(batches)) == (writer.pid, pause_at)
+        # mid-write: the writer holds the write lock and a journal exists
+        probe = sqlite3.connect(db, timeout=0, isolation_level=None)
+        with pytest.raises(sqlite3.OperationalError, match="locked"):
+            probe.execute("BEGIN IMMEDIATE")
+        probe.close()
+        assert Path(f"{db}-journal").exists()
+        # the writer's small page cache has spilled uncommitted pages into the file
+        assert db.stat().st_size > size_before
+        os.kill(writer.pid, signal.SIGKILL)
+        writer.wait(timeout=10)
+    finally:
+        if writer.poll() is None:
+            writer.kill()
+            writer.wait()
+        writer.stdout.close()
+        writer.stderr.close()
+    assert writer.returncode == -signal.SIGKILL
+
+    connection = sqlite3.connect(db)  # the first read rolls the hot journal back
+    assert connection.execute("PRAGMA integrity_check").fetchall() == [("ok",)]
+    assert connection.execute("PRAGMA foreign_key_check").fetchall() == []
+    assert connection.execute("SELECT COUNT(*) FROM machines WHERE id = 'WM-KILL'"
+                              ).fetchone() == (0,)
+    connection.close()
+    assert not Path(f"{db}-journal").exists()
+    assert db.stat().st_size == size_before
+    assert table_counts(db) == before
+    with History(db) as h:
+        assert h.visit(committed_id) == committed
+        assert [m.id for m in h.machines()] == ["WM-EF-07"]
+        assert h.visits("WM-KILL") == []
+        # and the file takes new visits after the crash
+        assert h.visit(h.save_visit(make_visit(started_at="2026-11-04T09:00"))) != committed
