@@ -15,17 +15,26 @@ class Item:
     id : str
         The label on the drawer or bin.
     mass_g : float
-        Mass of one part [g].
+        Mass of one part [g]; negative for a correction by removal (a drilled
+        hole takes that much mass off).
     stock : int or None
         Parts on hand; None means as many as needed.
     description : str
         Free text.
+    mass_tolerance_g : float
+        How far one part's real mass may be from ``mass_g`` [g], either side.
     """
 
     id: str
     mass_g: float
     stock: int | None = None
     description: str = ""
+    mass_tolerance_g: float = 0.0
+
+    @property
+    def removes(self) -> bool:
+        """True for a removal item (negative mass, e.g. a drilled hole)."""
+        return self.mass_g < 0
 
 
 @dataclass(frozen=True)

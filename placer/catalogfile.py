@@ -9,6 +9,8 @@ Format::
     mass_g = 1.83
     stock = 40            # optional: parts on hand
     description = "..."   # optional
+    mass_tol_g = 0.05     # optional: mass tolerance of one part, ± g (or mass_tol_pct)
+    removes = true        # optional: a removal item (drilled hole), mass_g negative
 """
 
 from __future__ import annotations
@@ -30,18 +32,35 @@ def read_catalog(path: Path) -> Catalog:
     items = []
     seen: set[str] = set()
     for table in root.tables("items", required=True):
-        table.allow_only(("id", "mass_g", "stock", "description"))
+        table.allow_only(("id", "mass_g", "stock", "description", "removes", "mass_tol_g",
+                          "mass_tol_pct"))
         item_id = table.text("id", required=True)
         if not item_id.strip():
             raise table.fail("id", "is empty", "a label such as 'M8'")
         if item_id in seen:
             raise table.fail("id", f"'{item_id}' appears twice", "each id once")
         seen.add(item_id)
+        removes = table.data.get("removes", False)
+        if not isinstance(removes, bool):
+            raise table.fail("removes", "is not true/false", "true for a removal item")
+        mass = table.number("mass_g", required=True)
+        if removes and mass >= 0:
+            raise table.fail("mass_g", f"is {mass:g} on a removal item",
+                             "a negative mass (the mass the removal takes off)")
+        if not removes and mass <= 0:
+            raise table.fail("mass_g", f"is {mass:g}", "a number above zero "
+                             "(or removes = true and a negative mass for a removal item)")
+        if table.has("mass_tol_g") and table.has("mass_tol_pct"):
+            raise table.fail("mass_tol_pct", "given together with 'mass_tol_g'", "one of the two")
+        tolerance = table.number("mass_tol_g", default=0.0, non_negative=True)
+        if table.has("mass_tol_pct"):
+            tolerance = abs(mass) * table.number("mass_tol_pct", non_negative=True) / 100.0
         items.append(Item(
             id=item_id,
-            mass_g=table.number("mass_g", required=True, positive=True),
+            mass_g=mass,
             stock=table.integer("stock", minimum=0),
             description=table.text("description", default=""),
+            mass_tolerance_g=tolerance,
         ))
     return Catalog(name=name, items=tuple(items), source=str(path.resolve()),
                    description=root.text("description", default=""))

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 import json
+import math
 import sys
 from pathlib import Path
 
@@ -22,7 +23,8 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports a usage mistake in one line and exits with 2."""
 
     def error(self, message: str) -> None:  # noqa: D102 - argparse hook
-        self.exit(EXIT_BAD_INPUT, f"placer: error: {message} (see 'placer --help')\n")
+        self.exit(EXIT_BAD_INPUT, f"placer: error: {self.prog}: {message} "
+                                  f"(expected the arguments of '{self.prog} --help')\n")
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -112,6 +114,8 @@ def _parser() -> argparse.ArgumentParser:
 def _console(width: int | None = None):
     from rich.console import Console
 
+    if width is not None and width < 40:
+        raise InputError(f"is {width}", key="--width", expected="at least 40 columns")
     if width is None and not sys.stdout.isatty():
         width = 80
     return Console(width=width, highlight=False)
@@ -121,7 +125,7 @@ def _solve(args: argparse.Namespace) -> int:
     from placer.jobfile import read_job
     from placer.solve import solve_job
 
-    if args.time_limit <= 0:
+    if not math.isfinite(args.time_limit) or args.time_limit <= 0:
         raise InputError(f"is {args.time_limit:g}", key="--time-limit",
                          expected="a number of seconds above zero")
     job = read_job(Path(args.job))
@@ -330,7 +334,10 @@ def _trial(args: argparse.Namespace) -> int:
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; returns the exit code."""
     parser = _parser()
-    args = parser.parse_args(argv)
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exc:  # --help (0) or a usage mistake (2, already reported)
+        return int(exc.code or 0)
     if args.command is None:
         parser.print_help()
         return EXIT_BAD_INPUT

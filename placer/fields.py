@@ -20,15 +20,20 @@ def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
     try:
         text = path.read_bytes().decode("utf-8")
     except FileNotFoundError:
-        raise error(f"{what} not found", file=str(path)) from None
+        raise error(f"{what} not found", file=str(path), expected="an existing file") from None
     except IsADirectoryError:
-        raise error(f"is a folder, not a {what}", file=str(path)) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise error(f"cannot read {what}: {exc}", file=str(path)) from None
+        raise error(f"is a folder, not a {what}", file=str(path), expected="a file") from None
+    except UnicodeDecodeError as exc:
+        raise error(f"cannot read {what}: byte {exc.start} is not UTF-8", file=str(path),
+                    expected="a text file in UTF-8") from None
+    except OSError as exc:
+        raise error(f"cannot read {what}: {exc.strerror or exc}", file=str(path),
+                    expected="a readable file") from None
     try:
         return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise error(f"not valid TOML: {exc}", file=str(path)) from None
+        raise error(f"not valid TOML: {exc}", file=str(path),
+                    expected="TOML syntax at that line and column") from None
 
 
 class Table:

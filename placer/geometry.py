@@ -32,6 +32,9 @@ class PlaneGeometry:
         Position numbers that take no part.
     capacity : int
         Most parts on one position (different items may stack on it).
+    accepts : tuple of str
+        Per position: "add", "remove" or "both" (which kinds of correction the
+        position takes); empty means "both" everywhere.
     """
 
     name: str
@@ -39,6 +42,12 @@ class PlaneGeometry:
     radii_mm: tuple[float, ...]
     blocked: frozenset[int] = frozenset()
     capacity: int = 1
+    accepts: tuple[str, ...] = ()
+
+    def takes(self, number: int, removal: bool) -> bool:
+        """Whether position ``number`` takes a removal (or an added part)."""
+        kind = self.accepts[number - 1] if self.accepts else "both"
+        return kind == "both" or kind == ("remove" if removal else "add")
 
     @property
     def n_positions(self) -> int:

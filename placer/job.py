@@ -29,6 +29,17 @@ class Rotor:
     grade_mm_s: float | None = None
     com_distances_mm: tuple[float, ...] | None = None
     angle_sense: str = DEFAULT_ANGLE_SENSE
+    correction_basis: str = "further"
+    placement_error_deg: float = 0.0
+
+
+@dataclass(frozen=True)
+class ExistingPart:
+    """A part already on the rotor: ``count`` of catalogue item ``item`` on ``position``."""
+
+    position: int
+    item: int
+    count: int = 1
 
 
 @dataclass(frozen=True)
@@ -37,7 +48,9 @@ class PlaneJob:
 
     ``correction_gmm`` is the required correction as a complex number
     [g·mm] at the angle where mass must be added; ``given_as`` says how the
-    job stated it, for the sheet.
+    job stated it, for the sheet.  ``existing`` are parts already on the
+    rotor; with the rotor's ``correction_basis`` "further" the correction was
+    measured with them on, with "total" it is for the rotor without them.
     """
 
     geometry: PlaneGeometry
@@ -46,6 +59,8 @@ class PlaneJob:
     given_as: str
     tolerance_gmm: float | None = None
     max_parts: int = DEFAULT_MAX_PARTS
+    existing: tuple[ExistingPart, ...] = ()
+    correction_basis: str = "further"
 
 
 @dataclass(frozen=True)

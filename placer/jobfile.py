@@ -10,12 +10,17 @@ from placer.catalogfile import read_catalog, resolve_catalog
 from placer.errors import JobError, ToleranceError
 from placer.fields import Table, read_toml
 from placer.geometry import PlaneGeometry, equally_spaced_deg, gmm_vector
-from placer.job import DEFAULT_ANGLE_SENSE, DEFAULT_MAX_PARTS, Job, PlaneJob, Rotor
+from placer.job import (DEFAULT_ANGLE_SENSE, DEFAULT_MAX_PARTS, ExistingPart, Job, PlaneJob,
+                        Rotor)
 from placer.tolerance import parse_grade
 
-ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense")
+ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense",
+              "correction_basis", "placement_error_deg")
 PLANE_KEYS = ("name", "radius_mm", "radii_mm", "positions", "start_deg", "angles_deg", "blocked",
-              "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "max_parts")
+              "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "max_parts",
+              "accepts", "add_only", "remove_only", "existing")
+ACCEPTS = ("both", "add", "remove")
+CORRECTION_BASES = ("further", "total")
 VECTOR_KEYS = ("mass_g", "gmm", "angle_deg")
 ANGLE_SENSES = ("against rotation", "with rotation", "clockwise", "counterclockwise")
 MAX_POSITIONS = 3600
@@ -32,7 +37,7 @@ def read_job(path: Path) -> Job:
     catalogs: dict[Path, Catalog] = {}
     planes = []
     for table in root.tables("planes", required=True):
-        planes.append(_plane(table, path.parent, catalogs))
+        planes.append(_plane(table, path.parent, catalogs, rotor.correction_basis))
     if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(planes):
         raise JobError(f"gives {len(rotor.com_distances_mm)} distances for {len(planes)} planes",
                        file=file, key="rotor.com_distances_mm", expected="one distance per plane")
@@ -58,7 +63,13 @@ def _rotor(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
     sense = t.text("angle_sense", default=DEFAULT_ANGLE_SENSE)
     if sense not in ANGLE_SENSES:
         raise t.fail("angle_sense", f"is '{sense}'", "one of " + ", ".join(ANGLE_SENSES))
+    basis = t.text("correction_basis", default="further")
+    if basis not in CORRECTION_BASES:
+        raise t.fail("correction_basis", f"is '{basis}'",
+                     "further (measured with the existing parts on) or total (without them)")
     return Rotor(
+        correction_basis=basis,
+        placement_error_deg=t.number("placement_error_deg", default=0.0, non_negative=True),
         name=t.text("name", default="rotor"),
         mass_kg=t.number("mass_kg", positive=True),
         service_rpm=t.number("service_rpm", positive=True),
@@ -68,7 +79,8 @@ def _rotor(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
     )
 
 
-def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog]) -> PlaneJob:
+def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog],
+           basis: str = "further") -> PlaneJob:
     t.allow_only(PLANE_KEYS)
     geometry, catalog = plane_geometry(t, base_dir, catalogs)
     correction, given_as = _requirement(t)
@@ -80,7 +92,28 @@ def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog]) -> PlaneJob:
         tolerance_gmm=t.number("tolerance_gmm", non_negative=True),
         max_parts=t.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
                             maximum=MAX_PARTS_LIMIT),
+        existing=_existing(t, geometry, catalog),
+        correction_basis=basis,
     )
+
+
+def _existing(t: Table, geometry: PlaneGeometry, catalog: Catalog) -> tuple[ExistingPart, ...]:
+    parts = []
+    per_position: dict[int, int] = {}
+    for i, value in enumerate(t.array("existing") or [], start=1):
+        e = Table(value, t.file, f"{t.key('existing')}[{i}]", t.error)
+        e.allow_only(("position", "item", "count"))
+        position = e.integer("position", required=True, minimum=1, maximum=geometry.n_positions)
+        item_id = e.text("item", required=True)
+        try:
+            item = catalog.item_index(item_id)
+        except KeyError:
+            raise e.fail("item", f"'{item_id}' is not in catalogue '{catalog.name}'",
+                         "an item id of the plane's catalogue") from None
+        count = e.integer("count", default=1, minimum=1)
+        per_position[position] = per_position.get(position, 0) + count
+        parts.append(ExistingPart(position, item, count))
+    return tuple(parts)
 
 
 def plane_geometry(t: Table, base_dir: Path,
@@ -100,8 +133,9 @@ def plane_geometry(t: Table, base_dir: Path,
     key = catalog_path.resolve()
     if key not in catalogs:
         catalogs[key] = read_catalog(catalog_path)
+    accepts = _accepts(t, len(angles))
     geometry = PlaneGeometry(name=name, angles_deg=angles, radii_mm=radii, blocked=blocked,
-                             capacity=capacity)
+                             capacity=capacity, accepts=accepts)
     return geometry, catalogs[key]
 
 
@@ -141,6 +175,18 @@ def _blocked(t: Table, count: int) -> frozenset[int]:
     for i, value in enumerate(values):
         numbers.add(t.check_integer(f"blocked[{i + 1}]", value, minimum=1, maximum=count))
     return frozenset(numbers)
+
+
+def _accepts(t: Table, count: int) -> tuple[str, ...]:
+    default = t.text("accepts", default="both")
+    if default not in ACCEPTS:
+        raise t.fail("accepts", f"is '{default}'", "both, add or remove")
+    kinds = [default] * count
+    for key, kind in (("add_only", "add"), ("remove_only", "remove")):
+        for i, value in enumerate(t.array(key) or [], start=1):
+            number = t.check_integer(f"{key}[{i}]", value, minimum=1, maximum=count)
+            kinds[number - 1] = kind
+    return () if all(k == "both" for k in kinds) else tuple(kinds)
 
 
 def _requirement(t: Table) -> tuple[complex, str]:

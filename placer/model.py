@@ -137,7 +137,9 @@ class _Built:
         for group, per_item in group_terms.items():
             if group in group_stock:
                 for k, terms in per_item.items():
-                    self.model.Add(sum(terms) <= int(group_stock[group][k]))
+                    # Columns past the catalogue (taking off existing parts) are the plane's own.
+                    if k < len(group_stock[group]):
+                        self.model.Add(sum(terms) <= int(group_stock[group][k]))
 
     def solve(self, time_limit_s: float):
         solver = self.cp_model.CpSolver()

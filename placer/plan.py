@@ -11,7 +11,10 @@ from placer.search import Selection
 class FittedPart:
     """Parts of one item on one position.
 
-    ``position`` is the number on the rotor (1 = first position).
+    ``position`` is the number on the rotor (1 = first position).  ``action``
+    is "fit" for a part to add, "remove" for a part already on the rotor to
+    take off (its ``mass_g`` is the part's own mass, positive for an added
+    weight, negative for a drilled hole).
     """
 
     position: int
@@ -20,6 +23,12 @@ class FittedPart:
     item: str
     mass_g: float
     count: int
+    action: str = "fit"
+
+    @property
+    def signed_count(self) -> int:
+        """+count for parts fitted, -count for parts removed."""
+        return self.count if self.action == "fit" else -self.count
 
 
 @dataclass(frozen=True)
@@ -38,9 +47,12 @@ class PlanOption:
     residual_angle_deg: float
     lower_bound_gmm: float
     proven: bool
+    chance_within: float | None = None
+    residual_p95_gmm: float | None = None
 
     @property
     def used_parts(self) -> int:
+        """Operations: parts fitted plus parts removed."""
         return sum(p.count for p in self.parts)
 
 

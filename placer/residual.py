@@ -10,10 +10,13 @@ from placer.plan import FittedPart
 
 
 def fitted_gmm(parts: Iterable[FittedPart]) -> complex:
-    """Sum of count·mass_g·radius_mm·e^{i·angle} over the parts [g·mm]."""
+    """Sum of ±count·mass_g·radius_mm·e^{i·angle} over the parts [g·mm].
+
+    A part removed counts with a minus sign (it takes its correction away).
+    """
     total = 0j
     for part in parts:
-        total += part.count * part.mass_g * part.radius_mm * cmath.exp(1j * math.radians(part.angle_deg))
+        total += part.signed_count * part.mass_g * part.radius_mm * cmath.exp(1j * math.radians(part.angle_deg))
     return total
 
 

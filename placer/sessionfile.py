@@ -34,7 +34,7 @@ from placer.readings import (MEASURES, PHASE_SENSES, canonical_unit, phase_in_ro
 from placer.session import FIELD_NORMS, RUN_KINDS, Channel, FieldPlane, PlacedMass, Run, Session
 
 FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
-    "correction", "unbalance", "tolerance_gmm", "max_parts"))
+    "correction", "unbalance", "tolerance_gmm", "max_parts", "existing"))
 ROTATIONS = ("clockwise", "counterclockwise")
 
 

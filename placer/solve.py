@@ -72,14 +72,35 @@ class PlaneArrays:
 
 
 def plane_arrays(plane: PlaneJob) -> PlaneArrays:
-    """Effects of one part of each item at each position: -mass_g·radius_mm·e^{iθ} [g·mm]."""
-    masses = np.array([item.mass_g for item in plane.catalog.items], dtype=float)
-    unit = plane.geometry.unit_vectors_mm()
-    effects = -(unit[:, None] * masses[None, :])[:, :, None]
-    stock = np.array([plane.max_parts if item.stock is None else item.stock
-                      for item in plane.catalog.items], dtype=np.int64)
-    return PlaneArrays(effects, np.array([plane.correction_gmm]), plane.geometry.capacities(),
-                       stock)
+    """The plane as arrays for the search: residual = target + Σ count·effect [g·mm].
+
+    Rows are the plane's positions, then one row per existing part (taking it
+    off); columns are the catalogue's items, then one per existing part.  A
+    part fitted at position j has effect -mass_g·radius_mm·e^{iθ_j}; removing
+    an existing part gives its correction back, +mass·radius·e^{iθ}.  A
+    position holding existing parts has that much less room for new ones.
+    """
+    geometry, items = plane.geometry, plane.catalog.items
+    n_pos, n_items, n_old = geometry.n_positions, len(items), len(plane.existing)
+    masses = np.array([item.mass_g for item in items], dtype=float)
+    unit = geometry.unit_vectors_mm()
+    effects = np.zeros((n_pos + n_old, n_items + n_old, 1), dtype=complex)
+    effects[:n_pos, :n_items, 0] = -(unit[:, None] * masses[None, :])
+    removal = masses < 0
+    for j in range(n_pos):
+        if not geometry.takes(j + 1, removal=True):
+            effects[j, :n_items][removal] = 0
+        if not geometry.takes(j + 1, removal=False):
+            effects[j, :n_items][~removal] = 0
+    capacity = np.concatenate([geometry.capacities(), np.zeros(n_old, dtype=np.int64)])
+    for e, old in enumerate(plane.existing):
+        vector = items[old.item].mass_g * unit[old.position - 1]
+        effects[n_pos + e, n_items + e, 0] = vector
+        capacity[n_pos + e] = old.count
+        capacity[old.position - 1] = max(0, capacity[old.position - 1] - old.count)
+    stock = np.array([plane.max_parts if item.stock is None else item.stock for item in items]
+                     + [old.count for old in plane.existing], dtype=np.int64)
+    return PlaneArrays(effects, np.array([further_correction_gmm(plane)]), capacity, stock)
 
 
 def exact_front(arrays: PlaneArrays, max_parts: int,
@@ -119,14 +140,41 @@ def exact_front(arrays: PlaneArrays, max_parts: int,
     return entries, time.perf_counter() - started, method
 
 
+def further_correction_gmm(plane: PlaneJob) -> complex:
+    """The correction still needed with the existing parts on [g·mm].
+
+    With correction_basis "further" that is the correction as measured; with
+    "total" the existing parts' own correction is taken off it.
+    """
+    if plane.correction_basis != "total" or not plane.existing:
+        return plane.correction_gmm
+    unit = plane.geometry.unit_vectors_mm()
+    items = plane.catalog.items
+    return plane.correction_gmm - sum(items[o.item].mass_g * o.count * unit[o.position - 1]
+                                      for o in plane.existing)
+
+
 def to_option(plane: PlaneJob, entry: Selection) -> PlanOption:
-    """A search result in domain terms, its residual recomputed from the listed parts."""
+    """A search result in domain terms, its residual recomputed from the listed parts.
+
+    Parts to remove come first (they are taken off before new ones go on).
+    """
     geometry, items = plane.geometry, plane.catalog.items
-    parts = tuple(FittedPart(position=j + 1, angle_deg=geometry.angles_deg[j],
-                             radius_mm=geometry.radii_mm[j], item=items[k].id,
-                             mass_g=items[k].mass_g, count=c) for j, k, c in entry.parts)
-    vector = residual_vector_gmm(plane.correction_gmm, parts)
-    return PlanOption(part_count=entry.part_count, parts=parts, residual_gmm=abs(vector),
+    n_pos, n_items = geometry.n_positions, len(items)
+    parts = []
+    for j, k, c in entry.parts:
+        if j >= n_pos:
+            old = plane.existing[k - n_items]
+            j, k, action = old.position - 1, old.item, "remove"
+        else:
+            action = "fit"
+        parts.append(FittedPart(position=j + 1, angle_deg=geometry.angles_deg[j],
+                                radius_mm=geometry.radii_mm[j], item=items[k].id,
+                                mass_g=items[k].mass_g, count=c, action=action))
+    parts = tuple(sorted(parts, key=lambda p: (p.action != "remove", p.position, p.item)))
+    vector = residual_vector_gmm(further_correction_gmm(plane), parts)
+    return PlanOption(part_count=sum(p.count for p in parts), parts=parts,
+                      residual_gmm=abs(vector),
                       residual_angle_deg=angle_of_deg(vector),
                       lower_bound_gmm=entry.lower_bound, proven=entry.proven)
 
@@ -209,7 +257,8 @@ def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArra
         used: dict[str, int] = {}
         for i in members:
             for part in results[i].chosen.parts:
-                used[part.item] = used.get(part.item, 0) + part.count
+                if part.action == "fit":
+                    used[part.item] = used.get(part.item, 0) + part.count
         over = [item for item in catalog.items
                 if item.stock is not None and used.get(item.id, 0) > item.stock]
         if not over:
@@ -221,7 +270,7 @@ def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArra
         for i in members:
             plane, arrays = job.planes[i], arrays_of[i]
             hint = tuple((p.position - 1, catalog.item_index(p.item), p.count)
-                         for p in results[i].chosen.parts)
+                         for p in results[i].chosen.parts if p.action == "fit")
             model_planes.append(ModelPlane(arrays.effects, arrays.target, arrays.capacity,
                                            arrays.stock, plane.max_parts,
                                            results[i].tolerance_gmm, source, hint))

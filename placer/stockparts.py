@@ -22,6 +22,9 @@ __all__ = [
     "WasherSize",
     "ISO_7089_NORMAL",
     "washer_mass_g",
+    "ALUMINIUM_DENSITY_G_CM3",
+    "DRILL_POINT_ANGLE_DEG",
+    "drilled_hole_mass_g",
 ]
 
 STEEL_DENSITY_G_CM3: float = 7.85
@@ -158,3 +161,55 @@ def washer_mass_g(inner_diameter_mm: float, outer_diameter_mm: float, thickness_
             key="outer_diameter_mm", expected="outer_diameter_mm > inner_diameter_mm")
     volume_mm3 = math.pi / 4.0 * (big_d * big_d - d * d) * h
     return rho * volume_mm3 / MM3_PER_CM3
+
+
+ALUMINIUM_DENSITY_G_CM3: float = 2.70
+"""Density of aluminium (and its common casting alloys, within about 3 %) [g/cm³].
+
+2.70 g/cm³ for pure aluminium at 20 °C, the usual handbook figure (CRC
+Handbook of Chemistry and Physics, physical constants of the elements; from
+memory)."""
+
+DRILL_POINT_ANGLE_DEG: float = 118.0
+"""Included point angle of a standard twist drill [deg] (common practice, no source)."""
+
+
+def drilled_hole_mass_g(diameter_mm: float, depth_mm: float, density_g_cm3: float,
+                        point_angle_deg: float = DRILL_POINT_ANGLE_DEG) -> float:
+    """Mass a drilled hole takes out [g], returned as a positive number.
+
+    .. math::
+
+        V = \\frac{\\pi}{4} d^2 h + \\frac{\\pi d^3}{24 \\tan(\\alpha/2)}, \\qquad
+        m = \\rho \\, \\frac{V}{1000}
+
+    a cylinder of full diameter d to depth h (measured to where the drill's
+    point begins) plus the cone of the drill point, of height
+    (d/2)/tan(α/2) for the included point angle α.
+
+    Parameters
+    ----------
+    diameter_mm : float
+        Drill diameter d [mm].
+    depth_mm : float
+        Depth of the full-diameter part h [mm].
+    density_g_cm3 : float
+        Density of the rotor material ρ [g/cm³].
+    point_angle_deg : float, optional
+        Included point angle α [deg], default 118°.
+
+    References
+    ----------
+    Volume of a cylinder and of a right circular cone (V = π r² h / 3),
+    elementary geometry.
+    """
+    d = _check_positive(diameter_mm, "diameter_mm")
+    h = _check_positive(depth_mm, "depth_mm")
+    rho = _check_positive(density_g_cm3, "density_g_cm3")
+    alpha = _check_positive(point_angle_deg, "point_angle_deg")
+    if alpha >= 180.0:
+        raise InputError(f"point_angle_deg must be below 180, got {alpha!r}",
+                         key="point_angle_deg", expected="an angle between 0 and 180")
+    cylinder = math.pi / 4.0 * d * d * h
+    cone = math.pi * d ** 3 / (24.0 * math.tan(math.radians(alpha) / 2.0))
+    return rho * (cylinder + cone) / MM3_PER_CM3
