@@ -49,6 +49,14 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--width", type=int, default=None, metavar="COLUMNS",
                        help="width of the sheet in columns (default: the terminal's, "
                             "80 when not a terminal)")
+    solve.add_argument("--min-chance", type=float, default=None, metavar="P",
+                       help="choose the fewest parts whose chance of staying within tolerance "
+                            "once fitted (mass tolerances, rotor.placement_error_deg) is at "
+                            "least P, e.g. 0.9")
+    solve.add_argument("--samples", type=int, default=4000, metavar="N",
+                       help="Monte Carlo draws per plan for that chance (default 4000)")
+    solve.add_argument("--seed", type=int, default=2026, metavar="S",
+                       help="seed of the Monte Carlo draws, so runs repeat (default 2026)")
 
     cats = sub.add_parser("catalogs", help="list the bundled catalogues, or show one",
                           description="Without NAME, list the bundled catalogues; with NAME "
@@ -128,8 +136,16 @@ def _solve(args: argparse.Namespace) -> int:
     if not math.isfinite(args.time_limit) or args.time_limit <= 0:
         raise InputError(f"is {args.time_limit:g}", key="--time-limit",
                          expected="a number of seconds above zero")
+    if args.min_chance is not None and not 0.0 <= args.min_chance <= 1.0:
+        raise InputError(f"is {args.min_chance:g}", key="--min-chance",
+                         expected="a chance between 0 and 1")
+    if not 10 <= args.samples <= 1_000_000:
+        raise InputError(f"is {args.samples}", key="--samples", expected="10 to 1000000 draws")
+    from placer.solve import FittingErrors
+
     job = read_job(Path(args.job))
-    result = solve_job(job, time_limit_s=args.time_limit)
+    errors = FittingErrors(samples=args.samples, seed=args.seed, min_chance=args.min_chance)
+    result = solve_job(job, time_limit_s=args.time_limit, errors=errors)
     if args.json:
         from placer.jsonout import job_dict
 

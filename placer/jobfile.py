@@ -128,15 +128,39 @@ def plane_geometry(t: Table, base_dir: Path,
     radii = _radii(t, len(angles))
     blocked = _blocked(t, len(angles))
     capacity = t.integer("capacity", default=1, minimum=1, maximum=12)
-    reference = t.text("catalog", required=True)
-    catalog_path = resolve_catalog(reference, base_dir, t.file, t.key("catalog"))
-    key = catalog_path.resolve()
-    if key not in catalogs:
-        catalogs[key] = read_catalog(catalog_path)
+    raw = t.data.get("catalog")
+    references = raw if isinstance(raw, list) else [t.text("catalog", required=True)]
+    parts = []
+    for i, reference in enumerate(references, start=1):
+        key_name = t.key("catalog") + (f"[{i}]" if isinstance(raw, list) else "")
+        if not isinstance(reference, str):
+            raise t.fail(f"catalog[{i}]", "is not text", "a catalogue name or path")
+        catalog_path = resolve_catalog(reference, base_dir, t.file, key_name)
+        path_key = catalog_path.resolve()
+        if path_key not in catalogs:
+            catalogs[path_key] = read_catalog(catalog_path)
+        parts.append(catalogs[path_key])
+    if not parts:
+        raise t.fail("catalog", "is empty", "a catalogue name, or a list of them")
+    catalog = parts[0] if len(parts) == 1 else _merged(parts, t)
     accepts = _accepts(t, len(angles))
     geometry = PlaneGeometry(name=name, angles_deg=angles, radii_mm=radii, blocked=blocked,
                              capacity=capacity, accepts=accepts)
-    return geometry, catalogs[key]
+    return geometry, catalog
+
+
+def _merged(parts: list[Catalog], t: Table) -> Catalog:
+    """Several catalogues as one (washers to add and drill sizes to remove, say)."""
+    seen: dict[str, str] = {}
+    for catalog in parts:
+        for item in catalog.items:
+            if item.id in seen:
+                raise t.fail("catalog", f"item id '{item.id}' is in both '{seen[item.id]}' and "
+                             f"'{catalog.name}'", "catalogues with distinct item ids")
+            seen[item.id] = catalog.name
+    return Catalog(name=" + ".join(c.name for c in parts),
+                   items=tuple(i for c in parts for i in c.items),
+                   source=" + ".join(c.source for c in parts))
 
 
 def _angles(t: Table) -> tuple[float, ...]:

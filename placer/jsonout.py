@@ -6,7 +6,7 @@ from typing import Any
 
 from placer.geometry import angle_of_deg
 from placer.plan import PlanOption
-from placer.solve import JobResult, PlaneResult
+from placer.solve import JobResult, PlaneResult, further_correction_gmm
 
 
 def option_dict(option: PlanOption) -> dict[str, Any]:
@@ -17,9 +17,12 @@ def option_dict(option: PlanOption) -> dict[str, Any]:
         "residual_angle_deg": float(option.residual_angle_deg),
         "lower_bound_gmm": float(option.lower_bound_gmm),
         "proven": option.proven,
+        "chance_within": option.chance_within,
+        "residual_p95_gmm": option.residual_p95_gmm,
         "parts": [
             {"position": p.position, "angle_deg": float(p.angle_deg),
-             "radius_mm": p.radius_mm, "item": p.item, "mass_g": p.mass_g, "count": p.count}
+             "radius_mm": p.radius_mm, "item": p.item, "mass_g": p.mass_g, "count": p.count,
+             "action": p.action}
             for p in option.parts
         ],
     }
@@ -40,6 +43,10 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
             "angle_deg": float(angle_of_deg(plane.correction_gmm)),
             "given_as": plane.given_as,
         },
+        "further_gmm": float(abs(further_correction_gmm(plane))),
+        "further_angle_deg": float(angle_of_deg(further_correction_gmm(plane))),
+        "existing": [{"position": e.position, "item": plane.catalog.items[e.item].id,
+                      "count": e.count} for e in plane.existing],
         "catalog": plane.catalog.name,
         "pareto": [option_dict(o) for o in result.front],
         "chosen": chosen,

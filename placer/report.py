@@ -52,6 +52,7 @@ def _header(result: JobResult) -> Panel:
 
 def _parts_table(result: PlaneResult) -> Table:
     table = Table(box=box.SIMPLE_HEAVY, show_edge=False, pad_edge=False)
+    table.add_column("Do")
     table.add_column("Pos.", justify="right")
     table.add_column("Angle °", justify="right")
     table.add_column("Item")
@@ -59,7 +60,8 @@ def _parts_table(result: PlaneResult) -> Table:
     table.add_column("Mass g", justify="right")
     table.add_column("g·mm", justify="right")
     for p in result.chosen.parts:
-        table.add_row(str(p.position), f"{p.angle_deg:.1f}", p.item, str(p.count),
+        table.add_row("REMOVE" if p.action == "remove" else "fit", str(p.position),
+                      f"{p.angle_deg:.1f}", p.item, str(p.count),
                       f"{p.mass_g * p.count:g}", f"{p.mass_g * p.count * p.radius_mm:.0f}")
     return table
 
@@ -71,10 +73,14 @@ def _front_table(result: PlaneResult) -> Table:
     table.add_column("Residual g·mm", justify="right")
     table.add_column("of required", justify="right")
     table.add_column("Verdict")
-    table.add_column("")
-    required = result.required_gmm
     rows = [result.chosen] if result.chosen.used_parts == 0 else []
     rows += list(result.front)
+    robust = any(o.chance_within is not None for o in rows)
+    if robust:
+        table.add_column("Chance", justify="right")
+        table.add_column("p95", justify="right")
+    table.add_column("")
+    required = result.required_gmm
     for option in rows:
         share = "" if required == 0 else f"{option.residual_gmm / required:.1%}"
         if result.tolerance_gmm is None:
@@ -83,8 +89,11 @@ def _front_table(result: PlaneResult) -> Table:
             verdict = "within" if option.residual_gmm <= result.tolerance_gmm else "outside"
         mark = "<- chosen" if option.parts == result.chosen.parts else ""
         proof = "" if option.proven else " (not proven)"
-        table.add_row(str(option.used_parts), f"{option.residual_gmm:.2f}{proof}", share,
-                      verdict, mark)
+        cells = [str(option.used_parts), f"{option.residual_gmm:.2f}{proof}", share, verdict]
+        if robust:
+            cells += ["-" if option.chance_within is None else f"{option.chance_within:.0%}",
+                      "-" if option.residual_p95_gmm is None else f"{option.residual_p95_gmm:.1f}"]
+        table.add_row(*cells, mark)
     return table
 
 
@@ -100,12 +109,20 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
                 f"{geometry.capacity} part(s) per position; catalogue: {plane.catalog.name}\n")
     info.append(f"Required: {abs(plane.correction_gmm):.1f} g·mm at "
                 f"{angle_of_deg(plane.correction_gmm):.1f}° ({plane.given_as})\n")
+    if plane.existing:
+        on = ", ".join(f"{plane.catalog.items[e.item].id}×{e.count} on {e.position}"
+                       for e in plane.existing)
+        basis = ("measured with them on" if plane.correction_basis == "further"
+                 else "for the rotor without them")
+        info.append(f"Already on the rotor: {on}; the correction is {basis}.\n")
     if not result.chosen.parts:
         info.append("Fit: nothing - the plane is already as good as the parts allow.\n",
                     style="bold")
     body = [info]
     if result.chosen.parts:
-        body.append(Text("Fit these parts:", style="bold"))
+        body.append(Text("Do in this order (parts to remove first):", style="bold")
+                    if any(p.action == "remove" for p in result.chosen.parts)
+                    else Text("Fit these parts:", style="bold"))
         body.append(_parts_table(result))
     res = Text()
     res.append(f"Residual {result.chosen.residual_gmm:.2f} g·mm", style="bold")

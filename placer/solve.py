@@ -14,6 +14,7 @@ from placer.geometry import angle_of_deg
 from placer.job import Job, PlaneJob
 from placer.plan import FittedPart, PlanOption, choose, improving
 from placer.residual import residual_vector_gmm
+from placer.robust import DEFAULT_SAMPLES, DEFAULT_SEED, robustness
 from placer.search import PartList, PlacementSearch, Selection, is_proven, residual_of
 from placer.tolerance import PlaneShare, allocate_to_planes, permissible_residual_gmm
 
@@ -206,7 +207,8 @@ def _reach_note(plane: PlaneJob) -> str | None:
     return None
 
 
-def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> JobResult:
+def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S,
+              errors: FittingErrors | None = None) -> JobResult:
     """Solve every plane of ``job`` and choose a plan for each."""
     u_per, shares, job_notes = _tolerances(job)
     results = []
@@ -225,20 +227,62 @@ def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> JobResult
         chosen = choose(entries, tolerance)
         notes = [n for n in (_reach_note(plane),) if n]
         results.append(_plane_result(plane, tolerance, source, entries, chosen, notes,
-                                     elapsed, method))
+                                     elapsed, method, errors=errors or FittingErrors(),
+                                     placement_error_deg=job.rotor.placement_error_deg))
     results, stock_notes = _share_stock(job, results, arrays_of, time_limit_s)
     return JobResult(job=job, planes=tuple(results), permissible_gmm=u_per, shares=shares,
                      notes=tuple(job_notes + stock_notes))
 
 
+@dataclass(frozen=True)
+class FittingErrors:
+    """How the Monte Carlo of fitting errors runs, and whether it picks the plan.
+
+    ``min_chance``: choose the fewest parts whose chance of staying within
+    tolerance is at least this (None: choose by residual alone).
+    """
+
+    samples: int = DEFAULT_SAMPLES
+    seed: int = DEFAULT_SEED
+    min_chance: float | None = None
+
+
+def _with_robustness(plane: PlaneJob, option: PlanOption, tolerance: float,
+                     errors: FittingErrors, placement_error_deg: float) -> PlanOption:
+    mass_tol = {item.id: item.mass_tolerance_g for item in plane.catalog.items}
+    r = robustness(further_correction_gmm(plane), option.parts, tolerance, mass_tol,
+                   placement_error_deg, errors.samples, errors.seed)
+    return replace(option, chance_within=r.chance_within, residual_p95_gmm=r.residual_p95_gmm)
+
+
 def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, method,
-                  optimal=None) -> PlaneResult:
+                  optimal=None, errors: FittingErrors | None = None,
+                  placement_error_deg: float = 0.0) -> PlaneResult:
     option = to_option(plane, chosen)
+    zero = to_option(plane, entries[0])
+    front = [to_option(plane, e) for e in improving(entries)]
+    if tolerance is not None and errors is not None:
+        rate = lambda o: _with_robustness(plane, o, tolerance, errors,  # noqa: E731
+                                          placement_error_deg)
+        zero, option, front = rate(zero), rate(option), [rate(o) for o in front]
+        if errors.min_chance is not None:
+            pick = [o for o in [zero] + front if o.chance_within >= errors.min_chance]
+            if pick:
+                option = pick[0]
+                notes = list(notes) + [f"chosen by the chance of staying within tolerance "
+                                       f"(at least {errors.min_chance:.0%})"]
+            else:
+                notes = list(notes) + [f"no plan reaches a {errors.min_chance:.0%} chance of "
+                                       "staying within tolerance; the least residual is shown"]
+        # Equal residuals: the more robust plan.
+        same = [o for o in front if abs(o.residual_gmm - option.residual_gmm) <= 1e-9
+                and o.used_parts == option.used_parts]
+        if same:
+            option = max([option] + same, key=lambda o: o.chance_within)
     within = None if tolerance is None else option.residual_gmm <= tolerance
     return PlaneResult(
         plane=plane, tolerance_gmm=tolerance, tolerance_source=source,
-        front=tuple(to_option(plane, e) for e in improving(entries)), chosen=option,
-        within_tolerance=within,
+        front=tuple(front), chosen=option, within_tolerance=within,
         optimal=all(e.proven for e in entries) if optimal is None else optimal,
         notes=tuple(notes), elapsed_s=elapsed, method=method)
 

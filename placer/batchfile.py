@@ -1,0 +1,697 @@
+"""Files of ``placer batch``: the template, the readings, the results, the summary.
+
+The I/O edge of :mod:`placer.batch` (which stays pure): it reads the
+template job and the readings, writes every result as it is found, and
+prints progress and the summary.
+
+Template
+--------
+A normal job file (``[rotor]`` and ``[[planes]]``, see ``placer solve``).
+A plane's ``correction`` / ``unbalance`` may be left out; if given it is
+checked like any job file's and then not used.
+
+Readings, CSV (``.csv``)
+------------------------
+UTF-8 (a leading byte-order mark is allowed), comma separated, first line
+the header.  Columns, in any order, ``<plane>`` being the plane number in
+template order (1, 2, ...)::
+
+    serial,1_mass_g,1_angle_deg,2_gmm,2_angle_deg
+    WM-FH-0001,4.2,117.5,630.0,12.0
+
+* ``serial``: the rotor's serial, 1 to 40 characters, ASCII letters,
+  digits, ``-``, ``_`` and ``.`` only; each serial once per file.
+* per plane ``<plane>_angle_deg`` and exactly one of ``<plane>_mass_g``
+  (at the plane's ``radius_mm``; not for planes with ``radii_mm``) or
+  ``<plane>_gmm``: the required **correction** (where mass must be added,
+  as ``correction = {...}`` in a job file), magnitude zero or more.
+
+No other columns.  A bad header stops the batch (exit 2); a bad row (wrong
+number of values, a value missing, not a number, NaN or infinite, a
+negative magnitude, a bad or repeated serial) goes to the errors file and
+the other rows go on.  Blank lines are skipped.
+
+Readings, JSON lines (``.jsonl``)
+---------------------------------
+One object per line, the planes in template order::
+
+    {"serial": "WM-FH-0001", "planes": [{"mass_g": 4.2, "angle_deg": 117.5},
+                                        {"gmm": 630.0, "angle_deg": 12.0}]}
+
+Results (``PREFIX`` from ``--out``; default the readings file's name with
+its suffix replaced by ``.results``)
+--------------------------------------------------------------------------
+* ``PREFIX.jsonl``: one object per solved rotor, written and flushed row by
+  row::
+
+      {"serial": ..., "line": <line in the readings file>, "template": <digest>,
+       "within_tolerance": true | false | null, "solved_together": false,
+       "planes": [{"plane": 1, "name": ..., "catalog": ..., "parts": "3:M10×2;7:M6×1",
+                   "fitted": [{"position": 3, "angle_deg": ..., "item": "M10",
+                               "mass_g": ..., "count": 2}, ...],
+                   "part_count": 3, "residual_gmm": ..., "residual_angle_deg": ...,
+                   "tolerance_gmm": ... | null, "within_tolerance": ... | null}, ...]}
+
+* ``PREFIX.csv``: ``serial``, then per plane ``<plane>_parts``,
+  ``<plane>_residual_gmm``, ``<plane>_within_tolerance``, then
+  ``within_tolerance`` (all planes); flags are ``true`` / ``false``, empty
+  where no tolerance is given; ``parts`` is ``position:item×count`` joined
+  by ``;`` (empty for no parts).  Rewritten from ``PREFIX.jsonl`` when a
+  batch is resumed, so the two always hold the same rotors.
+* ``PREFIX.errors.csv``: ``line,serial,message`` for each bad row.
+* ``PREFIX.summary.json``: the :class:`placer.batch.BatchSummary` fields,
+  written at the end.
+
+Results come in input order.  Existing outputs are never overwritten
+without ``resume`` (keep the rotors of ``PREFIX.jsonl``, drop a partial
+last line, solve the rest) or ``force`` (start again).  Rows are flushed to
+the operating system one by one, which survives an interrupted or killed
+batch (not a power cut).
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import json
+import math
+import re
+import sys
+import time
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from dataclasses import asdict, dataclass, replace
+from pathlib import Path
+from typing import Any, TextIO
+
+from placer.batch import (BatchSummary, BatchTally, RotorOutcome, RotorReading, default_jobs,
+                          solve_readings)
+from placer.errors import InputError, JobError
+from placer.fields import Table, read_toml
+from placer.geometry import gmm_vector
+from placer.job import Job
+from placer.jobfile import _plane, _rotor
+from placer.solve import DEFAULT_TIME_LIMIT_S
+
+SERIAL_PATTERN = re.compile(r"[A-Za-z0-9._-]{1,40}")
+"""A serial: 1 to 40 ASCII letters, digits, '-', '_' or '.'."""
+SERIAL_EXPECTED = "1 to 40 letters, digits, '-', '_' or '.'"
+COLUMN_PATTERN = re.compile(r"([0-9]+)_(mass_g|gmm|angle_deg)")
+PLACEHOLDER_CORRECTION = {"gmm": 0.0, "angle_deg": 0.0}
+"""Put into template planes that give no correction, so that the job reader accepts them."""
+PLAIN_PROGRESS_EVERY_S = 10.0
+"""Seconds between progress lines when stderr is not a terminal."""
+
+
+@dataclass(frozen=True)
+class RowError:
+    """A readings row that cannot be solved: its line, its serial if known, why."""
+
+    line: int
+    serial: str | None
+    message: str
+
+
+@dataclass(frozen=True)
+class BatchPaths:
+    """The four output files of a batch."""
+
+    results_csv: Path
+    results_jsonl: Path
+    errors_csv: Path
+    summary_json: Path
+
+    @classmethod
+    def from_prefix(cls, prefix: Path) -> BatchPaths:
+        prefix = str(prefix)
+        return cls(Path(prefix + ".csv"), Path(prefix + ".jsonl"), Path(prefix + ".errors.csv"),
+                   Path(prefix + ".summary.json"))
+
+    def all(self) -> tuple[Path, ...]:
+        return (self.results_csv, self.results_jsonl, self.errors_csv, self.summary_json)
+
+
+def default_prefix(readings_path: Path) -> Path:
+    """The readings file's name with its suffix replaced by ``.results``."""
+    readings_path = Path(readings_path)
+    return readings_path.with_name(readings_path.stem + ".results")
+
+
+# --------------------------------------------------------------------- template
+def read_template(path: Path) -> Job:
+    """Read a template job file: a job file whose planes need no correction.
+
+    Raises
+    ------
+    JobError
+        Naming the template file and the key, as for any job file.
+    """
+    path = Path(path)
+    file = str(path)
+    data = read_toml(path, JobError, "template file")
+    planes = data.get("planes")
+    if isinstance(planes, list):
+        for plane in planes:
+            if isinstance(plane, dict) and "correction" not in plane and "unbalance" not in plane:
+                plane["correction"] = dict(PLACEHOLDER_CORRECTION)
+    root = Table(data, file, "", JobError)
+    root.allow_only(("rotor", "planes"))
+    rotor = _rotor(root.sub("rotor", required=True))
+    catalogs: dict = {}
+    plane_jobs = [_plane(table, path.parent, catalogs)
+                  for table in root.tables("planes", required=True)]
+    if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(plane_jobs):
+        raise JobError(f"gives {len(rotor.com_distances_mm)} distances for {len(plane_jobs)} "
+                       "planes", file=file, key="rotor.com_distances_mm",
+                       expected="one distance per plane")
+    plane_jobs = [replace(p, correction_gmm=0j, given_as="batch template") for p in plane_jobs]
+    return Job(rotor=rotor, planes=tuple(plane_jobs), source=file)
+
+
+def template_digest(path: Path) -> str:
+    """First 12 hex digits of the SHA-256 of the template file's bytes."""
+    return hashlib.sha256(Path(path).read_bytes()).hexdigest()[:12]
+
+
+# --------------------------------------------------------------------- readings
+def read_readings(path: Path, template: Job) -> list[RotorReading | RowError]:
+    """Every row of a readings file, in order: a reading, or the reason it is bad.
+
+    ``.csv`` and ``.jsonl`` files (see the module docstring).
+
+    Raises
+    ------
+    InputError
+        When the file is missing, unreadable, of another kind, or its CSV
+        header is wrong (naming the file and the column).
+    """
+    path = Path(path)
+    suffix = path.suffix.lower()
+    if suffix not in (".csv", ".jsonl"):
+        raise InputError(f"is a '{suffix or 'no suffix'}' file", file=str(path),
+                         expected="a readings file ending in .csv or .jsonl")
+    try:
+        text = path.read_bytes().decode("utf-8-sig")
+    except FileNotFoundError:
+        raise InputError("readings file not found", file=str(path)) from None
+    except IsADirectoryError:
+        raise InputError("is a folder, not a readings file", file=str(path)) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read the readings file: {exc}", file=str(path)) from None
+    rows = _csv_rows(text, path, template) if suffix == ".csv" else _jsonl_rows(text, template)
+    return _mark_repeats(list(rows))
+
+
+@dataclass(frozen=True)
+class _PlaneColumns:
+    magnitude: int
+    angle: int
+    kind: str
+    radius_mm: float | None
+
+
+def _radius_of(template: Job, index: int) -> float | None:
+    radii = set(template.planes[index].geometry.radii_mm)
+    return radii.pop() if len(radii) == 1 else None
+
+
+def _csv_header(names: list[str], file: str, template: Job) -> tuple[int, list[_PlaneColumns]]:
+    n_planes = len(template.planes)
+    expected = ("serial, then per plane <plane>_mass_g or <plane>_gmm and <plane>_angle_deg, "
+                f"<plane> from 1 to {n_planes}")
+    seen: dict[str, int] = {}
+    per_plane: dict[int, dict[str, int]] = {}
+    for index, name in enumerate(names):
+        if name in seen:
+            raise InputError("appears twice in the header", file=file, key=f"column '{name}'",
+                             expected="each column once")
+        seen[name] = index
+        if name == "serial":
+            continue
+        match = COLUMN_PATTERN.fullmatch(name)
+        if match is None:
+            raise InputError("unknown column", file=file, key=f"column '{name}'",
+                             expected=expected)
+        number = int(match.group(1))
+        if not 1 <= number <= n_planes:
+            raise InputError(f"plane {number} is not in the template", file=file,
+                             key=f"column '{name}'",
+                             expected=f"plane numbers 1 to {n_planes}")
+        per_plane.setdefault(number, {})[match.group(2)] = index
+    if "serial" not in seen:
+        raise InputError("no 'serial' column", file=file, key="header", expected=expected)
+    planes = []
+    for number in range(1, n_planes + 1):
+        given = per_plane.get(number, {})
+        kinds = [k for k in ("mass_g", "gmm") if k in given]
+        if "angle_deg" not in given:
+            raise InputError(f"no column {number}_angle_deg", file=file, key="header",
+                             expected=expected)
+        if len(kinds) != 1:
+            raise InputError(f"plane {number} needs one of {number}_mass_g or {number}_gmm, "
+                             f"not {'both' if kinds else 'neither'}", file=file, key="header",
+                             expected=expected)
+        radius = _radius_of(template, number - 1)
+        if kinds[0] == "mass_g" and radius is None:
+            raise InputError(f"plane {number} has its own radius per position", file=file,
+                             key=f"column '{number}_mass_g'", expected=f"{number}_gmm")
+        planes.append(_PlaneColumns(given[kinds[0]], given["angle_deg"], kinds[0], radius))
+    return seen["serial"], planes
+
+
+def _csv_rows(text: str, path: Path, template: Job) -> Iterator[RotorReading | RowError]:
+    file = str(path)
+    reader = csv.reader(text.splitlines(keepends=True))
+    try:
+        header = next(reader)
+    except StopIteration:
+        raise InputError("is empty", file=file, key="header",
+                         expected="a header line: serial,1_mass_g,1_angle_deg,...") from None
+    except csv.Error as exc:
+        raise InputError(f"header is not CSV: {exc}", file=file, key="header") from None
+    names = [name.strip() for name in header]
+    serial_at, planes = _csv_header(names, file, template)
+    end = reader.line_num
+    while True:
+        start = end + 1
+        try:
+            row = next(reader)
+        except StopIteration:
+            return
+        except csv.Error as exc:
+            end = reader.line_num
+            yield RowError(start, None, f"not a CSV row: {exc}")
+            continue
+        end = reader.line_num
+        if not row or all(not cell.strip() for cell in row) and len(row) <= 1:
+            continue
+        cells = [cell.strip() for cell in row]
+        serial = cells[serial_at] if serial_at < len(cells) else None
+        serial = serial if serial and SERIAL_PATTERN.fullmatch(serial) else None
+        if len(cells) != len(names):
+            yield RowError(start, serial, f"has {len(cells)} values, the header has "
+                                          f"{len(names)} columns")
+            continue
+        problem = _serial_problem(cells[serial_at])
+        if problem:
+            yield RowError(start, None, problem)
+            continue
+        corrections = []
+        for number, columns in enumerate(planes, start=1):
+            value = _vector(cells[columns.magnitude], cells[columns.angle], columns,
+                            f"{number}_{columns.kind}", f"{number}_angle_deg")
+            if isinstance(value, str):
+                yield RowError(start, serial, value)
+                break
+            corrections.append(value)
+        else:
+            yield RotorReading(start, serial, tuple(corrections))
+
+
+def _serial_problem(serial: Any) -> str | None:
+    if not isinstance(serial, str):
+        return "serial is missing" if serial is None else "serial is not text"
+    if not serial:
+        return "serial is missing"
+    if not SERIAL_PATTERN.fullmatch(serial):
+        shown = serial if len(serial) <= 50 else serial[:47] + "..."
+        return f"serial '{shown}' is not a serial (expected {SERIAL_EXPECTED})"
+    return None
+
+
+def _number(raw: Any, name: str) -> float | str:
+    """A finite number from a CSV cell (text) or a JSON value; else the problem as text."""
+    if raw is None or raw == "":
+        return f"{name} is missing"
+    if isinstance(raw, str):
+        try:
+            value = float(raw)
+        except ValueError:
+            shown = raw if len(raw) <= 30 else raw[:27] + "..."
+            return f"{name} is '{shown}', not a number"
+    elif isinstance(raw, bool) or not isinstance(raw, (int, float)):
+        return f"{name} is not a number"
+    else:
+        value = float(raw)
+    if not math.isfinite(value):
+        return f"{name} is {value} (expected a finite number)"
+    return value
+
+
+def _vector(raw_magnitude: Any, raw_angle: Any, columns: _PlaneColumns, magnitude_name: str,
+            angle_name: str) -> complex | str:
+    magnitude = _number(raw_magnitude, magnitude_name)
+    if isinstance(magnitude, str):
+        return magnitude
+    if magnitude < 0:
+        return f"{magnitude_name} is {magnitude:g} (expected zero or more)"
+    angle = _number(raw_angle, angle_name)
+    if isinstance(angle, str):
+        return angle
+    gmm = magnitude * columns.radius_mm if columns.kind == "mass_g" else magnitude
+    return gmm_vector(gmm, angle)
+
+
+def _jsonl_rows(text: str, template: Job) -> Iterator[RotorReading | RowError]:
+    n_planes = len(template.planes)
+    for line_number, line in enumerate(text.splitlines(), start=1):
+        if not line.strip():
+            continue
+        try:
+            data = json.loads(line)
+        except json.JSONDecodeError as exc:
+            yield RowError(line_number, None, f"not a JSON object: {exc.msg}")
+            continue
+        if not isinstance(data, dict):
+            yield RowError(line_number, None, "not a JSON object")
+            continue
+        problem = _serial_problem(data.get("serial"))
+        serial = None if problem else data["serial"]
+        unknown = sorted(set(data) - {"serial", "planes"})
+        if problem is None and unknown:
+            problem = f"unknown key '{unknown[0]}' (expected serial and planes)"
+        planes = data.get("planes")
+        if problem is None and not isinstance(planes, list):
+            problem = "planes is missing" if planes is None else "planes is not a list"
+        if problem is None and len(planes) != n_planes:
+            problem = f"has {len(planes)} planes, the template has {n_planes}"
+        if problem:
+            yield RowError(line_number, serial, problem)
+            continue
+        corrections = []
+        for number, plane in enumerate(planes, start=1):
+            value = _json_plane(plane, number, template)
+            if isinstance(value, str):
+                yield RowError(line_number, serial, value)
+                break
+            corrections.append(value)
+        else:
+            yield RotorReading(line_number, serial, tuple(corrections))
+
+
+def _json_plane(plane: Any, number: int, template: Job) -> complex | str:
+    key = f"planes[{number}]"
+    if not isinstance(plane, dict):
+        return f"{key} is not an object"
+    unknown = sorted(set(plane) - {"mass_g", "gmm", "angle_deg"})
+    if unknown:
+        return f"{key}.{unknown[0]} is an unknown key (expected mass_g or gmm, and angle_deg)"
+    kinds = [k for k in ("mass_g", "gmm") if k in plane]
+    if len(kinds) != 1:
+        return f"{key} needs one of mass_g or gmm, not {'both' if kinds else 'neither'}"
+    radius = _radius_of(template, number - 1)
+    if kinds[0] == "mass_g" and radius is None:
+        return f"{key}.mass_g: plane {number} has its own radius per position (expected gmm)"
+    columns = _PlaneColumns(0, 0, kinds[0], radius)
+    return _vector(plane[kinds[0]], plane.get("angle_deg"), columns, f"{key}.{kinds[0]}",
+                   f"{key}.angle_deg")
+
+
+def _mark_repeats(rows: list[RotorReading | RowError]) -> list[RotorReading | RowError]:
+    first: dict[str, int] = {}
+    out: list[RotorReading | RowError] = []
+    for row in rows:
+        if isinstance(row, RotorReading):
+            if row.serial in first:
+                row = RowError(row.line, row.serial, f"serial {row.serial} appears again "
+                                                     f"(first on line {first[row.serial]})")
+            else:
+                first[row.serial] = row.line
+        out.append(row)
+    return out
+
+
+# ---------------------------------------------------------------------- results
+def parts_text(fitted: list[dict]) -> str:
+    """``position:item×count`` joined by ``;`` (empty for no parts)."""
+    return ";".join(f"{p['position']}:{p['item']}×{p['count']}" for p in fitted)
+
+
+def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
+    """The JSON object of one solved rotor (a line of ``PREFIX.jsonl``)."""
+    planes = []
+    for p in outcome.planes:
+        fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
+                   "mass_g": f.mass_g, "count": f.count} for f in p.option.parts]
+        planes.append({"plane": p.plane, "name": p.name, "catalog": p.catalog,
+                       "parts": parts_text(fitted), "fitted": fitted,
+                       "part_count": p.option.used_parts, "residual_gmm": p.option.residual_gmm,
+                       "residual_angle_deg": p.option.residual_angle_deg,
+                       "tolerance_gmm": p.tolerance_gmm,
+                       "within_tolerance": p.within_tolerance})
+    return {"serial": outcome.serial, "line": outcome.line, "template": digest,
+            "within_tolerance": outcome.within_tolerance,
+            "solved_together": outcome.solved_together, "planes": planes}
+
+
+def csv_header(n_planes: int) -> list[str]:
+    """Columns of ``PREFIX.csv``."""
+    names = ["serial"]
+    for number in range(1, n_planes + 1):
+        names += [f"{number}_parts", f"{number}_residual_gmm", f"{number}_within_tolerance"]
+    return names + ["within_tolerance"]
+
+
+def _flag(value: bool | None) -> str:
+    return "" if value is None else ("true" if value else "false")
+
+
+def csv_row(record: dict[str, Any]) -> list[str]:
+    """One line of ``PREFIX.csv`` from a result record."""
+    row = [record["serial"]]
+    for plane in record["planes"]:
+        row += [plane["parts"], repr(float(plane["residual_gmm"])),
+                _flag(plane["within_tolerance"])]
+    return row + [_flag(record["within_tolerance"])]
+
+
+def read_done(path: Path, digest: str) -> list[dict[str, Any]]:
+    """The rotors already in ``PREFIX.jsonl``, dropping (and cutting off) a partial last line.
+
+    Raises
+    ------
+    InputError
+        When a line other than the last is not a result record, or a record
+        was written from another template.
+    """
+    path = Path(path)
+    data = path.read_bytes()
+    keep = data.rfind(b"\n") + 1
+    lines = data[:keep].split(b"\n")[:-1]
+    records: list[dict[str, Any]] = []
+    for number, raw in enumerate(lines, start=1):
+        try:
+            record = json.loads(raw.decode("utf-8"))
+            if not isinstance(record, dict) or not isinstance(record.get("serial"), str):
+                raise ValueError("no serial")
+            record["planes"][0]["residual_gmm"]
+        except (ValueError, KeyError, IndexError, TypeError):
+            if number == len(lines) and keep == len(data):
+                keep -= len(raw) + 1
+                break
+            raise InputError("is not a result record", file=str(path), key=f"line {number}",
+                             expected="a file written by placer batch, or --force to start "
+                                      "again") from None
+        if record.get("template") != digest:
+            raise InputError(f"was written from another template ({record.get('template')}, "
+                             f"now {digest})", file=str(path), key=f"line {number}",
+                             expected="the same template, or --force to start again")
+        records.append(record)
+    if keep != len(data):
+        with path.open("r+b") as handle:
+            handle.truncate(keep)
+    return records
+
+
+def _record_parts(record: dict[str, Any]) -> list[tuple[str, str, int]]:
+    return [(plane["catalog"], part["item"], part["count"])
+            for plane in record["planes"] for part in plane["fitted"]]
+
+
+def _write_line(handle: TextIO, text: str) -> None:
+    handle.write(text)
+    handle.flush()
+
+
+ProgressCallback = Callable[[int, int], None]
+"""Called with (rotors solved in this run, rotors to solve in this run)."""
+
+
+def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = None,
+              jobs: int | None = None, resume: bool = False, force: bool = False,
+              time_limit_s: float = DEFAULT_TIME_LIMIT_S,
+              progress: ProgressCallback | None = None,
+              start_method: str | None = None) -> tuple[BatchSummary, BatchPaths]:
+    """Solve every rotor of a readings file against a template; write the outputs.
+
+    Parameters
+    ----------
+    template_path : Path
+        Template job file.
+    readings_path : Path
+        Readings, ``.csv`` or ``.jsonl``.
+    prefix : Path, optional
+        Output prefix (default :func:`default_prefix`).
+    jobs : int, optional
+        Worker processes (default one per core; 1 solves in this process).
+    resume, force : bool
+        Keep the rotors already in ``PREFIX.jsonl`` and solve the rest /
+        overwrite existing outputs.  Without either, existing outputs are an
+        error.
+    time_limit_s : float
+        CP-SAT time limit per decision, if needed [s].
+    progress : callable, optional
+        Called after each rotor, see :data:`ProgressCallback`.
+    start_method : str, optional
+        Start method of the worker processes (see :func:`placer.batch.solve_readings`).
+
+    Raises
+    ------
+    InputError
+        For a bad template or readings file, or outputs that exist.
+    """
+    started = time.perf_counter()
+    if resume and force:
+        raise InputError("resume and force together", key="--resume",
+                         expected="one of --resume or --force")
+    jobs = default_jobs() if jobs is None else int(jobs)
+    if jobs < 1:
+        raise InputError(f"is {jobs}", key="--jobs", expected="a whole number of at least 1")
+    template = read_template(Path(template_path))
+    digest = template_digest(Path(template_path))
+    rows = read_readings(Path(readings_path), template)
+    paths = BatchPaths.from_prefix(prefix if prefix is not None
+                                   else default_prefix(Path(readings_path)))
+    inputs = {Path(template_path).resolve(), Path(readings_path).resolve()}
+    for path in paths.all():
+        if path.resolve() in inputs:
+            raise InputError("would be overwritten by an output", file=str(path), key="--out",
+                             expected="an output prefix apart from the input files")
+    existing = [p for p in paths.all() if p.exists()]
+    if existing and not (resume or force):
+        raise InputError("exists already", file=str(existing[0]), key="--out",
+                         expected="--resume to carry on with it, --force to overwrite, "
+                                  "or another --out")
+    done = read_done(paths.results_jsonl, digest) if resume and paths.results_jsonl.exists() \
+        else []
+    paths.summary_json.unlink(missing_ok=True)
+    tally = BatchTally()
+    for record in done:
+        tally.add(record["within_tolerance"], _record_parts(record))
+    done_serials = {record["serial"] for record in done}
+    errors = [row for row in rows if isinstance(row, RowError)]
+    todo = [row for row in rows if isinstance(row, RotorReading) and row.serial not in done_serials]
+    already = sum(1 for row in rows if isinstance(row, RotorReading)
+                  and row.serial in done_serials)
+    n_planes = len(template.planes)
+    with paths.errors_csv.open("w", encoding="utf-8", newline="") as error_file:
+        writer = csv.writer(error_file, lineterminator="\n")
+        writer.writerow(["line", "serial", "message"])
+        for row in errors:
+            writer.writerow([row.line, row.serial or "", row.message])
+    mode = "a" if done else "w"
+    with paths.results_jsonl.open(mode, encoding="utf-8", newline="\n") as jsonl, \
+            paths.results_csv.open("w", encoding="utf-8", newline="") as results_csv:
+        writer = csv.writer(results_csv, lineterminator="\n")
+        writer.writerow(csv_header(n_planes))
+        for record in done:
+            writer.writerow(csv_row(record))
+        results_csv.flush()
+        for count, outcome in enumerate(solve_readings(template, todo, jobs, time_limit_s,
+                                                       start_method=start_method), start=1):
+            record = outcome_record(outcome, digest)
+            _write_line(jsonl, json.dumps(record, ensure_ascii=False) + "\n")
+            writer.writerow(csv_row(record))
+            results_csv.flush()
+            tally.add_outcome(outcome)
+            if progress is not None:
+                progress(count, len(todo))
+    summary = tally.summary(rows_read=len(rows), already_done=already, errors=len(errors),
+                            elapsed_s=time.perf_counter() - started, jobs=jobs)
+    document = {"template": str(template_path), "template_digest": digest,
+                "readings": str(readings_path), **asdict(summary),
+                "solved_now": len(todo),
+                "outputs": {k: str(v) for k, v in asdict(paths).items()}}
+    paths.summary_json.write_text(json.dumps(document, indent=2, ensure_ascii=False) + "\n",
+                                  encoding="utf-8")
+    return summary, paths
+
+
+# ------------------------------------------------------------- terminal output
+def summary_line(summary: BatchSummary, paths: BatchPaths) -> str:
+    """The summary as one line."""
+    share = "-" if summary.share_within is None else f"{summary.share_within:.1%}"
+    parts = ", ".join(f"{p.item}×{p.count}" for p in summary.parts_used) or "none"
+    return (f"placer batch: {summary.rows_read} rows, {summary.solved} solved "
+            f"({summary.already_done} already done), {summary.errors} errors, "
+            f"{share} within tolerance ({summary.outside} outside); parts used: {parts}; "
+            f"{summary.elapsed_s:.1f} s; results in {paths.results_csv}")
+
+
+def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> None:
+    """Print the summary: a table on a terminal, one line otherwise."""
+    if not stream.isatty():
+        print(summary_line(summary, paths), file=stream)
+        return
+    from rich.console import Console
+    from rich.table import Table as RichTable
+
+    console = Console(file=stream, highlight=False)
+    share = "-" if summary.share_within is None else f"{summary.share_within:.1%}"
+    lines = [("rows read", str(summary.rows_read)),
+             ("solved", f"{summary.solved} ({summary.already_done} already done)"),
+             ("errors", f"{summary.errors} (see {paths.errors_csv})" if summary.errors else "0"),
+             ("within tolerance", f"{share} ({summary.within} in, {summary.outside} outside, "
+                                  f"{summary.no_tolerance} without a tolerance)"),
+             ("time", f"{summary.elapsed_s:.1f} s with {summary.jobs} process(es)"),
+             ("results", f"{paths.results_csv}, {paths.results_jsonl}")]
+    for label, value in lines:
+        console.print(f"{label:>17}: {value}")
+    table = RichTable(title="Parts used (to reorder)", title_justify="left")
+    for column in ("Catalogue", "Item", "Count"):
+        table.add_column(column, justify="right" if column == "Count" else "left")
+    for part in summary.parts_used:
+        table.add_row(part.catalog, part.item, str(part.count))
+    console.print(table)
+
+
+@contextmanager
+def progress_display(stream: TextIO | None = None) -> Iterator[ProgressCallback]:
+    """A progress callback: a rich bar with rate and time left on a terminal, plain lines otherwise."""
+    stream = sys.stderr if stream is None else stream
+    started = time.perf_counter()
+    if stream.isatty():
+        from rich.console import Console
+        from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn,
+                                   TimeRemainingColumn)
+
+        bar = Progress(TextColumn("rotors"), BarColumn(), MofNCompleteColumn(),
+                       TextColumn("{task.fields[rate]} rotors/s"), TimeRemainingColumn(),
+                       console=Console(file=stream), transient=False)
+        task = bar.add_task("batch", total=None, rate="-")
+        state = {"last": 0.0}
+
+        def update(done: int, total: int) -> None:
+            now = time.perf_counter()
+            if now - state["last"] < 0.1 and done < total:
+                return
+            state["last"] = now
+            rate = done / max(now - started, 1e-9)
+            bar.update(task, completed=done, total=total, rate=f"{rate:.0f}")
+
+        with bar:
+            yield update
+        return
+    state = {"last": started}
+
+    def plain(done: int, total: int) -> None:
+        now = time.perf_counter()
+        if now - state["last"] < PLAIN_PROGRESS_EVERY_S:
+            return
+        state["last"] = now
+        rate = done / max(now - started, 1e-9)
+        left = (total - done) / rate if rate > 0 else float("inf")
+        print(f"placer batch: {done}/{total} rotors, {rate:.0f} rotors/s, about {left:.0f} s "
+              "left", file=stream, flush=True)
+
+    yield plain
