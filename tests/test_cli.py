@@ -54,6 +54,7 @@ EXPECTED_EXIT = {
     "wheel-rim.toml": 0,
     "blade-fan.toml": 0,
     "adhesive-hub.toml": 0,
+    "pump-impeller-rework.toml": 0,
 }
 
 # Defaults of the job-file format (placer.job: DEFAULT_MAX_PARTS, capacity 1,
@@ -108,7 +109,10 @@ def _job_planes(job: Path) -> tuple[dict, list[dict]]:
             "capacity": plane.get("capacity", DEFAULT_CAPACITY),
             "max_parts": plane.get("max_parts", DEFAULT_MAX_PARTS),
             "tolerance_gmm": plane.get("tolerance_gmm"),
-            "items": _catalog_items(plane["catalog"], job.parent),
+            "items": {k: v for name in ([plane["catalog"]] if isinstance(plane["catalog"], str)
+                                        else plane["catalog"])
+                      for k, v in _catalog_items(name, job.parent).items()},
+            "existing": {e["position"]: e.get("count", 1) for e in plane.get("existing", [])},
         })
     return data["rotor"], planes
 
@@ -142,7 +146,8 @@ def _fitted_gmm(parts: list[dict], plane: dict) -> complex:
     total = 0j
     for part in parts:
         j = part["position"] - 1
-        total += part["count"] * part["mass_g"] * plane["radii_mm"][j] * cmath.exp(
+        sign = -1 if part.get("action") == "remove" else 1   # a part taken off
+        total += sign * part["count"] * part["mass_g"] * plane["radii_mm"][j] * cmath.exp(
             1j * math.radians(plane["angles_deg"][j]))
     return total
 
@@ -171,9 +176,14 @@ def _check_plan(plan: dict, plane: dict) -> complex:
         assert item in plane["items"], f"item {item} not in the catalogue"
         assert part["mass_g"] == plane["items"][item]["mass_g"]
         assert part["angle_deg"] == pytest.approx(plane["angles_deg"][pos - 1], abs=ANGLE_DEG)
-        per_position[pos] = per_position.get(pos, 0) + count
+        if part.get("action") == "remove":
+            assert count <= plane["existing"].get(pos, 0), "removes more than is on the rotor"
+        else:
+            per_position[pos] = per_position.get(pos, 0) + count
         per_item[item] = per_item.get(item, 0) + count
-    assert all(c <= plane["capacity"] for c in per_position.values()), per_position
+    for pos, c in per_position.items():
+        # Parts already on a position leave that much less room (placer's rule).
+        assert c + plane["existing"].get(pos, 0) <= plane["capacity"], per_position
     for item, used in per_item.items():
         stock = plane["items"][item].get("stock")
         assert stock is None or used <= stock, f"{used} of {item}, stock {stock}"
