@@ -199,8 +199,11 @@ class PlacementSearch:
         best_norm = float(self._norm(t_real[None, :])[0])
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
         method = "exact"
+        # Nothing can beat an exact zero; stop there (relative to the problem's size, so
+        # that tiny rotors are solved as carefully as large ones).
+        exact_zero = 1e-12 * max(best_norm, float(self.mag.max(initial=0.0)))
         for k in range(1, k_max + 1):
-            if best_norm <= ABS_TOL or self.n == 0:
+            if best_norm <= exact_zero or self.n == 0:
                 entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, True))
                 continue
             found = self._best_with(k, t_real, best_norm)
