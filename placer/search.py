@@ -169,6 +169,7 @@ class PlacementSearch:
         self._pairs: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
         self._tree = None
         self.pair_table_too_large = self.n * (self.n + 1) // 2 > _MAX_PAIRS
+        self._deadline = float("inf")
 
     # ----------------------------------------------------------------- tables
     def _pair_table(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -180,18 +181,31 @@ class PlacementSearch:
             self._pairs = (a, b, self.eff_real[a] + self.eff_real[b])
         return self._pairs
 
-    def _pair_tree(self):
+    def _tail(self) -> tuple[np.ndarray, np.ndarray, object]:
+        """The table that completes a head: every feasible pair, or (past the pair
+        budget) every single placement; its placements, summed effects and k-d tree."""
         if self._tree is None:
             from scipy.spatial import cKDTree
 
-            _, _, sums = self._pair_table()
+            if self.pair_table_too_large:
+                cols, sums = np.arange(self.n)[:, None], self.eff_real
+            else:
+                a, b, sums = self._pair_table()
+                cols = np.stack([a, b], axis=1)
+            self._tail_cols, self._tail_sums = cols, sums
             self._tree = cKDTree(sums, balanced_tree=False, compact_nodes=False, leafsize=16)
-        return self._tree
+        return self._tail_cols, self._tail_sums, self._tree
 
     # ----------------------------------------------------------------- search
-    def front(self, target: np.ndarray, max_parts: int | None = None) -> Front:
-        """Least residual for each part count 0 .. max_parts for this ``target``."""
+    def front(self, target: np.ndarray, max_parts: int | None = None,
+              budget_s: float = 10.0) -> Front:
+        """Least residual for each part count 0 .. max_parts for this ``target``.
+
+        A part count whose search would run past ``budget_s`` seconds (from the
+        start of this call) is declined and left unproven.
+        """
         started = time.perf_counter()
+        self._deadline = started + budget_s
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
         target = np.atleast_1d(np.asarray(target, dtype=complex))
         t_real = _as_real(target[None, :])[0]
@@ -225,23 +239,22 @@ class PlacementSearch:
             values = self._norm(t_real + self.eff_real)
             i = int(np.argmin(values))
             return np.array([i]), float(values[i])
-        if self.pair_table_too_large:
-            return None
-        a, b, sums = self._pair_table()
-        if k == 2:
+        if k == 2 and not self.pair_table_too_large:
+            a, b, sums = self._pair_table()
             if len(a) == 0:
                 return None, np.inf
             values = self._norm(t_real + sums)
             i = int(np.argmin(values))
             return np.array([a[i], b[i]]), float(values[i])
-        heads, head_sums = self._heads(k - 2, k, t_real, bound)
+        width = 1 if self.pair_table_too_large else 2
+        heads, head_sums = self._heads(k - width, k, t_real, bound)
         if heads is None:
             return None
         return self._complete(heads, head_sums, t_real, bound)
 
     def _heads(self, size: int, k: int, t_real: np.ndarray, bound: float):
         """All feasible heads of ``size`` parts that pass the remaining-part bound."""
-        if size == 1:
+        if size == 1 or self.pair_table_too_large:
             rows = np.arange(self.n, dtype=np.int64)[:, None]
             sums = self.eff_real
         else:
@@ -249,7 +262,7 @@ class PlacementSearch:
             rows = np.stack([a, b], axis=1)
         keep = self._head_bound(sums, rows, k, t_real) < bound
         rows, sums = rows[keep], sums[keep]
-        for _ in range(min(size, 2), size):
+        for _ in range(rows.shape[1], size):
             new_rows, new_sums = [], []
             for start in range(0, len(rows), max(1, _CHUNK_ROWS // max(1, self.n))):
                 r = rows[start:start + max(1, _CHUNK_ROWS // max(1, self.n))]
@@ -263,7 +276,7 @@ class PlacementSearch:
                 ok &= self._head_bound(grown_sums, grown, k, t_real) < bound
                 new_rows.append(grown[ok])
                 new_sums.append(grown_sums[ok])
-                if sum(len(x) for x in new_rows) > _MAX_HEAD_ROWS:
+                if sum(len(x) for x in new_rows) > _MAX_HEAD_ROWS or self._late():
                     return None, None
             rows = np.concatenate(new_rows) if new_rows else np.zeros((0, rows.shape[1] + 1), np.int64)
             sums = np.concatenate(new_sums) if new_sums else np.zeros((0, t_real.size))
@@ -271,18 +284,19 @@ class PlacementSearch:
 
     def _complete(self, heads: np.ndarray, head_sums: np.ndarray, t_real: np.ndarray,
                   bound: float):
-        """Complete each head with its best feasible pair; the best below ``bound``."""
-        a, b, sums = self._pair_table()
-        if len(a) == 0 or len(heads) == 0:
+        """Complete each head from the tail table; the best below ``bound``."""
+        cols, sums, tree = self._tail()
+        if len(cols) == 0 or len(heads) == 0:
             return None, np.inf
-        tree = self._pair_tree()
-        k = heads.shape[1] + 2
+        k = heads.shape[1] + cols.shape[1]
         priority = self._head_bound(head_sums, heads, k, t_real)
         order = np.argsort(priority, kind="stable")
         heads, head_sums, priority = heads[order], head_sums[order], priority[order]
         best_row, best_value = None, bound
         start = 0
         while start < len(heads):
+            if self._late():
+                return None
             stop = start + _CHUNK_ROWS
             live = priority[start:stop] < best_value
             h, hs = heads[start:stop][live], head_sums[start:stop][live]
@@ -296,7 +310,7 @@ class PlacementSearch:
                         if row_best is not None and row_best[1] < best_value:
                             best_row, best_value = row_best
                     break
-                n_neigh = min(n_neigh, len(a))
+                n_neigh = min(n_neigh, len(cols))
                 dist, idx = tree.query(-(t_real + hs), k=n_neigh,
                                        distance_upper_bound=best_value * self.widen, workers=-1)
                 dist = dist.reshape(len(h), n_neigh)
@@ -304,7 +318,7 @@ class PlacementSearch:
                 finite = np.isfinite(dist)
                 safe = np.where(finite, idx, 0)
                 combos = np.concatenate([np.repeat(h, n_neigh, axis=0),
-                                         a[safe].reshape(-1, 1), b[safe].reshape(-1, 1)], axis=1)
+                                         cols[safe.ravel()]], axis=1)
                 ok = _feasible(combos, self.pos_of, self.item_of, self.capacity,
                                self.stock).reshape(len(h), n_neigh) & finite
                 if self.norm == "euclidean":
@@ -317,13 +331,12 @@ class PlacementSearch:
                 row_value = value[np.arange(len(h)), choice]
                 j = int(np.argmin(row_value))
                 if row_value[j] < best_value:
-                    pair = idx[j, choice[j]]
-                    best_row = np.concatenate([h[j], [a[pair], b[pair]]])
+                    best_row = np.concatenate([h[j], cols[idx[j, choice[j]]]])
                     best_value = float(row_value[j])
-                # A pair beyond the last neighbour is at least dist_last / widen away
+                # A completion beyond the last neighbour is at least dist_last / widen away
                 # in the chosen norm; rows not settled by that look further.
                 settled = row_value <= dist[:, -1] / self.widen
-                again = finite[:, -1] & ~settled & (n_neigh < len(a))
+                again = finite[:, -1] & ~settled & (n_neigh < len(cols))
                 h, hs = h[again], hs[again]
         if best_row is None:
             return None, np.inf
@@ -331,20 +344,23 @@ class PlacementSearch:
         return best_row, float(self._norm(total[None, :])[0])
 
     def _scan_row(self, row: np.ndarray, residual_head: np.ndarray, bound: float):
-        """Best feasible pair for one head, by a full scan of the pair table."""
-        a, b, sums = self._pair_table()
+        """Best feasible completion for one head, by a full scan of the tail table."""
+        cols, sums, _ = self._tail()
         value = self._norm(residual_head + sums)
         candidates = np.nonzero(value < bound)[0]
         if len(candidates) == 0:
             return None
         candidates = candidates[np.argsort(value[candidates], kind="stable")]
         combos = np.concatenate([np.repeat(row[None, :], len(candidates), axis=0),
-                                 a[candidates, None], b[candidates, None]], axis=1)
+                                 cols[candidates]], axis=1)
         ok = _feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
         if not ok.any():
             return None
         j = candidates[int(np.argmax(ok))]
-        return np.concatenate([row, [a[j], b[j]]]), float(value[j])
+        return np.concatenate([row, cols[j]]), float(value[j])
+
+    def _late(self) -> bool:
+        return time.perf_counter() > self._deadline
 
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
