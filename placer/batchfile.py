@@ -48,7 +48,7 @@ its suffix replaced by ``.results``)
        "within_tolerance": true | false | null, "solved_together": false,
        "planes": [{"plane": 1, "name": ..., "catalog": ..., "parts": "3:M10×2;7:M6×1",
                    "fitted": [{"position": 3, "angle_deg": ..., "item": "M10",
-                               "mass_g": ..., "count": 2}, ...],
+                               "mass_g": ..., "count": 2, "action": "fit"}, ...],
                    "part_count": 3, "residual_gmm": ..., "residual_angle_deg": ...,
                    "tolerance_gmm": ... | null, "within_tolerance": ... | null}, ...]}
 
@@ -56,11 +56,14 @@ its suffix replaced by ``.results``)
   ``<plane>_residual_gmm``, ``<plane>_within_tolerance``, then
   ``within_tolerance`` (all planes); flags are ``true`` / ``false``, empty
   where no tolerance is given; ``parts`` is ``position:item×count`` joined
-  by ``;`` (empty for no parts).  Rewritten from ``PREFIX.jsonl`` when a
+  by ``;`` (empty for no parts; a negative count for parts the plan takes
+  off, action "remove").  Rewritten from ``PREFIX.jsonl`` when a
   batch is resumed, so the two always hold the same rotors.
 * ``PREFIX.errors.csv``: ``line,serial,message`` for each bad row.
-* ``PREFIX.summary.json``: the :class:`placer.batch.BatchSummary` fields,
-  written at the end.
+* ``PREFIX.summary.json``: the :class:`placer.batch.BatchSummary` fields
+  (rows_read, solved, already_done, errors, within, outside, no_tolerance,
+  share_within, parts_used, elapsed_s, jobs) plus template, template_digest,
+  readings, solved_now and outputs, written at the end.
 
 Results come in input order.  Existing outputs are never overwritten
 without ``resume`` (keep the rotors of ``PREFIX.jsonl``, drop a partial
@@ -73,6 +76,7 @@ from __future__ import annotations
 
 import csv
 import hashlib
+import io
 import json
 import math
 import re
@@ -158,7 +162,9 @@ def read_template(path: Path) -> Job:
     root.allow_only(("rotor", "planes"))
     rotor = _rotor(root.sub("rotor", required=True))
     catalogs: dict = {}
-    plane_jobs = [_plane(table, path.parent, catalogs)
+    # The steps of placer.jobfile.read_job, on the table with placeholders
+    # (tests/test_batch.py checks that both give the same job).
+    plane_jobs = [_plane(table, path.parent, catalogs, rotor.correction_basis)
                   for table in root.tables("planes", required=True)]
     if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(plane_jobs):
         raise JobError(f"gives {len(rotor.com_distances_mm)} distances for {len(plane_jobs)} "
@@ -261,7 +267,7 @@ def _csv_header(names: list[str], file: str, template: Job) -> tuple[int, list[_
 
 def _csv_rows(text: str, path: Path, template: Job) -> Iterator[RotorReading | RowError]:
     file = str(path)
-    reader = csv.reader(text.splitlines(keepends=True))
+    reader = csv.reader(io.StringIO(text, newline=""))
     try:
         header = next(reader)
     except StopIteration:
@@ -354,7 +360,7 @@ def _vector(raw_magnitude: Any, raw_angle: Any, columns: _PlaneColumns, magnitud
 
 def _jsonl_rows(text: str, template: Job) -> Iterator[RotorReading | RowError]:
     n_planes = len(template.planes)
-    for line_number, line in enumerate(text.splitlines(), start=1):
+    for line_number, line in enumerate(text.split("\n"), start=1):
         if not line.strip():
             continue
         try:
@@ -423,8 +429,12 @@ def _mark_repeats(rows: list[RotorReading | RowError]) -> list[RotorReading | Ro
 
 # ---------------------------------------------------------------------- results
 def parts_text(fitted: list[dict]) -> str:
-    """``position:item×count`` joined by ``;`` (empty for no parts)."""
-    return ";".join(f"{p['position']}:{p['item']}×{p['count']}" for p in fitted)
+    """``position:item×count`` joined by ``;`` (empty for no parts); count < 0 to take off."""
+    return ";".join(f"{p['position']}:{p['item']}×{_signed(p)}" for p in fitted)
+
+
+def _signed(part: dict) -> int:
+    return part["count"] if part.get("action", "fit") == "fit" else -part["count"]
 
 
 def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
@@ -432,7 +442,8 @@ def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
     planes = []
     for p in outcome.planes:
         fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
-                   "mass_g": f.mass_g, "count": f.count} for f in p.option.parts]
+                   "mass_g": f.mass_g, "count": f.count,
+                   "action": getattr(f, "action", "fit")} for f in p.option.parts]
         planes.append({"plane": p.plane, "name": p.name, "catalog": p.catalog,
                        "parts": parts_text(fitted), "fitted": fitted,
                        "part_count": p.option.used_parts, "residual_gmm": p.option.residual_gmm,
@@ -505,7 +516,8 @@ def read_done(path: Path, digest: str) -> list[dict[str, Any]]:
 
 def _record_parts(record: dict[str, Any]) -> list[tuple[str, str, int]]:
     return [(plane["catalog"], part["item"], part["count"])
-            for plane in record["planes"] for part in plane["fitted"]]
+            for plane in record["planes"] for part in plane["fitted"]
+            if part.get("action", "fit") == "fit"]
 
 
 def _write_line(handle: TextIO, text: str) -> None:
@@ -575,12 +587,13 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
     done = read_done(paths.results_jsonl, digest) if resume and paths.results_jsonl.exists() \
         else []
     paths.summary_json.unlink(missing_ok=True)
-    tally = BatchTally()
+    tally = BatchTally(template)
     for record in done:
         tally.add(record["within_tolerance"], _record_parts(record))
     done_serials = {record["serial"] for record in done}
     errors = [row for row in rows if isinstance(row, RowError)]
-    todo = [row for row in rows if isinstance(row, RotorReading) and row.serial not in done_serials]
+    todo = [row for row in rows
+            if isinstance(row, RotorReading) and row.serial not in done_serials]
     already = sum(1 for row in rows if isinstance(row, RotorReading)
                   and row.serial in done_serials)
     n_planes = len(template.planes)
@@ -657,7 +670,7 @@ def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> 
 
 @contextmanager
 def progress_display(stream: TextIO | None = None) -> Iterator[ProgressCallback]:
-    """A progress callback: a rich bar with rate and time left on a terminal, plain lines otherwise."""
+    """A progress callback: a rich bar with rate and time left on a terminal, else plain lines."""
     stream = sys.stderr if stream is None else stream
     started = time.perf_counter()
     if stream.isatty():

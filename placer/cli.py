@@ -57,6 +57,12 @@ def _parser() -> argparse.ArgumentParser:
                        help="Monte Carlo draws per plan for that chance (default 4000)")
     solve.add_argument("--seed", type=int, default=2026, metavar="S",
                        help="seed of the Monte Carlo draws, so runs repeat (default 2026)")
+    solve.add_argument("--sheet", metavar="FILE",
+                       help="also write a printable fitting sheet: .pdf (a page per plane), "
+                            ".png or .svg (NAME-1.png... per plane when there are several); "
+                            "needs matplotlib")
+    solve.add_argument("--force", action="store_true",
+                       help="let --sheet overwrite files that exist")
 
     cats = sub.add_parser("catalogs", help="list the bundled catalogues, or show one",
                           description="Without NAME, list the bundled catalogues; with NAME "
@@ -116,6 +122,30 @@ def _parser() -> argparse.ArgumentParser:
     trial.add_argument("--rpm", required=True, type=float, help="speed of the trial run [r/min]")
     trial.add_argument("--radius-mm", required=True, type=float,
                        help="radius the trial weight goes on [mm]")
+
+    batch = sub.add_parser("batch", help="plan rotor after rotor of one type from a readings file",
+                           description="Solve every rotor of a readings file (CSV or JSON lines: "
+                                       "serial and each plane's correction) against a template "
+                                       "job file; results are written as they are found to "
+                                       "PREFIX.csv and PREFIX.jsonl, bad rows to "
+                                       "PREFIX.errors.csv, the summary to PREFIX.summary.json.",
+                           epilog="Exit codes: 0 every rotor solved and within tolerance, 1 a "
+                                  "rotor outside tolerance or a bad row, 2 bad template or "
+                                  "readings file, or outputs that exist.")
+    batch.add_argument("template", metavar="TEMPLATE",
+                       help="job file (TOML) of the rotor type; planes need no correction")
+    batch.add_argument("readings", metavar="READINGS", help="readings file, .csv or .jsonl")
+    batch.add_argument("--out", metavar="PREFIX",
+                       help="output prefix (default: READINGS with its suffix replaced by "
+                            "'.results')")
+    batch.add_argument("--jobs", type=int, default=None, metavar="N",
+                       help="worker processes (default: one per core)")
+    again = batch.add_mutually_exclusive_group()
+    again.add_argument("--resume", action="store_true",
+                       help="keep the rotors already in PREFIX.jsonl and solve the rest")
+    again.add_argument("--force", action="store_true", help="overwrite existing outputs")
+    batch.add_argument("--time-limit", type=float, default=10.0, metavar="SECONDS",
+                       help="most time the CP-SAT model may take for one decision (default 10)")
     return parser
 
 
@@ -144,6 +174,11 @@ def _solve(args: argparse.Namespace) -> int:
     from placer.solve import FittingErrors
 
     job = read_job(Path(args.job))
+    if args.sheet is not None:
+        from placer.sheet import require_matplotlib, sheet_paths
+
+        require_matplotlib()
+        sheet_paths(Path(args.sheet), len(job.planes), force=args.force)
     errors = FittingErrors(samples=args.samples, seed=args.seed, min_chance=args.min_chance)
     result = solve_job(job, time_limit_s=args.time_limit, errors=errors)
     if args.json:
@@ -154,6 +189,12 @@ def _solve(args: argparse.Namespace) -> int:
         from placer.report import render_job
 
         render_job(result, _console(args.width))
+    if args.sheet is not None:
+        from placer.sheet import write_sheet
+
+        pages = write_sheet(result, Path(args.sheet), force=args.force)
+        files = ", ".join(dict.fromkeys(str(page.path) for page in pages))
+        print(f"placer: sheet written to {files}", file=sys.stderr)
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
 
@@ -347,6 +388,23 @@ def _trial(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _batch(args: argparse.Namespace) -> int:
+    import math
+
+    from placer.batchfile import progress_display, render_summary, run_batch
+
+    if not math.isfinite(args.time_limit) or args.time_limit <= 0:
+        raise InputError(f"is {args.time_limit:g}", key="--time-limit",
+                         expected="a number of seconds above zero")
+    with progress_display(sys.stderr) as progress:
+        summary, paths = run_batch(Path(args.template), Path(args.readings),
+                                   Path(args.out) if args.out else None, jobs=args.jobs,
+                                   resume=args.resume, force=args.force,
+                                   time_limit_s=args.time_limit, progress=progress)
+    render_summary(summary, paths, sys.stdout)
+    return EXIT_OK if summary.all_within else EXIT_OUTSIDE
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run the command line; returns the exit code."""
     parser = _parser()
@@ -358,7 +416,8 @@ def main(argv: list[str] | None = None) -> int:
         parser.print_help()
         return EXIT_BAD_INPUT
     handlers = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance,
-                "field": _field, "machines": _machines, "history": _history, "trial": _trial}
+                "field": _field, "machines": _machines, "history": _history, "trial": _trial,
+                "batch": _batch}
     try:
         return handlers[args.command](args)
     except InputError as exc:

@@ -311,8 +311,10 @@ class PlacementSearch:
                             best_row, best_value = row_best
                     break
                 n_neigh = min(n_neigh, len(cols))
+                # Threads pay off only on large batches of lookups.
                 dist, idx = tree.query(-(t_real + hs), k=n_neigh,
-                                       distance_upper_bound=best_value * self.widen, workers=-1)
+                                       distance_upper_bound=best_value * self.widen,
+                                       workers=-1 if len(h) > 20000 else 1)
                 dist = dist.reshape(len(h), n_neigh)
                 idx = idx.reshape(len(h), n_neigh)
                 finite = np.isfinite(dist)

@@ -1,0 +1,197 @@
+"""Throughput of ``placer batch``: rotors per second per core.
+
+Run from the repository root::
+
+    python benchmarks/bench_batch.py [--rows N] [--scale-rows N] [--seed S] [--quick]
+
+An invented Wrenmoor production line: one fan-hub type, a 12-hole bolt circle
+at 150 mm, the 5 steel washers of the bundled catalogue "washers-steel", up to
+3 washers per bolt, plans of up to 4 parts, one correction plane, grade G6.3
+(8 kg, 1480 r/min).  N seeded rows are written as a readings CSV (magnitudes
+uniform between 0 and 3 times the largest washer's g·mm, angles uniform) and
+the batch is run in this process by ``placer.batchfile.run_batch``, as
+``placer batch`` runs it, with ``jobs=1`` and ``jobs=2``.  The time is the
+whole run: reading the files, starting the workers (each builds its search
+once), solving, writing the results row by row.  Rotors per second per core
+is rows / time / jobs; the aim is at least 500.
+
+Scaling: the same line with 12, 36 and 72 positions and 5 sizes
+("washers-steel") or 12 sizes ("rim-clips-5g", 5 to 60 g), capacity 3, up to
+4 parts, ``jobs=1``: the batch rate, and the time of one front
+(``BatchSolver.solve`` alone, the median) beside the time of the
+first rotor, which pays for building the tables and their k-d trees (both
+over the first 40 rows; "steady /s" is 1000 / median).  "rotors/s" is the
+whole batch of that case, first rotor included.  "per CPU-s" is rows over the CPU time of this
+process and its workers: it is less disturbed than the wall-clock rate by
+other work on the machine, though a busy machine slows that too.
+
+Printing is the point of this script; it is not part of the package.
+Timings depend on the machine and on whatever else runs on it.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import random
+import resource
+import statistics
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+REPO = Path(__file__).resolve().parent.parent
+if str(REPO) not in sys.path:
+    sys.path.insert(0, str(REPO))
+
+import scipy.spatial  # noqa: E402,F401  (imported here so no timing pays for it)
+
+from placer.batch import BatchSolver, RotorReading  # noqa: E402
+from placer.batchfile import read_readings, read_template, run_batch  # noqa: E402
+from placer.catalogfile import read_catalog, resolve_catalog  # noqa: E402
+
+TARGET_PER_CORE = 500.0
+"""Rotors per second per core the batch is meant to reach on the 12-hole line."""
+
+
+def template_text(positions: int, catalog: str) -> str:
+    return f"""[rotor]
+name = "Wrenmoor fan hub FH-{positions}"
+mass_kg = 8.0
+service_rpm = 1480
+grade = "G6.3"
+
+[[planes]]
+name = "bolt circle"
+radius_mm = 150.0
+positions = {positions}
+capacity = 3
+catalog = "{catalog}"
+max_parts = 4
+"""
+
+
+def largest_gmm(catalog: str) -> float:
+    items = read_catalog(resolve_catalog(catalog, REPO, "bench", "catalog")).items
+    return max(item.mass_g for item in items) * 150.0
+
+
+def readings_text(rows: int, seed: int, reach_gmm: float) -> str:
+    rng = random.Random(seed)
+    lines = ["serial,1_gmm,1_angle_deg"]
+    for i in range(rows):
+        lines.append(f"WM-FH-{i:06d},{rng.uniform(0.0, 3.0 * reach_gmm):.2f},"
+                     f"{rng.uniform(0.0, 360.0):.2f}")
+    return "\n".join(lines) + "\n"
+
+
+def _cpu_s() -> float:
+    """CPU time of this process and of its finished children (the workers) [s]."""
+    own = resource.getrusage(resource.RUSAGE_SELF)
+    children = resource.getrusage(resource.RUSAGE_CHILDREN)
+    return own.ru_utime + own.ru_stime + children.ru_utime + children.ru_stime
+
+
+def batch_rate(folder: Path, positions: int, catalog: str, rows: int, seed: int,
+               jobs: int) -> tuple[float, float, float]:
+    """(wall seconds for the whole batch, rotors/s per core, rotors per CPU-second)."""
+    template = folder / f"fh{positions}-{catalog}.toml"
+    template.write_text(template_text(positions, catalog), encoding="utf-8")
+    readings = folder / f"fh{positions}-{catalog}-{rows}.csv"
+    readings.write_text(readings_text(rows, seed, largest_gmm(catalog)), encoding="utf-8")
+    started, cpu = time.perf_counter(), _cpu_s()
+    summary, _ = run_batch(template, readings, prefix=folder / f"out-{positions}-{catalog}-{jobs}",
+                           jobs=jobs, force=True)
+    elapsed, cpu = time.perf_counter() - started, _cpu_s() - cpu
+    assert summary.solved == rows and summary.errors == 0
+    return elapsed, rows / elapsed / jobs, rows / cpu
+
+
+def front_times(folder: Path, positions: int, catalog: str, rows: int,
+                count: int) -> tuple[float, float]:
+    """(first rotor incl. building the tables, median of the next ones) [ms], wall clock."""
+    template = read_template(folder / f"fh{positions}-{catalog}.toml")
+    readings = [r for r in read_readings(folder / f"fh{positions}-{catalog}-{rows}.csv", template)
+                if isinstance(r, RotorReading)][:count]
+    solver = BatchSolver(template)
+    times = []
+    for reading in readings:
+        started = time.perf_counter()
+        solver.solve(reading)
+        times.append(time.perf_counter() - started)
+    return times[0] * 1e3, statistics.median(times[1:]) * 1e3
+
+
+def _burn(count: int) -> int:
+    total = 0
+    for i in range(count):
+        total += i * i
+    return total
+
+
+def machine_scaling(count: int = 5_000_000) -> float:
+    """How much faster two processes do two equal pure-Python loops than one does one.
+
+    2.0 on two free cores; less where the cores are shared.  Tells how far the
+    jobs-2 figure can go on this machine.
+    """
+    import multiprocessing
+
+    started = time.perf_counter()
+    _burn(count)
+    one = time.perf_counter() - started
+    with multiprocessing.Pool(2) as pool:
+        started = time.perf_counter()
+        pool.map(_burn, [count, count])
+        two = time.perf_counter() - started
+    return 2.0 * one / two
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--rows", type=int, default=None,
+                        help="rows of the 12-hole line (default 20000; 3000 with --quick)")
+    parser.add_argument("--scale-rows", type=int, default=None,
+                        help="rows per scaling case (default 200; 60 with --quick)")
+    parser.add_argument("--seed", type=int, default=2026, help="seed of the rows")
+    parser.add_argument("--quick", action="store_true", help="fewer rows")
+    args = parser.parse_args(argv)
+    rows = args.rows or (3000 if args.quick else 20000)
+    scale_rows = args.scale_rows or (60 if args.quick else 200)
+    print("$ python benchmarks/bench_batch.py " + " ".join(argv if argv is not None
+                                                           else sys.argv[1:]))
+    print(f"cores: os.cpu_count() = {os.cpu_count()}; "
+          f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
+    print(f"machine: two processes do {machine_scaling():.2f} times the work of one "
+          "(pure-Python loop; 2.00 on two free cores)")
+    with tempfile.TemporaryDirectory() as name:
+        folder = Path(name)
+        print(f"\n12-hole bolt circle, 5 washer sizes, capacity 3, up to 4 parts, {rows} rows, "
+              f"seed {args.seed}")
+        print(f"{'jobs':>4} {'wall s':>8} {'rotors/s':>9} {'per core':>9} {'per CPU-s':>10}"
+              f"  aim >= {TARGET_PER_CORE:.0f}/s per core (wall clock)")
+        for jobs in (1, 2):
+            elapsed, per_core, per_cpu = batch_rate(folder, 12, "washers-steel", rows,
+                                                    args.seed, jobs)
+            verdict = "pass" if per_core >= TARGET_PER_CORE else "FAIL"
+            print(f"{jobs:>4} {elapsed:>8.2f} {rows / elapsed:>9.0f} {per_core:>9.0f} "
+                  f"{per_cpu:>10.0f}  {verdict}")
+        print(f"\nScaling, jobs 1, capacity 3, up to 4 parts, {scale_rows} rows per case")
+        print(f"{'positions':>9} {'sizes':>5} {'placements':>10} {'first ms':>9} "
+              f"{'median ms':>9} {'steady /s':>9} {'rotors/s':>9} {'per CPU-s':>10}")
+        for catalog, sizes in (("washers-steel", 5), ("rim-clips-5g", 12)):
+            for positions in (12, 36, 72):
+                _, per_core, per_cpu = batch_rate(folder, positions, catalog, scale_rows,
+                                                  args.seed, 1)
+                first_ms, median_ms = front_times(folder, positions, catalog, scale_rows,
+                                                  min(scale_rows, 40))
+                print(f"{positions:>9} {sizes:>5} {positions * sizes:>10} {first_ms:>9.1f} "
+                      f"{median_ms:>9.2f} {1000.0 / median_ms:>9.0f} {per_core:>9.0f} "
+                      f"{per_cpu:>10.0f}")
+    print(f"\nload average after: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
