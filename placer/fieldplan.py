@@ -107,22 +107,33 @@ def field_search(session: Session, matrix: np.ndarray) -> tuple[PlacementSearch,
     return search, positions, items
 
 
+def _predicted(session: Session, parts, matrix: np.ndarray, now: np.ndarray) -> np.ndarray:
+    """Vibration predicted once ``parts`` ((plane, FittedPart) pairs) are fitted: V + A·w."""
+    added = np.zeros(len(session.planes), dtype=complex)
+    for p, part in parts:
+        added[p] += part.count * part.mass_g * part.radius_mm * np.exp(
+            1j * np.radians(part.angle_deg))
+    return now + matrix @ added
+
+
+def _field_option(session: Session, part_count: int, parts, matrix: np.ndarray,
+                  now: np.ndarray, proven: bool) -> FieldOption:
+    predicted = _predicted(session, parts, matrix, now)
+    weights = np.array([c.weight for c in session.channels])
+    return FieldOption(part_count, tuple(parts), predicted,
+                       objective_of(predicted, weights, session.norm), proven)
+
+
 def _option(session, selection: Selection, positions, items, matrix, now) -> FieldOption:
     parts = []
-    added = np.zeros(len(session.planes), dtype=complex)
     for row, col, count in selection.parts:
         p, j = positions[row]
         plane = session.planes[p]
         item = plane.catalog.items[items[col][1]]
-        part = FittedPart(position=j + 1, angle_deg=plane.geometry.angles_deg[j],
-                          radius_mm=plane.geometry.radii_mm[j], item=item.id,
-                          mass_g=item.mass_g, count=count)
-        parts.append((p, part))
-        added[p] += count * item.mass_g * plane.geometry.unit_vectors_mm()[j]
-    predicted = now + matrix @ added
-    weights = np.array([c.weight for c in session.channels])
-    return FieldOption(selection.part_count, tuple(parts), predicted,
-                       objective_of(predicted, weights, session.norm), selection.proven)
+        parts.append((p, FittedPart(position=j + 1, angle_deg=plane.geometry.angles_deg[j],
+                                    radius_mm=plane.geometry.radii_mm[j], item=item.id,
+                                    mass_g=item.mass_g, count=count)))
+    return _field_option(session, selection.part_count, parts, matrix, now, selection.proven)
 
 
 def solve_session(session: Session, stored: np.ndarray | None = None,
@@ -192,11 +203,4 @@ def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
             item = plane.catalog.items[k]
             parts.append((p, FittedPart(j + 1, plane.geometry.angles_deg[j],
                                         plane.geometry.radii_mm[j], item.id, item.mass_g, c)))
-    added = np.zeros(len(session.planes), dtype=complex)
-    for p, part in parts:
-        added[p] += part.count * part.mass_g * session.planes[p].geometry.unit_vectors_mm()[
-            part.position - 1]
-    predicted = now + matrix @ added
-    weights = np.array([c.weight for c in session.channels])
-    return FieldOption(sum(c.count for _, c in parts), tuple(parts), predicted,
-                       objective_of(predicted, weights, session.norm), True)
+    return _field_option(session, sum(c.count for _, c in parts), parts, matrix, now, True)
