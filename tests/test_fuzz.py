@@ -143,3 +143,15 @@ def test_corpus_of_inputs_that_once_broke_placer(tmp_path, capsys, path):
     code, err = run_cli(capsys, [command, str(target), "--json", *extra])
     check_outcome(code, err, target)
     assert time.perf_counter() - started < 30, "no hang"
+
+
+@FUZZ
+@given(st.data())
+def test_fuzzed_batch_readings(tmp_path, capsys, data):
+    text = mutate((ROOT / "examples" / "fan-line-readings.csv").read_text(), data)
+    readings = tmp_path / "rows.csv"
+    readings.write_text(text)
+    code, err = run_cli(capsys, ["batch", str(ROOT / "examples" / "fan-line-template.toml"),
+                                 str(readings), "--out", str(tmp_path / "out"), "--force",
+                                 "--jobs", "1"])
+    save_if_failing(text, "batch-rows.csv", lambda: check_outcome(code, err, readings))
