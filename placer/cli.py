@@ -23,7 +23,8 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports a usage mistake in one line and exits with 2."""
 
     def error(self, message: str) -> None:  # noqa: D102 - argparse hook
-        self.exit(EXIT_BAD_INPUT, f"placer: error: {self.prog}: {message} "
+        where = "" if self.prog == "placer" else f"{self.prog.removeprefix('placer ')}: "
+        self.exit(EXIT_BAD_INPUT, f"placer: error: {where}{message} "
                                   f"(expected the arguments of '{self.prog} --help')\n")
 
 

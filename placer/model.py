@@ -32,8 +32,20 @@ import numpy as np
 
 from placer.search import PartList
 
-_SCALE_UNITS = 20000.0
-"""Integer units the largest effect or target is scaled to."""
+_SCALE_UNITS = 1.0e6
+"""Integer units the largest effect or target is scaled to (at most; see `_scale_units`)."""
+_INT_LIMIT = 2 ** 60
+"""Largest integer a variable of the model may need to hold (CP-SAT works in int64)."""
+
+
+def _scale_units(max_parts: int, n_components: int) -> float:
+    """Units for the largest effect, as fine as the squared residual's range allows.
+
+    A scaled component lies within ``units * (1 + max_parts)``; the sum of the
+    squares of ``n_components`` of them must stay below ``_INT_LIMIT``.
+    """
+    room = math.sqrt(_INT_LIMIT / max(1, n_components)) / (1 + max_parts) - 2
+    return max(1.0, min(_SCALE_UNITS, room))
 
 
 @dataclass(frozen=True)
@@ -78,7 +90,8 @@ class _Built:
             n_pos, n_items, n_ch = plane.effects.shape
             ref = max(float(np.abs(plane.target).max(initial=0.0)),
                       float(np.abs(plane.effects).max(initial=0.0)), 1e-12)
-            scale = _SCALE_UNITS / ref
+            units = _scale_units(plane.max_parts, 2 * n_ch)
+            scale = units / ref
             self.scales.append(scale)
             xs = {}
             for j in range(n_pos):
@@ -102,7 +115,7 @@ class _Built:
             self.model.Add(count <= plane.max_parts)
             self.counts.append(count)
             total_sq = []
-            bound = int(_SCALE_UNITS * (1 + plane.max_parts)) + 2
+            bound = int(units * (1 + plane.max_parts)) + 2
             for c in range(n_ch):
                 for part in (np.real, np.imag):
                     expr = int(round(float(part(plane.target[c])) * scale))

@@ -57,12 +57,12 @@ def _parts_table(result: PlaneResult) -> Table:
     table.add_column("Angle °", justify="right")
     table.add_column("Item")
     table.add_column("Count", justify="right")
-    table.add_column("Mass g", justify="right")
-    table.add_column("g·mm", justify="right")
+    table.add_column("Each g", justify="right")
+    table.add_column("Total g·mm", justify="right")
     for p in result.chosen.parts:
         table.add_row("REMOVE" if p.action == "remove" else "fit", str(p.position),
                       f"{p.angle_deg:.1f}", p.item, str(p.count),
-                      f"{p.mass_g * p.count:g}", f"{p.mass_g * p.count * p.radius_mm:.0f}")
+                      f"{p.mass_g:g}", f"{p.mass_g * p.count * p.radius_mm:.0f}")
     return table
 
 
@@ -75,6 +75,9 @@ def _front_table(result: PlaneResult) -> Table:
     table.add_column("Verdict")
     rows = [result.chosen] if result.chosen.used_parts == 0 else []
     rows += list(result.front)
+    if result.chosen.used_parts and all(o.parts != result.chosen.parts for o in rows):
+        rows.append(result.chosen)     # chosen with other planes under shared stock
+        rows.sort(key=lambda o: (o.used_parts, o.residual_gmm))
     robust = any(o.chance_within is not None for o in rows)
     if robust:
         table.add_column("Chance", justify="right")
@@ -102,7 +105,7 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
     geometry = plane.geometry
     info = Text()
     radii = sorted(set(geometry.radii_mm))
-    radius = f"r {radii[0]:g} mm" if len(radii) == 1 else f"r {radii[0]:g}-{radii[-1]:g} mm"
+    radius = f"r {radii[0]:g} mm" if len(radii) == 1 else f"r {radii[0]:g} to {radii[-1]:g} mm"
     blocked = (", blocked " + ", ".join(str(b) for b in sorted(geometry.blocked))
                if geometry.blocked else "")
     info.append(f"{geometry.n_positions} positions, {radius}{blocked}; up to "
@@ -116,8 +119,11 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
                  else "for the rotor without them")
         info.append(f"Already on the rotor: {on}; the correction is {basis}.\n")
     if not result.chosen.parts:
-        info.append("Fit: nothing - the plane is already as good as the parts allow.\n",
-                    style="bold")
+        if result.within_tolerance:
+            info.append("Fit: nothing - the plane is already within tolerance.\n", style="bold")
+        else:
+            info.append("Fit: nothing - no combination of the parts allowed improves on the "
+                        "rotor as it is.\n", style="bold")
     body = [info]
     if result.chosen.parts:
         body.append(Text("Do in this order (parts to remove first):", style="bold")
@@ -131,6 +137,8 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
         res.append(f"Tolerance {result.tolerance_gmm:.2f} g·mm - {result.tolerance_source}")
         if share is not None and plane.tolerance_gmm is None:
             res.append(f" [{share.name}]")
+        elif share is not None:
+            res.append(f" (the grade's share would be {share.permissible_gmm:.2f} g·mm)")
         res.append("\n")
     res.append_text(_verdict(result.within_tolerance))
     if not result.optimal:
@@ -153,8 +161,15 @@ def render_job(result: JobResult, console: Console) -> None:
         console.print(_plane_panel(i, plane, share))
     for note in result.notes:
         console.print(Text(f"Note: {note}", style="bold yellow"))
-    summary = "All planes within tolerance." if result.all_within else \
-        "At least one plane is OUTSIDE tolerance: see the notes above before running the machine."
+    if all(p.within_tolerance is None for p in result.planes):
+        summary = "No tolerance given: residuals only, nothing checked against a grade."
+    elif result.all_within:
+        summary = "All planes within tolerance." if all(
+            p.within_tolerance for p in result.planes) else \
+            "Every plane with a tolerance is within it."
+    else:
+        summary = ("At least one plane is OUTSIDE tolerance: see the notes above before "
+                   "running the machine.")
     console.print(Text(summary, style="bold"))
     console.print(Panel("\n".join(f"- {c}" for c in CAUTIONS), title="Cautions",
                         title_align="left", box=box.SQUARE))
@@ -169,7 +184,7 @@ def render_catalog_list(names: list[str], catalogs: list[Catalog], console: Cons
     table.add_column("Masses g")
     for name, catalog in zip(names, catalogs):
         masses = [i.mass_g for i in catalog.items]
-        table.add_row(name, catalog.name, str(len(masses)), f"{min(masses):g}-{max(masses):g}")
+        table.add_row(name, catalog.name, str(len(masses)), f"{min(masses):g} to {max(masses):g}")
     console.print(table)
     console.print("Show one with: placer catalogs NAME")
 

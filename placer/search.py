@@ -62,6 +62,10 @@ _NEIGHBOURS_SECOND = 32
 _CHUNK_ROWS = 65536
 _MAX_PAIRS = 4_000_000
 _MAX_HEAD_ROWS = 6_000_000
+_DENSE_LIMIT = 4_000_000
+"""Heads x tail rows up to which heads are completed by a dense scan, not a k-d tree."""
+_DENSE_CHUNK = 262_144
+"""Head x tail combinations scored at once in the dense scan."""
 
 
 @dataclass(frozen=True)
@@ -181,19 +185,22 @@ class PlacementSearch:
             self._pairs = (a, b, self.eff_real[a] + self.eff_real[b])
         return self._pairs
 
-    def _tail(self) -> tuple[np.ndarray, np.ndarray, object]:
+    def _tail_table(self) -> tuple[np.ndarray, np.ndarray]:
         """The table that completes a head: every feasible pair, or (past the pair
-        budget) every single placement; its placements, summed effects and k-d tree."""
+        budget) every single placement; its placements and summed effects."""
+        if self.pair_table_too_large:
+            return np.arange(self.n)[:, None], self.eff_real
+        a, b, sums = self._pair_table()
+        return np.stack([a, b], axis=1), sums
+
+    def _tail(self) -> tuple[np.ndarray, np.ndarray, object]:
+        """The tail table (see `_tail_table`) and its k-d tree."""
         if self._tree is None:
             from scipy.spatial import cKDTree
 
-            if self.pair_table_too_large:
-                cols, sums = np.arange(self.n)[:, None], self.eff_real
-            else:
-                a, b, sums = self._pair_table()
-                cols = np.stack([a, b], axis=1)
-            self._tail_cols, self._tail_sums = cols, sums
-            self._tree = cKDTree(sums, balanced_tree=False, compact_nodes=False, leafsize=16)
+            self._tail_cols, self._tail_sums = self._tail_table()
+            self._tree = cKDTree(self._tail_sums, balanced_tree=False, compact_nodes=False,
+                                 leafsize=16)
         return self._tail_cols, self._tail_sums, self._tree
 
     # ----------------------------------------------------------------- search
@@ -285,13 +292,16 @@ class PlacementSearch:
     def _complete(self, heads: np.ndarray, head_sums: np.ndarray, t_real: np.ndarray,
                   bound: float):
         """Complete each head from the tail table; the best below ``bound``."""
-        cols, sums, tree = self._tail()
+        cols, sums = self._tail_table()
         if len(cols) == 0 or len(heads) == 0:
             return None, np.inf
         k = heads.shape[1] + cols.shape[1]
         priority = self._head_bound(head_sums, heads, k, t_real)
         order = np.argsort(priority, kind="stable")
         heads, head_sums, priority = heads[order], head_sums[order], priority[order]
+        if len(heads) * len(cols) <= _DENSE_LIMIT:
+            return self._complete_dense(heads, head_sums, priority, t_real, bound)
+        cols, sums, tree = self._tail()
         best_row, best_value = None, bound
         start = 0
         while start < len(heads):
@@ -345,9 +355,49 @@ class PlacementSearch:
         total = t_real + self.eff_real[best_row].sum(axis=0)
         return best_row, float(self._norm(total[None, :])[0])
 
+    def _complete_dense(self, heads: np.ndarray, head_sums: np.ndarray, priority: np.ndarray,
+                        t_real: np.ndarray, bound: float):
+        """`_complete` for small tables: every head against every tail row, no k-d tree.
+
+        Heads come sorted by their bound; a chunk whose first bound is not
+        below the incumbent ends the scan.  Within a chunk the candidates
+        below the incumbent are checked for capacity and stock in order of
+        their residual, so the first feasible one is the chunk's best.
+        """
+        cols, sums = self._tail_table()
+        step = max(1, _DENSE_CHUNK // len(cols))
+        best_row, best_value = None, bound
+        for start in range(0, len(heads), step):
+            if priority[start] >= best_value:
+                break
+            stop = start + step
+            live = priority[start:stop] < best_value
+            h, hs = heads[start:stop][live], head_sums[start:stop][live]
+            total = (t_real + hs)[:, None, :] + sums[None, :, :]
+            values = self._norm(total.reshape(-1, total.shape[2])).reshape(len(h), len(cols))
+            hi, ci = np.nonzero(values < best_value)
+            if len(hi) == 0:
+                continue
+            order = np.argsort(values[hi, ci], kind="stable")
+            begin, size = 0, 64
+            while begin < len(order):
+                batch = order[begin:begin + size]
+                combos = np.concatenate([h[hi[batch]], cols[ci[batch]]], axis=1)
+                ok = _feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
+                if ok.any():
+                    first = batch[int(np.argmax(ok))]
+                    best_row = combos[int(np.argmax(ok))]
+                    best_value = float(values[hi[first], ci[first]])
+                    break
+                begin, size = begin + size, size * 8
+        if best_row is None:
+            return None, np.inf
+        total = t_real + self.eff_real[best_row].sum(axis=0)
+        return best_row, float(self._norm(total[None, :])[0])
+
     def _scan_row(self, row: np.ndarray, residual_head: np.ndarray, bound: float):
         """Best feasible completion for one head, by a full scan of the tail table."""
-        cols, sums, _ = self._tail()
+        cols, sums = self._tail_table()
         value = self._norm(residual_head + sums)
         candidates = np.nonzero(value < bound)[0]
         if len(candidates) == 0:

@@ -5,6 +5,7 @@ Pure: takes a :class:`placer.job.Job`, returns a :class:`JobResult`.
 
 from __future__ import annotations
 
+import itertools
 import time
 from dataclasses import dataclass, replace
 
@@ -64,7 +65,7 @@ class JobResult:
     @property
     def all_within(self) -> bool:
         """False when any plane with a tolerance is outside it."""
-        return all(p.within_tolerance is not False for p in self.planes)
+        return not any(p.within_tolerance is False for p in self.planes)
 
 
 @dataclass(frozen=True)
@@ -137,8 +138,9 @@ def exact_front(arrays: PlaneArrays, max_parts: int,
         if norm >= previous.residual_norm:
             parts, residual, norm = previous.parts, previous.residual, previous.residual_norm
         lower = min(outcome.lower_bounds[0], norm)
-        entries[k] = Selection(k, parts, residual, norm, lower,
-                               outcome.proven or is_proven(norm, lower))
+        # CP-SAT's OPTIMAL is for its scaled integer model; the proof that counts
+        # is its bound on the true residual, rounding taken off.
+        entries[k] = Selection(k, parts, residual, norm, lower, is_proven(norm, lower))
     # At most k parts is never worse than at most k - 1, and is proven only if both are.
     for k in range(1, len(entries)):
         before, entry = entries[k - 1], entries[k]
@@ -159,8 +161,8 @@ def further_correction_gmm(plane: PlaneJob) -> complex:
         return plane.correction_gmm
     unit = plane.geometry.unit_vectors_mm()
     items = plane.catalog.items
-    return plane.correction_gmm - sum(items[o.item].mass_g * o.count * unit[o.position - 1]
-                                      for o in plane.existing)
+    return complex(plane.correction_gmm - sum(items[o.item].mass_g * o.count
+                                              * unit[o.position - 1] for o in plane.existing))
 
 
 def to_option(plane: PlaneJob, entry: Selection) -> PlanOption:
@@ -183,7 +185,7 @@ def to_option(plane: PlaneJob, entry: Selection) -> PlanOption:
     parts = tuple(sorted(parts, key=lambda p: (p.action != "remove", p.position, p.item)))
     vector = residual_vector_gmm(further_correction_gmm(plane), parts)
     return PlanOption(part_count=sum(p.count for p in parts), parts=parts,
-                      residual_gmm=abs(vector),
+                      residual_gmm=float(abs(vector)),
                       residual_angle_deg=angle_of_deg(vector),
                       lower_bound_gmm=entry.lower_bound, proven=entry.proven)
 
@@ -269,10 +271,21 @@ def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, met
     option = to_option(plane, chosen)
     zero = to_option(plane, entries[0])
     front = [to_option(plane, e) for e in improving(entries)]
-    if tolerance is not None and errors is not None:
+    errors = errors or FittingErrors()
+    if tolerance is None and errors.min_chance is not None:
+        notes = list(notes) + ["--min-chance needs a tolerance; this plane has none, so the "
+                               "plan is chosen by residual alone"]
+    rated = tolerance is not None and (errors.min_chance is not None or
+                                       fitting_errors_given(plane, placement_error_deg))
+    if rated:
         rate = lambda o: _with_robustness(plane, o, tolerance, errors,  # noqa: E731
                                           placement_error_deg)
-        zero, option, front = rate(zero), rate(option), [rate(o) for o in front]
+        # Equal residuals: the plan whose parts keep it within tolerance more often.
+        front = [max(map(rate, equal_mass_variants(plane, o)),
+                     key=lambda v: v.chance_within) for o in front]
+        zero = rate(zero)
+        option = next((o for o in [zero] + front if o.parts == option.parts
+                       or _same_places(o, option)), rate(option))
         if errors.min_chance is not None:
             pick = [o for o in [zero] + front if o.chance_within >= errors.min_chance]
             if pick:
@@ -280,19 +293,57 @@ def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, met
                 notes = list(notes) + [f"chosen by the chance of staying within tolerance "
                                        f"(at least {errors.min_chance:.0%})"]
             else:
+                option = max([zero] + front, key=lambda o: (o.chance_within, -o.residual_gmm))
                 notes = list(notes) + [f"no plan reaches a {errors.min_chance:.0%} chance of "
-                                       "staying within tolerance; the least residual is shown"]
-        # Equal residuals: the more robust plan.
-        same = [o for o in front if abs(o.residual_gmm - option.residual_gmm) <= 1e-9
-                and o.used_parts == option.used_parts]
-        if same:
-            option = max([option] + same, key=lambda o: o.chance_within)
-    within = None if tolerance is None else option.residual_gmm <= tolerance
+                                       "staying within tolerance; the plan with the best "
+                                       f"chance ({option.chance_within:.0%}) is shown"]
+    within = None if tolerance is None else bool(option.residual_gmm <= tolerance)
     return PlaneResult(
         plane=plane, tolerance_gmm=tolerance, tolerance_source=source,
         front=tuple(front), chosen=option, within_tolerance=within,
         optimal=all(e.proven for e in entries) if optimal is None else optimal,
         notes=tuple(notes), elapsed_s=elapsed, method=method)
+
+
+def fitting_errors_given(plane: PlaneJob, placement_error_deg: float) -> bool:
+    """True when a part may be fitted off its nominal mass or angle."""
+    return placement_error_deg > 0 or any(item.mass_tolerance_g > 0
+                                          for item in plane.catalog.items)
+
+
+def _same_places(a: PlanOption, b: PlanOption) -> bool:
+    """Same part count on the same positions (items may differ, masses equal)."""
+    key = lambda o: sorted((p.position, p.action, p.mass_g, p.count) for p in o.parts)  # noqa
+    return key(a) == key(b)
+
+
+def equal_mass_variants(plane: PlaneJob, option: PlanOption,
+                        limit: int = 256) -> list[PlanOption]:
+    """``option`` and the plans that differ only in items of the same nominal mass.
+
+    They leave the same residual; their mass tolerances may differ, so the
+    Monte Carlo can tell them apart.  Parts taken off are what is on the
+    rotor and are not swapped.  Stock is respected; at most ``limit`` plans.
+    """
+    items = plane.catalog.items
+    choices = []
+    for part in option.parts:
+        if part.action != "fit":
+            choices.append([part])
+            continue
+        twins = [it for it in items if it.mass_g == part.mass_g]
+        choices.append([replace(part, item=it.id) for it in twins])
+    stock = {it.id: it.stock for it in items}
+    out = []
+    for combo in itertools.islice(itertools.product(*choices), limit):
+        used: dict[str, int] = {}
+        for p in combo:
+            if p.action == "fit":
+                used[p.item] = used.get(p.item, 0) + p.count
+        if all(stock[i] is None or n <= stock[i] for i, n in used.items()):
+            parts = tuple(sorted(combo, key=lambda p: (p.action != "remove", p.position, p.item)))
+            out.append(replace(option, parts=parts))
+    return out or [option]
 
 
 def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArrays],

@@ -15,12 +15,30 @@ REPO_DIR = Path(__file__).resolve().parent.parent
 JOB_TABLES = {"rotor", "planes"}
 
 
-def _is_job_file(path: Path) -> bool:
-    """True for a `placer solve` job (only [rotor] and [[planes]]), not a field session."""
-    return set(tomllib.loads(path.read_text(encoding="utf-8"))) <= JOB_TABLES
+REQUIREMENT_KEYS = ("correction", "unbalance")
 
 
-EXAMPLE_FILES = sorted(p for p in (REPO_DIR / "examples").glob("*.toml") if _is_job_file(p))
+def example_kind(path: Path) -> str:
+    """What a bundled example is: "session" (field readings), "template" or "job".
+
+    A batch template is a job file whose planes carry no correction (each
+    row of the readings file brings them); a `placer solve` job has only
+    [rotor] and [[planes]] and a correction on every plane.
+    """
+    data = tomllib.loads(path.read_text(encoding="utf-8"))
+    if not set(data) <= JOB_TABLES:
+        return "session"
+    if not any(k in plane for plane in data.get("planes", []) for k in REQUIREMENT_KEYS):
+        return "template"
+    return "job"
+
+
+def example_files(kind: str) -> list[Path]:
+    """The bundled examples of one kind (see `example_kind`), sorted by name."""
+    return sorted(p for p in (REPO_DIR / "examples").glob("*.toml") if example_kind(p) == kind)
+
+
+EXAMPLE_FILES = example_files("job")
 
 
 @pytest.fixture

@@ -30,6 +30,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
+from conftest import example_files, example_kind
 from oracle import brute_front
 
 REPO_DIR = Path(__file__).resolve().parent.parent
@@ -38,9 +39,8 @@ EXAMPLE_DIR = REPO_DIR / "examples"
 
 
 def _example_jobs() -> list[Path]:
-    """The examples that are `placer solve` jobs: only [rotor] and [[planes]] tables."""
-    return sorted(p for p in EXAMPLE_DIR.glob("*.toml")
-                  if set(tomllib.loads(p.read_text(encoding="utf-8"))) <= {"rotor", "planes"})
+    """The examples that are `placer solve` jobs (see conftest.example_kind)."""
+    return example_files("job")
 
 
 GMM_ABS = 1e-6      # g*mm: float round-off allowance for residuals near zero
@@ -276,10 +276,16 @@ def _flat(sheet: str) -> str:
 
 def test_every_example_has_an_intended_exit_code():
     assert sorted(EXPECTED_EXIT) == sorted(p.name for p in _example_jobs())
-    # The other examples are field-balancing session files (with readings),
-    # outside these `placer solve` checks.
+    # The other examples are field-balancing session files (with readings) or
+    # batch templates (no correction: each readings row brings it), outside
+    # these `placer solve` checks; every template has its readings file.
     for path in sorted(set(EXAMPLE_DIR.glob("*.toml")) - set(_example_jobs())):
-        assert "readings" in tomllib.loads(path.read_text(encoding="utf-8")), path.name
+        if example_kind(path) == "session":
+            assert "readings" in tomllib.loads(path.read_text(encoding="utf-8")), path.name
+        else:
+            assert example_kind(path) == "template", path.name
+            readings = path.with_name(path.name.replace("-template.toml", "-readings.csv"))
+            assert readings.is_file(), path.name
 
 
 def test_example_json_recomputed(example_job, solve_json):
