@@ -100,6 +100,7 @@ def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog],
 def _existing(t: Table, geometry: PlaneGeometry, catalog: Catalog) -> tuple[ExistingPart, ...]:
     parts = []
     per_position: dict[int, int] = {}
+    holes: set[int] = set()
     for i, value in enumerate(t.array("existing") or [], start=1):
         e = Table(value, t.file, f"{t.key('existing')}[{i}]", t.error)
         e.allow_only(("position", "item", "count"))
@@ -111,7 +112,18 @@ def _existing(t: Table, geometry: PlaneGeometry, catalog: Catalog) -> tuple[Exis
             raise e.fail("item", f"'{item_id}' is not in catalogue '{catalog.name}'",
                          "an item id of the plane's catalogue") from None
         count = e.integer("count", default=1, minimum=1)
-        per_position[position] = per_position.get(position, 0) + count
+        if catalog.items[item].removes:
+            if count != 1 or position in holes:
+                raise e.fail("count", f"more than one hole on position {position}",
+                             "one drilled hole per position")
+            holes.add(position)
+        else:
+            per_position[position] = per_position.get(position, 0) + count
+            if per_position[position] > geometry.capacity:
+                raise e.fail("count", f"{per_position[position]} parts on position {position} "
+                             f"but the plane's capacity is {geometry.capacity}",
+                             f"at most {geometry.capacity} parts per position (or raise "
+                             "capacity)")
         parts.append(ExistingPart(position, item, count))
     return tuple(parts)
 

@@ -21,6 +21,17 @@ CAUTIONS = (
     "Local codes and the machine maker's instructions come first.",
 )
 
+DRILL_CAUTION = (
+    "Drilling: check the wall or boss is thick enough and within the maker's drilling "
+    "limits, drill only with the machine isolated and still, and clear every chip before "
+    "the run.")
+
+
+def _action(part) -> str:
+    if part.action == "remove":
+        return "REMOVE"
+    return "DRILL" if part.mass_g < 0 else "fit"
+
 
 def _verdict(within: bool | None) -> Text:
     if within is None:
@@ -60,7 +71,7 @@ def _parts_table(result: PlaneResult) -> Table:
     table.add_column("Each g", justify="right")
     table.add_column("Total g·mm", justify="right")
     for p in result.chosen.parts:
-        table.add_row("REMOVE" if p.action == "remove" else "fit", str(p.position),
+        table.add_row(_action(p), str(p.position),
                       f"{p.angle_deg:.1f}", p.item, str(p.count),
                       f"{p.mass_g:g}", f"{p.mass_g * p.count * p.radius_mm:.0f}")
     return table
@@ -126,9 +137,14 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
                         "rotor as it is.\n", style="bold")
     body = [info]
     if result.chosen.parts:
-        body.append(Text("Do in this order (parts to remove first):", style="bold")
-                    if any(p.action == "remove" for p in result.chosen.parts)
-                    else Text("Fit these parts:", style="bold"))
+        actions = {_action(p) for p in result.chosen.parts}
+        if actions == {"fit"}:
+            heading = "Fit these parts:"
+        elif "REMOVE" in actions:
+            heading = "Do in this order (parts to remove first):"
+        else:
+            heading = "Do these operations:"
+        body.append(Text(heading, style="bold"))
         body.append(_parts_table(result))
     res = Text()
     res.append(f"Residual {result.chosen.residual_gmm:.2f} g·mm", style="bold")
@@ -171,7 +187,10 @@ def render_job(result: JobResult, console: Console) -> None:
         summary = ("At least one plane is OUTSIDE tolerance: see the notes above before "
                    "running the machine.")
     console.print(Text(summary, style="bold"))
-    console.print(Panel("\n".join(f"- {c}" for c in CAUTIONS), title="Cautions",
+    drills = any(p.mass_g < 0 and p.action == "fit"
+                 for plane in result.planes for p in plane.chosen.parts)
+    cautions = CAUTIONS + ((DRILL_CAUTION,) if drills else ())
+    console.print(Panel("\n".join(f"- {c}" for c in cautions), title="Cautions",
                         title_align="left", box=box.SQUARE))
 
 

@@ -70,44 +70,78 @@ class JobResult:
 
 @dataclass(frozen=True)
 class PlaneArrays:
-    """One plane as arrays for the search and the model."""
+    """One plane as arrays for the search and the model.
+
+    ``row_position[r]`` is the position index (number - 1) that row ``r`` of
+    ``effects`` acts at; ``row_existing[r]`` is the index into the plane's
+    existing parts for a row that takes one off, else -1.
+    """
 
     effects: np.ndarray
     target: np.ndarray
     capacity: np.ndarray
     stock: np.ndarray
+    row_position: np.ndarray | None = None
+    row_existing: np.ndarray | None = None
+
+    def row_of(self, position_index: int, hole: bool) -> int:
+        """The row that fits an added part (or drills a hole) at a position."""
+        if not hole:
+            return position_index
+        rows = np.nonzero((self.row_position == position_index) & (self.row_existing < 0))[0]
+        return int(rows.max())     # rows[0] is the position's own row for added parts
 
 
 def plane_arrays(plane: PlaneJob) -> PlaneArrays:
     """The plane as arrays for the search: residual = target + Σ count·effect [g·mm].
 
-    Rows are the plane's positions, then one row per existing part (taking it
-    off); columns are the catalogue's items, then one per existing part.  A
-    part fitted at position j has effect -mass_g·radius_mm·e^{iθ_j}; removing
-    an existing part gives its correction back, +mass·radius·e^{iθ}.  A
-    position holding existing parts has that much less room for new ones.
+    Rows: the plane's positions for added parts; then, for each position that
+    takes removal and has no hole yet, one row for drilling there (capacity
+    1: one hole per position, whatever the position's capacity for added
+    parts); then one row per existing added part (taking it off).  Columns
+    are the catalogue's items, then one per existing part.  A part fitted at
+    position j has effect -mass_g·radius_mm·e^{iθ_j} (a hole, with negative
+    mass, takes mass away); removing an existing part gives its correction
+    back, +mass·radius·e^{iθ}.  A position holding existing parts has that
+    much less room for new ones.  An existing hole cannot be taken back.
     """
     geometry, items = plane.geometry, plane.catalog.items
     n_pos, n_items, n_old = geometry.n_positions, len(items), len(plane.existing)
     masses = np.array([item.mass_g for item in items], dtype=float)
-    unit = geometry.unit_vectors_mm()
-    effects = np.zeros((n_pos + n_old, n_items + n_old, 1), dtype=complex)
-    effects[:n_pos, :n_items, 0] = -(unit[:, None] * masses[None, :])
     removal = masses < 0
+    unit = geometry.unit_vectors_mm()
+    drilled = {old.position - 1 for old in plane.existing if items[old.item].removes}
+    drill_rows = [j for j in range(n_pos) if removal.any() and j not in drilled
+                  and geometry.takes(j + 1, removal=True)]
+    removable = [e for e, old in enumerate(plane.existing) if not items[old.item].removes]
+    n_rows = n_pos + len(drill_rows) + len(removable)
+    effects = np.zeros((n_rows, n_items + n_old, 1), dtype=complex)
+    effects[:n_pos, :n_items, 0] = -(unit[:, None] * masses[None, :])
+    effects[:n_pos, :n_items][:, removal] = 0
     for j in range(n_pos):
-        if not geometry.takes(j + 1, removal=True):
-            effects[j, :n_items][removal] = 0
         if not geometry.takes(j + 1, removal=False):
-            effects[j, :n_items][~removal] = 0
-    capacity = np.concatenate([geometry.capacities(), np.zeros(n_old, dtype=np.int64)])
-    for e, old in enumerate(plane.existing):
-        vector = items[old.item].mass_g * unit[old.position - 1]
-        effects[n_pos + e, n_items + e, 0] = vector
-        capacity[n_pos + e] = old.count
-        capacity[old.position - 1] = max(0, capacity[old.position - 1] - old.count)
+            effects[j, :n_items] = 0
+    caps = geometry.capacities()
+    capacity = np.concatenate([caps, np.zeros(n_rows - n_pos, dtype=np.int64)])
+    row_position = np.concatenate([np.arange(n_pos), np.array(drill_rows, dtype=np.int64),
+                                   np.array([plane.existing[e].position - 1 for e in removable],
+                                            dtype=np.int64)])
+    row_existing = np.full(n_rows, -1, dtype=np.int64)
+    for r, j in enumerate(drill_rows, start=n_pos):
+        effects[r, :n_items, 0] = np.where(removal, -unit[j] * masses, 0)
+        capacity[r] = 1 if caps[j] > 0 else 0
+    for r, e in enumerate(removable, start=n_pos + len(drill_rows)):
+        old = plane.existing[e]
+        effects[r, n_items + e, 0] = items[old.item].mass_g * unit[old.position - 1]
+        capacity[r] = old.count
+        row_existing[r] = e
+    for old in plane.existing:
+        if not items[old.item].removes:
+            capacity[old.position - 1] = max(0, capacity[old.position - 1] - old.count)
     stock = np.array([plane.max_parts if item.stock is None else item.stock for item in items]
                      + [old.count for old in plane.existing], dtype=np.int64)
-    return PlaneArrays(effects, np.array([further_correction_gmm(plane)]), capacity, stock)
+    return PlaneArrays(effects, np.array([further_correction_gmm(plane)]), capacity, stock,
+                       row_position, row_existing)
 
 
 def exact_front(arrays: PlaneArrays, max_parts: int,
@@ -165,18 +199,21 @@ def further_correction_gmm(plane: PlaneJob) -> complex:
                                               * unit[o.position - 1] for o in plane.existing))
 
 
-def to_option(plane: PlaneJob, entry: Selection) -> PlanOption:
+def to_option(plane: PlaneJob, entry: Selection,
+              rows: PlaneArrays | None = None) -> PlanOption:
     """A search result in domain terms, its residual recomputed from the listed parts.
 
     Parts to remove come first (they are taken off before new ones go on).
     """
     geometry, items = plane.geometry, plane.catalog.items
-    n_pos, n_items = geometry.n_positions, len(items)
+    n_items = len(items)
+    arrays = plane_arrays(plane) if rows is None else rows
     parts = []
-    for j, k, c in entry.parts:
-        if j >= n_pos:
+    for r, k, c in entry.parts:
+        j = int(arrays.row_position[r])
+        if arrays.row_existing[r] >= 0:
             old = plane.existing[k - n_items]
-            j, k, action = old.position - 1, old.item, "remove"
+            k, action = old.item, "remove"
         else:
             action = "fit"
         parts.append(FittedPart(position=j + 1, angle_deg=geometry.angles_deg[j],
@@ -268,9 +305,10 @@ def _with_robustness(plane: PlaneJob, option: PlanOption, tolerance: float,
 def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, method,
                   optimal=None, errors: FittingErrors | None = None,
                   placement_error_deg: float = 0.0) -> PlaneResult:
-    option = to_option(plane, chosen)
-    zero = to_option(plane, entries[0])
-    front = [to_option(plane, e) for e in improving(entries)]
+    rows = plane_arrays(plane)
+    option = to_option(plane, chosen, rows)
+    zero = to_option(plane, entries[0], rows)
+    front = [to_option(plane, e, rows) for e in improving(entries)]
     errors = errors or FittingErrors()
     if tolerance is None and errors.min_chance is not None:
         notes = list(notes) + ["--min-chance needs a tolerance; this plane has none, so the "
@@ -372,7 +410,8 @@ def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArra
         model_planes = []
         for i in members:
             plane, arrays = job.planes[i], arrays_of[i]
-            hint = tuple((p.position - 1, catalog.item_index(p.item), p.count)
+            hint = tuple((arrays.row_of(p.position - 1, p.mass_g < 0),
+                          catalog.item_index(p.item), p.count)
                          for p in results[i].chosen.parts if p.action == "fit")
             model_planes.append(ModelPlane(arrays.effects, arrays.target, arrays.capacity,
                                            arrays.stock, plane.max_parts,
@@ -393,7 +432,7 @@ def _rechosen(result: PlaneResult, arrays: PlaneArrays, parts: PartList,
     residual = residual_of(arrays.target, arrays.effects, parts)
     count = sum(c for _, _, c in parts)
     entry = Selection(count, parts, residual, float(np.linalg.norm(residual)), 0.0, proven)
-    option = to_option(result.plane, entry)
+    option = to_option(result.plane, entry, arrays)
     within = None if result.tolerance_gmm is None else option.residual_gmm <= result.tolerance_gmm
     notes = result.notes + ("plan chosen together with the other planes that share its stock",)
     return replace(result, chosen=option, within_tolerance=within,

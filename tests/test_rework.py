@@ -153,3 +153,120 @@ def test_choose_by_chance_of_staying_within_tolerance(tmp_path):
     # The fewest parts that reach the level: no plan with fewer parts does.
     assert all(o.chance_within < 0.9 for o in picky.front
                if o.used_parts < picky.chosen.used_parts)
+
+
+# --------------------------------------------------------------------------
+# Holes, existing parts past capacity, numpy truth values, chance fallback, ties
+# --------------------------------------------------------------------------
+
+HOLES = """
+name = "test holes"
+[[items]]
+id = "H"
+mass_g = -5.0
+removes = true
+"""
+
+
+def hole_job(tmp_path: Path, plane: str, rotor: str = "") -> Path:
+    (tmp_path / "holes.toml").write_text(HOLES)
+    (tmp_path / "drawer.toml").write_text(DRAWER.format(pct=0.0))
+    path = tmp_path / "job.toml"
+    path.write_text(f'[rotor]\nname = "test"\n{rotor}\n[[planes]]\nname = "p"\n'
+                    'radius_mm = 100.0\npositions = 8\ncapacity = 3\n'
+                    f'catalog = ["drawer.toml", "holes.toml"]\n{plane}\n')
+    return path
+
+
+def test_one_hole_per_position_whatever_the_capacity(tmp_path):
+    # Common practice, no source: a position takes one drilled hole.  A correction
+    # of 3 holes' worth at 180° (i.e. mass to take off at 0°) on a plane that
+    # allows drilling only on position 1 (0°): one hole there, never three.
+    plane = ('remove_only = [1]\naccepts = "add"\nblocked = [2, 3, 4, 5, 6, 7, 8]\n'
+             "correction = { gmm = 1500.0, angle_deg = 180.0 }\nmax_parts = 4")
+    chosen = solve_job(read_job(hole_job(tmp_path, plane))).planes[0].chosen
+    assert [(p.position, p.item, p.count) for p in chosen.parts] == [(1, "H", 1)]
+    # Known by reasoning: 1500 - 500 g·mm left.
+    assert chosen.residual_gmm == pytest.approx(1000.0, abs=1e-9)
+
+
+def test_an_existing_hole_is_never_taken_off_nor_drilled_again(tmp_path):
+    # The hole on position 5 (180°) took mass off at 180°; the correction needs
+    # mass at 0° added back... which the hole cannot give: it is not removable.
+    plane = ('existing = [{ position = 5, item = "H" }]\naccepts = "remove"\n'
+             "correction = { gmm = 500.0, angle_deg = 0.0 }\nmax_parts = 2")
+    result = solve_job(read_job(hole_job(tmp_path, plane))).planes[0]
+    for option in (result.chosen, *result.front):
+        assert all(p.action == "fit" for p in option.parts)
+        assert all(p.position != 5 for p in option.parts)
+
+
+def test_existing_parts_past_the_capacity_are_bad_input(tmp_path, run_cli):
+    plane = ('existing = [{ position = 2, item = "A", count = 4 }]\n'
+             "correction = { gmm = 500.0, angle_deg = 0.0 }")
+    code, out, err = run_cli("solve", hole_job(tmp_path, plane))
+    assert code == 2 and out == ""
+    assert "planes[1].existing[1].count" in err and "capacity is 3" in err
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_total_basis_outside_tolerance_exits_1_and_writes_json(tmp_path, run_cli):
+    # With basis "total" the further correction is computed from numpy arrays; the
+    # verdict must still be a plain bool (exit 1 when outside, JSON serialisable).
+    plane = ('existing = [{ position = 3, item = "A" }]\nblocked = [1, 2, 4, 5, 6, 7, 8]\n'
+             "correction = { gmm = 2000.0, angle_deg = 0.0 }\ntolerance_gmm = 1.0\n"
+             "max_parts = 1")
+    path = job(tmp_path, plane, 'correction_basis = "total"')
+    code, out, err = run_cli("solve", path, "--json")
+    assert code == 1 and err == ""
+    import json
+
+    plane_json = json.loads(out)["planes"][0]
+    assert plane_json["chosen"]["within_tolerance"] is False
+    code, out, _ = run_cli("solve", path)
+    assert code == 1 and "All planes within tolerance" not in out
+
+
+def test_no_fitting_errors_no_monte_carlo(tmp_path):
+    plane = "correction = { gmm = 850.0, angle_deg = 20.0 }\ntolerance_gmm = 80.0"
+    result = solve_job(read_job(job(tmp_path, plane))).planes[0]
+    assert all(o.chance_within is None for o in (result.chosen, *result.front))
+
+
+def test_min_chance_fallback_shows_the_best_chance(tmp_path):
+    # No plan reaches 99.9 %: the plan shown is the one with the best chance.
+    plane = ("correction = { gmm = 850.0, angle_deg = 20.0 }\ntolerance_gmm = 80.0\n"
+             "max_parts = 4\ncapacity = 2")
+    path = job(tmp_path, plane, "placement_error_deg = 8.0", pct=8.0)
+    result = solve_job(read_job(path), errors=FittingErrors(min_chance=0.999)).planes[0]
+    best = max(o.chance_within for o in result.front)
+    assert best < 0.999
+    assert result.chosen.chance_within == best
+    assert any("best chance" in n for n in result.notes)
+
+
+TWINS = """
+name = "twin clips"
+[[items]]
+id = "LOOSE"
+mass_g = 6.0
+mass_tol_pct = 10.0
+[[items]]
+id = "TIGHT"
+mass_g = 6.0
+mass_tol_pct = 0.5
+"""
+
+
+def test_equal_residuals_are_broken_by_robustness(tmp_path):
+    # Two items of the same nominal mass leave the same residual; the one with the
+    # smaller mass tolerance stays within tolerance more often (by reasoning: its
+    # residual spread is 20 times smaller), whichever the search happened to list.
+    (tmp_path / "twins.toml").write_text(TWINS)
+    path = tmp_path / "job.toml"
+    path.write_text('[rotor]\nname = "t"\n[[planes]]\nname = "p"\nradius_mm = 100.0\n'
+                    'positions = 8\ncatalog = "twins.toml"\n'
+                    "correction = { gmm = 600.0, angle_deg = 0.0 }\ntolerance_gmm = 5.0\n")
+    chosen = solve_job(read_job(path)).planes[0].chosen
+    assert [(p.position, p.item) for p in chosen.parts] == [(1, "TIGHT")]
+    assert chosen.chance_within == 1.0
