@@ -23,6 +23,10 @@ class Item:
         Free text.
     mass_tolerance_g : float
         How far one part's real mass may be from ``mass_g`` [g], either side.
+    source : str
+        The catalogue file the item comes from: items of one file share its
+        stock across the planes of a job, even where a plane merges several
+        catalogues.
     """
 
     id: str
@@ -30,6 +34,12 @@ class Item:
     stock: int | None = None
     description: str = ""
     mass_tolerance_g: float = 0.0
+    source: str = ""
+
+    @property
+    def stock_key(self) -> str:
+        """What identifies this item's drawer: its catalogue file and its id."""
+        return f"{self.source}#{self.id}"
 
     @property
     def removes(self) -> bool:

@@ -31,6 +31,7 @@ def read_catalog(path: Path) -> Catalog:
     name = root.text("name", required=True)
     items = []
     seen: set[str] = set()
+    source = str(path.resolve())
     for table in root.tables("items", required=True):
         table.allow_only(("id", "mass_g", "stock", "description", "removes", "mass_tol_g",
                           "mass_tol_pct"))
@@ -61,8 +62,9 @@ def read_catalog(path: Path) -> Catalog:
             stock=table.integer("stock", minimum=0),
             description=table.text("description", default=""),
             mass_tolerance_g=tolerance,
+            source=source,
         ))
-    return Catalog(name=name, items=tuple(items), source=str(path.resolve()),
+    return Catalog(name=name, items=tuple(items), source=source,
                    description=root.text("description", default=""))
 
 

@@ -50,7 +50,12 @@ def _scale_units(max_parts: int, n_components: int) -> float:
 
 @dataclass(frozen=True)
 class ModelPlane:
-    """One plane as the integer model sees it (arrays as in :class:`PlacementSearch`)."""
+    """One plane as the integer model sees it (arrays as in :class:`PlacementSearch`).
+
+    ``stock_keys[k]`` names the drawer of item column k; columns of planes
+    with the same key draw on the one stock given for it to
+    :func:`solve_shared_stock`.  Columns past ``stock_keys`` are the plane's own.
+    """
 
     effects: np.ndarray
     target: np.ndarray
@@ -58,7 +63,7 @@ class ModelPlane:
     stock: np.ndarray
     max_parts: int
     tolerance: float | None = None
-    stock_group: str = ""
+    stock_keys: tuple[str, ...] = ()
     hint: PartList = ()
 
 
@@ -73,7 +78,7 @@ class ModelOutcome:
 
 
 class _Built:
-    def __init__(self, planes: list[ModelPlane], group_stock: dict[str, np.ndarray]) -> None:
+    def __init__(self, planes: list[ModelPlane], shared_stock: dict[str, int]) -> None:
         from ortools.sat.python import cp_model
 
         self.cp_model = cp_model
@@ -85,7 +90,7 @@ class _Built:
         self.errors = []
         self.within = []
         self.outside_sq = []
-        group_terms: dict[str, dict[int, list]] = {}
+        shared_terms: dict[str, list] = {}
         for p, plane in enumerate(planes):
             n_pos, n_items, n_ch = plane.effects.shape
             ref = max(float(np.abs(plane.target).max(initial=0.0)),
@@ -110,7 +115,8 @@ class _Built:
                 of_k = [v for (_, kk), v in xs.items() if kk == k]
                 if of_k:
                     self.model.Add(sum(of_k) <= int(plane.stock[k]))
-                    group_terms.setdefault(plane.stock_group, {}).setdefault(k, []).extend(of_k)
+                    if k < len(plane.stock_keys) and plane.stock_keys[k] in shared_stock:
+                        shared_terms.setdefault(plane.stock_keys[k], []).extend(of_k)
             count = sum(xs.values()) if xs else 0
             self.model.Add(count <= plane.max_parts)
             self.counts.append(count)
@@ -147,12 +153,8 @@ class _Built:
             for (j, k, n) in plane.hint:
                 if (j, k) in xs:
                     self.model.AddHint(xs[j, k], int(n))
-        for group, per_item in group_terms.items():
-            if group in group_stock:
-                for k, terms in per_item.items():
-                    # Columns past the catalogue (taking off existing parts) are the plane's own.
-                    if k < len(group_stock[group]):
-                        self.model.Add(sum(terms) <= int(group_stock[group][k]))
+        for key, terms in shared_terms.items():
+            self.model.Add(sum(terms) <= int(shared_stock[key]))
 
     def solve(self, time_limit_s: float):
         solver = self.cp_model.CpSolver()
@@ -169,7 +171,7 @@ class _Built:
         return tuple(out)
 
 
-def solve_shared_stock(planes: list[ModelPlane], group_stock: dict[str, np.ndarray],
+def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
                        time_limit_s: float = 10.0) -> ModelOutcome:
     """All planes at once under shared stock, lexicographically.
 
@@ -178,7 +180,7 @@ def solve_shared_stock(planes: list[ModelPlane], group_stock: dict[str, np.ndarr
     in all; then the least sum of squared residuals.  Residuals are each
     plane's own, scaled to its own size so that no plane dominates.
     """
-    built = _Built(planes, group_stock)
+    built = _Built(planes, shared_stock)
     cp_model = built.cp_model
     stages = []
     if built.within:
@@ -188,6 +190,7 @@ def solve_shared_stock(planes: list[ModelPlane], group_stock: dict[str, np.ndarr
     stages.append(("min", sum(built.squares)))
     proven = True
     solver = status = None
+    found: tuple[PartList, ...] | None = None
     for sense, objective in stages:
         if sense == "max":
             built.model.Maximize(objective)
@@ -195,8 +198,11 @@ def solve_shared_stock(planes: list[ModelPlane], group_stock: dict[str, np.ndarr
             built.model.Minimize(objective)
         solver, status = built.solve(time_limit_s / len(stages))
         if status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
+            if found is not None:          # an earlier stage's plans stand, unproven
+                return ModelOutcome(found, False, tuple(0.0 for _ in planes), "FEASIBLE")
             return ModelOutcome(tuple(p.hint for p in planes), False,
                                 tuple(0.0 for _ in planes), solver.StatusName(status))
+        found = built.parts(solver)
         proven &= status == cp_model.OPTIMAL
         value = int(round(solver.ObjectiveValue()))
         if sense == "max":

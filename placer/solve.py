@@ -7,11 +7,13 @@ from __future__ import annotations
 
 import itertools
 import time
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
 import numpy as np
 
 from placer.geometry import angle_of_deg
+from placer.catalog import Item
 from placer.job import Job, PlaneJob
 from placer.plan import FittedPart, PlanOption, choose, improving
 from placer.residual import residual_vector_gmm
@@ -61,11 +63,13 @@ class JobResult:
     permissible_gmm: float | None
     shares: tuple[PlaneShare, ...] | None
     notes: tuple[str, ...]
+    stock_short: tuple[str, ...] = ()
 
     @property
     def all_within(self) -> bool:
-        """False when any plane with a tolerance is outside it."""
-        return not any(p.within_tolerance is False for p in self.planes)
+        """False when any plane with a tolerance is outside it, or the plans overdraw stock."""
+        return not self.stock_short and not any(p.within_tolerance is False
+                                                for p in self.planes)
 
 
 @dataclass(frozen=True)
@@ -243,14 +247,22 @@ def _tolerances(job: Job) -> tuple[float | None, tuple[PlaneShare, ...] | None, 
     return u_per, tuple(shares), []
 
 
-def _reach_note(plane: PlaneJob) -> str | None:
-    largest = max(item.mass_g for item in plane.catalog.items) * max(plane.geometry.radii_mm)
+def _reach_note(plane: PlaneJob, arrays: PlaneArrays) -> str | None:
+    """A note when no plan can reach the correction still needed.
+
+    The reach is at most max_parts times the largest single effect among the
+    placements allowed (open positions, items in stock, existing parts that
+    may come off), by the triangle inequality.
+    """
+    size = np.abs(arrays.effects[:, :, 0])
+    usable = (arrays.capacity[:, None] > 0) & (arrays.stock[None, :] > 0)
+    largest = float(size[usable].max(initial=0.0))
     reach = plane.max_parts * largest
-    need = abs(plane.correction_gmm)
+    need = float(np.abs(arrays.target[0]))
     if need > reach:
-        return (f"cannot be reached: the correction is {need:.1f} g·mm but {plane.max_parts} of "
-                f"the largest item reach at most {reach:.1f} g·mm; raise max_parts, use a "
-                "heavier item or check the reading")
+        return (f"cannot be reached: the correction still needed is {need:.1f} g·mm but "
+                f"{plane.max_parts} of the largest part allowed reach at most {reach:.1f} g·mm; "
+                "raise max_parts, use a heavier item or check the reading")
     return None
 
 
@@ -272,13 +284,13 @@ def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S,
             tolerance, source = None, "none given"
         entries, elapsed, method = exact_front(arrays, plane.max_parts, time_limit_s)
         chosen = choose(entries, tolerance)
-        notes = [n for n in (_reach_note(plane),) if n]
+        notes = [n for n in (_reach_note(plane, arrays),) if n]
         results.append(_plane_result(plane, tolerance, source, entries, chosen, notes,
                                      elapsed, method, errors=errors or FittingErrors(),
                                      placement_error_deg=job.rotor.placement_error_deg))
-    results, stock_notes = _share_stock(job, results, arrays_of, time_limit_s)
+    results, stock_notes, short = _share_stock(job, results, arrays_of, time_limit_s)
     return JobResult(job=job, planes=tuple(results), permissible_gmm=u_per, shares=shares,
-                     notes=tuple(job_notes + stock_notes))
+                     notes=tuple(job_notes + stock_notes), stock_short=short)
 
 
 @dataclass(frozen=True)
@@ -384,54 +396,97 @@ def equal_mass_variants(plane: PlaneJob, option: PlanOption,
     return out or [option]
 
 
-def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArrays],
-                 time_limit_s: float) -> tuple[list[PlaneResult], list[str]]:
-    """Re-plan planes that draw on one catalogue when their plans overdraw its stock."""
-    notes = []
-    groups: dict[str, list[int]] = {}
-    for i, plane in enumerate(job.planes):
-        groups.setdefault(plane.catalog.source, []).append(i)
-    for source, members in groups.items():
-        catalog = job.planes[members[0]].catalog
-        if len(members) < 2 or all(item.stock is None for item in catalog.items):
+def shared_stock_groups(planes: Sequence[PlaneJob]) -> list[list[int]]:
+    """Indices of planes linked by drawing on items of limited stock.
+
+    Two planes are linked when both may use one item (same catalogue file,
+    same id) whose stock is limited; links are followed through, so a
+    group is every plane that one drawer's shortage can touch.
+    """
+    users: dict[str, set[int]] = {}
+    for i, plane in enumerate(planes):
+        for item in plane.catalog.items:
+            if item.stock is not None:
+                users.setdefault(item.stock_key, set()).add(i)
+    groups: list[set[int]] = []
+    for members in users.values():
+        if len(members) < 2:
             continue
-        used: dict[str, int] = {}
-        for i in members:
-            for part in results[i].chosen.parts:
-                if part.action == "fit":
-                    used[part.item] = used.get(part.item, 0) + part.count
-        over = [item for item in catalog.items
-                if item.stock is not None and used.get(item.id, 0) > item.stock]
+        touching = [g for g in groups if g & members]
+        merged = set(members).union(*touching)
+        groups = [g for g in groups if not g & members] + [merged]
+    return sorted(sorted(g) for g in groups)
+
+
+def overdrawn_items(planes: Sequence[PlaneJob],
+                    parts_of: Sequence[Sequence[FittedPart]]) -> list[Item]:
+    """Items whose parts to fit, over all ``planes`` together, exceed their stock."""
+    used: dict[str, int] = {}
+    seen: dict[str, Item] = {}
+    for plane, parts in zip(planes, parts_of):
+        by_id = {item.id: item for item in plane.catalog.items}
+        for part in parts:
+            if part.action == "fit":
+                item = by_id[part.item]
+                used[item.stock_key] = used.get(item.stock_key, 0) + part.count
+                seen[item.stock_key] = item
+    return [item for key, item in seen.items()
+            if item.stock is not None and used[key] > item.stock]
+
+
+def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArrays],
+                 time_limit_s: float) -> tuple[list[PlaneResult], list[str], tuple[str, ...]]:
+    """Re-plan planes that draw on one drawer when their plans overdraw its stock.
+
+    Returns the results, notes, and the ids of items still overdrawn (when
+    CP-SAT found no plan within the shared stock in the time limit).
+    """
+    notes: list[str] = []
+    short_left: list[str] = []
+    for members in shared_stock_groups(job.planes):
+        planes = [job.planes[i] for i in members]
+        over = overdrawn_items(planes, [results[i].chosen.parts for i in members])
         if not over:
             continue
         from placer.model import ModelPlane, solve_shared_stock
 
-        stock = np.array([10**6 if item.stock is None else item.stock for item in catalog.items])
+        shared = {item.stock_key: int(item.stock) for plane in planes
+                  for item in plane.catalog.items if item.stock is not None}
         model_planes = []
-        for i in members:
-            plane, arrays = job.planes[i], arrays_of[i]
+        for i, plane in zip(members, planes):
+            arrays = arrays_of[i]
             hint = tuple((arrays.row_of(p.position - 1, p.mass_g < 0),
-                          catalog.item_index(p.item), p.count)
+                          plane.catalog.item_index(p.item), p.count)
                          for p in results[i].chosen.parts if p.action == "fit")
-            model_planes.append(ModelPlane(arrays.effects, arrays.target, arrays.capacity,
-                                           arrays.stock, plane.max_parts,
-                                           results[i].tolerance_gmm, source, hint))
-        outcome = solve_shared_stock(model_planes, {source: stock}, time_limit_s)
-        names = ", ".join(job.planes[i].geometry.name for i in members)
-        short = ", ".join(item.id for item in over)
-        notes.append(f"planes {names} share catalogue '{catalog.name}' and the separate plans "
-                     f"needed more {short} than in stock: plans chosen together"
+            model_planes.append(ModelPlane(
+                arrays.effects, arrays.target, arrays.capacity, arrays.stock, plane.max_parts,
+                results[i].tolerance_gmm, tuple(it.stock_key for it in plane.catalog.items),
+                hint))
+        outcome = solve_shared_stock(model_planes, shared, time_limit_s)
+        names = ", ".join(plane.geometry.name for plane in planes)
+        short = ", ".join(sorted({item.id for item in over}))
+        if outcome.status not in ("OPTIMAL", "FEASIBLE"):
+            short_left += [item.id for item in over]
+            notes.append(f"planes {names} together need more {short} than in stock, and no "
+                         f"plan within the stock was found in the time limit: do not fit "
+                         "these plans as printed; restock or raise --time-limit")
+            continue
+        notes.append(f"planes {names} share stock and the separate plans needed more {short} "
+                     "than in stock: plans chosen together"
                      + ("" if outcome.proven else " (not proven optimal in the time limit)"))
         for i, parts in zip(members, outcome.parts):
             results[i] = _rechosen(results[i], arrays_of[i], parts, outcome.proven)
-    return results, notes
+    return results, notes, tuple(sorted(set(short_left)))
 
 
 def _rechosen(result: PlaneResult, arrays: PlaneArrays, parts: PartList,
               proven: bool) -> PlaneResult:
     residual = residual_of(arrays.target, arrays.effects, parts)
     count = sum(c for _, _, c in parts)
-    entry = Selection(count, parts, residual, float(np.linalg.norm(residual)), 0.0, proven)
+    # The plane's own least residual with at most this many parts bounds it below.
+    lower = min([o.lower_bound_gmm for o in result.front if o.used_parts <= count]
+                + [float(np.linalg.norm(arrays.target))])
+    entry = Selection(count, parts, residual, float(np.linalg.norm(residual)), lower, proven)
     option = to_option(result.plane, entry, arrays)
     within = None if result.tolerance_gmm is None else option.residual_gmm <= result.tolerance_gmm
     notes = result.notes + ("plan chosen together with the other planes that share its stock",)

@@ -39,10 +39,10 @@ def test_shared_stock_is_respected_and_best():
     a = np.array([500.0 + 0j])               # exactly one 5 g part at 0 deg
     b = np.array([500.0 * 1j])               # exactly one 5 g part at 90 deg
     planes = [ModelPlane(effects[:, :, None], a, np.ones(4, int), np.array([1, 4]), 3,
-                         tolerance=150.0, stock_group="drawer"),
+                         tolerance=150.0, stock_keys=("drawer#A", "drawer#B")),
               ModelPlane(effects[:, :, None], b, np.ones(4, int), np.array([1, 4]), 3,
-                         tolerance=150.0, stock_group="drawer")]
-    outcome = solve_shared_stock(planes, {"drawer": np.array([1, 8])}, 20.0)
+                         tolerance=150.0, stock_keys=("drawer#A", "drawer#B"))]
+    outcome = solve_shared_stock(planes, {"drawer#A": 1, "drawer#B": 8}, 20.0)
     used_big = sum(c for parts in outcome.parts for _, k, c in parts if k == 0)
     assert used_big <= 1
     residuals = [np.linalg.norm(residual_of(p.target, p.effects, parts))

@@ -81,10 +81,27 @@ def test_shared_stock_is_planned_together(tmp_path):
     result = solve_job(read_job(write_job(tmp_path, TWO_PLANES.format(extra=""), stock=1)))
     used = sum(p.count for r in result.planes for p in r.chosen.parts if p.item == "A")
     assert used == 1
-    assert any("share catalogue" in n for n in result.notes)
+    assert any("share stock" in n for n in result.notes)
     for r in result.planes:
         again = abs(residual_vector_gmm(r.plane.correction_gmm, r.chosen.parts))
         assert again == pytest.approx(r.chosen.residual_gmm)
+
+
+def test_stock_is_shared_per_catalogue_file_across_merged_catalogues(tmp_path):
+    # Plane A draws on the drawer and a hole catalogue together, plane B on the
+    # drawer alone: both still share the drawer's one 5 g part (by reasoning).
+    (tmp_path / "holes.toml").write_text('name = "holes"\n[[items]]\nid = "H"\n'
+                                         'mass_g = -1.0\nremoves = true\n')
+    body = TWO_PLANES.format(extra="").replace('catalog = "drawer.toml"',
+                                               'catalog = ["drawer.toml", "holes.toml"]', 1)
+    result = solve_job(read_job(write_job(tmp_path, body, stock=1)))
+    used = sum(p.count for r in result.planes for p in r.chosen.parts if p.item == "A")
+    assert used == 1
+    assert any("share stock" in n for n in result.notes)
+    # The plan that had to do without the 5 g part is marked on its sheet, and its
+    # lower bound is still a bound: at most its own least residual.
+    for r in result.planes:
+        assert r.chosen.lower_bound_gmm <= r.chosen.residual_gmm + 1e-9
 
 
 def test_already_within_tolerance_needs_no_parts():
