@@ -22,7 +22,7 @@ def option_dict(option: PlanOption) -> dict[str, Any]:
         "parts": [
             {"position": p.position, "angle_deg": float(p.angle_deg),
              "radius_mm": p.radius_mm, "item": p.item, "mass_g": p.mass_g, "count": p.count,
-             "action": p.action}
+             "action": p.action if p.action == "remove" or p.mass_g > 0 else "drill"}
             for p in option.parts
         ],
     }
@@ -67,6 +67,7 @@ def job_dict(result: JobResult) -> dict[str, Any]:
         "permissible_gmm": None if result.permissible_gmm is None
         else float(result.permissible_gmm),
         "within_tolerance": result.all_within,
+        "stock_short": list(result.stock_short),
         "notes": list(result.notes),
         "planes": [plane_dict(p) for p in result.planes],
     }
