@@ -65,13 +65,6 @@ class PlaneGeometry:
         angles = np.radians(np.asarray(self.angles_deg, dtype=float))
         return np.asarray(self.radii_mm, dtype=float) * np.exp(1j * angles)
 
-    def is_equally_spaced(self) -> bool:
-        """True when positions are equally spaced at one radius (rotational symmetry)."""
-        if len(set(self.radii_mm)) != 1 or self.n_positions < 2:
-            return False
-        steps = np.diff(np.concatenate([self.angles_deg, [self.angles_deg[0] + 360.0]]))
-        return bool(np.allclose(steps, 360.0 / self.n_positions))
-
 
 def equally_spaced_deg(count: int, start_deg: float = 0.0) -> tuple[float, ...]:
     """Angles of ``count`` equally spaced positions, position 1 at ``start_deg`` [deg]."""
