@@ -35,6 +35,9 @@ def _parser() -> argparse.ArgumentParser:
                     "positions (bolt holes, blades, rim slots): the proven least residual "
                     "for each number of parts, checked against ISO 21940-11 tolerances.",
         epilog="Exit codes: 0 within tolerance, 1 a plane outside tolerance, 2 bad input.")
+    from placer import __version__
+
+    parser.add_argument("--version", action="version", version=f"placer {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
 
     solve = sub.add_parser("solve", help="plan the parts for a job file and print the sheet",

@@ -670,3 +670,10 @@ def test_help_as_subprocess():
     proc = _run_placer("--help")
     assert proc.returncode == 0
     assert "solve" in proc.stdout and proc.stderr == ""
+
+
+def test_version(run_cli):
+    import placer
+
+    code, out, err = run_cli("--version")
+    assert code == 0 and out.strip() == f"placer {placer.__version__}"
