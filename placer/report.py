@@ -52,10 +52,11 @@ def _header(result: JobResult) -> Panel:
         facts.append(f"service speed {rotor.service_rpm:g} r/min")
     if rotor.grade_mm_s is not None:
         facts.append(f"grade G{rotor.grade_mm_s:g}")
-    if result.permissible_gmm is not None:
-        facts.append(f"U_per {result.permissible_gmm:.1f} g·mm (ISO 21940-11)")
     if facts:
         lines.append(", ".join(facts) + "\n")
+    if result.permissible_gmm is not None:
+        lines.append(f"Permissible residual U_per {result.permissible_gmm:.1f} g·mm "
+                     "(ISO 21940-11)\n")
     lines.append(f"Angles: degrees from the reference mark, counted {rotor.angle_sense}; "
                  "position numbers as marked on the rotor.")
     return Panel(lines, title="placer fitting sheet", title_align="left", box=box.HEAVY)
