@@ -3,7 +3,9 @@
 The format: top-level ``name`` (string, required) and ``description``
 (string, optional); ``[[items]]`` tables with ``id`` (string, required,
 unique), ``mass_g`` (float > 0, required), ``stock`` (int >= 0, optional) and
-``description`` (string, optional); no other keys.
+``description`` (string, optional), ``mass_tol_g`` or ``mass_tol_pct``
+(float >= 0, optional); no other keys.  (The drill catalogues, with
+``removes``, are checked in test_rework.py.)
 """
 
 from __future__ import annotations
@@ -22,7 +24,7 @@ BUNDLED = ["washers-steel.toml", "fan-blade-clips.toml", "rim-clips-5g.toml",
 TOP_KEYS_REQUIRED = {"name", "items"}
 TOP_KEYS_ALLOWED = {"name", "description", "items"}
 ITEM_KEYS_REQUIRED = {"id", "mass_g"}
-ITEM_KEYS_ALLOWED = {"id", "mass_g", "stock", "description"}
+ITEM_KEYS_ALLOWED = {"id", "mass_g", "stock", "description", "mass_tol_g", "mass_tol_pct"}
 
 # The washers file's masses are washer_mass_g of the ISO 7089 table rounded to
 # 0.01 g, so they agree with the unrounded value to half a unit: 0.005 g.
