@@ -62,8 +62,11 @@ _NEIGHBOURS_SECOND = 32
 _CHUNK_ROWS = 65536
 _MAX_PAIRS = 4_000_000
 _MAX_HEAD_ROWS = 6_000_000
-_DENSE_LIMIT = 4_000_000
+_DENSE_LIMIT = 200_000
 """Heads x tail rows up to which heads are completed by a dense scan, not a k-d tree."""
+_DENSE_TAIL = 4096
+"""Tail rows up to which a dense scan is used for any number of heads (a small tree does not
+pay for importing scipy, as on a 12-hole bolt circle)."""
 _DENSE_CHUNK = 262_144
 """Head x tail combinations scored at once in the dense scan."""
 
@@ -299,7 +302,7 @@ class PlacementSearch:
         priority = self._head_bound(head_sums, heads, k, t_real)
         order = np.argsort(priority, kind="stable")
         heads, head_sums, priority = heads[order], head_sums[order], priority[order]
-        if len(heads) * len(cols) <= _DENSE_LIMIT:
+        if len(cols) <= _DENSE_TAIL or len(heads) * len(cols) <= _DENSE_LIMIT:
             return self._complete_dense(heads, head_sums, priority, t_real, bound)
         cols, sums, tree = self._tail()
         best_row, best_value = None, bound
