@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import cmath
+import contextlib
 import math
 
 import numpy as np
@@ -10,6 +11,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+import placer.search
 from oracle import brute_front
 from placer.search import PlacementSearch, residual_of
 
@@ -19,10 +21,30 @@ def ring_effects(n_positions, masses_g, radius_mm, start_deg=0.0):
     return -(np.asarray(masses_g)[None, :] * radius_mm) * np.exp(1j * angles)[:, None]
 
 
+@contextlib.contextmanager
+def completion(mode: str):
+    """Force how heads are completed: "dense" numpy scan or "tree" (scipy k-d tree)."""
+    saved = placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT
+    if mode == "tree":
+        placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT = -1, -1
+    else:
+        placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT = 10**12, 10**12
+    try:
+        yield
+    finally:
+        placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT = saved
+
+
 def check_against_oracle(effects, target, capacity, stock, max_parts, norm="euclidean"):
+    expected = brute_front(effects, target, capacity, stock, max_parts, norm=norm)
+    for mode in ("dense", "tree"):
+        with completion(mode):
+            _check_front(effects, target, capacity, stock, max_parts, norm, expected)
+
+
+def _check_front(effects, target, capacity, stock, max_parts, norm, expected):
     search = PlacementSearch(effects, capacity, stock, max_parts, norm=norm)
     front = search.front(np.atleast_1d(target))
-    expected = brute_front(effects, target, capacity, stock, max_parts, norm=norm)
     got = [entry.residual_norm for entry in front.entries]
     # Oracle: exhaustive enumeration (tests/oracle.py); both in float64.
     assert got == pytest.approx(expected, rel=1e-9, abs=1e-9)
