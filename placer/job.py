@@ -21,6 +21,9 @@ class Rotor:
     ``grade_mm_s``, ``mass_kg`` and ``service_rpm`` together give the
     permissible residual unbalance; ``com_distances_mm`` (distance from the
     centre of mass to each plane, in plane order) shares it between planes.
+    ``rotation`` is how the rotor turns seen from the side the technician
+    works on ("clockwise" or "counterclockwise"; None when the job does not
+    say), so that a drawing of that face can show it.
     """
 
     name: str
@@ -31,6 +34,7 @@ class Rotor:
     angle_sense: str = DEFAULT_ANGLE_SENSE
     correction_basis: str = "further"
     placement_error_deg: float = 0.0
+    rotation: str | None = None
 
 
 @dataclass(frozen=True)

@@ -15,7 +15,9 @@ from placer.job import (DEFAULT_ANGLE_SENSE, DEFAULT_MAX_PARTS, ExistingPart, Jo
 from placer.tolerance import parse_grade
 
 ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense",
-              "correction_basis", "placement_error_deg")
+              "correction_basis", "placement_error_deg", "rotation")
+ROTATIONS = ("clockwise", "counterclockwise")
+"""How the rotor turns, seen from the side the technician works on."""
 PLANE_KEYS = ("name", "radius_mm", "radii_mm", "positions", "start_deg", "angles_deg", "blocked",
               "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "max_parts",
               "accepts", "add_only", "remove_only", "existing")
@@ -63,6 +65,10 @@ def _rotor(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
     sense = t.text("angle_sense", default=DEFAULT_ANGLE_SENSE)
     if sense not in ANGLE_SENSES:
         raise t.fail("angle_sense", f"is '{sense}'", "one of " + ", ".join(ANGLE_SENSES))
+    rotation = t.text("rotation")
+    if rotation is not None and rotation not in ROTATIONS:
+        raise t.fail("rotation", f"is '{rotation}'",
+                     "clockwise or counterclockwise, seen from the side you work on")
     basis = t.text("correction_basis", default="further")
     if basis not in CORRECTION_BASES:
         raise t.fail("correction_basis", f"is '{basis}'",
@@ -76,6 +82,7 @@ def _rotor(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
         grade_mm_s=grade,
         com_distances_mm=distances,
         angle_sense=sense,
+        rotation=rotation,
     )
 
 
