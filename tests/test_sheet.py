@@ -6,6 +6,12 @@ counterclockwise on the page for "against rotation" and "counterclockwise",
 clockwise for "with rotation" and "clockwise"), recomputed here with numpy.
 Page counts are read from the PDF's own page objects (PDF 1.7, ISO 32000-1,
 7.7.3: one /Type /Page dictionary per page, /Count in the /Pages node).
+Text layout is checked on matplotlib's own measure of every text it drew
+(``Text.get_window_extent`` with the figure's renderer): no two texts share
+ink space and every text lies on the page.  Corrections with existing parts
+are recomputed here from the job file and the bundled catalogue's masses
+(catalogs/washers-steel.toml), as a vector sum of mass × radius at each
+position's angle.
 """
 
 from __future__ import annotations
@@ -14,19 +20,20 @@ import dataclasses
 import importlib.util
 import math
 import re
-import tomllib
 from datetime import date
 from pathlib import Path
 
 import numpy as np
 import pytest
 
+from conftest import example_files
 from placer.cli import main
 from placer.errors import InputError
 from placer.jobfile import read_job
 from placer.plan import FittedPart
-from placer.sheet import (MATPLOTLIB_MISSING, PNG_DPI, angles_counterclockwise, page_angle_deg,
-                          rotation_clockwise, spread_deg, write_sheet)
+from placer.report import DRILL_CAUTION
+from placer.sheet import (MATPLOTLIB_MISSING, PNG_DPI, _fmt_gmm, angles_counterclockwise,
+                          page_angle_deg, plane_page, rotation_clockwise, spread_deg, write_sheet)
 from placer.solve import solve_job
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
@@ -35,9 +42,8 @@ WHEN = date(2025, 3, 14)
 
 
 def _job_files() -> list[Path]:
-    """Example files for `placer solve` (only [rotor] and [[planes]]), not field sessions."""
-    return sorted(p for p in EXAMPLES.glob("*.toml")
-                  if set(tomllib.loads(p.read_text(encoding="utf-8"))) <= {"rotor", "planes"})
+    """Example files for `placer solve`, not field sessions or batch templates."""
+    return example_files("job")
 
 
 @pytest.fixture(scope="module")
@@ -51,6 +57,12 @@ def _pdf_pages(data: bytes) -> tuple[int, list[int]]:
     counts = [int(m) for m in re.findall(rb"/Type\s*/Pages\b[^>]*?/Count\s+(\d+)", data)]
     counts += [int(m) for m in re.findall(rb"/Count\s+(\d+)[^>]*?/Type\s*/Pages\b", data)]
     return pages, counts
+
+
+def _drawings(result, dpi: float = 50) -> list:
+    """Each plane's drawing, laid out without writing a file (coordinates need no ink)."""
+    return [plane_page(result, i, when=WHEN, dpi=dpi)[1]
+            for i in range(1, len(result.planes) + 1)]
 
 
 def _unit_circle_deg(xy: tuple[float, float]) -> tuple[float, float]:
@@ -73,7 +85,7 @@ def test_pdf_has_one_page_per_plane(supply_fan, tmp_path):
 
 @pytest.mark.parametrize("job", _job_files(), ids=lambda p: p.name)
 def test_every_example_renders_to_pdf(job, tmp_path):
-    result = solve_job(read_job(job))
+    result = _solved(job)
     target = tmp_path / f"{job.stem}.pdf"
     write_sheet(result, target, when=WHEN)
     count, _ = _pdf_pages(target.read_bytes())
@@ -91,7 +103,7 @@ def test_png_one_file_per_plane_and_svg(supply_fan, tmp_path):
 
 
 def test_one_plane_job_writes_the_path_given(tmp_path):
-    result = solve_job(read_job(EXAMPLES / "blade-fan.toml"))
+    result = _solved(EXAMPLES / "blade-fan.toml")
     pages = write_sheet(result, tmp_path / "fan.png", when=WHEN)
     assert [p.path.name for p in pages] == ["fan.png"]
 
@@ -153,12 +165,11 @@ def test_convention(sense, ccw, drawn):
     assert page_angle_deg(90.0, ccw) % 360 == (180.0 if ccw else 0.0)
 
 
-def test_positions_lie_on_the_circle_at_the_job_angles(supply_fan, tmp_path):
+def test_positions_lie_on_the_circle_at_the_job_angles(supply_fan):
     # supply-fan.toml: 12 holes at one radius, hole 1 at the reference mark, so hole k is at
     # 30·(k - 1) degrees, counted against rotation = counterclockwise on the drawing.
-    pages = write_sheet(supply_fan, tmp_path / "p.png", when=WHEN)
-    for page in pages:
-        drawing = page.drawing
+    drawings = _drawings(supply_fan)
+    for drawing in drawings:
         assert drawing.counterclockwise
         assert sorted(drawing.position_xy) == list(range(1, 13))
         for k, xy in drawing.position_xy.items():
@@ -166,15 +177,14 @@ def test_positions_lie_on_the_circle_at_the_job_angles(supply_fan, tmp_path):
             assert radius == pytest.approx(1.0, abs=1e-12)
             expected = (90.0 + 30.0 * (k - 1)) % 360.0
             assert abs((angle - expected + 180.0) % 360.0 - 180.0) < 1e-9
-    assert sorted(pages[0].drawing.blocked_xy) == [4]      # blocked = [4] on the drive side
-    assert pages[1].drawing.blocked_xy == {}
+    assert sorted(drawings[0].blocked_xy) == [4]          # blocked = [4] on the drive side
+    assert drawings[1].blocked_xy == {}
 
 
-def test_with_rotation_is_drawn_clockwise(tmp_path):
+def test_with_rotation_is_drawn_clockwise():
     # wheel-rim.toml: 72 slots, slot 1 at the valve, every 5 degrees, "with rotation":
     # slot 19 (90°) is at 3 o'clock and slot 55 (270°) at 9 o'clock.
-    result = solve_job(read_job(EXAMPLES / "wheel-rim.toml"))
-    drawing = write_sheet(result, tmp_path / "w.pdf", when=WHEN)[0].drawing
+    drawing = _drawings(_solved(EXAMPLES / "wheel-rim.toml"))[0]
     assert not drawing.counterclockwise
     assert drawing.position_xy[19] == pytest.approx((1.0, 0.0), abs=1e-12)
     assert drawing.position_xy[55] == pytest.approx((-1.0, 0.0), abs=1e-12)
@@ -182,20 +192,19 @@ def test_with_rotation_is_drawn_clockwise(tmp_path):
     assert sorted(drawing.blocked_xy) == [36, 37, 38]
 
 
-def test_chosen_parts_are_drawn_at_their_positions(supply_fan, tmp_path):
-    for page, plane in zip(write_sheet(supply_fan, tmp_path / "p.pdf", when=WHEN),
-                           supply_fan.planes):
+def test_chosen_parts_are_drawn_at_their_positions(supply_fan):
+    for drawing, plane in zip(_drawings(supply_fan), supply_fan.planes):
         fitted = {p.position for p in plane.chosen.parts if p.action == "fit"}
-        assert set(page.drawing.fit_xy) == fitted
+        assert set(drawing.fit_xy) == fitted
         assert fitted
         for k in fitted:
-            assert page.drawing.fit_xy[k] == page.drawing.position_xy[k]
+            assert drawing.fit_xy[k] == drawing.position_xy[k]
 
 
-def test_required_correction_arrow(supply_fan, tmp_path):
+def test_required_correction_arrow(supply_fan):
     # Drive side: correction 18.5 g at 132° (supply-fan.toml); the larger of required and
     # residual is drawn 0.78 long, so the required arrow points to page angle 90 + 132.
-    drawing = write_sheet(supply_fan, tmp_path / "p.pdf", when=WHEN)[0].drawing
+    drawing = _drawings(supply_fan)[0]
     plane = supply_fan.planes[0]
     assert plane.required_gmm == pytest.approx(18.5 * 210.0)
     radius, angle = _unit_circle_deg(drawing.correction_tip_xy)
@@ -226,7 +235,7 @@ def test_markers_are_dark_in_the_png(supply_fan, tmp_path):
         assert float(image[3, 3].mean()) > 0.99            # the page margin stays blank
 
 
-def test_parts_to_take_off_and_holes_to_drill(supply_fan, tmp_path):
+def test_parts_to_take_off_and_holes_to_drill(supply_fan):
     plane = supply_fan.planes[1]
     g = plane.plane.geometry
     parts = (FittedPart(3, g.angles_deg[2], g.radii_mm[2], "M10", 3.57, 1, "remove"),
@@ -234,7 +243,7 @@ def test_parts_to_take_off_and_holes_to_drill(supply_fan, tmp_path):
              FittedPart(9, g.angles_deg[8], g.radii_mm[8], "M16", 11.3, 2, "fit"))
     edited = dataclasses.replace(plane, chosen=dataclasses.replace(plane.chosen, parts=parts))
     result = dataclasses.replace(supply_fan, planes=(supply_fan.planes[0], edited))
-    drawing = write_sheet(result, tmp_path / "r.pdf", when=WHEN)[1].drawing
+    drawing = _drawings(result)[1]
     assert set(drawing.remove_xy) == {3}
     assert drawing.remove_xy[3] == drawing.position_xy[3]
     assert set(drawing.fit_xy) == {7, 9}
@@ -262,15 +271,401 @@ def test_spread_against_brute_force():
             assert placed[k + 1] - placed[k] >= (gaps[k] + gaps[k + 1]) / 2 - 1e-9
         cost = sum((p - w) ** 2 for p, w in zip(placed, wanted))
         grid = np.arange(-10, 10.01, 0.25)
-        best = math.inf
-        for d0 in grid:
-            for d1 in grid:
-                for d2 in grid:
-                    p = (wanted[0] + d0, wanted[1] + d1, wanted[2] + d2)
-                    if (p[1] - p[0] >= (gaps[0] + gaps[1]) / 2
-                            and p[2] - p[1] >= (gaps[1] + gaps[2]) / 2):
-                        best = min(best, sum(d * d for d in (d0, d1, d2)))
+        d0, d1, d2 = np.meshgrid(grid, grid, grid, indexing="ij")
+        p0, p1, p2 = wanted[0] + d0, wanted[1] + d1, wanted[2] + d2
+        feasible = ((p1 - p0 >= (gaps[0] + gaps[1]) / 2)
+                    & (p2 - p1 >= (gaps[1] + gaps[2]) / 2))
+        best = float(np.min(np.where(feasible, d0 ** 2 + d1 ** 2 + d2 ** 2, np.inf)))
         assert cost <= best + 1e-9
+
+
+# --- what the sheet says, and where its text goes -------------------------------------
+
+LAYOUT_DPI = PNG_DPI
+"""Pages for the layout checks are measured at the PNG's resolution: Agg hints glyphs to
+whole pixels, so text extents depend on the dpi (at 72 dpi a line of 7.5 pt text
+measures 8 % wider than at 150 dpi or in the PDF)."""
+
+LONG_NAME = ("Induced-draught fan impeller ID-4 (replacement wheel, second stage), "
+             "Northern Kiln Works boiler house, east annex, line 3")
+
+SCRATCH_JOBS = {
+    # A rotor name far wider than the page, planes with long names: header and bands wrap.
+    "long-name.toml": """
+[rotor]
+name = "LONG_NAME"
+mass_kg = 120.0
+service_rpm = 1480
+grade = "G6.3"
+angle_sense = "clockwise"
+
+[[planes]]
+name = "drive side back plate outer ring"
+radius_mm = 410.0
+positions = 16
+catalog = "washers-steel"
+correction = { gmm = 5200.0, angle_deg = 47.0 }
+
+[[planes]]
+name = "middle disc inner and outer bolt circles"
+radii_mm = [300.0, 300.0, 300.0, 300.0, 300.0, 300.0, 200.0, 200.0, 200.0, 200.0, 200.0, 200.0]
+angles_deg = [0, 60, 120, 180, 240, 300, 30, 90, 150, 210, 270, 330]
+catalog = "washers-steel"
+correction = { gmm = 1900.0, angle_deg = 100.0 }
+
+[[planes]]
+name = "free side front shroud outer ring"
+radius_mm = 395.0
+positions = 16
+catalog = "washers-steel"
+correction = { gmm = 3100.0, angle_deg = 200.0 }
+
+[[planes]]
+name = "coupling hub flange"
+radius_mm = 90.0
+positions = 8
+catalog = "washers-steel"
+correction = { gmm = 700.0, angle_deg = 320.0 }
+""".replace("LONG_NAME", LONG_NAME),
+    # Existing washers whose own correction is exactly the total: nothing to do.
+    # M12 = 6.27 g at position 4 (90°) and M8 = 1.83 g at position 10 (270°), r = 100 mm:
+    # 627 - 183 = 444 g·mm at 90°.
+    "existing-cancel.toml": """
+[rotor]
+name = "Return fan RF-1"
+angle_sense = "against rotation"
+correction_basis = "total"
+
+[[planes]]
+name = "hub"
+radius_mm = 100.0
+positions = 12
+capacity = 2
+catalog = "washers-steel"
+existing = [{ position = 4, item = "M12", count = 1 }, { position = 10, item = "M8", count = 1 }]
+correction = { gmm = 444.0, angle_deg = 90.0 }
+tolerance_gmm = 20.0
+""",
+    # Washers and drilled holes, add-only and remove-only positions, existing parts with
+    # the correction given for the rotor without them.
+    "drill.toml": """
+[rotor]
+name = "Drilled boss test rotor"
+angle_sense = "with rotation"
+correction_basis = "total"
+
+[[planes]]
+name = "boss ring"
+radius_mm = 120.0
+positions = 8
+capacity = 2
+blocked = [4]
+add_only = [1, 2]
+remove_only = [5, 6]
+catalog = ["washers-steel", "drill-steel"]
+existing = [{ position = 3, item = "M10", count = 1 }, { position = 8, item = "M8", count = 1 }]
+correction = { gmm = 900.0, angle_deg = 10.0 }
+tolerance_gmm = 8.0
+max_parts = 4
+""",
+    "tight.toml": """
+[rotor]
+name = "Tight tolerance disc"
+
+[[planes]]
+name = "face"
+radius_mm = 50.0
+positions = 6
+catalog = "washers-steel"
+correction = { gmm = 250.0, angle_deg = 33.0 }
+tolerance_gmm = 0.001
+""",
+}
+
+
+@pytest.fixture(scope="module")
+def scratch(tmp_path_factory) -> dict[str, Path]:
+    folder = tmp_path_factory.mktemp("jobs")
+    paths = {}
+    for name, text in SCRATCH_JOBS.items():
+        paths[name] = folder / name
+        paths[name].write_text(text, encoding="utf-8")
+    return paths
+
+
+_SOLVED: dict[Path, object] = {}
+
+
+def _solved(path: Path):
+    if path not in _SOLVED:
+        _SOLVED[path] = solve_job(read_job(path))
+    return _SOLVED[path]
+
+
+def _page(result, index: int = 1):
+    """A page laid out at LAYOUT_DPI: (figure, drawing, [(text, window extent)])."""
+    fig, drawing = plane_page(result, index, when=WHEN, dpi=LAYOUT_DPI)
+    fig.draw_without_rendering()
+    renderer = fig.canvas.get_renderer()
+    texts = [(t.get_text(), t.get_window_extent(renderer))
+             for ax in fig.axes for t in ax.texts
+             if t.get_visible() and t.get_text().strip()]
+    return fig, drawing, texts
+
+
+def _strings(texts) -> list[str]:
+    return [t for t, _ in texts]
+
+
+def _flat(texts) -> str:
+    """All the page's text as one line (wrapped lines joined by spaces)."""
+    return " ".join(t for t, _ in texts).replace("\n", " ")
+
+
+CLEAR_PX = 2.0
+"""Least gap between two texts' boxes [px]: texts that merely touch read as one
+("pump-impeller-rework.toml2026-12-02")."""
+
+
+def _overlapping(texts, clear_px: float = CLEAR_PX) -> list[tuple[str, str]]:
+    """Pairs of texts whose boxes overlap or come closer than ``clear_px``."""
+    pairs = []
+    for i, (a, box_a) in enumerate(texts):
+        for b, box_b in texts[i + 1:]:
+            across = min(box_a.x1, box_b.x1) - max(box_a.x0, box_b.x0)
+            down = min(box_a.y1, box_b.y1) - max(box_a.y0, box_b.y0)
+            if across > -clear_px and down > -clear_px:
+                pairs.append((a, b))
+    return pairs
+
+
+def _arrows_through_text(drawing, texts) -> list[str]:
+    """Texts that the required or residual arrow's shaft runs through."""
+    hit = []
+    for segment in (drawing.required_xy, drawing.residual_xy):
+        if segment is None:
+            continue
+        (x0, y0), (x1, y1) = segment
+        for k in range(61):
+            px, py = drawing.ax.transData.transform((x0 + (x1 - x0) * k / 60,
+                                                     y0 + (y1 - y0) * k / 60))
+            hit += [t for t, box in texts
+                    if box.x0 + 1 < px < box.x1 - 1 and box.y0 + 1 < py < box.y1 - 1]
+    return hit
+
+
+LAYOUT_CASES = [p.name for p in _job_files()] + ["long-name.toml", "existing-cancel.toml",
+                                                 "drill.toml"]
+
+
+@pytest.mark.parametrize("name", LAYOUT_CASES)
+def test_text_never_overlaps_and_stays_on_the_page(name, scratch):
+    # No text is meant to sit on another on this sheet, so no pair is excluded.
+    result = _solved(scratch[name] if name in scratch else EXAMPLES / name)
+    for index in range(1, len(result.planes) + 1):
+        fig, drawing, texts = _page(result, index)
+        assert _overlapping(texts) == [], f"plane {index}"
+        width, height = fig.bbox.width, fig.bbox.height
+        edge = 0.2 * LAYOUT_DPI                            # 0.2 in inside the paper's edge
+        outside = [t for t, box in texts if box.x0 < edge or box.y0 < edge
+                   or box.x1 > width - edge or box.y1 > height - edge]
+        assert outside == [], f"plane {index}"
+        assert _arrows_through_text(drawing, texts) == [], f"plane {index}"
+
+
+def test_overlap_check_sees_an_overlap():
+    # The check itself: two texts that touch are reported, two apart are not.
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(3, 3), dpi=LAYOUT_DPI)
+    FigureCanvasAgg(fig)
+    ax = fig.add_axes((0, 0, 1, 1))
+    renderer = fig.canvas.get_renderer()
+    first = ax.text(0.05, 0.5, "pump-impeller-rework.toml")
+    end = ax.transData.inverted().transform((first.get_window_extent(renderer).x1, 0))[0]
+    ax.text(end, 0.5, "2026-12-02")                       # touching, as the old header did
+    ax.text(0.05, 0.1, "apart")
+    texts = [(t.get_text(), t.get_window_extent(renderer)) for t in ax.texts]
+    assert _overlapping(texts) == [("pump-impeller-rework.toml", "2026-12-02")]
+
+
+def test_long_rotor_name_wraps_and_header_facts_stay_apart(scratch):
+    result = _solved(scratch["long-name.toml"])
+    fig, _, texts = _page(result, 1)
+    name = result.job.rotor.name
+    title = [t for t in _strings(texts) if t.replace("\n", " ").startswith(name[:30])]
+    assert len(title) == 1
+    assert "\n" in title[0]                                # wrapped, every word kept
+    assert title[0].replace("\n", " ") == name
+    # Every plane's tolerance is listed, each whole on one line.
+    line = next(t for t in _strings(texts) if t.startswith("drive side back plate"))
+    for plane in result.planes:
+        assert any(row.startswith(plane.name) or f"·   {plane.name}:" in row
+                   for row in line.split("\n"))
+
+
+@pytest.mark.parametrize("value, text", [
+    # One decimal from 10 g·mm up, three significant digits below (placer/sheet.py).
+    (0.001, "0.001"), (0.0123, "0.0123"), (0.875, "0.875"), (3.05, "3.05"), (2.2, "2.2"),
+    (21.34, "21.3"), (1639.84, "1 639.8"), (0.0, "0")])
+def test_small_values_keep_their_significant_digits(value, text):
+    assert _fmt_gmm(value) == text
+
+
+def test_tight_tolerance_is_printed_as_given(scratch):
+    _, _, texts = _page(_solved(scratch["tight.toml"]))
+    assert "0.001 g·mm" in _strings(texts)                 # tolerance_gmm = 0.001
+    assert "0.0 g·mm" not in _strings(texts)
+
+
+def test_existing_parts_that_cancel_draw_no_arrows(scratch):
+    result = _solved(scratch["existing-cancel.toml"])
+    plane = result.planes[0]
+    assert plane.chosen.used_parts == 0
+    _, drawing, texts = _page(result)
+    strings = _strings(texts)
+    assert drawing.required_xy is None and drawing.residual_xy is None
+    assert "required ≈ 0\nresidual ≈ 0" in strings
+    assert "≈ 0 g·mm" in strings                           # the residual in the result box
+    # Both washers stay on, drawn where the job file puts them.
+    assert drawing.stay_xy == {4: drawing.position_xy[4], 10: drawing.position_xy[10]}
+    assert drawing.fit_xy == {} and drawing.remove_xy == {}
+    # The key lists what is drawn and nothing else.
+    assert "part on the rotor: leave it on" in strings
+    for absent in ("required correction", "residual after the plan", "part to fit",
+                   "blocked: takes no part", "part on the rotor: remove it"):
+        assert absent not in strings
+    sentence = next(t for t in strings if t.startswith("Required correction: total"))
+    flat = sentence.replace("\n", " ")
+    assert "total 444.0 g·mm at 90.0°" in flat and "existing parts 444.0 g·mm at 90.0°" in flat
+    assert "= further ≈ 0 g·mm" in flat
+
+
+def _unit_deg(angle_deg: float) -> complex:
+    return complex(math.cos(math.radians(angle_deg)), math.sin(math.radians(angle_deg)))
+
+
+def test_total_basis_draws_the_further_correction(scratch):
+    # drill.toml: 900 g·mm at 10° for the rotor without its parts; on it M10 (3.57 g) at
+    # position 3 (90°) and M8 (1.83 g) at position 8 (315°), r = 120 mm, 8 positions from 0°.
+    result = _solved(scratch["drill.toml"])
+    further = 900.0 * _unit_deg(10.0) - 120.0 * (3.57 * _unit_deg(90.0) + 1.83 * _unit_deg(315.0))
+    _, drawing, texts = _page(result)
+    plane = result.planes[0]
+    scale = 0.78 / max(abs(further), plane.chosen.residual_gmm)
+    radius, angle = _unit_circle_deg(drawing.required_xy[1])
+    assert radius == pytest.approx(abs(further) * scale)
+    expected = page_angle_deg(math.degrees(np.angle(further)), False) % 360.0   # with rotation
+    assert abs((angle - expected + 180.0) % 360.0 - 180.0) < 1e-6
+    strings = _strings(texts)
+    assert f"{abs(further):.1f} g·mm at {math.degrees(np.angle(further)) % 360:.1f}°" in strings
+    flat = " ".join(strings).replace("\n", " ")
+    assert f"= further {abs(further):.1f} g·mm" in flat
+
+
+def test_existing_parts_measured_on_are_drawn_to_stay_or_go():
+    # pump-impeller-rework.toml: M12 on position 6, M8 on position 7, correction measured
+    # with them on (correction_basis = "further").
+    result = _solved(EXAMPLES / "pump-impeller-rework.toml")
+    plane = result.planes[0]
+    removed = {p.position for p in plane.chosen.parts if p.action == "remove"}
+    _, drawing, texts = _page(result)
+    assert set(drawing.remove_xy) == removed
+    assert set(drawing.stay_xy) == {6, 7} - removed
+    assert "measured with the existing parts on" in _flat(texts)
+    # The correction is 600 g·mm at 2°, counted against rotation: page angle 92°.
+    _, angle = _unit_circle_deg(drawing.required_xy[1])
+    assert angle == pytest.approx(92.0)
+    if removed:
+        assert "part on the rotor: remove it" in _strings(texts)
+
+
+def test_add_only_and_remove_only_positions_have_their_own_markers(supply_fan):
+    # pump-impeller-rework.toml: accepts = "add", remove_only = [3, 8], blocked = [1].
+    result = _solved(EXAMPLES / "pump-impeller-rework.toml")
+    _, drawing, texts = _page(result)
+    assert {"pos_add", "pos_remove", "blocked"} <= set(drawing.kinds)
+    assert "pos_both" not in drawing.kinds
+    assert {"position for added parts only", "position for drilling only"} <= set(
+        _strings(texts))
+    # supply-fan.toml takes parts everywhere: one kind of position, no such key rows.
+    _, drawing, texts = _page(supply_fan)
+    assert [k for k in drawing.kinds if k.startswith("pos_")] == ["pos_both"]
+    assert "position for added parts only" not in _strings(texts)
+
+
+def test_drilled_holes_are_drilled_with_the_caution(scratch, supply_fan):
+    result = _solved(scratch["drill.toml"])
+    plane = result.planes[0]
+    holes = [p for p in plane.chosen.parts if p.action == "fit" and p.mass_g < 0]
+    assert holes                                           # the plan drills (precondition)
+    _, drawing, texts = _page(result)
+    strings = _strings(texts)
+    assert strings.count("DRILL") == len(holes)            # the table's action cells
+    assert "FIT" not in strings or any(p.action == "fit" and p.mass_g > 0
+                                       for p in plane.chosen.parts)
+    assert any("DRILL" in t and not t.startswith("DRILL:") and t.isupper() for t in strings)
+    assert set(drawing.drill_xy) == {p.position for p in holes}
+    flat = " ".join(strings).replace("\n", " ")
+    assert DRILL_CAUTION in flat
+    assert "hole to drill" in strings
+    _, _, texts = _page(supply_fan)
+    assert DRILL_CAUTION not in " ".join(_strings(texts)).replace("\n", " ")
+
+
+def _with_residual(result, share: float, angle_deg: float = 200.0):
+    plane = result.planes[0]
+    chosen = dataclasses.replace(plane.chosen, residual_gmm=share * plane.required_gmm,
+                                 residual_angle_deg=angle_deg)
+    return dataclasses.replace(result, planes=(dataclasses.replace(plane, chosen=chosen),)
+                               + result.planes[1:])
+
+
+def test_residual_is_drawn_to_scale_enlarged_or_not_at_all(supply_fan):
+    # 23 % of the required correction: to the required arrow's scale (0.78 long), no note.
+    _, drawing, texts = _page(_with_residual(supply_fan, 0.23))
+    (start, tip) = drawing.residual_xy
+    assert start == (0.0, 0.0)
+    assert _unit_circle_deg(tip)[0] == pytest.approx(0.78 * 0.23)
+    assert not any("enlarged" in t for t in _strings(texts))
+    # 5 %: too short to see, so drawn enlarged and labelled so.
+    _, drawing, texts = _page(_with_residual(supply_fan, 0.05))
+    assert drawing.residual_xy[0] != (0.0, 0.0)
+    assert "residual\n(enlarged)" in _strings(texts)
+    # Zero: no arrow, a note instead.
+    _, drawing, texts = _page(_with_residual(supply_fan, 0.0))
+    assert drawing.residual_xy is None
+    assert "residual ≈ 0" in _strings(texts)
+    assert "residual after the plan" not in _strings(texts)
+
+
+def test_chance_columns_only_when_the_options_carry_a_chance(supply_fan):
+    plane = supply_fan.planes[0]
+    assert all(o.chance_within is None for o in plane.front)    # no fitting errors given
+    _, _, texts = _page(supply_fan)
+    assert "Chance" not in _strings(texts) and "95 %" not in _strings(texts)
+    rated = [dataclasses.replace(o, chance_within=0.5, residual_p95_gmm=2 * o.residual_gmm)
+             for o in plane.front]
+    edited = dataclasses.replace(plane, front=tuple(rated))
+    _, _, texts = _page(dataclasses.replace(supply_fan, planes=(edited,) + supply_fan.planes[1:]))
+    assert "Chance" in _strings(texts) and "95 %" in _strings(texts)
+
+
+def test_large_plane_numbers_every_few_positions_and_those_that_matter():
+    # wheel-rim.toml, inner flange: 72 slots, blocked 36, 37, 38.  Every 6th slot is
+    # numbered (1, 7, ... 67) with the slots used and the blocked run (as "36–38"); a
+    # regular number too close to one of those gives way.
+    result = _solved(EXAMPLES / "wheel-rim.toml")
+    plane = result.planes[0]
+    used = {p.position for p in plane.chosen.parts}
+    _, drawing, _ = _page(result)
+    shown = {t.get_text() for t in drawing.ax.texts if re.fullmatch(r"\d+(–\d+)?", t.get_text())}
+    assert "36–38" in shown and not {"36", "37", "38"} & shown
+    assert {str(k) for k in used} <= shown
+    regular = {str(k) for k in range(1, 73, 6)}
+    assert shown <= regular | {str(k) for k in used} | {"36–38"}
+    assert len(regular - shown) <= 2 * len(used) + 1       # only neighbours give way
 
 
 # --- the command line ----------------------------------------------------------------
