@@ -11,13 +11,16 @@ style, never in colour alone, and the key lists only the symbols drawn.
 Drawing convention
 ------------------
 The face is drawn as seen from the working side, with the reference mark
-(0°) at the top.  When the job counts angles "against rotation" or "with
-rotation", the rotation arrow is drawn clockwise and angles grow
-counterclockwise ("against rotation") or clockwise ("with rotation") on the
-page.  When the job counts angles "clockwise" or "counterclockwise" (as seen
-from the working side), angles grow that way on the page and no rotation
-arrow is drawn, since the job does not say which way the rotor turns.
-Positions are drawn at their radius relative to the largest one.
+(0°) at the top.  When the job says how the rotor turns (``[rotor]
+rotation``, seen from the working side), the rotation arrow is drawn that
+way and angles counted "against rotation" or "with rotation" grow the
+other way or the same way on the page.  When it does not, and angles are
+counted "against rotation" or "with rotation", the rotation arrow is drawn
+clockwise (the sheet says the drawing is a mirror image if the rotor turns
+the other way).  Angles counted "clockwise" or "counterclockwise" (as seen
+from the working side) grow that way on the page; with no rotation given,
+no rotation arrow is drawn.  Positions are drawn at their radius relative
+to the largest one.
 
 The arrows are the correction still needed with any existing parts on
 (``placer.solve.further_correction_gmm``) and the residual after the plan,
@@ -90,18 +93,29 @@ def require_matplotlib() -> None:
 
 # --- the drawing convention, as numbers -------------------------------------------------
 
-def angles_counterclockwise(angle_sense: str) -> bool:
+def angles_counterclockwise(angle_sense: str, rotation: str | None = None) -> bool:
     """Whether the job's angles grow counterclockwise on the drawing.
 
-    The rotation is drawn clockwise, so "against rotation" means
-    counterclockwise on the page; "clockwise" and "counterclockwise" are
+    ``rotation`` is how the rotor turns seen from the working side
+    ("clockwise", "counterclockwise" or None when the job does not say; it
+    is then drawn clockwise).  "against rotation" grows the other way,
+    "with rotation" the same way; "clockwise" and "counterclockwise" are
     taken as seen from the working side, as the drawing is.
     """
-    return angle_sense in ("against rotation", "counterclockwise")
+    if angle_sense in ("clockwise", "counterclockwise"):
+        return angle_sense == "counterclockwise"
+    turns_clockwise = rotation != "counterclockwise"
+    return (angle_sense == "against rotation") == turns_clockwise
 
 
-def rotation_clockwise(angle_sense: str) -> bool | None:
-    """True when the rotation arrow is drawn (clockwise); None when the job does not say."""
+def rotation_clockwise(angle_sense: str, rotation: str | None = None) -> bool | None:
+    """How the rotation arrow is drawn: True clockwise, False counterclockwise, None not drawn.
+
+    Without a stated ``rotation`` it is drawn clockwise when the angles are
+    counted with or against rotation, and not at all otherwise.
+    """
+    if rotation is not None:
+        return rotation == "clockwise"
     return True if angle_sense in ("against rotation", "with rotation") else None
 
 
@@ -304,7 +318,8 @@ class PlaneDrawing:
     ``position_xy`` maps every position number to its marker; ``fit_xy``
     (parts to fit and holes to drill), ``drill_xy`` (holes only),
     ``remove_xy``, ``stay_xy`` (existing parts left on) and ``blocked_xy``
-    the positions with those symbols.  ``required_xy`` and ``residual_xy``
+    the positions with those symbols.  ``rotation_clockwise`` is the way the
+    rotation arrow turns on the page (None: not drawn).  ``required_xy`` and ``residual_xy``
     are the arrows as (tail, tip), None when not drawn.  ``kinds`` are the
     symbols drawn, in the order the key lists them.  ``ax`` is the matplotlib
     Axes (``ax.transData`` turns data units into pixels of the page).
@@ -715,8 +730,8 @@ def _label_plan(texts: list[str], wanted: list[float], label_r: float, unit_in: 
     return spread_deg(wanted, gaps), sizes
 
 
-def draw_plane(ax, result: PlaneResult, angle_sense: str,
-               width_in: float = DRAW_IN) -> PlaneDrawing:
+def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW_IN,
+               rotation: str | None = None) -> PlaneDrawing:
     """Draw one rotor face into ``ax``; returns where each thing was drawn.
 
     The drawing is ``width_in`` wide; its height follows what is drawn (read
@@ -733,11 +748,13 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str,
         The job's ``rotor.angle_sense`` (see the module's drawing convention).
     width_in : float
         Width of the drawing on the page [in]; spacing of the labels follows it.
+    rotation : str, optional
+        The job's ``rotor.rotation`` ("clockwise", "counterclockwise", None).
     """
     geometry = result.plane.geometry
     facts = plane_facts(result)
-    ccw = angles_counterclockwise(angle_sense)
-    clockwise_rotation = rotation_clockwise(angle_sense)
+    ccw = angles_counterclockwise(angle_sense, rotation)
+    clockwise_rotation = rotation_clockwise(angle_sense, rotation)
     r_max = max(geometry.radii_mm)
     n = geometry.n_positions
     ax.set_aspect("equal")
@@ -845,15 +862,16 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str,
     # Rotation: a heavy arc across the top, clear of the labels there.
     top_labels = [b for b in room.boxes if b[1] > 0.9 and abs((b[0] + b[2]) / 2) < 0.75]
     arc_r = max([1.24] + [b[3] for b in top_labels]) + 0.14
-    if clockwise_rotation:
-        _arc(ax, arc_r, 116, 64, lw=2.0, zorder=3)
+    drawn = clockwise_rotation is not None
+    if drawn:
+        _arc(ax, arc_r, *((116, 64) if clockwise_rotation else (64, 116)), lw=2.0, zorder=3)
         text, style = "ROTATION", dict(weight="bold")
         kinds.append("rotation")
     else:
         text, style = "sense of rotation not stated in the job file", dict(style="italic")
-    w, h = room.size(text, 8 if clockwise_rotation else 7, bold=bool(clockwise_rotation))
+    w, h = room.size(text, 8 if drawn else 7, bold=drawn)
     box = (-w / 2, arc_r + 0.04, w / 2, arc_r + 0.04 + h)
-    _put(ax, room, box, text, 8 if clockwise_rotation else 7, **style)
+    _put(ax, room, box, text, 8 if drawn else 7, **style)
     ax.set_xlim(-half, half)
     ax.set_ylim(-(max(reach_bottom, 1.22) + 0.06), box[3] + 0.05)
 
@@ -1372,11 +1390,15 @@ def _result_box(page: _Page, x: float, y: float, w: float, plane: PlaneResult,
     return y + height + 0.06
 
 
-def _convention(angle_sense: str) -> str:
-    on_page = "counterclockwise" if angles_counterclockwise(angle_sense) else "clockwise"
+def _convention(angle_sense: str, rotation: str | None = None) -> str:
+    on_page = ("counterclockwise" if angles_counterclockwise(angle_sense, rotation)
+               else "clockwise")
     text = (f"Drawn as seen from the working side, reference mark at the top. Angles: degrees "
             f"from the mark, counted {angle_sense} ({on_page} on this drawing). ")
-    if rotation_clockwise(angle_sense):
+    if rotation is not None:
+        text += (f"The rotor turns {rotation} as seen from the working side, as drawn. Fit by "
+                 "position number.")
+    elif rotation_clockwise(angle_sense):
         text += ("Rotation is drawn clockwise; if the rotor turns the other way as you face it, "
                  "this drawing is its mirror image. Fit by position number: the numbers hold "
                  "either way.")
@@ -1514,7 +1536,8 @@ def _lower(page: _Page, y: float, result: JobResult, plane: PlaneResult,
     basis = _basis_sentence(plane, facts)
     if basis:
         y = page.paragraph(MARGIN_IN, y, basis, width, 7.5, weight="bold") + 0.02
-    y = page.paragraph(MARGIN_IN, y, _convention(result.job.rotor.angle_sense), width, 7,
+    rotor = result.job.rotor
+    y = page.paragraph(MARGIN_IN, y, _convention(rotor.angle_sense, rotor.rotation), width, 7,
                        style="italic") + 0.1
     page.rule(y - 0.04, lw=0.4, color=GREY)
     half = width / 2 - 0.1
@@ -1553,8 +1576,8 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     side_x = MARGIN_IN + DRAW_IN + 0.25
     side_w = PAGE_IN[0] - MARGIN_IN - side_x
     ax = fig.add_axes((0, 0, 1, 1))
-    sense = result.job.rotor.angle_sense
-    drawing = draw_plane(ax, plane, sense, DRAW_IN)
+    sense, rotation = result.job.rotor.angle_sense, result.job.rotor.rotation
+    drawing = draw_plane(ax, plane, sense, DRAW_IN, rotation)
     room = _cautions_top(drilling) - 0.12 - _lower(_Page(None), 0.0, result, plane, facts) \
         - 0.06 - top
 
@@ -1575,7 +1598,7 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     if draw_h > max(room, side_end - top) + 1e-6:
         width = max(3.2, width * max(room, side_end - top) / draw_h)
         ax.cla()
-        drawing = draw_plane(ax, plane, sense, width)
+        drawing = draw_plane(ax, plane, sense, width, rotation)
         draw_h = height(width)
     left = MARGIN_IN + (DRAW_IN - width) / 2
     ax.set_position((left / PAGE_IN[0], 1 - (top + draw_h) / PAGE_IN[1],

@@ -165,6 +165,40 @@ def test_convention(sense, ccw, drawn):
     assert page_angle_deg(90.0, ccw) % 360 == (180.0 if ccw else 0.0)
 
 
+@pytest.mark.parametrize("sense, rotation, ccw, drawn", [
+    # A rotor turning counterclockwise as you face it: "against rotation" is clockwise.
+    ("against rotation", "counterclockwise", False, False),
+    ("with rotation", "counterclockwise", True, False),
+    ("against rotation", "clockwise", True, True), ("with rotation", "clockwise", False, True),
+    ("clockwise", "counterclockwise", False, False), ("counterclockwise", "clockwise", True, True)])
+def test_convention_with_a_stated_rotation(sense, rotation, ccw, drawn):
+    assert angles_counterclockwise(sense, rotation) is ccw
+    assert rotation_clockwise(sense, rotation) is drawn
+
+
+def test_stated_rotation_is_drawn_as_stated(tmp_path):
+    # 8 positions from 0°, counted against a counterclockwise rotation: position 3 (90°)
+    # lies a quarter turn clockwise from the mark, at 3 o'clock.
+    job = tmp_path / "ccw.toml"
+    job.write_text("""
+[rotor]
+name = "Counterclockwise fan"
+angle_sense = "against rotation"
+rotation = "counterclockwise"
+
+[[planes]]
+name = "hub"
+radius_mm = 100.0
+positions = 8
+catalog = "washers-steel"
+correction = { gmm = 300.0, angle_deg = 60.0 }
+""", encoding="utf-8")
+    drawing = _drawings(solve_job(read_job(job)))[0]
+    assert drawing.rotation_clockwise is False and not drawing.counterclockwise
+    assert drawing.position_xy[3] == pytest.approx((1.0, 0.0), abs=1e-12)
+    assert "rotation" in drawing.kinds
+
+
 def test_positions_lie_on_the_circle_at_the_job_angles(supply_fan):
     # supply-fan.toml: 12 holes at one radius, hole 1 at the reference mark, so hole k is at
     # 30·(k - 1) degrees, counted against rotation = counterclockwise on the drawing.
