@@ -608,9 +608,11 @@ def test_existing_parts_measured_on_are_drawn_to_stay_or_go():
     assert set(drawing.remove_xy) == removed
     assert set(drawing.stay_xy) == {6, 7} - removed
     assert "measured with the existing parts on" in _flat(texts)
-    # The correction is 600 g·mm at 2°, counted against rotation: page angle 92°.
+    # The correction is 600 g·mm at 2°, counted against rotation; the rotor turns
+    # counterclockwise seen from the working side, so angles grow clockwise on the
+    # page: page angle 90° - 2° = 88°.
     _, angle = _unit_circle_deg(drawing.required_xy[1])
-    assert angle == pytest.approx(92.0)
+    assert angle == pytest.approx(88.0)
     if removed:
         assert "part on the rotor: remove it" in _strings(texts)
 
