@@ -5,7 +5,9 @@ coefficients), returns a :class:`FieldResult`.  The discrete plan is the
 exact search of :mod:`placer.search` with one channel per sensor: the
 effect of a part is the vibration it adds at every sensor, A[:, plane]·m·r·e^{iθ},
 so the planes are solved together, not each plane's correction rounded on
-its own.
+its own.  After a check run, the parts fitted for it take room on their
+positions and may be taken off: taking one off has the opposite effect of
+fitting it.
 """
 
 from __future__ import annotations
@@ -14,16 +16,26 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from placer.influence import (Coefficients, StaticCouple, coefficients_from_runs,
-                              least_squares_correction, static_couple)
+from placer.influence import (Coefficients, CoefficientMismatch, StaticCouple,
+                              StoredCoefficients, adapt_stored, checked_coefficients,
+                              coefficients_from_runs, least_squares_correction, static_couple)
 from placer.plan import FittedPart
 from placer.search import PlacementSearch, Selection
-from placer.session import FIELD_NORMS, Session
+from placer.session import FIELD_NORMS, PlacedMass, Session
+
+__all__ = ["CoefficientMismatch", "FieldOption", "FieldResult", "field_search", "objective_of",
+           "solve_session"]
 
 
 @dataclass(frozen=True)
 class FieldOption:
-    """A discrete plan and the vibration it is predicted to leave."""
+    """A discrete plan and the vibration it is predicted to leave.
+
+    ``parts`` are (plane index, FittedPart) pairs; a part with action
+    "remove" is one fitted for a check run, to be taken off.  ``predicted``
+    is the vibration at each sensor once the plan is carried out [session
+    unit and measure]; ``objective`` its largest or root-sum-square value.
+    """
 
     part_count: int
     parts: tuple[tuple[int, FittedPart], ...]
@@ -33,6 +45,7 @@ class FieldOption:
 
     @property
     def used_parts(self) -> int:
+        """Operations: parts fitted plus parts taken off."""
         return sum(p.count for _, p in self.parts)
 
 
@@ -51,14 +64,23 @@ class FieldResult:
     chosen: FieldOption
     rounded: FieldOption
     warnings: tuple[str, ...]
+    fitted: tuple[PlacedMass, ...] = ()
 
     def best_with_at_most(self, parts: int) -> FieldOption:
         """The coupled plan with the least predicted vibration using at most ``parts`` parts."""
         return [o for o in self.front if o.used_parts <= parts][-1]
 
     @property
+    def coupled_same_parts(self) -> FieldOption:
+        """The coupled optimum with no more parts than the rounded per-plane plan."""
+        return self.best_with_at_most(self.rounded.used_parts)
+
+    @property
     def within_limit(self) -> bool | None:
-        """Whether the chosen plan's prediction is below the session's limit (None: no limit)."""
+        """Whether the chosen plan's prediction is at or below the session's limit.
+
+        Both are in the session's unit and measure.  None: no limit given.
+        """
         limit = self.session.vibration_limit
         return None if limit is None else self.chosen.objective <= limit
 
@@ -69,49 +91,93 @@ def objective_of(values: np.ndarray, weights: np.ndarray, norm: str) -> float:
     return float(scaled.max() if norm == "max" else np.linalg.norm(scaled))
 
 
-def _layout(session: Session):
-    """Positions of all planes in one list, items of all catalogues in one list."""
-    positions = []
-    for p, plane in enumerate(session.planes):
-        for j in range(plane.geometry.n_positions):
-            positions.append((p, j))
+@dataclass(frozen=True)
+class _Row:
+    """A row of the search: a position of a plane, or taking off a fitted part (``fitted``)."""
+
+    plane: int
+    position: int
+    fitted: int = -1
+
+
+def _item_columns(session: Session) -> list[tuple[str, int]]:
+    """Items of all catalogues in one list, as (catalogue source, item index)."""
     items: list[tuple[str, int]] = []
     for plane in session.planes:
         for k in range(len(plane.catalog.items)):
             key = (plane.catalog.source, k)
             if key not in items:
                 items.append(key)
-    return positions, items
+    return items
 
 
-def field_search(session: Session, matrix: np.ndarray) -> tuple[PlacementSearch, list, list]:
-    """The exact search over every plane's positions, with sensors as channels."""
-    positions, items = _layout(session)
+def field_search(session: Session, matrix: np.ndarray,
+                 fitted: tuple[PlacedMass, ...] = ()) -> tuple[PlacementSearch, list, list]:
+    """The exact search over every plane's positions, with sensors as channels.
+
+    Parameters
+    ----------
+    session : Session
+    matrix : complex (channels, planes)
+        Influence coefficients [reading per g·mm].
+    fitted : tuple of PlacedMass
+        Parts on the rotor that a plan may take off (fitted for a check run):
+        each takes ``count`` places of its position's capacity and gets a row
+        of its own whose effect is minus the part's, with room and stock
+        ``count``.
+
+    Returns
+    -------
+    (PlacementSearch, rows, columns)
+        The search and, for its rows and columns, what they stand for.
+    """
+    rows = [_Row(p, j) for p, plane in enumerate(session.planes)
+            for j in range(plane.geometry.n_positions)]
+    rows += [_Row(m.plane, m.position - 1, f) for f, m in enumerate(fitted)]
+    items: list = _item_columns(session)
+    n_items = len(items)
+    items += [("fitted", f) for f in range(len(fitted))]
     weights = np.sqrt(np.array([c.weight for c in session.channels]))
-    effects = np.zeros((len(positions), len(items), len(session.channels)), dtype=complex)
-    capacity = np.zeros(len(positions), dtype=np.int64)
-    for row, (p, j) in enumerate(positions):
-        plane = session.planes[p]
-        capacity[row] = plane.geometry.capacities()[j]
-        unit = plane.geometry.unit_vectors_mm()[j]
-        for col, (source, k) in enumerate(items):
-            if source == plane.catalog.source:
-                effects[row, col] = weights * matrix[:, p] * plane.catalog.items[k].mass_g * unit
+    effects = np.zeros((len(rows), len(items), len(session.channels)), dtype=complex)
+    capacity = np.zeros(len(rows), dtype=np.int64)
+    offsets = np.cumsum([0] + [pl.geometry.n_positions for pl in session.planes])
+    for r, row in enumerate(rows):
+        plane = session.planes[row.plane]
+        if row.fitted >= 0:
+            mass = fitted[row.fitted]
+            effects[r, n_items + row.fitted] = (-weights * matrix[:, row.plane] * mass.gmm
+                                                / mass.count)
+            capacity[r] = mass.count
+            continue
+        capacity[r] = plane.geometry.capacities()[row.position]
+        unit = plane.geometry.unit_vectors_mm()[row.position]
+        for col, (source, k) in enumerate(items[:n_items]):
+            item = plane.catalog.items[k] if source == plane.catalog.source else None
+            if item is not None and plane.geometry.takes(row.position + 1, item.removes):
+                effects[r, col] = weights * matrix[:, row.plane] * item.mass_g * unit
+    for mass in fitted:
+        r = offsets[mass.plane] + mass.position - 1
+        capacity[r] = max(0, capacity[r] - mass.count)
     stock = np.zeros(len(items), dtype=np.int64)
-    for col, (source, k) in enumerate(items):
+    for col, (source, k) in enumerate(items[:n_items]):
         catalog = next(pl.catalog for pl in session.planes if pl.catalog.source == source)
         item = catalog.items[k]
         stock[col] = session.max_parts if item.stock is None else item.stock
+    for f, mass in enumerate(fitted):
+        stock[n_items + f] = mass.count
     search = PlacementSearch(effects, capacity, stock, session.max_parts,
                              norm=FIELD_NORMS[session.norm])
-    return search, positions, items
+    return search, rows, items
 
 
 def _predicted(session: Session, parts, matrix: np.ndarray, now: np.ndarray) -> np.ndarray:
-    """Vibration predicted once ``parts`` ((plane, FittedPart) pairs) are fitted: V + A·w."""
+    """Vibration predicted once ``parts`` ((plane, FittedPart) pairs) are carried out: V + A·w.
+
+    A part taken off counts with a minus sign.
+    """
     added = np.zeros(len(session.planes), dtype=complex)
     for p, part in parts:
-        added[p] += part.count * part.mass_g * part.radius_mm * np.exp(
+        added[p] += part.signed_count * part.mass_g * part.radius_mm * np.exp(
             1j * np.radians(part.angle_deg))
     return now + matrix @ added
 
@@ -124,52 +190,95 @@ def _field_option(session: Session, part_count: int, parts, matrix: np.ndarray,
                        objective_of(predicted, weights, session.norm), proven)
 
 
-def _option(session, selection: Selection, positions, items, matrix, now) -> FieldOption:
+def _part(session: Session, plane_index: int, position_index: int, item_id: str,
+          mass_g: float, count: int, action: str = "fit") -> FittedPart:
+    geometry = session.planes[plane_index].geometry
+    return FittedPart(position=position_index + 1, angle_deg=geometry.angles_deg[position_index],
+                      radius_mm=geometry.radii_mm[position_index], item=item_id, mass_g=mass_g,
+                      count=count, action=action)
+
+
+def _option(session, selection: Selection, rows, items, fitted, matrix, now) -> FieldOption:
     parts = []
-    for row, col, count in selection.parts:
-        p, j = positions[row]
-        plane = session.planes[p]
-        item = plane.catalog.items[items[col][1]]
-        parts.append((p, FittedPart(position=j + 1, angle_deg=plane.geometry.angles_deg[j],
-                                    radius_mm=plane.geometry.radii_mm[j], item=item.id,
-                                    mass_g=item.mass_g, count=count)))
+    for r, col, count in selection.parts:
+        row = rows[r]
+        if row.fitted >= 0:
+            mass = fitted[row.fitted]
+            part = FittedPart(position=mass.position, angle_deg=mass.angle_deg,
+                              radius_mm=mass.radius_mm, item=mass.item or "", mass_g=mass.mass_g,
+                              count=count, action="remove")
+        else:
+            item = session.planes[row.plane].catalog.items[items[col][1]]
+            part = _part(session, row.plane, row.position, item.id, item.mass_g, count)
+        parts.append((row.plane, part))
+    parts.sort(key=lambda pp: (pp[1].action != "remove", pp[0], pp[1].position))
     return _field_option(session, selection.part_count, parts, matrix, now, selection.proven)
 
 
-def solve_session(session: Session, stored: np.ndarray | None = None,
-                  stored_label: str = "") -> FieldResult:
-    """Coefficients, continuous correction and the coupled discrete plan of a visit."""
-    during, state = session.weights_in()
-    reference = session.runs[0].readings
-    trial_index = [i for i, r in enumerate(session.runs) if r.kind == "trial"]
+def _coefficients(session: Session, stored: StoredCoefficients | None
+                  ) -> tuple[Coefficients, str]:
     names = [c.name for c in session.channels]
     plane_names = [p.geometry.name for p in session.planes]
+    weights = np.array([c.weight for c in session.channels])
     if stored is not None:
-        coefficients = Coefficients(stored, float(np.linalg.cond(stored)), ())
-        source = stored_label or "stored coefficients"
-    else:
-        readings = np.array([session.runs[i].readings for i in trial_index])
-        coefficients = coefficients_from_runs(reference, readings, during[trial_index],
-                                              names, plane_names)
-        source = f"{len(trial_index)} trial run(s) of this visit"
+        matrix, notes = adapt_stored(stored, session.unit, session.measure,
+                                     session.rotor.angle_sense, session.rotation,
+                                     session.rotor.service_rpm)
+        return checked_coefficients(matrix, plane_names, weights, notes), stored.label
+    during, _ = session.weights_in()
+    trial_index = [i for i, r in enumerate(session.runs) if r.kind == "trial"]
+    base = session.baselines()
+    readings = np.array([session.runs[i].readings for i in trial_index])
+    baselines = np.array([session.runs[base[i]].readings for i in trial_index])
+    coefficients = coefficients_from_runs(
+        session.runs[0].readings, readings, during[trial_index], names, plane_names,
+        channel_weights=weights, baselines=baselines,
+        baseline_names=[session.runs[base[i]].name for i in trial_index])
+    return coefficients, f"{len(trial_index)} trial run(s) of this visit"
+
+
+def solve_session(session: Session, stored: StoredCoefficients | None = None) -> FieldResult:
+    """Coefficients, continuous correction and the coupled discrete plan of a visit.
+
+    Parameters
+    ----------
+    session : Session
+    stored : StoredCoefficients, optional
+        Coefficients of an earlier visit (``coefficients = "stored"``); they
+        are brought to this session's unit, measure and angle sense.
+
+    Raises
+    ------
+    CoefficientMismatch
+        Stored coefficients that cannot serve this session.
+    ValueError
+        Trial runs that do not move every plane.
+
+    References
+    ----------
+    Correction W = -(Aᴴ D A)⁻¹ Aᴴ D V (:func:`placer.influence.least_squares_correction`).
+    """
+    _, state = session.weights_in()
+    coefficients, source = _coefficients(session, stored)
     matrix = coefficients.matrix
     checks = [r for r in session.runs if r.kind == "check"]
     if checks:
         now, basis = checks[-1].readings, f"check run '{checks[-1].name}' (trim plan)"
     else:
-        now = reference + matrix @ state
+        now = session.runs[0].readings + matrix @ state
         basis = "reference run" + (" with the trial weights left on" if np.any(state) else "")
     weights = np.array([c.weight for c in session.channels])
     correction = least_squares_correction(matrix, now, weights)
     sc = None
     if len(session.planes) == 2:
         sc = static_couple(correction[0], correction[1], session.plane_separation_mm)
-    search, positions, items = field_search(session, matrix)
+    fitted = session.fitted_parts() if checks else ()
+    search, rows, items = field_search(session, matrix, fitted)
     front = search.front(np.sqrt(weights) * now)
-    options = [_option(session, e, positions, items, matrix, now) for e in front.entries]
+    options = [_option(session, e, rows, items, fitted, matrix, now) for e in front.entries]
     tidy = [options[0]] + [o for prev, o in zip(options, options[1:])
                            if o.used_parts > prev.used_parts and o.objective < prev.objective]
-    rounded = _rounded_plan(session, correction, matrix, now)
+    rounded = _rounded_plan(session, correction, matrix, now, fitted)
     warnings = list(coefficients.warnings)
     if sc is not None and sc.couple_negligible:
         warnings.append("the couple part is negligible (under 10 % of the static part, "
@@ -178,29 +287,42 @@ def solve_session(session: Session, stored: np.ndarray | None = None,
     if session.vibration_limit is not None:
         chosen = next((o for o in tidy if o.objective <= session.vibration_limit), options[-1])
     return FieldResult(session, coefficients, source, now, basis, correction, sc,
-                       tuple(tidy), chosen, rounded, tuple(warnings))
+                       tuple(tidy), chosen, rounded, tuple(warnings), fitted)
 
 
 def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
-                  now: np.ndarray) -> FieldOption:
+                  now: np.ndarray, fitted: tuple[PlacedMass, ...] = ()) -> FieldOption:
     """Each plane's continuous correction rounded on its own (exactly), then predicted.
 
     Each plane gets an equal share of max_parts (at least one) and its own
-    least-residual plan for its own correction; the planes are not coupled.
+    least-residual plan [g·mm] for its own correction, with the same room on
+    its positions and the same fitted parts to take off as the coupled plan;
+    the planes are not coupled.
     """
-    from placer.solve import PlaneArrays, exact_front
-
     share = max(1, session.max_parts // len(session.planes))
     parts = []
     for p, plane in enumerate(session.planes):
-        masses = np.array([i.mass_g for i in plane.catalog.items])
-        effects = -(plane.geometry.unit_vectors_mm()[:, None] * masses[None, :])[:, :, None]
-        stock = np.array([share if i.stock is None else i.stock for i in plane.catalog.items])
-        arrays = PlaneArrays(effects, np.array([correction[p]]), plane.geometry.capacities(),
-                             stock)
-        entries, _, _ = exact_front(arrays, share)
-        for j, k, c in entries[-1].parts:
-            item = plane.catalog.items[k]
-            parts.append((p, FittedPart(j + 1, plane.geometry.angles_deg[j],
-                                        plane.geometry.radii_mm[j], item.id, item.mass_g, c)))
+        geometry, catalog = plane.geometry, plane.catalog
+        mine = [m for m in fitted if m.plane == p]
+        masses = np.array([i.mass_g for i in catalog.items])
+        n_pos, n_items = geometry.n_positions, len(masses)
+        effects = np.zeros((n_pos + len(mine), n_items + len(mine), 1), dtype=complex)
+        effects[:n_pos, :n_items, 0] = -(geometry.unit_vectors_mm()[:, None] * masses[None, :])
+        capacity = np.concatenate([geometry.capacities(), np.zeros(len(mine), dtype=np.int64)])
+        for f, mass in enumerate(mine):
+            effects[n_pos + f, n_items + f, 0] = mass.gmm / mass.count
+            capacity[n_pos + f] = mass.count
+            capacity[mass.position - 1] = max(0, capacity[mass.position - 1] - mass.count)
+        stock = np.array([share if i.stock is None else i.stock for i in catalog.items]
+                         + [m.count for m in mine], dtype=np.int64)
+        search = PlacementSearch(effects, capacity, stock, share)
+        best = search.front(np.array([correction[p]])).entries[-1]
+        for j, k, c in best.parts:
+            if j >= n_pos:
+                mass = mine[j - n_pos]
+                parts.append((p, FittedPart(mass.position, mass.angle_deg, mass.radius_mm,
+                                            mass.item or "", mass.mass_g, c, "remove")))
+            else:
+                item = catalog.items[k]
+                parts.append((p, _part(session, p, j, item.id, item.mass_g, c)))
     return _field_option(session, sum(c.count for _, c in parts), parts, matrix, now, True)

@@ -9,7 +9,13 @@ from placer.history import MassRecord, RunRecord, VisitRecord
 
 
 def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRecord:
-    """Everything of the visit worth keeping: runs, readings, coefficients, plan, result."""
+    """Everything of the visit worth keeping: runs, readings, coefficients, plan, result.
+
+    The visit's time is the session's ``[visit] date`` if given, else
+    ``started_at``, else now (UTC).  Readings and coefficients are kept in the
+    session's unit and measure, with its angle sense, sense of rotation and
+    speed, so that a later visit can convert them or refuse them.
+    """
     s = result.session
     runs = []
     for run in s.runs:
@@ -21,11 +27,13 @@ def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRec
                               phasors=tuple(complex(v) for v in run.readings), masses=masses))
     planned = tuple(MassRecord(plane=p, position=part.position, angle_deg=part.angle_deg,
                                radius_mm=part.radius_mm, mass_g=part.mass_g, item=part.item,
-                               count=part.count, role="planned", removed_after=False)
+                               count=-part.count if part.action == "remove" else part.count,
+                               role="planned", removed_after=False)
                     for p, part in result.chosen.parts)
     return VisitRecord(
         machine_id=s.machine_id, machine_name=s.machine_name,
-        started_at=started_at or datetime.now(timezone.utc).isoformat(timespec="seconds"),
+        started_at=s.visit_date or started_at
+        or datetime.now(timezone.utc).isoformat(timespec="seconds"),
         session_file=s.source, unit=s.unit, measure=s.measure, phase_sense=s.phase_sense,
         angle_sense=s.rotor.angle_sense, channel_names=tuple(c.name for c in s.channels),
         plane_names=tuple(p.geometry.name for p in s.planes), runs=tuple(runs),
@@ -37,4 +45,7 @@ def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRec
                                               ** 0.5),
                 "vibration_after": result.chosen.objective,
                 "correction_gmm": [[float(w.real), float(w.imag)] for w in result.correction_gmm],
-                "warnings": list(result.warnings)})
+                "vibration_limit": s.vibration_limit,
+                "within_limit": result.within_limit,
+                "warnings": list(result.warnings)},
+        service_rpm=s.rotor.service_rpm, rotation=s.rotation)

@@ -3,8 +3,12 @@
 One SQLite file (stdlib ``sqlite3``) holds every machine seen, every visit
 to it (the runs with their readings as read and as converted phasors, the
 masses fitted and planned, the influence coefficients and a summary of the
-result).  A later visit can reuse the newest coefficients measured with the
-same sensors and planes instead of repeating the trial runs.
+result).  Phasors and coefficients are in the visit's unit and measure
+(coefficients per g·mm), with phases in its angle sense.  A later visit can
+reuse the newest coefficients measured with the same sensors and planes
+instead of repeating the trial runs; they come back with their unit,
+measure, angle sense and speed (:class:`placer.influence.StoredCoefficients`)
+so that the caller converts or refuses them.
 
 Where the file lives: see :func:`default_db_path`.
 
@@ -14,7 +18,7 @@ Schema (version :data:`SCHEMA_VERSION`)::
     machines(id PK, name, created_at)
     visits(id PK, machine_id -> machines, started_at, session_file, unit,
            measure, phase_sense, angle_sense, coefficient_source, condition,
-           result_json)
+           result_json, service_rpm, rotation)        (the last two from version 2)
     channels(visit_id -> visits, channel_index, name)   PK (visit_id, channel_index)
     planes(visit_id -> visits, plane_index, name)       PK (visit_id, plane_index)
     runs(id PK, visit_id -> visits, seq, name, kind)    UNIQUE (visit_id, seq)
@@ -24,7 +28,14 @@ Schema (version :data:`SCHEMA_VERSION`)::
            position, angle_deg, radius_mm, mass_g, item, count, removed_after)
 
 Foreign keys are enforced on every connection.  Masses with ``run_id`` NULL
-are the visit's planned correction; the others were fitted for that run.
+are the visit's planned correction (a negative count: parts to take off);
+the others were fitted for that run.  ``started_at`` is ISO 8601 text; placer
+writes it in UTC with its offset, or as a date alone when the session gave
+only a date (:func:`utc_label` shows it).
+
+Version 2 (:func:`_migrate_1_to_2`) added the speed and the sense of
+rotation to visits, and holds phasors and coefficients in the visit's
+measure; version 1 held them as peak values.
 Visits are written once and never changed; only a machine's name follows
 its latest saved visit.
 
@@ -67,11 +78,43 @@ from types import TracebackType
 import numpy as np
 
 from placer.errors import PlacerError
+from placer.influence import StoredCoefficients
 
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 """Schema version this placer writes; files of a newer version are refused."""
 
-MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {}
+_V1_PEAK_PER_MEASURE = {"peak": 1.0, "peak-to-peak": 0.5, "rms": math.sqrt(2.0)}
+"""How version 1 turned a reading into a peak value (peak = value·factor; sinusoid
+identities: peak-to-peak = 2·peak, rms = peak/√2)."""
+
+
+def _migrate_1_to_2(conn: sqlite3.Connection) -> None:
+    """Version 1 -> 2: visits get service_rpm and rotation (NULL: not known);
+    phasors, coefficients and the result's vibration figures go from peak to
+    the visit's own measure."""
+    conn.execute("ALTER TABLE visits ADD COLUMN service_rpm REAL")
+    conn.execute("ALTER TABLE visits ADD COLUMN rotation TEXT")
+    for measure, factor in _V1_PEAK_PER_MEASURE.items():
+        if factor == 1.0:
+            continue
+        conn.execute(
+            "UPDATE readings SET re = re / ?1, im = im / ?1 WHERE run_id IN "
+            "(SELECT r.id FROM runs AS r JOIN visits AS v ON v.id = r.visit_id "
+            "WHERE v.measure = ?2)", (factor, measure))
+        conn.execute(
+            "UPDATE coefficients SET re = re / ?1, im = im / ?1 WHERE visit_id IN "
+            "(SELECT id FROM visits WHERE measure = ?2)", (factor, measure))
+        for visit_id, text in conn.execute(
+                "SELECT id, result_json FROM visits WHERE measure = ?", (measure,)).fetchall():
+            result = json.loads(text)
+            for key in ("vibration_before", "vibration_after"):
+                if isinstance(result.get(key), (int, float)):
+                    result[key] = result[key] / factor
+            conn.execute("UPDATE visits SET result_json = ? WHERE id = ?",
+                         (json.dumps(result, ensure_ascii=False), visit_id))
+
+
+MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {1: _migrate_1_to_2}
 """Schema upgrades: ``MIGRATIONS[v](connection)`` turns version v into v + 1.
 
 Each runs inside the opening transaction (foreign keys on) and must leave
@@ -202,7 +245,8 @@ class MassRecord:
 
     ``plane`` is 0-based; ``position`` the position number if it sat on one;
     ``angle_deg`` in the rotor's angle sense [°], ``radius_mm`` [mm],
-    ``mass_g`` of one item [g], ``count`` items; ``role`` one of
+    ``mass_g`` of one item [g], ``count`` items (negative in a planned trim:
+    parts to take off); ``role`` one of
     :data:`MASS_ROLES`; ``removed_after`` whether it came off after its run.
     """
 
@@ -236,7 +280,10 @@ class VisitRecord:
     ``started_at`` is ISO 8601 text; ``coefficients`` the influence
     coefficients, channels × planes [reading unit per g·mm], or None;
     ``condition`` their condition number; ``result`` a JSON-serialisable
-    summary (it reads back as JSON gives it: lists for tuples).  Equality
+    summary (it reads back as JSON gives it: lists for tuples);
+    ``service_rpm`` the speed of the runs [r/min] and ``rotation`` the sense
+    of rotation ("clockwise", "counterclockwise"), None when not known.
+    Phasors and coefficients are in ``unit`` and ``measure``.  Equality
     compares the coefficient arrays element by element.
     """
 
@@ -256,6 +303,8 @@ class VisitRecord:
     coefficient_source: str
     planned: tuple[MassRecord, ...]
     result: dict
+    service_rpm: float | None = None
+    rotation: str | None = None
 
     def __post_init__(self) -> None:
         if self.coefficients is not None:
@@ -424,7 +473,7 @@ class History:
             The record is inconsistent, or the database cannot be written;
             nothing of the visit is stored.
         """
-        _check_record(record)
+        check_record(record)
         conn = self._conn
         try:
             conn.execute("BEGIN IMMEDIATE")
@@ -447,13 +496,15 @@ class History:
                      (record.machine_id, record.machine_name, now))
         visit_id = conn.execute(
             "INSERT INTO visits (machine_id, started_at, session_file, unit, measure, "
-            "phase_sense, angle_sense, coefficient_source, condition, result_json) "
-            "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            "phase_sense, angle_sense, coefficient_source, condition, result_json, "
+            "service_rpm, rotation) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
             (record.machine_id, record.started_at, record.session_file, record.unit,
              record.measure, record.phase_sense, record.angle_sense,
              record.coefficient_source,
              None if record.condition is None else float(record.condition),
-             json.dumps(record.result, ensure_ascii=False))).lastrowid
+             json.dumps(record.result, ensure_ascii=False),
+             None if record.service_rpm is None else float(record.service_rpm),
+             record.rotation)).lastrowid
         conn.executemany("INSERT INTO channels (visit_id, channel_index, name) VALUES (?, ?, ?)",
                          [(visit_id, i, name) for i, name in enumerate(record.channel_names)])
         conn.executemany("INSERT INTO planes (visit_id, plane_index, name) VALUES (?, ?, ?)",
@@ -517,14 +568,15 @@ class History:
         conn = self._conn
         row = conn.execute(
             "SELECT v.machine_id, m.name, v.started_at, v.session_file, v.unit, v.measure, "
-            "v.phase_sense, v.angle_sense, v.coefficient_source, v.condition, v.result_json "
+            "v.phase_sense, v.angle_sense, v.coefficient_source, v.condition, v.result_json, "
+            "v.service_rpm, v.rotation "
             "FROM visits AS v JOIN machines AS m ON m.id = v.machine_id WHERE v.id = ?",
             (visit_id,)).fetchone()
         if row is None:
             raise self._error(f"no visit {visit_id}", key="visit_id",
                               expected="the id of a saved visit")
         (machine_id, machine_name, started_at, session_file, unit, measure, phase_sense,
-         angle_sense, source, condition, result_json) = row
+         angle_sense, source, condition, result_json, service_rpm, rotation) = row
         channel_names = self._names("channels", "channel_index", visit_id)
         plane_names = self._names("planes", "plane_index", visit_id)
         masses = self._read_masses(visit_id)
@@ -541,10 +593,11 @@ class History:
                            phase_sense, angle_sense, channel_names, plane_names, tuple(runs),
                            self._read_coefficients(visit_id, len(channel_names),
                                                    len(plane_names)),
-                           condition, source, masses.get(None, ()), json.loads(result_json))
+                           condition, source, masses.get(None, ()), json.loads(result_json),
+                           service_rpm, rotation)
 
     def latest_coefficients(self, machine_id: str, channel_names: Sequence[str],
-                            n_planes: int) -> tuple[np.ndarray, str] | None:
+                            plane_names: Sequence[str]) -> StoredCoefficients | None:
         """The newest stored coefficients of a machine that fit this set-up.
 
         Parameters
@@ -554,28 +607,35 @@ class History:
         channel_names : sequence of str
             The channels, in order; a stored visit must have the same names
             in the same order.
-        n_planes : int
-            Number of correction planes; a stored visit must have as many.
+        plane_names : sequence of str
+            The correction planes, in order; likewise.
 
         Returns
         -------
-        (ndarray, str) or None
-            The matrix (channels × planes, complex) and which visit it came
-            from (``"visit 3 of 2026-11-02T10:15"``); None when no visit of
-            the machine fits, or the machine is unknown.
+        StoredCoefficients or None
+            The matrix (channels × planes, complex, in the visit's unit and
+            measure per g·mm) with its unit, measure, angle sense, sense of
+            rotation and speed, and which visit it came from
+            (``"visit 3 of 2026-11-02 10:15 UTC"``); None when no visit of the
+            machine fits, or the machine is unknown.  Whether it can serve
+            another session is for the caller to decide
+            (:func:`placer.influence.adapt_stored`).
         """
-        wanted = tuple(channel_names)
+        wanted, planes = tuple(channel_names), tuple(plane_names)
         candidates = self._conn.execute(
-            "SELECT v.id, v.started_at FROM visits AS v WHERE v.machine_id = ? AND EXISTS "
+            "SELECT v.id, v.started_at, v.unit, v.measure, v.angle_sense, v.rotation, "
+            "v.service_rpm FROM visits AS v WHERE v.machine_id = ? AND EXISTS "
             "(SELECT 1 FROM coefficients AS c WHERE c.visit_id = v.id) "
             "ORDER BY v.started_at DESC, v.id DESC", (machine_id,)).fetchall()
-        for visit_id, started_at in candidates:
+        for visit_id, started_at, unit, measure, angle_sense, rotation, rpm in candidates:
             if self._names("channels", "channel_index", visit_id) != wanted:
                 continue
-            if len(self._names("planes", "plane_index", visit_id)) != n_planes:
+            if self._names("planes", "plane_index", visit_id) != planes:
                 continue
-            matrix = self._read_coefficients(visit_id, len(wanted), n_planes)
-            return matrix, f"visit {visit_id} of {started_at}"
+            matrix = self._read_coefficients(visit_id, len(wanted), len(planes))
+            return StoredCoefficients(matrix, unit, measure, angle_sense, rotation, rpm,
+                                      wanted, planes,
+                                      f"visit {visit_id} of {utc_label(started_at)}")
         return None
 
     def _names(self, table: str, index: str, visit_id: int) -> tuple[str, ...]:
@@ -611,8 +671,31 @@ class History:
         return {run_id: tuple(masses) for run_id, masses in grouped.items()}
 
 
-def _check_record(record: VisitRecord) -> None:
-    """Refuse a record the schema cannot hold faithfully (before any writing)."""
+def utc_label(started_at: str) -> str:
+    """A stored visit time for people: ``2026-11-02 10:15 UTC``, or the date alone.
+
+    Times with an offset are shown in UTC; a time without one (written by
+    hand into a file) is shown as stored, without a zone.
+    """
+    try:
+        when = datetime.fromisoformat(started_at)
+    except (TypeError, ValueError):
+        return str(started_at)
+    if len(started_at.strip()) == 10:
+        return when.date().isoformat()
+    if when.tzinfo is None:
+        return when.strftime("%Y-%m-%d %H:%M")
+    return when.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+
+
+def check_record(record: VisitRecord) -> None:
+    """Refuse a record the schema cannot hold faithfully (before any writing).
+
+    Raises
+    ------
+    HistoryError
+        Naming the record's key and what was expected.
+    """
     def bad(key: str, expected: str, detail: str = "is not stored") -> HistoryError:
         return HistoryError(detail, key=key, expected=expected)
 
@@ -640,6 +723,9 @@ def _check_record(record: VisitRecord) -> None:
                       f"has shape {record.coefficients.shape}")
         if not np.all(np.isfinite(record.coefficients)):
             raise bad("coefficients", "finite numbers", "holds NaN or infinity")
+    if record.service_rpm is not None and not (math.isfinite(record.service_rpm)
+                                               and record.service_rpm > 0):
+        raise bad("service_rpm", "a speed above zero or None", f"is {record.service_rpm!r}")
     if record.condition is not None and math.isnan(record.condition):
         raise bad("condition", "a number or None", "is NaN")
     try:

@@ -44,12 +44,22 @@ STANDARD_GRAVITY_M_S2 = 9.80665
 """Standard acceleration of gravity [m/s²] (CGPM 1901, by definition)."""
 
 
+SPEED_TOLERANCE = 0.02
+"""Largest relative difference between the speed of stored coefficients and
+this visit's speed for them to be reused (placer's own rule: about the
+change of an induction motor's slip between no load and full load, so that
+the same machine at its service speed passes and another speed does not)."""
+
+
 @dataclass(frozen=True)
 class Coefficients:
     """Influence coefficients and how far they can be trusted.
 
-    ``matrix`` is channels × planes [reading unit per g·mm]; ``condition`` is
-    its 2-norm condition number (with channel weights applied).
+    ``matrix`` is channels × planes [reading unit and measure per g·mm];
+    ``condition`` is the 2-norm condition number of the matrix with each row
+    scaled by the square root of its channel's weight (the matrix the
+    weighted least-squares correction solves with, see
+    :func:`condition_number`); ``warnings`` are sentences for the user.
     """
 
     matrix: np.ndarray
@@ -57,9 +67,45 @@ class Coefficients:
     warnings: tuple[str, ...]
 
 
+def condition_number(matrix: np.ndarray, channel_weights: np.ndarray | None = None) -> float:
+    """2-norm condition number of D^½·A, D the channel weights (1 when None).
+
+    References
+    ----------
+    Condition number of a least-squares problem (Golub and Van Loan, Matrix
+    Computations, ch. 5; from memory); computed by numpy.linalg.cond.
+    """
+    if matrix.size == 0:
+        return math.inf
+    if channel_weights is None:
+        channel_weights = np.ones(matrix.shape[0])
+    root = np.sqrt(np.asarray(channel_weights, dtype=float))
+    return float(np.linalg.cond(root[:, None] * matrix))
+
+
+def checked_coefficients(matrix: np.ndarray, plane_names: list[str],
+                         channel_weights: np.ndarray | None = None,
+                         warnings: tuple[str, ...] | list[str] = ()) -> Coefficients:
+    """Coefficients with their condition number and the ill-conditioning warning.
+
+    Used for coefficients from this visit's trial runs and for stored ones alike.
+    """
+    condition = condition_number(matrix, channel_weights)
+    out = list(warnings)
+    if condition > ILL_CONDITIONED:
+        out.append(f"the coefficients are ill-conditioned (condition number "
+                   f"{condition:.1f} > {ILL_CONDITIONED:g}): the planes "
+                   f"{' and '.join(plane_names)} separate poorly, so the correction is "
+                   "sensitive to reading errors")
+    return Coefficients(matrix, condition, tuple(out))
+
+
 def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
                            weights_gmm: np.ndarray, channel_names: list[str],
-                           plane_names: list[str]) -> Coefficients:
+                           plane_names: list[str],
+                           channel_weights: np.ndarray | None = None,
+                           baselines: np.ndarray | None = None,
+                           baseline_names: list[str] | None = None) -> Coefficients:
     """Influence coefficients from a reference run and trial runs.
 
     Parameters
@@ -71,9 +117,32 @@ def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
     weights_gmm : complex (runs, planes)
         Trial weights present in each run [g·mm], counted in the rotor's
         angle sense (cumulative when a weight was left on).
-    Returns A with ``readings - reference = weights @ A.T`` solved exactly
-    when there are as many independent runs as planes, by least squares
-    otherwise (numpy.linalg.lstsq).
+    channel_names, plane_names : list of str
+        For the warnings.
+    channel_weights : float (channels,), optional
+        Weights of the channels in the fit (for the condition number).
+    baselines : complex (runs, channels), optional
+        For each trial run, the readings of the run whose weights it adds to
+        (default: the reference run), for the trial-run warning.
+    baseline_names : list of str, optional
+        Names of those runs, for the warning.
+
+    Returns
+    -------
+    Coefficients
+        A with ``readings - reference = weights @ A.T``, solved exactly when
+        there are as many independent runs as planes, by least squares
+        otherwise (numpy.linalg.lstsq).
+
+    Raises
+    ------
+    ValueError
+        The trial runs do not move every plane independently.
+
+    References
+    ----------
+    α = (V1 - V0)/T per plane, generalised to V_r - V_0 = A·w_r
+    (../shared/REFERENCES.md, "Influence coefficients").
     """
     delta = readings - reference[None, :]
     n_runs, n_planes = weights_gmm.shape
@@ -83,23 +152,42 @@ def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
                          "each plane needs a trial run of its own")
     solution, *_ = np.linalg.lstsq(weights_gmm, delta, rcond=None)
     matrix = solution.T
-    warnings = trial_run_warnings(reference, readings, channel_names)
-    condition = float(np.linalg.cond(matrix)) if matrix.size else math.inf
-    if condition > ILL_CONDITIONED:
-        warnings.append(f"the coefficients are ill-conditioned (condition number "
-                        f"{condition:.1f} > {ILL_CONDITIONED:g}): the planes "
-                        f"{' and '.join(plane_names)} separate poorly, so the correction is "
-                        "sensitive to reading errors")
-    return Coefficients(matrix, condition, tuple(warnings))
+    if baselines is None:
+        baselines = np.repeat(reference[None, :], n_runs, axis=0)
+    warnings = trial_run_warnings(baselines, readings, channel_names, baseline_names)
+    return checked_coefficients(matrix, plane_names, channel_weights, warnings)
 
 
-def trial_run_warnings(reference: np.ndarray, readings: np.ndarray,
-                       channel_names: list[str]) -> list[str]:
-    """A warning for each trial run that changed no channel enough to trust it."""
+def trial_run_warnings(baselines: np.ndarray, readings: np.ndarray,
+                       channel_names: list[str],
+                       baseline_names: list[str] | None = None) -> list[str]:
+    """A warning for each trial run that changed no channel enough to trust it.
+
+    Parameters
+    ----------
+    baselines : complex (channels,) or (runs, channels)
+        The readings each trial run is compared with: those of the run whose
+        weights it adds to (the reference run, or an earlier trial run whose
+        weight was left on).  One row serves every run.
+    readings : complex (runs, channels)
+        The trial runs' readings.
+    channel_names : list of str
+        Sensor names (kept for the signature's symmetry with the fit).
+    baseline_names : list of str, optional
+        Name of each run's baseline run, for the message.
+
+    References
+    ----------
+    30 % in amplitude or 30° in phase: common practice (20-25 % is also
+    used; ../shared/REFERENCES.md).
+    """
+    baselines = np.asarray(baselines)
+    if baselines.ndim == 1:
+        baselines = np.repeat(baselines[None, :], len(readings), axis=0)
     warnings = []
-    for r, run in enumerate(readings, start=1):
+    for r, (base, run) in enumerate(zip(baselines, readings), start=1):
         trusted = False
-        for v0, v1 in zip(reference, run):
+        for v0, v1 in zip(base, run):
             a0, a1 = abs(v0), abs(v1)
             amplitude = abs(a1 - a0) / a0 if a0 > 0 else math.inf
             phase = abs((math.degrees(np.angle(v1) - np.angle(v0)) + 180.0) % 360.0 - 180.0)
@@ -107,9 +195,11 @@ def trial_run_warnings(reference: np.ndarray, readings: np.ndarray,
                                                         and a0 > 0 and a1 > 0):
                 trusted = True
         if not trusted:
+            against = (f" from run '{baseline_names[r - 1]}', whose weights it adds to"
+                       if baseline_names else "")
             warnings.append(f"trial run {r} changed no reading by 30 % in amplitude or 30° in "
-                            "phase (common practice): use a heavier trial weight or check the "
-                            "readings")
+                            f"phase{against} (common practice): use a heavier trial weight or "
+                            "check the readings")
     return warnings
 
 
@@ -174,3 +264,109 @@ def static_couple(w1_gmm: complex, w2_gmm: complex,
     moment = None if separation_mm is None else abs(couple) * separation_mm
     negligible = 2.0 * abs(couple) < COUPLE_NEGLIGIBLE_SHARE * abs(static)
     return StaticCouple(static, couple, moment, negligible)
+
+
+@dataclass(frozen=True)
+class StoredCoefficients:
+    """Influence coefficients saved with an earlier visit, and how they were measured.
+
+    ``matrix`` is channels × planes [``unit`` ``measure`` per g·mm], its
+    phases in ``angle_sense`` (with ``rotation`` when that sense is
+    clockwise or counterclockwise); ``service_rpm`` the speed of that
+    visit's runs [r/min] (None when it was not stored); ``label`` says which
+    visit they came from.
+    """
+
+    matrix: np.ndarray
+    unit: str
+    measure: str
+    angle_sense: str
+    rotation: str | None
+    service_rpm: float | None
+    channel_names: tuple[str, ...]
+    plane_names: tuple[str, ...]
+    label: str
+
+
+class CoefficientMismatch(ValueError):
+    """Stored coefficients that cannot serve this visit; ``key`` and ``expected`` say why."""
+
+    def __init__(self, detail: str, key: str, expected: str) -> None:
+        super().__init__(detail)
+        self.detail, self.key, self.expected = detail, key, expected
+
+
+def adapt_stored(stored: StoredCoefficients, unit: str, measure: str, angle_sense: str,
+                 rotation: str | None, service_rpm: float | None
+                 ) -> tuple[np.ndarray, list[str]]:
+    """Stored coefficients in this visit's unit, measure and angle sense.
+
+    The amplitude is scaled (same quantity only: displacement and velocity
+    coefficients differ by a speed-dependent factor and are refused); when
+    the angle sense is the opposite of the stored one, every angle changes
+    sign, weights and readings alike, so V = A·w becomes V̄ = Ā·w̄ and the
+    matrix is conjugated.  A different speed (beyond :data:`SPEED_TOLERANCE`)
+    is refused, as coefficients change with speed.
+
+    Parameters
+    ----------
+    stored : StoredCoefficients
+    unit, measure : str
+        This visit's amplitude unit and measure.
+    angle_sense, rotation : str, str or None
+        This visit's angle sense, and its sense of rotation.
+    service_rpm : float or None
+        This visit's speed [r/min].
+
+    Returns
+    -------
+    (ndarray, list of str)
+        The matrix to use, and notes (a speed that could not be checked).
+
+    Raises
+    ------
+    CoefficientMismatch
+        Displacement against velocity, another speed, or an angle sense
+        that cannot be related to the stored one.
+
+    References
+    ----------
+    Unit and measure factors: :mod:`placer.readings`; angle senses:
+    ../shared/REFERENCES.md, "Influence coefficients" (angles counted in
+    one sense for W = -V0/α to hold).
+    """
+    from placer.readings import amplitude_scale, quantity_of, sense_against_rotation
+
+    if quantity_of(stored.unit) != quantity_of(unit):
+        raise CoefficientMismatch(
+            f"is in {unit} ({quantity_of(unit)}) but the stored coefficients of "
+            f"{stored.label} are in {stored.unit} ({quantity_of(stored.unit)})", "readings.unit",
+            f"a {quantity_of(stored.unit)} unit, or new trial runs with "
+            "[solve] coefficients = \"runs\"")
+    notes = []
+    if service_rpm is None:
+        raise CoefficientMismatch(
+            "missing", "rotor.service_rpm",
+            f"the speed of the runs [r/min], to check it against {stored.label}")
+    if stored.service_rpm is None:
+        notes.append(f"the speed of {stored.label} was not stored: check that its runs were at "
+                     f"{service_rpm:g} r/min like this one, as coefficients change with speed")
+    elif abs(service_rpm - stored.service_rpm) > SPEED_TOLERANCE * stored.service_rpm:
+        raise CoefficientMismatch(
+            f"is {service_rpm:g} r/min but the stored coefficients of {stored.label} are for "
+            f"{stored.service_rpm:g} r/min", "rotor.service_rpm",
+            f"within {SPEED_TOLERANCE:.0%} of {stored.service_rpm:g} r/min, or new trial runs "
+            "with [solve] coefficients = \"runs\"")
+    matrix = np.asarray(stored.matrix, dtype=complex) * amplitude_scale(
+        stored.unit, stored.measure, unit, measure)
+    mine = sense_against_rotation(angle_sense, rotation)
+    theirs = sense_against_rotation(stored.angle_sense, stored.rotation)
+    if theirs is None:
+        if stored.angle_sense != angle_sense:
+            raise CoefficientMismatch(
+                f"is '{angle_sense}' but {stored.label} counted angles {stored.angle_sense} "
+                "and its sense of rotation was not stored", "rotor.angle_sense",
+                f"'{stored.angle_sense}', as in that visit")
+    elif mine != theirs:
+        matrix = matrix.conj()
+    return matrix, notes

@@ -1,10 +1,12 @@
 """Vibration readings: amplitude units, amplitude measures and phase conventions.
 
 A once-per-revolution reading is a phasor A·e^{iφ}.  Inside placer every
-reading is held as a complex number in the session's amplitude unit, as a
-peak value, with its phase counted in the rotor's angle sense, so that
-weights (in the same sense) and readings combine linearly:
-V = V0 + Σ α·W.
+reading is held as a complex number in the session's amplitude unit and
+measure (peak, peak-to-peak or rms, as the technician read it), with its
+phase counted in the rotor's angle sense, so that weights (in the same
+sense) and readings combine linearly: V = V0 + Σ α·W.  For a sinusoid the
+measures differ by a constant factor only, so the model holds in any of
+them; vibration is shown and compared with a limit in the measure read.
 
 Phase lag is counted from the reference pulse to the vibration peak.  A
 heavy spot placed further from the reference mark *against* rotation passes
@@ -38,6 +40,10 @@ MEASURES = {"peak": 1.0, "peak-to-peak": 0.5, "rms": math.sqrt(2.0)}
 
 PHASE_SENSES = ("lag", "lead")
 """Phase lag counts against rotation, phase lead with rotation."""
+
+
+ROTOR_SENSES = ("against rotation", "with rotation")
+"""Angle senses independent of the sense of rotation."""
 
 
 def canonical_unit(unit: str) -> str | None:
@@ -95,3 +101,39 @@ def phase_in_rotor_sense(phase_deg: float, phase_sense: str, rotor_sense: str,
 def phasor(amplitude: float, angle_deg: float) -> complex:
     """amplitude·e^{i·angle}."""
     return cmath.rect(amplitude, math.radians(angle_deg))
+
+
+def quantity_of(unit: str) -> str:
+    """"displacement" or "velocity": what a (canonical) amplitude unit measures."""
+    return AMPLITUDE_UNITS[unit][0]
+
+
+def amplitude_scale(unit: str, measure: str, to_unit: str, to_measure: str) -> float:
+    """Factor that turns an amplitude (or a coefficient) in one unit and measure into another.
+
+    Both units must measure the same quantity (displacement or velocity).
+
+    References
+    ----------
+    Sinusoid identities and the inch (module docstring).
+    """
+    if quantity_of(unit) != quantity_of(to_unit):
+        raise ValueError(f"{unit} and {to_unit} measure different quantities")
+    return convert_amplitude(1.0, unit, measure, to_unit, to_measure)
+
+
+def sense_against_rotation(angle_sense: str, rotation: str | None) -> str | None:
+    """The angle sense as "against rotation" or "with rotation" (None if it cannot be told).
+
+    Parameters
+    ----------
+    angle_sense : str
+        "against rotation", "with rotation", "clockwise" or "counterclockwise".
+    rotation : {"clockwise", "counterclockwise"} or None
+        Sense of rotation seen from the same side as the angles.
+    """
+    if angle_sense in ROTOR_SENSES:
+        return angle_sense
+    if rotation is None:
+        return None
+    return "with rotation" if angle_sense == rotation else "against rotation"

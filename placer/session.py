@@ -56,10 +56,10 @@ class PlacedMass:
 class Run:
     """One run of the machine.
 
-    ``readings`` are complex, one per channel, in the session's unit as
-    peak values with phases in the rotor's angle sense.  ``added`` are the
-    masses fitted for this run; ``removed_after`` says whether they came off
-    before the next run.
+    ``readings`` are complex, one per channel, in the session's unit and
+    measure (as read: peak, peak-to-peak or rms) with phases in the rotor's
+    angle sense.  ``added`` are the masses fitted for this run;
+    ``removed_after`` says whether they came off before the next run.
     """
 
     name: str
@@ -90,6 +90,45 @@ class Session:
     coefficients: str
     source: str
     vibration_limit: float | None = None
+    visit_date: str | None = None
+
+    def baselines(self) -> list[int]:
+        """For each run, the index of the run whose weights it adds to (-1 for the first).
+
+        A trial run adds its weights to what was on the rotor before it: the
+        reference run's state, or an earlier run's whose weights were left on.
+        That run is the latest one before it with the same masses on the
+        rotor as were carried into it.
+        """
+        during, _ = self.weights_in()
+        state = np.zeros(len(self.planes), dtype=complex)
+        out = []
+        for i, run in enumerate(self.runs):
+            match = [k for k in range(i) if np.allclose(during[k], state, rtol=0, atol=1e-9)]
+            out.append(match[-1] if match else -1)
+            if not run.removed_after:
+                state = during[i]
+        return out
+
+    def fitted_parts(self) -> tuple[PlacedMass, ...]:
+        """Parts fitted for the check runs and still on the rotor, one per (plane, position, item).
+
+        Their counts are summed over the check runs; they take room on their
+        positions and may be taken off by a trim plan.
+        """
+        groups: dict[tuple[int, int | None, str | None], PlacedMass] = {}
+        for run in self.runs:
+            if run.kind != "check":
+                continue
+            for mass in run.added:
+                key = (mass.plane, mass.position, mass.item)
+                if key in groups:
+                    old = groups[key]
+                    groups[key] = PlacedMass(old.plane, old.mass_g, old.angle_deg, old.radius_mm,
+                                             old.position, old.item, old.count + mass.count)
+                else:
+                    groups[key] = mass
+        return tuple(groups.values())
 
     def weights_in(self) -> tuple[np.ndarray, np.ndarray]:
         """Masses on the rotor during each run, and after the last [g·mm per plane].

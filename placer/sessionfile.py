@@ -3,23 +3,31 @@
 Format (see examples/exhaust-fan-visit.toml)::
 
     [machine]   id = "WM-0417", name = "..."
+    [visit]     date = 2026-11-02 or 2026-11-02T10:15:00Z (optional; TOML date, or date
+                and time with its offset; default: when placer is run, in UTC)
     [rotor]     as in a job, plus rotation = "clockwise" (when angles are
                 clockwise/counterclockwise) and plane_separation_mm
     [readings]  unit = "mm/s" | "in/s" | "um" | "mils"; measure = "peak" |
                 "peak-to-peak" | "rms"; phase = "lag" | "lead"
-    [[sensors]] name, weight (optional, default 1)
+    [[sensors]] name, weight (optional, default 1); readings taken at more than one
+                speed are entered as one sensor per speed ("DE horizontal 900 r/min"),
+                with a reading in every run
     [[planes]]  as in a job, without correction or tolerance
     [[runs]]    name, kind = "reference" | "trial" | "check",
                 readings = [[amplitude, phase_deg], ...] one pair per sensor,
                 trial = [{ plane = 1, mass_g = 20.0, position = 3 }]   (or angle_deg)
                 removed = true    (trial weights taken off after the run; default)
-                fitted = [{ plane = 1, position = 5, item = "M12", count = 1 }]   (check runs)
-    [solve]     norm = "max" | "rms"; max_parts = 4; coefficients = "runs" | "stored";
-                vibration_limit = 1.0 (optional, session unit: fewest parts below it)
+                fitted = [{ plane = 1, position = 5, item = "M12", count = 1 }]   (check runs:
+                the parts on the rotor for that run; a trim plan may take them off)
+    [solve]     norm = "max" | "rms"; max_parts = 4; coefficients = "runs" | "stored"
+                ("stored": no trial runs, rotor.service_rpm required);
+                vibration_limit = 1.0 (optional, in the session's unit and measure:
+                fewest parts predicted at or below it)
 """
 
 from __future__ import annotations
 
+import datetime as dt
 import math
 from pathlib import Path
 
@@ -29,8 +37,7 @@ from placer.catalog import Catalog
 from placer.errors import JobError
 from placer.fields import Table, read_toml
 from placer.jobfile import PLANE_KEYS, _rotor, plane_geometry
-from placer.readings import (MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense,
-                             phasor)
+from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense, phasor
 from placer.session import FIELD_NORMS, RUN_KINDS, Channel, FieldPlane, PlacedMass, Run, Session
 
 FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
@@ -47,12 +54,14 @@ def read_session(path: Path) -> Session:
     path = Path(path)
     file = str(path)
     root = Table(read_toml(path, SessionError, "session file"), file, "", SessionError)
-    root.allow_only(("machine", "rotor", "readings", "sensors", "planes", "runs", "solve"))
+    root.allow_only(("machine", "visit", "rotor", "readings", "sensors", "planes", "runs",
+                     "solve"))
     machine = root.sub("machine", required=True)
     machine.allow_only(("id", "name"))
     machine_id = machine.text("id", required=True).strip()
     if not machine_id:
         raise machine.fail("id", "is empty", "a machine tag such as \"WM-0417\"")
+    visit_date = _visit_date(root.sub("visit"))
     rotor_table = root.sub("rotor", required=True)
     rotor = _rotor(rotor_table, ("rotation", "plane_separation_mm"))
     rotation = rotor_table.text("rotation")
@@ -102,10 +111,15 @@ def read_session(path: Path) -> Session:
     if coefficients not in ("runs", "stored"):
         raise solve.fail("coefficients", f"is '{coefficients}'", "runs or stored")
 
-    convert = _Converter(measure, phase, rotor.angle_sense, rotation)
+    if coefficients == "stored" and rotor.service_rpm is None:
+        raise rotor_table.fail("service_rpm", "missing",
+                               "the speed of the runs [r/min], checked against the stored "
+                               "coefficients' speed (coefficients = \"stored\")")
+    convert = _Converter(phase, rotor.angle_sense, rotation)
     runs = tuple(_run(t, convert, len(channels), planes)
                  for t in root.tables("runs", required=True))
     _check_runs(root, runs, len(planes), coefficients)
+    _check_fitted(root, runs, planes)
     return Session(
         machine_id=machine_id, machine_name=machine.text("name", default=machine_id),
         rotor=rotor, rotation=rotation, plane_separation_mm=separation, unit=unit,
@@ -113,18 +127,42 @@ def read_session(path: Path) -> Session:
         runs=runs, norm=norm,
         max_parts=solve.integer("max_parts", default=4, minimum=1, maximum=8),
         coefficients=coefficients, source=file,
-        vibration_limit=solve.number("vibration_limit", positive=True))
+        vibration_limit=solve.number("vibration_limit", positive=True), visit_date=visit_date)
+
+
+def _visit_date(visit: Table | None) -> str | None:
+    """[visit] date as ISO 8601 text: a date, or a date and time converted to UTC."""
+    if visit is None:
+        return None
+    visit.allow_only(("date",))
+    if not visit.has("date"):
+        return None
+    value = visit.data["date"]
+    expected = "a date (2026-11-02) or a date and time with its offset (2026-11-02T10:15:00Z)"
+    if isinstance(value, str):
+        try:
+            value = (dt.date.fromisoformat(value) if len(value.strip()) == 10
+                     else dt.datetime.fromisoformat(value))
+        except ValueError:
+            raise visit.fail("date", f"is '{value[:40]}'", expected) from None
+    if isinstance(value, dt.datetime):
+        if value.tzinfo is None:
+            raise visit.fail("date", "has a time but no offset", expected)
+        return value.astimezone(dt.timezone.utc).isoformat(timespec="seconds")
+    if isinstance(value, dt.date):
+        return value.isoformat()
+    raise visit.fail("date", f"is {type(value).__name__}", expected)
 
 
 class _Converter:
-    """Readings as read -> peak amplitude, phase in the rotor's angle sense."""
+    """Readings as read -> amplitude in the session's measure, phase in the rotor's angle sense."""
 
-    def __init__(self, measure: str, phase: str, rotor_sense: str, rotation: str | None):
-        self.measure, self.phase, self.sense, self.rotation = measure, phase, rotor_sense, rotation
+    def __init__(self, phase: str, rotor_sense: str, rotation: str | None):
+        self.phase, self.sense, self.rotation = phase, rotor_sense, rotation
 
     def __call__(self, amplitude: float, phase_deg: float) -> complex:
         angle = phase_in_rotor_sense(phase_deg, self.phase, self.sense, self.rotation)
-        return phasor(amplitude * MEASURES[self.measure], angle)
+        return phasor(amplitude, angle)
 
 
 def _run(t: Table, convert: _Converter, n_channels: int, planes: list[FieldPlane]) -> Run:
@@ -215,6 +253,11 @@ def _check_runs(root: Table, runs: tuple[Run, ...], n_planes: int, coefficients:
     if any(r.kind == "reference" for r in runs[1:]):
         raise root.fail("runs", "has more than one reference run", "one reference run, first")
     trials = [r for r in runs if r.kind == "trial"]
+    if coefficients == "stored" and trials:
+        first = next(i for i, r in enumerate(runs, start=1) if r.kind == "trial")
+        raise root.fail(f"runs[{first}].kind", "is a trial run, but [solve] coefficients = "
+                        "\"stored\" takes the coefficients from the history",
+                        "no trial runs with stored coefficients, or coefficients = \"runs\"")
     if coefficients == "runs" and len(trials) < n_planes:
         raise root.fail("runs", f"has {len(trials)} trial runs for {n_planes} planes",
                         "a trial run per plane, or [solve] coefficients = \"stored\"")
@@ -225,3 +268,20 @@ def _check_runs(root: Table, runs: tuple[Run, ...], n_planes: int, coefficients:
         elif r.kind == "trial" and seen_check:
             raise root.fail(f"runs[{i}].kind", "is a trial run after a check run",
                             "trial runs before check runs")
+
+
+def _check_fitted(root: Table, runs: tuple[Run, ...], planes: list[FieldPlane]) -> None:
+    """Parts fitted for the check runs must fit their positions (capacity, not blocked)."""
+    on: dict[tuple[int, int], int] = {}
+    for i, run in enumerate(runs, start=1):
+        for k, mass in enumerate(run.added, start=1):
+            if run.kind != "check":
+                continue
+            key = (mass.plane, mass.position)
+            on[key] = on.get(key, 0) + mass.count
+            room = int(planes[mass.plane].geometry.capacities()[mass.position - 1])
+            if on[key] > room:
+                raise root.fail(f"runs[{i}].fitted[{k}].count",
+                                f"puts {on[key]} part(s) on position {mass.position} of plane "
+                                f"{mass.plane + 1}, which takes {room}",
+                                "no more parts on a position than its capacity (0 if blocked)")

@@ -111,7 +111,8 @@ def make_visit(machine_id: str = "WM-EF-07",
     return VisitRecord(machine_id, machine_name, started_at, "wrenmoor-ef07.toml", "mm/s",
                        "rms", "lag", "with rotation", tuple(channel_names),
                        tuple(f"plane {k + 1}" for k in range(n_planes)), tuple(runs), matrix,
-                       condition, "runs" if coefficients else "none", planned, result)
+                       condition, "runs" if coefficients else "none", planned, result,
+                       service_rpm=1475.0 if coefficients else None)
 
 
 def main(db: str, marker: str, pause_at: str, n_runs: str) -> None:

@@ -1,4 +1,10 @@
-"""From readings to a plan: synthetic machines, the example visit, and the enumeration oracle."""
+"""From readings to a plan: synthetic machines, the example visit, and the enumeration oracle.
+
+Synthetic machines are linear models whose influence coefficients and
+unbalance the test sets (invented data); their readings are V = A·(U + w)
+(REFERENCES.md, "Influence coefficients").  Discrete plans are checked
+against tests/oracle.py (brute-force enumeration).
+"""
 
 from __future__ import annotations
 
@@ -10,10 +16,13 @@ import numpy as np
 import pytest
 
 from oracle import brute_front
-from placer.fieldplan import field_search, objective_of, solve_session
+from placer.fieldplan import objective_of, solve_session
+from placer.influence import StoredCoefficients
 from placer.sessionfile import read_session
 
 ROOT = Path(__file__).resolve().parent.parent
+WASHERS = {"M6": 1.02, "M8": 1.83, "M10": 3.57, "M12": 6.27, "M16": 11.30}
+"""Masses of catalogs/washers-steel.toml [g], in catalogue order."""
 
 
 def rect(a, deg):
@@ -37,72 +46,129 @@ def test_example_visit_recovers_its_synthetic_machine():
     assert not result.coefficients.warnings
 
 
-def write_session(tmp_path: Path, a: np.ndarray, u0: np.ndarray, noise: float = 0.0,
-                  check_parts: str = "", norm: str = "rms", positions: int = 4,
-                  max_parts: int = 3) -> Path:
+def unit_vector(position: int, positions: int, radius: float) -> complex:
+    """radius·e^{iθ} of an equally spaced position (position 1 at 0°)."""
+    return radius * cmath.exp(1j * math.radians(360.0 * (position - 1) / positions))
+
+
+def pairs(v: np.ndarray, sense: str = "against rotation", scale: float = 1.0) -> str:
+    """Readings as [amplitude, phase lag] pairs.  A phase lag counts against rotation
+    (REFERENCES.md, angles), so with angles counted with rotation it is read as -θ."""
+    sign = 1.0 if sense == "against rotation" else -1.0
+    return "[" + ", ".join(
+        f"[{abs(x) * scale:.12g}, {sign * math.degrees(cmath.phase(x)) % 360:.12g}]"
+        for x in v) + "]"
+
+
+def session_toml(a: np.ndarray, u0: np.ndarray, *, positions: int = 4, radius: float = 100.0,
+                 capacity: int = 1, unit: str = "um", measure: str = "peak",
+                 trials=((0, 20.0, 2, True), (1, 20.0, 1, True)), check=None,
+                 norm: str = "rms", max_parts: int = 3, limit: float | None = None,
+                 coefficients: str = "runs", rpm: float = 1500.0,
+                 separation: float | None = None, sense: str = "against rotation",
+                 scale: float = 1.0, noise: float = 0.0, machine: str = "T-1",
+                 visit: str = "") -> str:
+    """A session file of a synthetic machine: V = A·(U + masses on the rotor).
+
+    ``trials`` are (plane index, mass_g, position, removed after); ``check`` a
+    list of (plane index, position, item, count) fitted for one check run.
+    ``scale`` multiplies every amplitude written (a unit or measure change).
+    """
     rng = np.random.default_rng(0)
+    n_planes = a.shape[1]
 
     def fmt(v):
         v = v + noise * (rng.normal(size=v.shape) + 1j * rng.normal(size=v.shape))
-        return "[" + ", ".join(f"[{abs(x):.6f}, {math.degrees(cmath.phase(x)) % 360:.6f}]"
-                               for x in v) + "]"
+        return pairs(v, sense, scale)
 
-    r = 100.0
-    t1 = np.array([20 * r * cmath.exp(1j * math.radians(360 / positions)), 0])
-    t2 = np.array([0, 20 * r])
-    runs = [("reference", "", a @ u0), ("trial", 'trial = [{ plane = 1, mass_g = 20.0, '
-                                                 'position = 2 }]', a @ (u0 + t1)),
-            ("trial", 'trial = [{ plane = 2, mass_g = 20.0, position = 1 }]', a @ (u0 + t2))]
-    text = f"""
-[machine]
-id = "T-1"
-[rotor]
-name = "test"
-[readings]
-unit = "um"
-measure = "peak"
-phase = "lag"
-{''.join(f'[[sensors]]{chr(10)}name = "s{c}"{chr(10)}' for c in range(a.shape[0]))}
-[[planes]]
-name = "one"
-radius_mm = {r}
-positions = {positions}
-catalog = "washers-steel"
-[[planes]]
-name = "two"
-radius_mm = {r}
-positions = {positions}
-catalog = "washers-steel"
-[solve]
-norm = "{norm}"
-max_parts = {max_parts}
-"""
+    state = np.zeros(n_planes, dtype=complex)
+    runs = [("reference", "", a @ u0)] if coefficients == "stored" or trials is not None else []
+    for plane, mass, position, removed in trials or ():
+        now = state.copy()
+        now[plane] += mass * unit_vector(position, positions, radius)
+        runs.append(("trial", f"trial = [{{ plane = {plane + 1}, mass_g = {mass}, "
+                              f"position = {position} }}]\nremoved = {str(removed).lower()}",
+                     a @ (u0 + now)))
+        if not removed:
+            state = now
+    if check:
+        now = state.copy()
+        for plane, position, item, count in check:
+            now[plane] += count * WASHERS[item] * unit_vector(position, positions, radius)
+        fitted = ", ".join(f'{{ plane = {p + 1}, position = {j}, item = "{i}", count = {c} }}'
+                           for p, j, i, c in check)
+        runs.append(("check", f"fitted = [{fitted}]", a @ (u0 + now)))
+    sensors = "".join(f'[[sensors]]\nname = "s{c + 1}"\n' for c in range(a.shape[0]))
+    planes = "".join(f'[[planes]]\nname = "plane {p + 1}"\nradius_mm = {radius}\n'
+                     f'positions = {positions}\ncapacity = {capacity}\n'
+                     f'catalog = "washers-steel"\n' for p in range(n_planes))
+    text = (f'[machine]\nid = "{machine}"\n{visit}\n[rotor]\nname = "test"\n'
+            f'service_rpm = {rpm}\nangle_sense = "{sense}"\n'
+            + (f"plane_separation_mm = {separation}\n" if separation else "")
+            + f'[readings]\nunit = "{unit}"\nmeasure = "{measure}"\nphase = "lag"\n'
+            + sensors + planes
+            + f'[solve]\nnorm = "{norm}"\nmax_parts = {max_parts}\n'
+              f'coefficients = "{coefficients}"\n'
+            + (f"vibration_limit = {limit}\n" if limit is not None else ""))
     for kind, extra, v in runs:
-        text += f'[[runs]]\nkind = "{kind}"\n{extra}\nreadings = {fmt(v)}\n'
-    if check_parts:
-        text += check_parts
-    path = tmp_path / "visit.toml"
+        text += f'[[runs]]\nname = "{kind} {len(text)}"\nkind = "{kind}"\n{extra}\n' \
+                f"readings = {fmt(v)}\n"
+    return text
+
+
+def write(tmp_path: Path, text: str, name: str = "visit.toml") -> Path:
+    path = tmp_path / name
     path.write_text(text)
     return path
 
 
-def synthetic(seed=2, channels=3):
+def synthetic(seed=2, channels=3, planes=2):
     rng = np.random.default_rng(seed)
-    a = (rng.normal(size=(channels, 2)) + 1j * rng.normal(size=(channels, 2))) * 0.01
-    return a, np.array([rect(900, 70), rect(600, 250)])
+    a = (rng.normal(size=(channels, planes)) + 1j * rng.normal(size=(channels, planes))) * 0.01
+    return a, np.array([rect(900, 70), rect(600, 250)])[:planes]
+
+
+def placement_problem(a, positions, radius, capacity, fitted=()):
+    """The discrete problem written out independently of placer.fieldplan.
+
+    Rows: every position of every plane, then one row per fitted group (taking
+    one part off: minus its effect); columns: the washers, then one per fitted
+    group.  Capacity of a position is reduced by the parts fitted on it.
+    """
+    n_planes = a.shape[1]
+    masses = list(WASHERS.values())
+    rows = n_planes * positions + len(fitted)
+    effects = np.zeros((rows, len(masses) + len(fitted), a.shape[0]), dtype=complex)
+    cap = np.full(rows, capacity)
+    for p in range(n_planes):
+        for j in range(positions):
+            for k, m in enumerate(masses):
+                effects[p * positions + j, k] = a[:, p] * m * unit_vector(j + 1, positions,
+                                                                          radius)
+    for f, (p, position, item, count) in enumerate(fitted):
+        r = n_planes * positions + f
+        effects[r, len(masses) + f] = -a[:, p] * WASHERS[item] * unit_vector(position,
+                                                                            positions, radius)
+        cap[r] = count
+        cap[p * positions + position - 1] -= count
+    stock = [60, 60, 50, 40, 30] + [c for *_, c in fitted]
+    return effects, cap, stock
 
 
 @pytest.mark.parametrize("norm", ["rms", "max"])
-def test_discrete_plan_is_the_enumerated_optimum_and_predicts_what_it_says(tmp_path, norm):
+def test_every_front_entry_is_the_enumerated_optimum(tmp_path, norm):
     a, u0 = synthetic()
-    session = read_session(write_session(tmp_path, a, u0, norm=norm))
+    session = read_session(write(tmp_path, session_toml(a, u0, norm=norm)))
     result = solve_session(session)
     np.testing.assert_allclose(result.coefficients.matrix, a, rtol=1e-6)
-    # Oracle: exhaustive enumeration over both planes' positions together.
-    search, _, _ = field_search(session, result.coefficients.matrix)
-    expected = brute_front(search.effects, result.vibration_now, search.capacity, search.stock,
-                           session.max_parts, "euclidean" if norm == "rms" else "max")
-    assert result.chosen.objective == pytest.approx(expected[-1], rel=1e-9, abs=1e-12)
+    # Oracle: exhaustive enumeration over both planes' positions together, on the
+    # problem written out in this test (tests/oracle.py, brute force).
+    effects, cap, stock = placement_problem(a, 4, 100.0, 1)
+    expected = brute_front(effects, a @ u0, cap, stock, session.max_parts,
+                           "euclidean" if norm == "rms" else "max")
+    for k, value in enumerate(expected):
+        assert result.best_with_at_most(k).objective == pytest.approx(value, rel=1e-6,
+                                                                      abs=1e-9), k
     # The predicted vibration is the linear model applied to the listed parts.
     added = np.zeros(2, dtype=complex)
     for p, part in result.chosen.parts:
@@ -111,14 +177,16 @@ def test_discrete_plan_is_the_enumerated_optimum_and_predicts_what_it_says(tmp_p
     np.testing.assert_allclose(result.chosen.predicted, a @ (u0 + added), rtol=1e-6)
     assert objective_of(result.chosen.predicted, np.ones(3), session.norm) == pytest.approx(
         result.chosen.objective)
-    # Solving the planes together is never worse than rounding each on its own.
-    same = result.best_with_at_most(result.rounded.used_parts)
+    # Compared at the same part count, solving the planes together is never worse
+    # than rounding each on its own.
+    same = result.coupled_same_parts
+    assert same.used_parts <= result.rounded.used_parts
     assert same.objective <= result.rounded.objective + 1e-12
 
 
 def test_noisy_readings_still_give_a_near_correction(tmp_path):
     a, u0 = synthetic(5, channels=4)
-    session = read_session(write_session(tmp_path, a, u0, noise=0.02))
+    session = read_session(write(tmp_path, session_toml(a, u0, noise=0.02)))
     result = solve_session(session)
     # 4 sensors, 2 planes: least squares; with noise of 0.02 µm on readings of ~10 µm
     # the correction stays within 5 % of the truth.
@@ -127,14 +195,160 @@ def test_noisy_readings_still_give_a_near_correction(tmp_path):
 
 def test_check_run_gives_a_trim_plan_from_the_same_coefficients(tmp_path):
     a, u0 = synthetic(7)
-    fitted = np.array([rect(6.27 * 100, 90), 0])  # one M12 on plane 1, position 2 of 4
-    check_v = a @ (u0 + fitted)
-    fmt = "[" + ", ".join(f"[{abs(x):.6f}, {math.degrees(cmath.phase(x)) % 360:.6f}]"
-                          for x in check_v) + "]"
-    check = ('[[runs]]\nkind = "check"\nfitted = [{ plane = 1, position = 2, item = "M12" }]\n'
-             f"readings = {fmt}\n")
-    session = read_session(write_session(tmp_path, a, u0, check_parts=check))
+    check = [(0, 2, "M12", 1)]
+    session = read_session(write(tmp_path, session_toml(a, u0, check=check)))
     result = solve_session(session)
+    fitted = np.array([6.27 * unit_vector(2, 4, 100.0), 0])
     assert "check run" in result.basis
-    np.testing.assert_allclose(result.vibration_now, check_v, rtol=1e-6)
+    np.testing.assert_allclose(result.vibration_now, a @ (u0 + fitted), rtol=1e-6)
     np.testing.assert_allclose(result.correction_gmm, -(u0 + fitted), rtol=1e-5)
+
+
+def test_trim_respects_the_room_taken_by_fitted_parts(tmp_path):
+    """Two M8 fill position 2 of plane 1 (capacity 2); what is still needed is an
+    M16 exactly there, which no longer fits."""
+    a, _ = synthetic(11)
+    check = [(0, 2, "M8", 2)]
+    u0 = np.array([-(11.30 + 2 * 1.83) * unit_vector(2, 4, 100.0), 0])
+    session = read_session(write(tmp_path, session_toml(a, u0, capacity=2, check=check)))
+    result = solve_session(session)
+    for option in list(result.front) + [result.rounded]:
+        on_full = [p for plane, p in option.parts
+                   if plane == 0 and p.position == 2 and p.action == "fit"]
+        assert not on_full, option.parts
+    # Without the fitted parts' room one M16 would leave nothing; now it cannot.
+    assert result.best_with_at_most(1).objective > 1e-3
+    # Every entry against enumeration of the problem written out here (tests/oracle.py).
+    effects, cap, stock = placement_problem(a, 4, 100.0, 2, check)
+    assert cap[1] == 0
+    expected = brute_front(effects, result.vibration_now, cap, stock, 3, "euclidean")
+    for k, value in enumerate(expected):
+        assert result.best_with_at_most(k).objective == pytest.approx(value, rel=1e-6,
+                                                                      abs=1e-9), k
+
+
+def test_trim_takes_off_one_of_two_fitted_parts_when_one_is_too_many(tmp_path):
+    """Plane 1 needs one M16 at position 1; two were fitted.  With three positions
+    120° apart no single added part cancels the extra one (it would need the
+    opposite position), so the best single operation takes one M16 off."""
+    a, _ = synthetic(13)
+    u0 = np.array([-11.30 * unit_vector(1, 3, 100.0), 0])
+    check = [(0, 1, "M16", 2)]
+    text = session_toml(a, u0, positions=3, capacity=2, check=check, limit=1e-6,
+                        trials=((0, 20.0, 2, True), (1, 20.0, 1, True)))
+    result = solve_session(read_session(write(tmp_path, text)))
+    best = result.best_with_at_most(1)
+    assert [(plane, p.position, p.item, p.count, p.action) for plane, p in best.parts] == [
+        (0, 1, "M16", 1, "remove")]
+    assert best.objective == pytest.approx(0.0, abs=1e-9)
+    assert result.chosen is best
+    # The prediction is the model with one M16 taken off: V_check - A·(M16 at position 1).
+    np.testing.assert_allclose(best.predicted, 0, atol=1e-9)
+    effects, cap, stock = placement_problem(a, 3, 100.0, 2, check)
+    expected = brute_front(effects, result.vibration_now, cap, stock, 3, "euclidean")
+    assert expected[1] == pytest.approx(0.0, abs=1e-9)
+    for k, value in enumerate(expected):
+        assert result.best_with_at_most(k).objective == pytest.approx(value, rel=1e-6,
+                                                                      abs=1e-9), k
+
+
+def test_trial_weights_left_on_are_taken_off_the_correction(tmp_path):
+    """REFERENCES.md, single plane: with the trial weight left on, add W - T."""
+    a, u0 = synthetic(17)
+    trials = ((0, 20.0, 2, False), (1, 15.0, 3, False))
+    result = solve_session(read_session(write(tmp_path, session_toml(a, u0, trials=trials))))
+    t = np.array([20.0 * unit_vector(2, 4, 100.0), 15.0 * unit_vector(3, 4, 100.0)])
+    w = -u0  # the correction without trial weights: W = -U for an exact machine
+    np.testing.assert_allclose(result.coefficients.matrix, a, rtol=1e-6)
+    np.testing.assert_allclose(result.correction_gmm, w - t, rtol=1e-6)
+    assert "left on" in result.basis
+    # Round trip: fitting W - T on top of the trial weights leaves no vibration.
+    np.testing.assert_allclose(a @ (u0 + t + result.correction_gmm), 0, atol=1e-9)
+
+
+def test_trial_run_is_judged_against_the_run_it_adds_to(tmp_path):
+    """A strong trial 1 left on, then a weak trial 2: trial 2 changes the readings
+    of run 2 (its own starting point) by far less than 30 % / 30° (common practice),
+    though it differs a lot from the reference run."""
+    a = np.array([[rect(0.01, 10), rect(0.01, 100)], [rect(0.01, 200), rect(0.012, 300)]])
+    u0 = np.array([rect(500, 0), rect(400, 90)])
+    trials = ((0, 60.0, 2, False), (1, 0.5, 1, True))
+    result = solve_session(read_session(write(tmp_path, session_toml(a, u0, trials=trials))))
+    named = [w for w in result.warnings if w.startswith("trial run")]
+    assert len(named) == 1 and named[0].startswith("trial run 2"), result.warnings
+    assert "whose weights it adds to" in named[0]
+
+
+def test_stored_coefficients_get_the_ill_conditioning_warning(tmp_path):
+    a = np.array([[1e-3, 1.01e-3], [2e-3, 2.0e-3]], dtype=complex)  # nearly parallel columns
+    u0 = np.array([rect(500, 0), rect(400, 90)])
+    text = session_toml(a, u0, trials=None, coefficients="stored")
+    session = read_session(write(tmp_path, text))
+    stored = StoredCoefficients(a, "um", "peak", "against rotation", None, 1500.0,
+                                ("s1", "s2"), ("plane 1", "plane 2"), "visit 1")
+    result = solve_session(session, stored)
+    # numpy.linalg.cond of the stored matrix (channel weights 1).
+    assert result.coefficients.condition == pytest.approx(np.linalg.cond(a), rel=1e-12)
+    assert any("ill-conditioned" in w for w in result.warnings)
+
+
+def test_one_shot_in_other_units_and_angle_sense_gives_the_same_physical_plan(tmp_path):
+    """Coefficients stored in mm/s peak, angles against rotation; next year's
+    readings in in/s rms with angles counted with rotation.  1 in/s = 25.4 mm/s
+    (inch definition), rms = peak/√2 (sinusoid); with the sense flipped every
+    angle changes sign (REFERENCES.md, angles)."""
+    visit = read_session(write(tmp_path, session_toml(
+        EXAMPLE_A, EXAMPLE_U, unit="mm/s", norm="max", max_parts=4, positions=8,
+        capacity=2), "visit.toml"))
+    first = solve_session(visit)
+    stored = StoredCoefficients(first.coefficients.matrix, "mm/s", "peak", "against rotation",
+                                None, 1500.0, ("s1", "s2", "s3"), ("plane 1", "plane 2"),
+                                "visit 1")
+    u1 = np.array([rect(1400, 300), rect(900, 100)])
+    common = dict(norm="max", max_parts=4, positions=8, capacity=2, trials=None,
+                  coefficients="stored")
+    same = solve_session(read_session(write(tmp_path, session_toml(
+        EXAMPLE_A, u1, unit="mm/s", **common), "same.toml")), stored)
+    # The same machine described with angles counted with rotation: conjugates.
+    other = solve_session(read_session(write(tmp_path, session_toml(
+        EXAMPLE_A.conj(), u1.conj(), unit="in/s", measure="rms", sense="with rotation",
+        scale=1 / (25.4 * math.sqrt(2)), **common), "other.toml")), stored)
+    np.testing.assert_allclose(same.correction_gmm, -u1, rtol=1e-6)
+    # The same correction, its angles counted the other way.
+    np.testing.assert_allclose(other.correction_gmm, np.conj(same.correction_gmm), rtol=1e-9)
+    assert abs(other.correction_gmm[0]) == pytest.approx(1400, rel=1e-6)
+
+    def physical(result, sign):
+        return sorted((p, round(sign * part.angle_deg % 360, 6), part.item, part.count)
+                      for p, part in result.chosen.parts)
+
+    assert physical(other, -1) == physical(same, 1)
+    assert other.chosen.objective * 25.4 * math.sqrt(2) == pytest.approx(same.chosen.objective,
+                                                                         rel=1e-9)
+
+
+def test_single_plane_session_matches_the_textbook_formula(tmp_path):
+    """REFERENCES.md, single plane: α = (V1 - V0)/T, W = -V0/α, written out here."""
+    a = np.array([[rect(0.004, 40)]])
+    u0 = np.array([rect(700, 200)])
+    session = read_session(write(tmp_path, session_toml(a, u0, trials=((0, 20.0, 2, True),),
+                                                        max_parts=2)))
+    result = solve_session(session)
+    v0 = complex(a[0, 0] * u0[0])
+    t = 20.0 * 100.0 * 1j  # 20 g at r 100 mm, position 2 of 4 = 90°
+    v1 = complex(a[0, 0] * (u0[0] + t))
+    alpha = (v1 - v0) / t
+    assert result.coefficients.matrix[0, 0] == pytest.approx(alpha, rel=1e-9)
+    assert result.correction_gmm[0] == pytest.approx(-v0 / alpha, rel=1e-9)
+    assert result.static_couple is None
+
+
+def test_more_fitted_parts_than_a_position_takes_is_bad_input(tmp_path):
+    from placer.sessionfile import SessionError
+
+    a, u0 = synthetic(7)
+    text = session_toml(a, u0, capacity=2, check=[(0, 2, "M8", 2), (0, 2, "M12", 1)])
+    with pytest.raises(SessionError) as caught:
+        read_session(write(tmp_path, text))
+    assert caught.value.key == "runs[4].fitted[2].count"
+    assert "takes 2" in caught.value.detail

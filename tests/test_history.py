@@ -11,6 +11,7 @@ a real process ended with SIGKILL.
 
 from __future__ import annotations
 
+import math
 import os
 import pickle
 import signal
@@ -85,6 +86,7 @@ def test_full_visit_round_trip_is_exact(db: Path) -> None:
     assert back.coefficients.dtype == np.complex128
     assert np.array_equal(back.coefficients, record.coefficients)
     assert back.condition == record.condition
+    assert (back.service_rpm, back.rotation) == (1475.0, None)
     for got, want in zip(back.runs, record.runs, strict=True):
         assert got.readings == want.readings
         assert got.phasors == want.phasors
@@ -149,25 +151,46 @@ def test_unknown_machine_gives_nothing(db: Path) -> None:
         assert h.machines() == []
         h.save_visit(make_visit())
         assert h.visits("WM-EF-70") == []
-        assert h.latest_coefficients("WM-EF-70", ["outboard H", "inboard H"], 2) is None
+        assert h.latest_coefficients("WM-EF-70", ["outboard H", "inboard H"],
+                                     ["plane 1", "plane 2"]) is None
 
 
 def test_latest_coefficients_picks_newest_matching_visit(db: Path) -> None:
     channels = ("outboard H", "inboard H")
+    planes = ["plane 1", "plane 2"]
     with History(db) as h:
         h.save_visit(make_visit(started_at="2026-10-01T09:00", seed=1))
-        wanted = make_visit(started_at="2026-11-02T10:15", seed=2)
+        wanted = replace(make_visit(started_at="2026-11-02T10:15:00+00:00", seed=2),
+                         service_rpm=1475.0, rotation="clockwise")
         wanted_id = h.save_visit(wanted)
-        # newer, but none fits: no coefficients, channels swapped, other plane count
+        # newer, but none fits: no coefficients, channels swapped, other plane count,
+        # other plane names
         h.save_visit(make_visit(started_at="2026-12-01T09:00", coefficients=False))
         h.save_visit(make_visit(started_at="2026-12-02T09:00", channel_names=channels[::-1]))
         h.save_visit(make_visit(started_at="2026-12-03T09:00", n_planes=1))
+        h.save_visit(replace(make_visit(started_at="2026-12-04T09:00"),
+                             plane_names=("hub", "rim")))
         h.save_visit(make_visit("WM-CP-2", started_at="2027-01-01T09:00"))
-        matrix, label = h.latest_coefficients("WM-EF-07", list(channels), 2)
-        assert h.latest_coefficients("WM-EF-07", ["outboard H"], 2) is None
-        assert h.latest_coefficients("WM-EF-07", list(channels), 3) is None
-    assert np.array_equal(matrix, wanted.coefficients)
-    assert label == f"visit {wanted_id} of 2026-11-02T10:15"
+        found = h.latest_coefficients("WM-EF-07", list(channels), planes)
+        assert h.latest_coefficients("WM-EF-07", ["outboard H"], planes) is None
+        assert h.latest_coefficients("WM-EF-07", list(channels), planes + ["plane 3"]) is None
+        assert h.latest_coefficients("WM-EF-07", list(channels), ["hub", "rim"]) is not None
+    assert np.array_equal(found.matrix, wanted.coefficients)
+    # what the coefficients were measured in travels with them
+    assert (found.unit, found.measure, found.angle_sense, found.rotation, found.service_rpm) == (
+        "mm/s", "rms", "with rotation", "clockwise", 1475.0)
+    assert found.plane_names == tuple(planes) and found.channel_names == channels
+    assert found.label == f"visit {wanted_id} of 2026-11-02 10:15 UTC"
+
+
+@pytest.mark.parametrize("stored, shown", [
+    ("2026-11-02T10:15:00+00:00", "2026-11-02 10:15 UTC"),
+    ("2026-11-02T11:15:00+01:00", "2026-11-02 10:15 UTC"),   # ISO 8601 offset to UTC
+    ("2026-11-02", "2026-11-02"),
+    ("2026-11-02T10:15", "2026-11-02 10:15"),                # no offset: no zone claimed
+])
+def test_times_are_labelled_in_utc(stored: str, shown: str) -> None:
+    assert history.utc_label(stored) == shown
 
 
 # -- restart in a new process -------------------------------------------------
@@ -193,17 +216,17 @@ def test_visit_survives_restart_in_new_process(db: Path, tmp_path: Path) -> None
 def test_schema_version_is_stored(db: Path) -> None:
     History(db).close()
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(1,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
     assert connection.execute("PRAGMA journal_mode").fetchone() == ("delete",)
     connection.close()
-    assert history.SCHEMA_VERSION == 1
+    assert history.SCHEMA_VERSION == 2
 
 
 def test_newer_schema_version_is_refused(db: Path) -> None:
     with History(db) as h:
         h.save_visit(make_visit())
     connection = sqlite3.connect(db)
-    connection.execute("UPDATE schema_version SET version = 2")
+    connection.execute("UPDATE schema_version SET version = 3")
     connection.commit()
     connection.close()
     with pytest.raises(HistoryError, match="newer placer") as caught:
@@ -214,7 +237,7 @@ def test_newer_schema_version_is_refused(db: Path) -> None:
 
 
 def add_visit_notes(connection: sqlite3.Connection) -> None:
-    """A made-up migration 1 -> 2: a notes column on visits."""
+    """A made-up migration 2 -> 3: a notes column on visits."""
     connection.execute("ALTER TABLE visits ADD COLUMN notes TEXT NOT NULL DEFAULT ''")
 
 
@@ -223,15 +246,15 @@ def test_older_file_is_migrated(db: Path, tmp_path: Path,
     record = make_visit()
     with History(db) as h:
         visit_id = h.save_visit(record)
-    monkeypatch.setattr(history, "SCHEMA_VERSION", 2)
-    monkeypatch.setattr(history, "MIGRATIONS", {1: add_visit_notes})
+    monkeypatch.setattr(history, "SCHEMA_VERSION", 3)
+    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 2: add_visit_notes})
     with History(db) as h:
         assert h.visit(visit_id) == record
     fresh = tmp_path / "fresh.sqlite"
     History(fresh).close()
     for path in (db, fresh):
         connection = sqlite3.connect(path)
-        assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
+        assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
         columns = [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
         assert columns[-1] == "notes"
         connection.close()
@@ -240,13 +263,65 @@ def test_older_file_is_migrated(db: Path, tmp_path: Path,
 def test_missing_migration_leaves_file_unchanged(db: Path,
                                                  monkeypatch: pytest.MonkeyPatch) -> None:
     History(db).close()
-    monkeypatch.setattr(history, "SCHEMA_VERSION", 3)
-    monkeypatch.setattr(history, "MIGRATIONS", {1: add_visit_notes})
-    with pytest.raises(HistoryError, match="no migration from schema version 2"):
+    monkeypatch.setattr(history, "SCHEMA_VERSION", 4)
+    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 2: add_visit_notes})
+    with pytest.raises(HistoryError, match="no migration from schema version 3"):
         History(db)
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(1,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
     assert "notes" not in [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
+    connection.close()
+
+
+def write_version_1_file(path: Path) -> None:
+    """A history file as placer wrote it at schema version 1, by hand: one visit read
+    in µm rms (stored then as peak values), coefficients, a result summary."""
+    connection = sqlite3.connect(path)
+    for statement in history._SCHEMA_V1.split(";"):
+        if statement.strip():
+            connection.execute(statement)
+    connection.execute("INSERT INTO schema_version VALUES (1)")
+    connection.execute("INSERT INTO machines VALUES ('WM-EF-07', 'exhaust fan 7', "
+                       "'2026-11-02T10:15:00+00:00')")
+    for visit_id, measure in ((1, "rms"), (2, "peak-to-peak"), (3, "peak")):
+        connection.execute(
+            "INSERT INTO visits VALUES (?, 'WM-EF-07', ?, 'ef7.toml', 'um', ?, 'lag', "
+            "'against rotation', '2 trial run(s) of this visit', 1.5, ?)",
+            (visit_id, f"2026-11-0{visit_id}T10:15:00+00:00", measure,
+             '{"vibration_before": 14.142135623730951, "vibration_after": 1.0, "norm": "max"}'))
+        connection.execute("INSERT INTO channels VALUES (?, 0, 'outboard H')", (visit_id,))
+        connection.execute("INSERT INTO planes VALUES (?, 0, 'hub')", (visit_id,))
+        connection.execute("INSERT INTO runs VALUES (?, ?, 0, 'as found', 'reference')",
+                           (visit_id, visit_id))
+        connection.execute("INSERT INTO readings VALUES (?, 0, 10.0, 30.0, 12.0, 8.0)",
+                           (visit_id,))
+        connection.execute("INSERT INTO coefficients VALUES (?, 0, 0, 0.004, -0.002)",
+                           (visit_id,))
+    connection.commit()
+    connection.close()
+
+
+def test_version_1_file_is_migrated_to_the_visit_measure(db: Path) -> None:
+    """Version 1 held readings as peak values; version 2 holds them in the visit's
+    measure: rms = peak/√2, peak-to-peak = 2·peak (sinusoid identities)."""
+    db.parent.mkdir(parents=True)
+    write_version_1_file(db)
+    with History(db) as h:
+        rms, pp, peak = h.visit(1), h.visit(2), h.visit(3)
+        found = h.latest_coefficients("WM-EF-07", ["outboard H"], ["hub"])
+    root2 = math.sqrt(2.0)
+    assert rms.runs[0].phasors[0] == pytest.approx(complex(12.0, 8.0) / root2, rel=1e-15)
+    assert rms.coefficients[0, 0] == pytest.approx(complex(0.004, -0.002) / root2, rel=1e-15)
+    assert rms.result["vibration_before"] == pytest.approx(10.0, rel=1e-15)
+    assert rms.runs[0].readings == ((10.0, 30.0),)  # as read: unchanged
+    assert pp.runs[0].phasors[0] == pytest.approx(complex(24.0, 16.0), rel=1e-15)
+    assert pp.coefficients[0, 0] == pytest.approx(complex(0.008, -0.004), rel=1e-15)
+    assert peak.runs[0].phasors[0] == complex(12.0, 8.0)
+    assert (rms.service_rpm, rms.rotation) == (None, None)
+    assert (found.measure, found.service_rpm) == ("peak", None)  # the newest: visit 3
+    connection = sqlite3.connect(db)
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
+    assert connection.execute("PRAGMA integrity_check").fetchall() == [("ok",)]
     connection.close()
 
 
@@ -318,6 +393,8 @@ def test_failure_inside_save_leaves_no_trace(db: Path, monkeypatch: pytest.Monke
     (lambda r: replace(r, planned=(replace(r.planned[0], plane=2),)), "planned[0].plane"),
     (lambda r: replace(r, started_at="Tuesday"), "started_at"),
     (lambda r: replace(r, condition=float("nan")), "condition"),
+    (lambda r: replace(r, service_rpm=float("nan")), "service_rpm"),
+    (lambda r: replace(r, service_rpm=-1475.0), "service_rpm"),
     (lambda r: replace(r, result={"plan": {1, 2}}), "result"),
 ])
 def test_inconsistent_record_is_refused_before_writing(db: Path, change, key: str) -> None:

@@ -1,4 +1,14 @@
-"""Influence coefficients, corrections and reading conventions against formulas and numpy."""
+"""Influence coefficients, corrections and reading conventions against formulas and numpy.
+
+No numeric worked example: REFERENCES.md gives the field-balancing formulas
+(single plane, two planes, least squares) but no textbook example with
+numbers for them (its only worked example with numbers, FIST Volume 2-2
+example 4, is about splitting a weight between two positions).  So the
+single-plane and two-plane results are checked against the closed-form
+algebra written out in the tests (the quotient, and Cramer's rule for the
+2×2 system), numpy.linalg.solve and numpy.linalg.lstsq, on synthetic
+machines whose coefficients the tests set (invented data).
+"""
 
 from __future__ import annotations
 
@@ -8,9 +18,12 @@ import math
 import numpy as np
 import pytest
 
-from placer.influence import (coefficients_from_runs, least_squares_correction,
-                              static_couple, trial_mass_g, trial_run_warnings)
-from placer.readings import convert_amplitude, phase_in_rotor_sense, phasor
+from placer.influence import (CoefficientMismatch, StoredCoefficients, adapt_stored,
+                              coefficients_from_runs, condition_number,
+                              least_squares_correction, static_couple, trial_mass_g,
+                              trial_run_warnings)
+from placer.readings import (amplitude_scale, convert_amplitude, phase_in_rotor_sense, phasor,
+                             sense_against_rotation)
 
 
 def rect(a, deg):
@@ -42,9 +55,20 @@ def test_two_planes_recover_a_synthetic_machine():
     trials = np.array([[rect(3600, 45), 0], [0, rect(3600, 180)]])
     runs = np.array([v0 + a @ t for t in trials])
     result = coefficients_from_runs(v0, runs, trials, ["s1", "s2"], ["p1", "p2"])
+    # One trial per plane: α_i1 = (V1 - V0)/T1, α_i2 = (V2 - V0)/T2 (REFERENCES.md).
+    by_hand = np.array([[(runs[0][i] - v0[i]) / trials[0, 0],
+                         (runs[1][i] - v0[i]) / trials[1, 1]] for i in range(2)])
+    np.testing.assert_allclose(result.matrix, by_hand, rtol=1e-12)
     np.testing.assert_allclose(result.matrix, a, rtol=1e-10)
     w = least_squares_correction(result.matrix, v0)
-    # REFERENCES.md: two planes, α·W = -V0 (2×2 complex system), solved by numpy.
+    # REFERENCES.md: two planes, α·W = -V0 (2×2 complex system).  Cramer's rule,
+    # written out: W1 = det([-V0, α_2]) / det(α), W2 = det([α_1, -V0]) / det(α).
+    (a11, a12), (a21, a22) = result.matrix
+    b1, b2 = -v0
+    det = a11 * a22 - a12 * a21
+    cramer = np.array([(b1 * a22 - a12 * b2) / det, (a11 * b2 - b1 * a21) / det])
+    np.testing.assert_allclose(w, cramer, rtol=1e-10)
+    # ... and numpy.linalg.solve on the set matrix.
     np.testing.assert_allclose(w, np.linalg.solve(a, -v0), rtol=1e-10)
     # Round trip: fitting the continuous correction brings the vibration to zero.
     np.testing.assert_allclose(v0 + a @ w, 0, atol=1e-12)
@@ -62,7 +86,12 @@ def test_trial_weight_left_on_gives_the_same_coefficients():
     np.testing.assert_allclose(result.matrix, a, rtol=1e-10)
 
 
-def test_more_sensors_than_planes_is_least_squares_as_numpy():
+def real_form(m: np.ndarray) -> np.ndarray:
+    """A complex matrix as the real matrix [[Re, -Im], [Im, Re]] acting on [Re x; Im x]."""
+    return np.block([[m.real, -m.imag], [m.imag, m.real]])
+
+
+def test_more_sensors_than_planes_is_least_squares():
     a, u0 = synthetic_machine(8, channels=4)
     rng = np.random.default_rng(1)
     noise = lambda: 0.02 * (rng.normal(size=4) + 1j * rng.normal(size=4))  # noqa: E731
@@ -70,10 +99,21 @@ def test_more_sensors_than_planes_is_least_squares_as_numpy():
     trials = np.array([[rect(3600, 0), 0], [0, rect(3600, 90)], [rect(2000, 200), 0]])
     runs = np.array([a @ (u0 + t) + noise() for t in trials])
     result = coefficients_from_runs(v0, runs, trials, list("abcd"), ["p1", "p2"])
-    expected, *_ = np.linalg.lstsq(trials, runs - v0, rcond=None)  # numpy reference
-    np.testing.assert_allclose(result.matrix, expected.T, rtol=1e-12)
-    # With noise the correction stays near the truth (5 % of its size).
+    # Three runs for two planes: the normal equations Tᴴ T Aᵀ = Tᴴ (V - V0), with the
+    # conjugate transpose (REFERENCES.md, least squares), solved by numpy.linalg.solve.
+    delta = runs - v0
+    normal = np.linalg.solve(trials.conj().T @ trials, trials.conj().T @ delta)
+    np.testing.assert_allclose(result.matrix, normal.T, rtol=1e-10)
+    # Correction: numpy.linalg.lstsq on the raw system written in real numbers
+    # (a different formulation from placer's complex one).
     w = least_squares_correction(result.matrix, v0)
+    x, *_ = np.linalg.lstsq(real_form(result.matrix), -np.concatenate([v0.real, v0.imag]),
+                            rcond=None)
+    np.testing.assert_allclose(w, x[:2] + 1j * x[2:], rtol=1e-10)
+    # ... and the normal equations W = -(Aᴴ A)⁻¹ Aᴴ V0 (Goodman 1964, from memory).
+    m = result.matrix
+    np.testing.assert_allclose(w, -np.linalg.solve(m.conj().T @ m, m.conj().T @ v0), rtol=1e-10)
+    # With noise the correction stays near the truth (5 % of its size).
     assert np.abs(w + u0).max() < 0.05 * np.abs(u0).max()
 
 
@@ -87,17 +127,86 @@ def test_weighted_least_squares_matches_the_closed_form():
 
 
 def test_warnings_for_a_weak_trial_and_poor_plane_separation():
+    # 30 % in amplitude or 30° in phase (REFERENCES.md: common practice).
     v0 = np.array([rect(4.0, 30), rect(3.0, 80)])
     weak = np.array([[rect(4.2, 34), rect(3.1, 85)]])  # 5 % and 4°: not trusted
     assert trial_run_warnings(v0, weak, ["s1", "s2"])
     strong = np.array([[rect(6.0, 34), rect(3.1, 85)]])  # 50 % on one sensor
     assert not trial_run_warnings(v0, strong, ["s1", "s2"])
+    # Each run against its own baseline: run 2 against run 1 (weight left on).
+    both = np.array([[rect(6.0, 34), rect(3.1, 85)], [rect(6.1, 35), rect(3.15, 86)]])
+    baselines = np.array([v0, both[0]])
+    assert [w[:11] for w in trial_run_warnings(baselines, both, ["s1", "s2"])] == ["trial run 2"]
     a = np.array([[1e-3, 1.01e-3], [2e-3, 2.0e-3]], dtype=complex)  # nearly parallel columns
     trials = np.array([[1000, 0], [0, 1000]], dtype=complex)
     runs = np.array([v0 * 3 + a @ t for t in trials])
     result = coefficients_from_runs(v0 * 3, runs, trials, ["s1", "s2"], ["p1", "p2"])
     assert result.condition > 10
     assert any("ill-conditioned" in w for w in result.warnings)
+
+
+def test_condition_number_is_that_of_the_weighted_matrix():
+    a, _ = synthetic_machine(9, channels=3)
+    d = np.array([1.0, 4.0, 0.25])
+    # 2-norm condition number = sqrt(λmax/λmin) of Aᴴ D A (singular values of D^½ A;
+    # Golub and Van Loan, from memory), from numpy.linalg.eigvalsh.
+    eig = np.linalg.eigvalsh(a.conj().T @ np.diag(d) @ a)
+    assert condition_number(a, d) == pytest.approx(math.sqrt(eig.max() / eig.min()), rel=1e-9)
+    assert condition_number(a) == pytest.approx(np.linalg.cond(a), rel=1e-12)
+    trials = np.array([[1000, 0], [0, 1000]], dtype=complex)
+    v0 = np.array([rect(4, 10), rect(3, 100), rect(5, 250)])
+    result = coefficients_from_runs(v0, np.array([v0 + a @ t for t in trials]), trials,
+                                    ["a", "b", "c"], ["p1", "p2"], channel_weights=d)
+    assert result.condition == pytest.approx(math.sqrt(eig.max() / eig.min()), rel=1e-6)
+
+
+def stored(matrix, unit="mm/s", measure="peak", sense="against rotation", rotation=None,
+           rpm=1475.0):
+    return StoredCoefficients(np.asarray(matrix, dtype=complex), unit, measure, sense, rotation,
+                              rpm, ("s1",), ("p1",), "visit 7")
+
+
+def test_stored_coefficients_are_converted_to_this_visit():
+    m = np.array([[rect(0.002, 35)]])
+    # 1 in/s = 25.4 mm/s (inch definition); rms = peak/√2 (sinusoid identity).
+    out, notes = adapt_stored(stored(m), "in/s", "rms", "against rotation", None, 1475.0)
+    assert out[0, 0] == pytest.approx(m[0, 0] / 25.4 / math.sqrt(2), rel=1e-12)
+    assert notes == []
+    # Angles counted the other way: every angle changes sign, so A becomes its conjugate.
+    out, _ = adapt_stored(stored(m), "mm/s", "peak", "with rotation", None, 1475.0)
+    assert out[0, 0] == pytest.approx(np.conj(m[0, 0]), rel=1e-12)
+    # clockwise angles on a machine turning clockwise count with rotation.
+    out, _ = adapt_stored(stored(m, sense="clockwise", rotation="clockwise"), "mm/s", "peak",
+                          "against rotation", None, 1475.0)
+    assert out[0, 0] == pytest.approx(np.conj(m[0, 0]), rel=1e-12)
+    out, _ = adapt_stored(stored(m, sense="clockwise", rotation="clockwise"), "mm/s", "peak",
+                          "counterclockwise", "counterclockwise", 1475.0)
+    assert out[0, 0] == pytest.approx(m[0, 0], rel=1e-12)
+    # 1 % off the stored speed passes (within the 2 % rule, placer's own).
+    adapt_stored(stored(m), "mm/s", "peak", "against rotation", None, 1475.0 * 1.01)
+    _, notes = adapt_stored(stored(m, rpm=None), "mm/s", "peak", "against rotation", None, 1475.0)
+    assert notes and "not stored" in notes[0]
+
+
+@pytest.mark.parametrize("unit, sense, rotation, rpm, key", [
+    ("um", "against rotation", None, 1475.0, "readings.unit"),
+    ("mils", "against rotation", None, 1475.0, "readings.unit"),
+    ("mm/s", "against rotation", None, 1475.0 * 1.05, "rotor.service_rpm"),
+    ("mm/s", "against rotation", None, None, "rotor.service_rpm"),
+])
+def test_stored_coefficients_that_cannot_serve_are_refused(unit, sense, rotation, rpm, key):
+    with pytest.raises(CoefficientMismatch) as caught:
+        adapt_stored(stored([[0.002]]), unit, "peak", sense, rotation, rpm)
+    assert caught.value.key == key
+
+
+def test_stored_clockwise_without_rotation_is_refused_when_the_sense_differs():
+    old = stored([[0.002j]], sense="clockwise", rotation=None)
+    with pytest.raises(CoefficientMismatch) as caught:
+        adapt_stored(old, "mm/s", "peak", "with rotation", None, 1475.0)
+    assert caught.value.key == "rotor.angle_sense"
+    out, _ = adapt_stored(old, "mm/s", "peak", "clockwise", "clockwise", 1475.0)
+    assert out[0, 0] == 0.002j
 
 
 def test_trial_mass_rule_of_thumb():
@@ -136,6 +245,11 @@ def test_reading_conventions():
     assert phase_in_rotor_sense(30, "lag", "clockwise", "counterclockwise") == pytest.approx(30)
     assert phase_in_rotor_sense(30, "lag", "clockwise", "clockwise") == pytest.approx(330)
     assert phasor(2.0, 90.0) == pytest.approx(2j)
+    assert amplitude_scale("mils", "peak-to-peak", "um", "peak") == pytest.approx(12.7)
+    with pytest.raises(ValueError):
+        amplitude_scale("um", "peak", "mm/s", "peak")
+    assert sense_against_rotation("clockwise", "counterclockwise") == "against rotation"
+    assert sense_against_rotation("clockwise", None) is None
 
 
 def test_phase_sense_does_not_change_the_physical_answer():
