@@ -10,10 +10,15 @@ at 150 mm, the 5 steel washers of the bundled catalogue "washers-steel", up to
 (8 kg, 1480 r/min).  N seeded rows are written as a readings CSV (magnitudes
 uniform between 0 and 3 times the largest washer's g·mm, angles uniform) and
 the batch is run in this process by ``placer.batchfile.run_batch``, as
-``placer batch`` runs it, with ``jobs=1`` and ``jobs=2``.  The time is the
-whole run: reading the files, starting the workers (each builds its search
-once), solving, writing the results row by row.  Rotors per second per core
-is rows / time / jobs; the aim is at least 500.
+``placer batch`` runs it, with ``jobs`` = 1, 2, ... up to the cores this
+process may use (``placer.batch.usable_cores``: its CPU affinity).  The
+time is the whole run: reading the files, building the tables (once, in
+the parent, which the forked workers share), starting the workers, solving,
+writing the results row by row.  Rotors per second per core is rows / time
+/ jobs; the aim is at least 500.  Speed-up is the rate with ``jobs`` over
+the rate with 1; efficiency is speed-up / jobs (1.00: every core fully
+used); "CPU use" is the CPU time of this process and its workers over
+wall time × jobs, which shows whether the cores were busy or waiting.
 
 Scaling: the same line with 12, 36 and 72 positions and 5 sizes
 ("washers-steel") or 12 sizes ("rim-clips-5g", 5 to 60 g), capacity 3, up to
@@ -47,7 +52,7 @@ if str(REPO) not in sys.path:
 
 import scipy.spatial  # noqa: E402,F401  (imported here so no timing pays for it)
 
-from placer.batch import BatchSolver, RotorReading  # noqa: E402
+from placer.batch import BatchSolver, RotorReading, usable_cores  # noqa: E402
 from placer.batchfile import read_readings, read_template, run_batch  # noqa: E402
 from placer.catalogfile import read_catalog, resolve_catalog  # noqa: E402
 
@@ -130,22 +135,38 @@ def _burn(count: int) -> int:
     return total
 
 
-def machine_scaling(count: int = 5_000_000) -> float:
-    """How much faster two processes do two equal pure-Python loops than one does one.
+def machine_scaling(processes: int, count: int = 5_000_000) -> float:
+    """How much more work ``processes`` processes do than one, on equal pure-Python loops.
 
-    2.0 on two free cores; less where the cores are shared.  Tells how far the
-    jobs-2 figure can go on this machine.
+    ``processes`` on free cores; less where the cores are shared.  Tells how
+    far the batch's speed-up can go on this machine at this moment.
     """
     import multiprocessing
 
     started = time.perf_counter()
     _burn(count)
     one = time.perf_counter() - started
-    with multiprocessing.Pool(2) as pool:
+    with multiprocessing.Pool(processes) as pool:
         started = time.perf_counter()
-        pool.map(_burn, [count, count])
-        two = time.perf_counter() - started
-    return 2.0 * one / two
+        pool.map(_burn, [count] * processes)
+        many = time.perf_counter() - started
+    return processes * one / many
+
+
+def scaling_table(folder: Path, rows: int, seed: int, cores: int) -> None:
+    """The 12-hole line with jobs 1 .. cores: rate, per core, speed-up, efficiency."""
+    print(f"{'jobs':>4} {'wall s':>8} {'rotors/s':>9} {'per core':>9} {'per CPU-s':>10} "
+          f"{'speed-up':>8} {'effic.':>7} {'CPU use':>8}  aim >= {TARGET_PER_CORE:.0f}/s per core")
+    base = None
+    for jobs in range(1, cores + 1):
+        elapsed, per_core, per_cpu = batch_rate(folder, 12, "washers-steel", rows, seed, jobs)
+        rate = rows / elapsed
+        base = rate if base is None else base
+        speedup = rate / base
+        cpu_use = (rows / per_cpu) / (elapsed * jobs)
+        verdict = "pass" if per_core >= TARGET_PER_CORE else "FAIL"
+        print(f"{jobs:>4} {elapsed:>8.2f} {rate:>9.0f} {per_core:>9.0f} {per_cpu:>10.0f} "
+              f"{speedup:>8.2f} {speedup / jobs:>7.2f} {cpu_use:>8.0%}  {verdict}")
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -161,22 +182,17 @@ def main(argv: list[str] | None = None) -> int:
     scale_rows = args.scale_rows or (60 if args.quick else 200)
     print("$ python benchmarks/bench_batch.py " + " ".join(argv if argv is not None
                                                            else sys.argv[1:]))
-    print(f"cores: os.cpu_count() = {os.cpu_count()}; "
+    cores = usable_cores()
+    print(f"cores: os.cpu_count() = {os.cpu_count()}, usable by this process = {cores}; "
           f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
-    print(f"machine: two processes do {machine_scaling():.2f} times the work of one "
-          "(pure-Python loop; 2.00 on two free cores)")
+    if cores > 1:
+        print(f"machine: {cores} processes do {machine_scaling(cores):.2f} times the work of "
+              f"one (pure-Python loop; {cores:.2f} on {cores} free cores)")
     with tempfile.TemporaryDirectory() as name:
         folder = Path(name)
         print(f"\n12-hole bolt circle, 5 washer sizes, capacity 3, up to 4 parts, {rows} rows, "
               f"seed {args.seed}")
-        print(f"{'jobs':>4} {'wall s':>8} {'rotors/s':>9} {'per core':>9} {'per CPU-s':>10}"
-              f"  aim >= {TARGET_PER_CORE:.0f}/s per core (wall clock)")
-        for jobs in (1, 2):
-            elapsed, per_core, per_cpu = batch_rate(folder, 12, "washers-steel", rows,
-                                                    args.seed, jobs)
-            verdict = "pass" if per_core >= TARGET_PER_CORE else "FAIL"
-            print(f"{jobs:>4} {elapsed:>8.2f} {rows / elapsed:>9.0f} {per_core:>9.0f} "
-                  f"{per_cpu:>10.0f}  {verdict}")
+        scaling_table(folder, rows, args.seed, cores)
         print(f"\nScaling, jobs 1, capacity 3, up to 4 parts, {scale_rows} rows per case")
         print(f"{'positions':>9} {'sizes':>5} {'placements':>10} {'first ms':>9} "
               f"{'median ms':>9} {'steady /s':>9} {'rotors/s':>9} {'per CPU-s':>10}")

@@ -13,9 +13,13 @@ How a rotor is solved (Notes)
   for a small plane the table of all its selections, see there) and the
   plane's tolerance (``tolerance_gmm``, else its share of U_per from the
   grade, exactly as :func:`placer.solve.solve_job` works it out).
-* Per rotor and plane only the target changes: :func:`placer.solve.exact_front`
-  with the prebuilt search, :func:`placer.plan.choose` (fewest parts within
-  the tolerance, else the least residual) and :func:`placer.solve.to_option`
+* Per rotor and plane only the target changes: it is the rotor's correction
+  plus the plane's fixed offset (the existing parts' correction taken off
+  when the rotor's correction_basis is "total", else zero), and goes into
+  the plane's prebuilt arrays (:class:`placer.solve.PlaneArrays`, built once)
+  in place of the template's; then :func:`placer.solve.exact_front` with the
+  prebuilt search, :func:`placer.plan.choose` (fewest parts within the
+  tolerance, else the least residual) and :func:`placer.solve.to_option`
   (residual recomputed from the listed parts).  The result is the one
   ``placer solve`` gives for a job file holding that rotor's correction.
 * Stock: every rotor is solved as if the drawers were full (the batch does
@@ -28,6 +32,8 @@ How a rotor is solved (Notes)
   processes (fork or spawn: everything sent is picklable, the worker's
   state is built by its initializer); each worker builds its searches once.
   Rotors are handed out in chunks and the outcomes come back in input order.
+  The number of processes is capped at the cores this process may run on
+  (:func:`usable_cores`): more would only take turns on the same cores.
 
 References
 ----------
@@ -37,11 +43,12 @@ unbalance and its allocation to correction planes).
 
 from __future__ import annotations
 
+import hashlib
 import math
 import multiprocessing
 import os
 import signal
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, replace
 
 import numpy as np
@@ -50,7 +57,8 @@ from placer.errors import JobError
 from placer.job import Job, PlaneJob
 from placer.plan import PlanOption, choose
 from placer.search import PlacementSearch, _feasible
-from placer.solve import DEFAULT_TIME_LIMIT_S, exact_front, plane_arrays, solve_job, to_option
+from placer.solve import (DEFAULT_TIME_LIMIT_S, PlaneArrays, exact_front,
+                          further_correction_gmm, plane_arrays, solve_job, to_option)
 
 CHUNK_ROWS = 64
 """Most rotors sent to a worker process at once."""
@@ -77,13 +85,36 @@ class RotorReading:
     serial: str
     corrections_gmm: tuple[complex, ...]
 
+    @property
+    def digest(self) -> str:
+        """First 16 hex digits of the SHA-256 of the corrections (see :func:`reading_digest`)."""
+        return reading_digest(self.corrections_gmm)
+
+
+def reading_digest(corrections_gmm: Iterable[complex]) -> str:
+    """A fingerprint of a rotor's corrections: equal exactly when every float is equal.
+
+    SHA-256 of the real and imaginary parts written with ``repr`` (which
+    round-trips a float exactly), first 16 hex digits.  A resumed batch
+    compares it with the one stored in each result to find rows changed
+    since.
+
+    References
+    ----------
+    FIPS 180-4 (SHA-256); Python ``float.__repr__``, shortest repr that
+    round-trips (Python 3.1+).
+    """
+    text = ";".join(f"{complex(c).real!r},{complex(c).imag!r}" for c in corrections_gmm)
+    return hashlib.sha256(text.encode("ascii")).hexdigest()[:16]
+
 
 @dataclass(frozen=True)
 class PlaneOutcome:
     """The plan chosen for one plane of one rotor.
 
     ``tolerance_gmm`` is None when the template gives no tolerance for the
-    plane; ``within_tolerance`` is then None too.
+    plane; ``within_tolerance`` is then None too.  ``correction_gmm`` is the
+    rotor's required correction for the plane, as read [g·mm].
     """
 
     plane: int
@@ -92,6 +123,7 @@ class PlaneOutcome:
     option: PlanOption
     tolerance_gmm: float | None
     within_tolerance: bool | None
+    correction_gmm: complex = 0j
 
     @property
     def residual_gmm(self) -> float:
@@ -226,6 +258,8 @@ class BatchSolver:
         self.time_limit_s = float(time_limit_s)
         self.tolerances_gmm = template_tolerances(template)
         self.searches = []
+        self.arrays: list[PlaneArrays] = []
+        self.offsets_gmm: list[complex] = []
         for number, plane in enumerate(template.planes, start=1):
             arrays = plane_arrays(plane)
             probe = plane_arrays(_row_plane(plane, 1000.0 + 500.0j))
@@ -238,6 +272,9 @@ class BatchSolver:
                                expected="a plane whose parts do not change with the correction")
             self.searches.append(BatchSearch(arrays.effects, arrays.capacity, arrays.stock,
                                              plane.max_parts))
+            self.arrays.append(arrays)
+            # The target is linear in the correction: correction + its value at zero.
+            self.offsets_gmm.append(complex(further_correction_gmm(_row_plane(plane, 0j))))
         self._shared = _shared_stock_groups(template)
 
     @property
@@ -258,10 +295,11 @@ class BatchSolver:
         planes = []
         for index, correction in enumerate(reading.corrections_gmm):
             plane = _row_plane(self.template.planes[index], correction)
-            arrays = plane_arrays(plane)
+            arrays = replace(self.arrays[index],
+                             target=np.array([complex(correction) + self.offsets_gmm[index]]))
             entries, _, _ = exact_front(arrays, plane.max_parts, self.time_limit_s,
                                         search=self.searches[index])
-            option = to_option(plane, choose(entries, self.tolerances_gmm[index]))
+            option = to_option(plane, choose(entries, self.tolerances_gmm[index]), rows=arrays)
             planes.append(self._outcome(index, plane, option))
         if self._overdraws(planes):
             return self._solved_together(reading)
@@ -271,7 +309,7 @@ class BatchSolver:
         tolerance = self.tolerances_gmm[index]
         within = None if tolerance is None else option.residual_gmm <= tolerance
         return PlaneOutcome(index + 1, plane.geometry.name, plane.catalog.name, option,
-                            tolerance, within)
+                            tolerance, within, complex(plane.correction_gmm))
 
     def _overdraws(self, planes: list[PlaneOutcome]) -> bool:
         """True when planes sharing a catalogue together need more of an item than in stock."""
@@ -337,14 +375,40 @@ def _chunks(readings: Iterable[RotorReading], size: int) -> Iterator[list[RotorR
         yield chunk
 
 
-def default_jobs() -> int:
-    """Worker processes when none are asked for: one per core."""
+def usable_cores() -> int:
+    """Cores this process may run on: its CPU affinity where the system has one.
+
+    ``os.sched_getaffinity(0)`` (Linux; a container or ``taskset`` may allow
+    fewer cores than the machine has), else ``os.cpu_count()``.
+
+    References
+    ----------
+    Python documentation, :func:`os.sched_getaffinity` and :func:`os.cpu_count`
+    ("not equivalent to the number of CPUs the current process can use").
+    """
+    affinity = getattr(os, "sched_getaffinity", None)
+    if affinity is not None:
+        try:
+            return max(1, len(affinity(0)))
+        except OSError:
+            pass
     return os.cpu_count() or 1
+
+
+def default_jobs() -> int:
+    """Worker processes when none are asked for: one per usable core."""
+    return usable_cores()
+
+
+def processes_used(jobs: int, rows: int) -> int:
+    """Processes :func:`solve_readings` solves ``rows`` rotors in with ``jobs`` asked."""
+    return 1 if jobs <= 1 else max(1, min(jobs, rows))
 
 
 def solve_readings(template: Job, readings: Iterable[RotorReading], jobs: int | None = None,
                    time_limit_s: float = DEFAULT_TIME_LIMIT_S, chunk_rows: int = CHUNK_ROWS,
-                   start_method: str | None = None) -> Iterator[RotorOutcome]:
+                   start_method: str | None = None,
+                   on_ready: Callable[[], None] | None = None) -> Iterator[RotorOutcome]:
     """Outcomes of every rotor, in input order, as they are solved.
 
     Parameters
@@ -361,6 +425,10 @@ def solve_readings(template: Job, readings: Iterable[RotorReading], jobs: int | 
         Most rotors handed to a worker at once.
     start_method : {"fork", "spawn", "forkserver"}, optional
         How worker processes start; default the platform's.
+    on_ready : callable, optional
+        Called once, before the first outcome, when what every rotor shares
+        is built (the searches and their tables; with worker processes that
+        are not forked, when the workers are started, as each builds its own).
 
     Raises
     ------
@@ -370,13 +438,23 @@ def solve_readings(template: Job, readings: Iterable[RotorReading], jobs: int | 
     jobs = default_jobs() if jobs is None else int(jobs)
     if jobs < 1 or chunk_rows < 1:
         raise ValueError("jobs and chunk_rows must be at least 1")
+    ready = on_ready if on_ready is not None else (lambda: None)
     if jobs == 1:
         solver = BatchSolver(template, time_limit_s)
+        readings = iter(readings)
+        first = next(readings, None)
+        if first is not None:
+            solver.build_tables()  # no tables for no rotors
+        ready()
+        if first is None:
+            return
+        yield solver.solve(first)
         for reading in readings:
             yield solver.solve(reading)
         return
     readings = list(readings)
     if not readings:
+        ready()
         return
     size = max(1, min(chunk_rows, -(-len(readings) // (4 * jobs))))
     context = multiprocessing.get_context(start_method)
@@ -388,8 +466,9 @@ def solve_readings(template: Job, readings: Iterable[RotorReading], jobs: int | 
         _WORKER.build_tables()
         initargs = (None, time_limit_s)
     try:
-        with context.Pool(min(jobs, len(readings)), initializer=_init_worker,
+        with context.Pool(processes_used(jobs, len(readings)), initializer=_init_worker,
                           initargs=initargs) as pool:
+            ready()
             for outcomes in pool.imap(_solve_chunk, _chunks(readings, size)):
                 yield from outcomes
     finally:

@@ -27,9 +27,17 @@ template order (1, 2, ...)::
   as ``correction = {...}`` in a job file), magnitude zero or more.
 
 No other columns.  A bad header stops the batch (exit 2); a bad row (wrong
-number of values, a value missing, not a number, NaN or infinite, a
-negative magnitude, a bad or repeated serial) goes to the errors file and
-the other rows go on.  Blank lines are skipped.
+number of values, a value missing, not a number, NaN or infinite, outside
+the range of every placer number, a negative magnitude, a bad or repeated
+serial) goes to the errors file and the other rows go on.  Blank lines are
+skipped.
+
+Numbers are plain decimals: an optional sign, digits with an optional
+decimal point, an optional exponent (``12.5``, ``-3``, ``.5``, ``1.25e3``).
+Forms Python's ``float`` also reads but a spreadsheet or a balancing
+machine does not write (``1_000``, ``0x1p3``, digits of other scripts) are
+refused, and so are ``nan`` and ``inf``.  Every number is zero or between
+1e-12 and 1e12 in size, as in every placer file (:mod:`placer.fields`).
 
 Readings, JSON lines (``.jsonl``)
 ---------------------------------
@@ -38,6 +46,10 @@ One object per line, the planes in template order::
     {"serial": "WM-FH-0001", "planes": [{"mass_g": 4.2, "angle_deg": 117.5},
                                         {"gmm": 630.0, "angle_deg": 12.0}]}
 
+Numbers are JSON numbers (not text), with the range of the CSV's; a line
+that is not JSON, or nests lists and objects too deeply to read, is a bad
+row like any other.
+
 Results (``PREFIX`` from ``--out``; default the readings file's name with
 its suffix replaced by ``.results``)
 --------------------------------------------------------------------------
@@ -45,8 +57,11 @@ its suffix replaced by ``.results``)
   row::
 
       {"serial": ..., "line": <line in the readings file>, "template": <digest>,
+       "input": <digest of the row's corrections>,
        "within_tolerance": true | false | null, "solved_together": false,
-       "planes": [{"plane": 1, "name": ..., "catalog": ..., "parts": "3:M10×2;7:M6×1",
+       "planes": [{"plane": 1, "name": ..., "catalog": ...,
+                   "correction_gmm": ..., "correction_angle_deg": ...,
+                   "parts": "3:M10×2;7:M6×1",
                    "fitted": [{"position": 3, "angle_deg": ..., "item": "M10",
                                "mass_g": ..., "count": 2, "action": "fit"}, ...],
                    "part_count": 3, "residual_gmm": ..., "residual_angle_deg": ...,
@@ -63,13 +78,27 @@ its suffix replaced by ``.results``)
 * ``PREFIX.summary.json``: the :class:`placer.batch.BatchSummary` fields
   (rows_read, solved, already_done, errors, within, outside, no_tolerance,
   share_within, parts_used, elapsed_s, jobs) plus template, template_digest,
-  readings, solved_now and outputs, written at the end.
+  readings, solved_now and outputs, written at the end.  ``jobs`` is the
+  number of processes that solved (``--jobs`` capped at the usable cores
+  and at the rotors to solve).
+
+All JSON written is strict JSON (RFC 8259): a number that is not finite
+would be written as null (none is expected: the readers keep every input
+in range).
 
 Results come in input order.  Existing outputs are never overwritten
 without ``resume`` (keep the rotors of ``PREFIX.jsonl``, drop a partial
 last line, solve the rest) or ``force`` (start again).  Rows are flushed to
 the operating system one by one, which survives an interrupted or killed
 batch (not a power cut).
+
+Resume checks that the readings are the ones the kept results were solved
+from: every kept result's serial must still be in the readings file, with
+the same corrections (the ``input`` digest, exact to the last bit of every
+number).  Otherwise the batch stops with exit 2 before writing anything,
+naming the results file, the line and the serial; ``--force`` starts
+again, or another ``--out`` keeps both.  A row that was bad before and is
+good now is simply solved.
 """
 
 from __future__ import annotations
@@ -89,10 +118,11 @@ from pathlib import Path
 from typing import Any, TextIO
 
 from placer.batch import (BatchSummary, BatchTally, RotorOutcome, RotorReading, default_jobs,
-                          solve_readings)
+                          processes_used, reading_digest, solve_readings, usable_cores)
 from placer.errors import InputError, JobError
-from placer.fields import Table, read_toml
-from placer.geometry import gmm_vector
+from placer.fields import (MAX_WHOLE, RANGE_EXPECTED, Table, json_text, number_problem,
+                           printable, read_toml, whole_number_text)
+from placer.geometry import angle_of_deg, gmm_vector
 from placer.job import Job
 from placer.jobfile import _plane, _rotor
 from placer.solve import DEFAULT_TIME_LIMIT_S
@@ -101,6 +131,13 @@ SERIAL_PATTERN = re.compile(r"[A-Za-z0-9._-]{1,40}")
 """A serial: 1 to 40 ASCII letters, digits, '-', '_' or '.'."""
 SERIAL_EXPECTED = "1 to 40 letters, digits, '-', '_' or '.'"
 COLUMN_PATTERN = re.compile(r"([0-9]+)_(mass_g|gmm|angle_deg)")
+PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
+"""A number as a spreadsheet or a balancing machine writes it (ASCII digits only)."""
+PLAIN_EXPECTED = "a plain decimal number such as 12.5, -3 or 1.25e3"
+NON_FINITE = frozenset(sign + word for sign in ("", "+", "-")
+                       for word in ("nan", "inf", "infinity"))
+JSON_INT_DIGITS = 30
+"""JSON whole numbers longer than this are not converted (they are out of range anyway)."""
 PLACEHOLDER_CORRECTION = {"gmm": 0.0, "angle_deg": 0.0}
 """Put into template planes that give no correction, so that the job reader accepts them."""
 PLAIN_PROGRESS_EVERY_S = 10.0
@@ -203,7 +240,8 @@ def read_readings(path: Path, template: Job) -> list[RotorReading | RowError]:
     except IsADirectoryError:
         raise InputError("is a folder, not a readings file", file=str(path)) from None
     except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the readings file: {exc}", file=str(path)) from None
+        raise InputError(f"cannot read the readings file: {printable(str(exc))}",
+                         file=str(path)) from None
     rows = _csv_rows(text, path, template) if suffix == ".csv" else _jsonl_rows(text, template)
     return _mark_repeats(list(rows))
 
@@ -229,14 +267,14 @@ def _csv_header(names: list[str], file: str, template: Job) -> tuple[int, list[_
     per_plane: dict[int, dict[str, int]] = {}
     for index, name in enumerate(names):
         if name in seen:
-            raise InputError("appears twice in the header", file=file, key=f"column '{name}'",
-                             expected="each column once")
+            raise InputError("appears twice in the header", file=file,
+                             key=f"column '{printable(name)}'", expected="each column once")
         seen[name] = index
         if name == "serial":
             continue
         match = COLUMN_PATTERN.fullmatch(name)
         if match is None:
-            raise InputError("unknown column", file=file, key=f"column '{name}'",
+            raise InputError("unknown column", file=file, key=f"column '{printable(name)}'",
                              expected=expected)
         number = int(match.group(1))
         if not 1 <= number <= n_planes:
@@ -274,7 +312,8 @@ def _csv_rows(text: str, path: Path, template: Job) -> Iterator[RotorReading | R
         raise InputError("is empty", file=file, key="header",
                          expected="a header line: serial,1_mass_g,1_angle_deg,...") from None
     except csv.Error as exc:
-        raise InputError(f"header is not CSV: {exc}", file=file, key="header") from None
+        raise InputError(f"header is not CSV: {printable(str(exc))}", file=file,
+                         key="header", expected="comma-separated column names") from None
     names = [name.strip() for name in header]
     serial_at, planes = _csv_header(names, file, template)
     end = reader.line_num
@@ -325,37 +364,74 @@ def _serial_problem(serial: Any) -> str | None:
     return None
 
 
-def _number(raw: Any, name: str) -> float | str:
-    """A finite number from a CSV cell (text) or a JSON value; else the problem as text."""
+class _OutOfRange:
+    """A JSON number too large to convert to a finite float: its text is kept."""
+
+    def __init__(self, text: str) -> None:
+        digits = len(text.lstrip("+-"))
+        self.shown = text if len(text) <= 30 else f"a whole number of {digits} digits"
+
+
+def _json_int(text: str) -> int | _OutOfRange:
+    return int(text) if len(text) <= JSON_INT_DIGITS else _OutOfRange(text)
+
+
+def _json_float(text: str) -> float | _OutOfRange:
+    value = float(text)
+    return value if math.isfinite(value) else _OutOfRange(text)
+
+
+def _number(raw: Any, name: str, text: bool) -> float | str:
+    """A number in range from a CSV cell (``text``) or a JSON value; else the problem as text.
+
+    See the module docstring for the forms and the range accepted.
+    """
     if raw is None or raw == "":
         return f"{name} is missing"
+    if isinstance(raw, str) and not text:
+        shown = raw if len(raw) <= 30 else raw[:27] + "..."
+        return f"{name} is the text '{shown}' (expected a JSON number, without quotes)"
     if isinstance(raw, str):
-        try:
+        shown = raw if len(raw) <= 30 else raw[:27] + "..."
+        if raw.lower() in NON_FINITE:
             value = float(raw)
-        except ValueError:
-            shown = raw if len(raw) <= 30 else raw[:27] + "..."
-            return f"{name} is '{shown}', not a number"
+        elif PLAIN_NUMBER.fullmatch(raw):
+            value = float(raw)  # a long string of digits overflows to inf, never raises
+            if not math.isfinite(value):
+                return f"{name} is '{shown}' (expected {RANGE_EXPECTED})"
+        else:
+            try:
+                float(raw)
+            except (ValueError, OverflowError):
+                return f"{name} is '{shown}', not a number (expected {PLAIN_EXPECTED})"
+            return f"{name} is '{shown}', not a plain number (expected {PLAIN_EXPECTED})"
+    elif isinstance(raw, _OutOfRange):
+        return f"{name} is {raw.shown} (expected {RANGE_EXPECTED})"
     elif isinstance(raw, bool) or not isinstance(raw, (int, float)):
         return f"{name} is not a number"
+    elif isinstance(raw, int) and abs(raw) > MAX_WHOLE:
+        return f"{name} is {whole_number_text(raw)} (expected {RANGE_EXPECTED})"
     else:
         value = float(raw)
-    if not math.isfinite(value):
-        return f"{name} is {value} (expected a finite number)"
-    return value
+    problem = number_problem(value)
+    return value if problem is None else f"{name} is {problem}"
 
 
 def _vector(raw_magnitude: Any, raw_angle: Any, columns: _PlaneColumns, magnitude_name: str,
-            angle_name: str) -> complex | str:
-    magnitude = _number(raw_magnitude, magnitude_name)
+            angle_name: str, text: bool = True) -> complex | str:
+    magnitude = _number(raw_magnitude, magnitude_name, text)
     if isinstance(magnitude, str):
         return magnitude
     if magnitude < 0:
         return f"{magnitude_name} is {magnitude:g} (expected zero or more)"
-    angle = _number(raw_angle, angle_name)
+    angle = _number(raw_angle, angle_name, text)
     if isinstance(angle, str):
         return angle
     gmm = magnitude * columns.radius_mm if columns.kind == "mass_g" else magnitude
-    return gmm_vector(gmm, angle)
+    vector = gmm_vector(gmm, angle)
+    if not (math.isfinite(vector.real) and math.isfinite(vector.imag)):  # cannot happen in range
+        return f"{magnitude_name} gives a correction that is not finite (expected {RANGE_EXPECTED})"
+    return vector
 
 
 def _jsonl_rows(text: str, template: Job) -> Iterator[RotorReading | RowError]:
@@ -364,9 +440,16 @@ def _jsonl_rows(text: str, template: Job) -> Iterator[RotorReading | RowError]:
         if not line.strip():
             continue
         try:
-            data = json.loads(line)
+            data = json.loads(line, parse_int=_json_int, parse_float=_json_float)
         except json.JSONDecodeError as exc:
             yield RowError(line_number, None, f"not a JSON object: {exc.msg}")
+            continue
+        except RecursionError:
+            yield RowError(line_number, None, "not a JSON object: lists or objects nested too "
+                                              "deeply (expected one object per line)")
+            continue
+        except ValueError as exc:
+            yield RowError(line_number, None, f"not a JSON object: {exc}")
             continue
         if not isinstance(data, dict):
             yield RowError(line_number, None, "not a JSON object")
@@ -410,7 +493,7 @@ def _json_plane(plane: Any, number: int, template: Job) -> complex | str:
         return f"{key}.mass_g: plane {number} has its own radius per position (expected gmm)"
     columns = _PlaneColumns(0, 0, kinds[0], radius)
     return _vector(plane[kinds[0]], plane.get("angle_deg"), columns, f"{key}.{kinds[0]}",
-                   f"{key}.angle_deg")
+                   f"{key}.angle_deg", text=False)
 
 
 def _mark_repeats(rows: list[RotorReading | RowError]) -> list[RotorReading | RowError]:
@@ -438,19 +521,26 @@ def _signed(part: dict) -> int:
 
 
 def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
-    """The JSON object of one solved rotor (a line of ``PREFIX.jsonl``)."""
+    """The JSON object of one solved rotor (a line of ``PREFIX.jsonl``).
+
+    ``input`` is :func:`placer.batch.reading_digest` of the corrections the
+    rotor was solved for; each plane repeats its correction as read.
+    """
     planes = []
     for p in outcome.planes:
         fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
                    "mass_g": f.mass_g, "count": f.count,
                    "action": getattr(f, "action", "fit")} for f in p.option.parts]
         planes.append({"plane": p.plane, "name": p.name, "catalog": p.catalog,
+                       "correction_gmm": abs(p.correction_gmm),
+                       "correction_angle_deg": angle_of_deg(p.correction_gmm),
                        "parts": parts_text(fitted), "fitted": fitted,
                        "part_count": p.option.used_parts, "residual_gmm": p.option.residual_gmm,
                        "residual_angle_deg": p.option.residual_angle_deg,
                        "tolerance_gmm": p.tolerance_gmm,
                        "within_tolerance": p.within_tolerance})
     return {"serial": outcome.serial, "line": outcome.line, "template": digest,
+            "input": reading_digest(p.correction_gmm for p in outcome.planes),
             "within_tolerance": outcome.within_tolerance,
             "solved_together": outcome.solved_together, "planes": planes}
 
@@ -468,22 +558,28 @@ def _flag(value: bool | None) -> str:
 
 
 def csv_row(record: dict[str, Any]) -> list[str]:
-    """One line of ``PREFIX.csv`` from a result record."""
+    """One line of ``PREFIX.csv`` from a result record (a residual of null left empty)."""
     row = [record["serial"]]
     for plane in record["planes"]:
-        row += [plane["parts"], repr(float(plane["residual_gmm"])),
+        residual = plane["residual_gmm"]
+        row += [plane["parts"], "" if residual is None else repr(float(residual)),
                 _flag(plane["within_tolerance"])]
     return row + [_flag(record["within_tolerance"])]
 
 
-def read_done(path: Path, digest: str) -> list[dict[str, Any]]:
-    """The rotors already in ``PREFIX.jsonl``, dropping (and cutting off) a partial last line.
+def read_done(path: Path, digest: str, n_planes: int | None = None
+              ) -> tuple[list[dict[str, Any]], int]:
+    """The rotors already in ``PREFIX.jsonl`` and how many bytes of it to keep.
+
+    A partial last line (a batch killed while writing it) is left out of
+    both; :func:`cut_to` cuts it off the file once the batch goes on.
 
     Raises
     ------
     InputError
-        When a line other than the last is not a result record, or a record
-        was written from another template.
+        When a line other than the last is not a result record (of
+        ``n_planes`` planes, when given), or a record was written from
+        another template.
     """
     path = Path(path)
     data = path.read_bytes()
@@ -493,10 +589,8 @@ def read_done(path: Path, digest: str) -> list[dict[str, Any]]:
     for number, raw in enumerate(lines, start=1):
         try:
             record = json.loads(raw.decode("utf-8"))
-            if not isinstance(record, dict) or not isinstance(record.get("serial"), str):
-                raise ValueError("no serial")
-            record["planes"][0]["residual_gmm"]
-        except (ValueError, KeyError, IndexError, TypeError):
+            _check_record(record, n_planes)
+        except (ValueError, KeyError, IndexError, TypeError, RecursionError):
             if number == len(lines) and keep == len(data):
                 keep -= len(raw) + 1
                 break
@@ -504,14 +598,64 @@ def read_done(path: Path, digest: str) -> list[dict[str, Any]]:
                              expected="a file written by placer batch, or --force to start "
                                       "again") from None
         if record.get("template") != digest:
-            raise InputError(f"was written from another template ({record.get('template')}, "
+            raise InputError(f"was written from another template "
+                             f"({printable(str(record.get('template')))[:20]}, "
                              f"now {digest})", file=str(path), key=f"line {number}",
                              expected="the same template, or --force to start again")
         records.append(record)
-    if keep != len(data):
-        with path.open("r+b") as handle:
+    return records, keep
+
+
+def _check_record(record: Any, n_planes: int | None) -> None:
+    """Raise ValueError unless ``record`` has what resuming reads from it."""
+    if not isinstance(record, dict) or not isinstance(record.get("serial"), str):
+        raise ValueError("no serial")
+    planes = record["planes"]
+    if not isinstance(planes, list) or not planes or (n_planes and len(planes) != n_planes):
+        raise ValueError("planes")
+    for plane in planes:
+        if not isinstance(plane["parts"], str) or not isinstance(plane["catalog"], str):
+            raise ValueError("plane")
+        residual = plane["residual_gmm"]
+        if residual is not None and not isinstance(residual, (int, float)):
+            raise ValueError("residual")
+        for part in plane["fitted"]:
+            if not isinstance(part["item"], str) or not isinstance(part["count"], int):
+                raise ValueError("part")
+
+
+def cut_to(path: Path, keep: int) -> None:
+    """Cut ``path`` to its first ``keep`` bytes (a no-op when it is that long)."""
+    if Path(path).stat().st_size != keep:
+        with Path(path).open("r+b") as handle:
             handle.truncate(keep)
-    return records
+
+
+def check_unchanged(done: list[dict[str, Any]], rows: list[RotorReading | RowError],
+                    results_path: Path) -> None:
+    """Refuse to resume when a kept result's row is gone or its corrections changed.
+
+    Raises
+    ------
+    InputError
+        Naming the results file, the record's line and serial.
+    """
+    readings: dict[str, RotorReading | RowError] = {}
+    for row in rows:
+        if row.serial is not None:
+            readings.setdefault(row.serial, row)
+    again = "the readings the results were solved from, or --force to start again"
+    for number, record in enumerate(done, start=1):
+        serial = record["serial"]
+        row = readings.get(serial)
+        if row is None:
+            raise InputError(f"rotor {serial} is no longer in the readings file",
+                             file=str(results_path), key=f"line {number}", expected=again)
+        if isinstance(row, RowError) or record.get("input") != row.digest:
+            what = "is now a bad row" if isinstance(row, RowError) else \
+                "has other corrections in the readings file than when it was solved"
+            raise InputError(f"rotor {serial} {what}", file=str(results_path),
+                             key=f"line {number}", expected=again)
 
 
 def _record_parts(record: dict[str, Any]) -> list[tuple[str, str, int]]:
@@ -526,14 +670,18 @@ def _write_line(handle: TextIO, text: str) -> None:
 
 
 ProgressCallback = Callable[[int, int], None]
-"""Called with (rotors solved in this run, rotors to solve in this run)."""
+"""Called with (rotors solved in this run, rotors to solve in this run).
+
+Called once with 0 rotors solved when the tables are built and solving
+starts (so that a rate counts from then), then after each rotor."""
 
 
 def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = None,
               jobs: int | None = None, resume: bool = False, force: bool = False,
               time_limit_s: float = DEFAULT_TIME_LIMIT_S,
               progress: ProgressCallback | None = None,
-              start_method: str | None = None) -> tuple[BatchSummary, BatchPaths]:
+              start_method: str | None = None,
+              note: Callable[[str], None] | None = None) -> tuple[BatchSummary, BatchPaths]:
     """Solve every rotor of a readings file against a template; write the outputs.
 
     Parameters
@@ -545,7 +693,9 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
     prefix : Path, optional
         Output prefix (default :func:`default_prefix`).
     jobs : int, optional
-        Worker processes (default one per core; 1 solves in this process).
+        Worker processes (default one per usable core; 1 solves in this
+        process); more than :func:`placer.batch.usable_cores` are capped at
+        that, with a note.
     resume, force : bool
         Keep the rotors already in ``PREFIX.jsonl`` and solve the rest /
         overwrite existing outputs.  Without either, existing outputs are an
@@ -553,14 +703,17 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
     time_limit_s : float
         CP-SAT time limit per decision, if needed [s].
     progress : callable, optional
-        Called after each rotor, see :data:`ProgressCallback`.
+        See :data:`ProgressCallback`.
     start_method : str, optional
         Start method of the worker processes (see :func:`placer.batch.solve_readings`).
+    note : callable, optional
+        Called with a one-line note for the user (``--jobs`` capped).
 
     Raises
     ------
     InputError
-        For a bad template or readings file, or outputs that exist.
+        For a bad template or readings file, outputs that exist, or (with
+        ``resume``) results that do not belong to these readings.
     """
     started = time.perf_counter()
     if resume and force:
@@ -569,6 +722,12 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
     jobs = default_jobs() if jobs is None else int(jobs)
     if jobs < 1:
         raise InputError(f"is {jobs}", key="--jobs", expected="a whole number of at least 1")
+    cores = usable_cores()
+    if jobs > cores:
+        if note is not None:
+            note(f"placer batch: --jobs {jobs} capped at {cores}, the cores this process "
+                 "may use")
+        jobs = cores
     template = read_template(Path(template_path))
     digest = template_digest(Path(template_path))
     rows = read_readings(Path(readings_path), template)
@@ -584,8 +743,12 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
         raise InputError("exists already", file=str(existing[0]), key="--out",
                          expected="--resume to carry on with it, --force to overwrite, "
                                   "or another --out")
-    done = read_done(paths.results_jsonl, digest) if resume and paths.results_jsonl.exists() \
-        else []
+    n_planes = len(template.planes)
+    done: list[dict[str, Any]] = []
+    if resume and paths.results_jsonl.exists():
+        done, keep = read_done(paths.results_jsonl, digest, n_planes)
+        check_unchanged(done, rows, paths.results_jsonl)
+        cut_to(paths.results_jsonl, keep)
     paths.summary_json.unlink(missing_ok=True)
     tally = BatchTally(template)
     for record in done:
@@ -596,13 +759,13 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
             if isinstance(row, RotorReading) and row.serial not in done_serials]
     already = sum(1 for row in rows if isinstance(row, RotorReading)
                   and row.serial in done_serials)
-    n_planes = len(template.planes)
     with paths.errors_csv.open("w", encoding="utf-8", newline="") as error_file:
         writer = csv.writer(error_file, lineterminator="\n")
         writer.writerow(["line", "serial", "message"])
         for row in errors:
             writer.writerow([row.line, row.serial or "", row.message])
     mode = "a" if done else "w"
+    ready = None if progress is None else (lambda: progress(0, len(todo)))
     with paths.results_jsonl.open(mode, encoding="utf-8", newline="\n") as jsonl, \
             paths.results_csv.open("w", encoding="utf-8", newline="") as results_csv:
         writer = csv.writer(results_csv, lineterminator="\n")
@@ -610,23 +773,24 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
         for record in done:
             writer.writerow(csv_row(record))
         results_csv.flush()
-        for count, outcome in enumerate(solve_readings(template, todo, jobs, time_limit_s,
-                                                       start_method=start_method), start=1):
+        outcomes = solve_readings(template, todo, jobs, time_limit_s, start_method=start_method,
+                                  on_ready=ready)
+        for count, outcome in enumerate(outcomes, start=1):
             record = outcome_record(outcome, digest)
-            _write_line(jsonl, json.dumps(record, ensure_ascii=False) + "\n")
+            _write_line(jsonl, json_text(record) + "\n")
             writer.writerow(csv_row(record))
             results_csv.flush()
             tally.add_outcome(outcome)
             if progress is not None:
                 progress(count, len(todo))
     summary = tally.summary(rows_read=len(rows), already_done=already, errors=len(errors),
-                            elapsed_s=time.perf_counter() - started, jobs=jobs)
+                            elapsed_s=time.perf_counter() - started,
+                            jobs=processes_used(jobs, len(todo)))
     document = {"template": str(template_path), "template_digest": digest,
                 "readings": str(readings_path), **asdict(summary),
                 "solved_now": len(todo),
                 "outputs": {k: str(v) for k, v in asdict(paths).items()}}
-    paths.summary_json.write_text(json.dumps(document, indent=2, ensure_ascii=False) + "\n",
-                                  encoding="utf-8")
+    paths.summary_json.write_text(json_text(document, indent=2) + "\n", encoding="utf-8")
     return summary, paths
 
 
@@ -638,7 +802,8 @@ def summary_line(summary: BatchSummary, paths: BatchPaths) -> str:
     return (f"placer batch: {summary.rows_read} rows, {summary.solved} solved "
             f"({summary.already_done} already done), {summary.errors} errors, "
             f"{share} within tolerance ({summary.outside} outside); parts used: {parts}; "
-            f"{summary.elapsed_s:.1f} s; results in {paths.results_csv}")
+            f"{summary.elapsed_s:.1f} s with {summary.jobs} process(es); "
+            f"results in {paths.results_csv}")
 
 
 def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> None:
@@ -669,41 +834,72 @@ def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> 
 
 
 @contextmanager
-def progress_display(stream: TextIO | None = None) -> Iterator[ProgressCallback]:
-    """A progress callback: a rich bar with rate and time left on a terminal, else plain lines."""
+def progress_display(stream: TextIO | None = None, terminal: bool | None = None,
+                     every_s: float = PLAIN_PROGRESS_EVERY_S,
+                     clock: Callable[[], float] = time.perf_counter
+                     ) -> Iterator[ProgressCallback]:
+    """A progress callback: a rich bar with rate and time left on a terminal, else plain lines.
+
+    The rate counts from the first call (0 rotors solved: the tables are
+    built, see :data:`ProgressCallback`), so building them does not lower it.
+
+    Parameters
+    ----------
+    stream : text stream, optional
+        Where to draw (default stderr).
+    terminal : bool, optional
+        Draw the bar (True) or plain lines (False); default: whether
+        ``stream`` is a terminal.  True forces the bar's terminal codes.
+    every_s : float
+        Seconds between plain lines [s].
+    clock : callable
+        Seconds since some fixed time [s] (tests pass their own).
+    """
     stream = sys.stderr if stream is None else stream
-    started = time.perf_counter()
-    if stream.isatty():
+    terminal = stream.isatty() if terminal is None else terminal
+    state: dict[str, float | None] = {"start": None, "last": None}
+
+    def rate_of(done: int, now: float) -> float | None:
+        if state["start"] is None:
+            state["start"] = now
+        elapsed = now - state["start"]
+        return done / elapsed if elapsed > 0 and done > 0 else None
+
+    if terminal:
         from rich.console import Console
         from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn,
                                    TimeRemainingColumn)
 
         bar = Progress(TextColumn("rotors"), BarColumn(), MofNCompleteColumn(),
                        TextColumn("{task.fields[rate]} rotors/s"), TimeRemainingColumn(),
-                       console=Console(file=stream), transient=False)
-        task = bar.add_task("batch", total=None, rate="-")
-        state = {"last": 0.0}
+                       console=Console(file=stream, force_terminal=True), transient=False,
+                       get_time=clock)
+        task = bar.add_task("batch", total=None, rate="-", start=False)
 
         def update(done: int, total: int) -> None:
-            now = time.perf_counter()
-            if now - state["last"] < 0.1 and done < total:
+            now = clock()
+            if state["start"] is None:
+                bar.start_task(task)
+            rate = rate_of(done, now)
+            if state["last"] is not None and now - state["last"] < 0.1 and done < total:
                 return
             state["last"] = now
-            rate = done / max(now - started, 1e-9)
-            bar.update(task, completed=done, total=total, rate=f"{rate:.0f}")
+            bar.update(task, completed=done, total=total,
+                       rate="-" if rate is None else f"{rate:.0f}")
 
         with bar:
             yield update
         return
-    state = {"last": started}
 
     def plain(done: int, total: int) -> None:
-        now = time.perf_counter()
-        if now - state["last"] < PLAIN_PROGRESS_EVERY_S:
+        now = clock()
+        rate = rate_of(done, now)
+        if state["last"] is None:
+            state["last"] = now
+        if now - state["last"] < every_s or rate is None:
             return
         state["last"] = now
-        rate = done / max(now - started, 1e-9)
-        left = (total - done) / rate if rate > 0 else float("inf")
+        left = (total - done) / rate
         print(f"placer batch: {done}/{total} rotors, {rate:.0f} rotors/s, about {left:.0f} s "
               "left", file=stream, flush=True)
 

@@ -1,18 +1,111 @@
 """Reading typed values out of parsed TOML tables, with errors that name file and key.
 
-Used by every reader (job, catalogue).  Each getter raises the reader's
-error class with the file, the key path and what was expected.
+Used by every reader (job, catalogue, session, batch template).  Each getter
+raises the reader's error class with the file, the key path and what was
+expected.
+
+Numbers at the edges (Notes)
+----------------------------
+Every number a file gives is zero or between :data:`MIN_MAGNITUDE` and
+:data:`MAX_MAGNITUDE` in size (whole numbers: at most ``MAX_MAGNITUDE``).
+The ceiling keeps every product placer forms (mass_g · radius_mm · count,
+1000 · G · m / ω, sums over thousands of parts) far from the float64
+overflow at 1.8e308, so that no result is infinite; the floor keeps the
+quotients (the permissible residual 1000 · G · m / ω) from underflowing to
+zero.  Both are far outside anything a balancing shop measures (1e12 g is a
+million tonnes, 1e-12 mm a hundredth of an atom).  :func:`read_toml` checks
+the whole numbers of a file as it parses it, so that one of thousands of
+digits is reported with its key instead of failing float conversion
+later; :func:`number_problem` is the same rule for the CSV and JSON-lines
+readers of ``placer batch``.
+
+References
+----------
+IEEE 754-2008, binary64 range (largest finite 1.8e308, smallest normal
+2.2e-308); Python ``sys.int_info.str_digits_check_threshold`` (4300-digit
+limit on int/str conversion, CVE-2020-10735).  The limits themselves are
+common practice, no source.
 """
 
 from __future__ import annotations
 
 import difflib
+import json
 import math
 import tomllib
 from pathlib import Path
 from typing import Any
 
 from placer.errors import InputError
+
+MAX_MAGNITUDE = 1e12
+"""Largest size of any number in a placer input file (see the module notes)."""
+MIN_MAGNITUDE = 1e-12
+"""Smallest size of a number other than zero in a placer input file."""
+MAX_WHOLE = 10**12
+"""Largest size of a whole number in a placer input file."""
+RANGE_EXPECTED = "zero or a number between 1e-12 and 1e12 in size"
+
+
+def number_problem(value: float) -> str | None:
+    """Why a float cannot be used as an input number, or None when it can.
+
+    Non-finite values and values outside the range of the module notes are
+    refused; the text completes "<key> is ...".
+    """
+    if not math.isfinite(value):
+        return f"{value} (expected a finite number)"
+    size = abs(value)
+    if size > MAX_MAGNITUDE or 0.0 < size < MIN_MAGNITUDE:
+        return f"{value:g} (expected {RANGE_EXPECTED})"
+    return None
+
+
+def printable(text: str) -> str:
+    """``text`` with every character that is not printable written as its escape.
+
+    An error line must stay one line: line and paragraph separators
+    (``\\n``, ``\\r``, U+0085, U+2028, ...), other control and unassigned
+    characters from a file are shown as ``\\u2028`` etc. (:meth:`str.isprintable`).
+    """
+    if text.isprintable():
+        return text
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] if ch != "'" else ch
+                   for ch in text)
+
+
+def whole_number_text(value: int) -> str:
+    """A whole number as text, shortened to its digit count when it is long."""
+    if abs(value) < 10**15:
+        return str(value)
+    digits = int(abs(value).bit_length() * 0.30102999566398120) + 1
+    return f"a whole number of about {digits} digits"
+
+
+def json_text(value: Any, indent: int | None = None) -> str:
+    """Strict JSON text of ``value``: NaN and ±infinity are written as null.
+
+    :func:`json.dumps` writes them as ``NaN`` / ``Infinity``, which no JSON
+    parser but Python's accepts.
+
+    References
+    ----------
+    RFC 8259, section 6 (numbers: "Infinity and NaN are not permitted").
+    """
+    try:  # the usual case, all finite: no walk over the value
+        return json.dumps(value, indent=indent, ensure_ascii=False, allow_nan=False)
+    except ValueError:
+        return json.dumps(_finite(value), indent=indent, ensure_ascii=False, allow_nan=False)
+
+
+def _finite(value: Any) -> Any:
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, dict):
+        return {k: _finite(v) for k, v in value.items()}
+    if isinstance(value, (list, tuple)):
+        return [_finite(v) for v in value]
+    return value
 
 
 def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
@@ -30,10 +123,34 @@ def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
         raise error(f"cannot read {what}: {exc.strerror or exc}", file=str(path),
                     expected="a readable file") from None
     try:
-        return tomllib.loads(text)
+        data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise error(f"not valid TOML: {exc}", file=str(path),
                     expected="TOML syntax at that line and column") from None
+    except RecursionError:
+        raise error(f"cannot read {what}: lists or tables nested too deeply", file=str(path),
+                    expected="a few levels of [ ] and { } at most") from None
+    except ValueError:
+        # tomllib turns digits into int() itself; past 4300 digits that refuses.
+        raise error(f"cannot read {what}: a whole number has more than 4300 digits",
+                    file=str(path), expected=RANGE_EXPECTED) from None
+    _check_whole_numbers(data, str(path), error)
+    return data
+
+
+def _check_whole_numbers(data: dict[str, Any], file: str, error: type[InputError]) -> None:
+    """Refuse any whole number past :data:`MAX_WHOLE`, naming its key path."""
+    stack: list[tuple[str, Any]] = [("", data)]
+    while stack:
+        path, value = stack.pop()
+        if isinstance(value, dict):
+            stack.extend(reversed([(f"{path}.{k}" if path else k, v)
+                                   for k, v in value.items()]))
+        elif isinstance(value, list):
+            stack.extend(reversed([(f"{path}[{i + 1}]", v) for i, v in enumerate(value)]))
+        elif isinstance(value, int) and not isinstance(value, bool) and abs(value) > MAX_WHOLE:
+            raise error(f"is {whole_number_text(value)}", file=file, key=path,
+                        expected=RANGE_EXPECTED)
 
 
 class Table:
@@ -53,14 +170,17 @@ class Table:
         return f"{self.path}.{name}" if self.path else name
 
     def fail(self, name: str | None, detail: str, expected: str | None = None) -> InputError:
-        return self.error(detail, file=self.file, key=self.key(name) or None, expected=expected)
+        key = self.key(name)
+        return self.error(printable(detail), file=self.file, key=printable(key) if key else None,
+                          expected=None if expected is None else printable(expected))
 
     def allow_only(self, allowed: tuple[str, ...]) -> None:
         """Reject keys that are not in ``allowed``, suggesting the closest one."""
         for name in self.data:
             if name not in allowed:
                 close = difflib.get_close_matches(name, allowed, n=1)
-                hint = f"did you mean '{close[0]}'?" if close else "one of " + ", ".join(allowed)
+                hint = (f"one of {', '.join(allowed)}; did you mean '{close[0]}'?" if close
+                        else "one of " + ", ".join(allowed))
                 raise self.fail(name, "unknown key", hint)
 
     def has(self, name: str) -> bool:
@@ -74,6 +194,10 @@ class Table:
         value = self.data[name]
         if not isinstance(value, str):
             raise self.fail(name, f"is {_kind(value)}", "a text value in quotes")
+        odd = next((ch for ch in value if not ch.isprintable() and ch not in "\n\t"), None)
+        if odd is not None:
+            raise self.fail(name, f"holds the character {printable(odd)}",
+                            "text without control characters (new lines and tabs allowed)")
         return value
 
     def number(self, name: str, default: float | None = None, required: bool = False,
@@ -88,9 +212,14 @@ class Table:
                      non_negative: bool = False) -> float:
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             raise self.fail(name, f"is {_kind(value)}", "a number")
+        if isinstance(value, int) and abs(value) > MAX_WHOLE:
+            raise self.fail(name, f"is {whole_number_text(value)}", RANGE_EXPECTED)
         value = float(value)
         if not math.isfinite(value):
             raise self.fail(name, f"is {value}", "a finite number")
+        size = abs(value)
+        if size > MAX_MAGNITUDE or 0.0 < size < MIN_MAGNITUDE:
+            raise self.fail(name, f"is {value:g}", RANGE_EXPECTED)
         if positive and value <= 0:
             raise self.fail(name, f"is {value:g}", "a number above zero")
         if non_negative and value < 0:
@@ -109,6 +238,9 @@ class Table:
                       maximum: int | None = None) -> int:
         if isinstance(value, bool) or not isinstance(value, int):
             raise self.fail(name, f"is {_kind(value)}", "a whole number")
+        if abs(value) > MAX_WHOLE:
+            raise self.fail(name, f"is {whole_number_text(value)}",
+                            f"a whole number of at most {MAX_WHOLE}")
         if minimum is not None and value < minimum:
             raise self.fail(name, f"is {value}", f"a whole number of at least {minimum}")
         if maximum is not None and value > maximum:
@@ -143,7 +275,9 @@ class Table:
 def _kind(value: Any) -> str:
     if isinstance(value, bool):
         return "true/false"
-    if isinstance(value, (int, float)):
+    if isinstance(value, int):
+        return f"the number {whole_number_text(value)}"
+    if isinstance(value, float):
         return f"the number {value}"
     if isinstance(value, str):
         return f"the text '{value[:40]}'"

@@ -9,6 +9,8 @@ stdout, and no input file is changed.
 
 from __future__ import annotations
 
+import json
+import math
 import os
 import subprocess
 import sys
@@ -202,3 +204,202 @@ def test_good_run_leaves_its_files_alone(tmp_path, run_cli):
         code, _, err = run_cli("solve", tmp_path / "job.toml", *extra)
         assert code in (0, 1) and err == ""
     assert _snapshot(tmp_path) == before
+
+
+# ----------------------------------------------------------------------------------
+# Numbers at the edges.  Every number in a file is zero or between 1e-12 and 1e12 in
+# size (placer.fields module notes: the float64 range of IEEE 754 and Python's
+# 4300-digit int/str limit decide what cannot work; the limits themselves are common
+# practice, no source).  NaN, infinity and huge whole numbers in any number field get
+# the one-line error naming the file and the key.
+HUGE = "1" + "0" * 400            # float() overflows: OverflowError before the fix
+LONGEST = "9" * 5000              # past 4300 digits: ValueError inside tomllib
+VISIT = (REPO_DIR / "examples" / "exhaust-fan-visit.toml").read_text(encoding="utf-8")
+FIRST_READINGS = "readings = [[4.25, 62], [3.89, 148], [2.96, 189]]"
+assert FIRST_READINGS in VISIT
+
+
+def _drawer_case(mass: str = "2.0", stock: str = "5", key: str = "items[1].mass_g") -> Case:
+    return Case({"job.toml": DRAWER,
+                 "drawer.toml": f'name = "d"\n[[items]]\nid = "A"\nmass_g = {mass}\n'
+                                f"stock = {stock}\n"},
+                file="drawer.toml", key=key)
+
+
+def _session_case(old: str, new: str, key: str) -> Case:
+    return Case({"session.toml": VISIT.replace(old, new, 1)}, args=("field", "{job}"),
+                file="session.toml", key=key, job="session.toml")
+
+
+EDGE_CASES = {
+    "catalogue-mass-nan": _drawer_case(mass="nan"),
+    "catalogue-mass-inf": _drawer_case(mass="inf"),
+    "catalogue-mass-huge-int": _drawer_case(mass=HUGE),
+    "catalogue-mass-1e300": _drawer_case(mass="1e300"),
+    "catalogue-mass-1e-300": _drawer_case(mass="1e-300"),
+    "catalogue-stock-nan": _drawer_case(stock="nan", key="items[1].stock"),
+    "catalogue-stock-inf": _drawer_case(stock="inf", key="items[1].stock"),
+    "catalogue-stock-huge-int": _drawer_case(stock=HUGE, key="items[1].stock"),
+    "catalogue-duplicate-id-in-two-catalogues": Case(
+        {"job.toml": _job(catalog='["drawer.toml", "drawer2.toml"]'),
+         "drawer.toml": _catalog(("A", "2.0")), "drawer2.toml": _catalog(("A", "3.0"))},
+        key="planes[2].catalog", contains=("'A'",)),
+    "tolerance-gmm-nan": Case({"job.toml": _job(tolerance_gmm="nan")},
+                              key="planes[2].tolerance_gmm"),
+    "tolerance-gmm-inf": Case({"job.toml": _job(tolerance_gmm="inf")},
+                              key="planes[2].tolerance_gmm"),
+    "tolerance-gmm-huge-int": Case({"job.toml": _job(tolerance_gmm=HUGE)},
+                                   key="planes[2].tolerance_gmm"),
+    "mass-kg-nan": Case({"job.toml": _job(rotor={"mass_kg": "nan"})}, key="rotor.mass_kg"),
+    "mass-kg-inf": Case({"job.toml": _job(rotor={"mass_kg": "inf"})}, key="rotor.mass_kg"),
+    "mass-kg-huge-int": Case({"job.toml": _job(rotor={"mass_kg": HUGE})}, key="rotor.mass_kg"),
+    "service-rpm-nan": Case({"job.toml": _job(rotor={"service_rpm": "nan"})},
+                            key="rotor.service_rpm"),
+    "service-rpm-1e308": Case({"job.toml": _job(rotor={"service_rpm": "1e308"})},
+                              key="rotor.service_rpm"),   # U_per underflowed to 0 before
+    "service-rpm-5e-324": Case({"job.toml": _job(rotor={"service_rpm": "5e-324"})},
+                               key="rotor.service_rpm"),
+    "radius-1e300": Case({"job.toml": _job(radius_mm="1e300")}, key="planes[2].radius_mm"),
+    "correction-gmm-huge-int": Case(
+        {"job.toml": _job(correction=f"{{ gmm = {HUGE}, angle_deg = 20.0 }}")},
+        key="planes[2].correction.gmm"),
+    "angle-huge-int": Case(
+        {"job.toml": _job(correction=f"{{ gmm = 300.0, angle_deg = -{HUGE} }}")},
+        key="planes[2].correction.angle_deg"),
+    "positions-huge-int": Case({"job.toml": _job(positions=HUGE)}, key="planes[2].positions"),
+    "angles-nan-among-explicit-angles": Case(
+        {"job.toml": _job(positions=None, angles_deg="[0.0, 90.0, nan]")},
+        key="planes[2].angles_deg[3]"),
+    "number-of-5000-digits": Case({"job.toml": _job(rotor={"mass_kg": LONGEST})},
+                                  contains=("4300 digits",)),
+    "nested-5000-deep": Case({"job.toml": _job(tail="\n[extra]\nx = " + "[" * 5000
+                                                    + "]" * 5000 + "\n")},
+                             contains=("nested too deeply",)),
+    "line-separator-in-a-name": Case({"job.toml": _job(name='"free\\u2028side"')},
+                                     key="planes[2].name", contains=("\\u2028",)),
+    "session-reading-nan": _session_case(FIRST_READINGS, "readings = [[nan, 62], [3.89, 148], "
+                                         "[2.96, 189]]", "runs[1].readings[1][1]"),
+    "session-phase-inf": _session_case(FIRST_READINGS, "readings = [[4.25, inf], [3.89, 148], "
+                                       "[2.96, 189]]", "runs[1].readings[1][2]"),
+    "session-reading-huge-int": _session_case(FIRST_READINGS, f"readings = [[{HUGE}, 62], "
+                                              "[3.89, 148], [2.96, 189]]",
+                                              "runs[1].readings[1][1]"),
+    "session-mass-kg-inf": _session_case("mass_kg = 65.0", "mass_kg = inf", "rotor.mass_kg"),
+    "session-trial-mass-huge-int": _session_case("mass_g = 20.0", f"mass_g = {HUGE}",
+                                                 "runs[2].trial[1].mass_g"),
+}
+
+
+@pytest.mark.parametrize("case", EDGE_CASES.values(), ids=EDGE_CASES.keys())
+def test_numbers_at_the_edges(case, tmp_path, run_cli):
+    args = _prepare(case, tmp_path)
+    before = _snapshot(tmp_path)
+    code, out, err = run_cli(*args)
+    assert _snapshot(tmp_path) == before, "an input file was changed"
+    _check_error_line(case, code, out, err, tmp_path)
+    assert out == ""
+
+
+@pytest.mark.parametrize("where", ["template", "readings"])
+def test_batch_template_and_readings_at_the_edges(where, tmp_path, run_cli):
+    template = tmp_path / "t.toml"
+    radius = HUGE if where == "template" else "150.0"
+    template.write_text(f'[rotor]\nname = "t"\n[[planes]]\nname = "hub"\nradius_mm = {radius}\n'
+                        'positions = 6\ncatalog = "washers-steel"\nmax_parts = 2\n',
+                        encoding="utf-8")
+    readings = tmp_path / "r.jsonl"
+    readings.write_text('{"serial": "E-1", "planes": [{"gmm": %s, "angle_deg": 1}]}\n'
+                        '{"serial": "E-2", "planes": [{"mass_g": 1e308, "angle_deg": 1}]}\n'
+                        '%s\n{"serial": "E-4", "planes": [{"gmm": 700.0, "angle_deg": 1}]}\n'
+                        % (HUGE, "[" * 100_000), encoding="utf-8")
+    code, out, err = run_cli("batch", template, readings, "--jobs", "1")
+    assert "Traceback" not in err
+    if where == "template":
+        assert code == 2 and err.count("\n") == 1 and out == ""
+        assert str(template) in err and "planes[1].radius_mm" in err and "expected" in err
+        return
+    # Bad rows go to the errors file and the good row is solved (exit 1: bad rows).
+    assert code == 1 and err == ""
+    errors = (tmp_path / "r.results.errors.csv").read_text(encoding="utf-8").splitlines()
+    assert [line.split(",")[0] for line in errors[1:]] == ["1", "2", "3"]
+    assert "E-4" in (tmp_path / "r.results.jsonl").read_text(encoding="utf-8")
+
+
+# Edge numbers that are good input: exit 0 or 1, and JSON output that is strict
+# (RFC 8259, section 6: no NaN or Infinity), read back refusing them.
+def _strict(text: str):
+    def refuse(constant):
+        raise ValueError(f"{constant} is not JSON")
+
+    return json.loads(text, parse_constant=refuse)
+
+
+def _solve(run_cli, tmp_path, plane: str, drawer: str | None = None) -> dict:
+    if drawer is not None:
+        (tmp_path / "drawer.toml").write_text(drawer, encoding="utf-8")
+    (tmp_path / "job.toml").write_text('[rotor]\nname = "edge"\n[[planes]]\nname = "p"\n'
+                                       + plane, encoding="utf-8")
+    code, out, err = run_cli("solve", tmp_path / "job.toml", "--json", "--time-limit", "2")
+    assert code in (0, 1) and err == "", err
+    return _strict(out)["planes"][0]
+
+
+def test_one_position_takes_a_stack(run_cli, tmp_path):
+    # By hand: three 5 g parts at 100 mm on the one position cancel 1500 g·mm there.
+    plane = _solve(run_cli, tmp_path, 'radius_mm = 100.0\npositions = 1\ncapacity = 3\n'
+                   'catalog = "drawer.toml"\ncorrection = { gmm = 1500.0, angle_deg = 0.0 }\n',
+                   _catalog(("F", "5.0")))
+    assert plane["chosen"]["residual_gmm"] == pytest.approx(0.0, abs=1e-9)
+    assert [(p["position"], p["count"]) for p in plane["chosen"]["parts"]] == [(1, 3)]
+
+
+def test_720_positions(run_cli, tmp_path):
+    # By hand: one 11.30 g washer (M16 of washers-steel) at 190 mm is 2147 g·mm; the
+    # positions nearest 33.25° are 0.25° off, leaving 2·2147·sin(0.125°).
+    plane = _solve(run_cli, tmp_path, 'radius_mm = 190.0\npositions = 720\n'
+                   'catalog = "washers-steel"\nmax_parts = 1\n'
+                   'correction = { gmm = 2147.0, angle_deg = 33.25 }\n')
+    assert plane["chosen"]["residual_gmm"] == pytest.approx(
+        2 * 2147.0 * math.sin(math.radians(0.125)), rel=1e-9)
+    assert plane["chosen"]["parts"][0]["angle_deg"] in (33.0, 33.5) and plane["optimal"]
+
+
+def test_positions_at_the_same_angle(run_cli, tmp_path):
+    # By hand: 1 g and 2 g on the two positions at 0° give 300 g·mm at 100 mm (capacity 1).
+    plane = _solve(run_cli, tmp_path, 'radius_mm = 100.0\nangles_deg = [0.0, 0.0, 90.0]\n'
+                   'catalog = "drawer.toml"\nmax_parts = 2\n'
+                   'correction = { gmm = 300.0, angle_deg = 0.0 }\n',
+                   _catalog(("A", "1.0"), ("B", "2.0")))
+    assert plane["chosen"]["residual_gmm"] == pytest.approx(0.0, abs=1e-9)
+    assert sorted(p["position"] for p in plane["chosen"]["parts"]) == [1, 2]
+
+
+def test_zero_correction_needs_no_parts(run_cli, tmp_path):
+    plane = _solve(run_cli, tmp_path, 'radius_mm = 100.0\npositions = 12\n'
+                   'catalog = "washers-steel"\ncorrection = { gmm = 0.0, angle_deg = 0.0 }\n')
+    assert plane["chosen"]["parts"] == [] and plane["chosen"]["residual_gmm"] == 0.0
+
+
+@pytest.mark.parametrize("scale", [1e-4, 1e4])
+def test_tiny_and_huge_masses_and_radii(run_cli, tmp_path, scale):
+    # Scaling masses and radii by s scales every g·mm by s² (by the definition);
+    # the plan stays the one at scale 1: 2 + 3 g at 0° on a 100 mm, 4-hole plane.
+    plane = _solve(run_cli, tmp_path, f'radius_mm = {100.0 * scale!r}\npositions = 4\n'
+                   f'capacity = 2\ncatalog = "drawer.toml"\nmax_parts = 2\ncorrection = {{ gmm = '
+                   f'{500.0 * scale * scale!r}, angle_deg = 0.0 }}\n',
+                   _catalog(("A", repr(2.0 * scale)), ("B", repr(3.0 * scale))))
+    assert plane["chosen"]["residual_gmm"] == pytest.approx(0.0, abs=1e-9 * scale * scale)
+    assert {p["position"] for p in plane["chosen"]["parts"]} == {1}
+
+
+def test_trial_run_that_changed_nothing_prints_strict_json(run_cli, tmp_path):
+    # A trial run with the reference's readings gives a singular coefficient matrix:
+    # its condition number is infinite, printed as null (RFC 8259 has no Infinity).
+    path = tmp_path / "same.toml"
+    path.write_text(VISIT.replace("readings = [[11.68, 74], [10.26, 159], [4.08, 151]]",
+                                  FIRST_READINGS).replace("max_parts = 6 ", "max_parts = 2 "),
+                    encoding="utf-8")
+    code, out, err = run_cli("field", path, "--json", "--db", tmp_path / "none.sqlite")
+    assert code in (0, 1) and "Traceback" not in err
+    assert "Infinity" not in out and "NaN" not in out
+    assert _strict(out)["condition_number"] is None

@@ -482,3 +482,369 @@ def test_template_reads_as_the_job_reader_reads_it(tmp_path):
     zeroed = replace(job, planes=tuple(replace(p, correction_gmm=0j, given_as="batch template")
                                        for p in job.planes))
     assert read_template(path) == zeroed
+
+
+@pytest.fixture
+def quick_files(tmp_path: Path):
+    """As batch_files, with at most 3 parts on the drive side: tables of 40 000
+    selections instead of 634 535, for tests where the plane's size does not matter."""
+    path = tmp_path / "sf2.toml"
+    path.write_text(template_text().replace("max_parts = 4", "max_parts = 3"), encoding="utf-8")
+    rows = random_rows(24)
+    readings = tmp_path / "line3.csv"
+    readings.write_text(readings_csv(rows), encoding="utf-8")
+    return path, readings, rows
+
+
+# ------------------------------------------------------- numbers at the edges
+HUGE = "1" + "0" * 400
+CSV_NUMBER_ROWS = [
+    # (1_gmm cell, message fragment); Python's float() reads the first three.
+    ("1_000", "1_gmm is '1_000', not a plain number"),
+    ("\u0661\u0662", "not a plain number"),          # Arabic-Indic digits
+    (" 1e3 x", "not a number"),
+    ("0x10", "not a number"),
+    ("1e308", "1_gmm is 1e+308 (expected zero or a number between 1e-12 and 1e12"),
+    ("1e400", "1_gmm is '1e400' (expected zero or a number between 1e-12 and 1e12"),
+    ("-Infinity", "1_gmm is -inf"),
+    ("1e-13", "1_gmm is 1e-13"),
+    (HUGE, "1_gmm is '100000000000000000000000000...' (expected zero"),
+    ("9" * 5000, "1_gmm is '999999999999999999999999999...' (expected zero"),
+]
+
+
+def strict_json(text: str):
+    """json.loads refusing NaN and ±Infinity (RFC 8259, section 6)."""
+    def refuse(constant):
+        raise ValueError(f"{constant} is not JSON")
+
+    return json.loads(text, parse_constant=refuse)
+
+
+def test_csv_numbers_outside_plain_decimals_are_bad_rows(tmp_path, quick_files):
+    template = quick_files[0]
+    # Source for what float() accepts: Python docs, float() and PEP 515
+    # (underscores); the range is placer.fields' (1e-12 .. 1e12).
+    lines = ["serial,1_gmm,1_angle_deg,2_mass_g,2_angle_deg"]
+    lines += [f"WM-N-{i:02d},{cell},10.0,2.0,20.0" for i, (cell, _) in enumerate(CSV_NUMBER_ROWS)]
+    lines += ["WM-N-GOOD,+1500.,-0,.5,1.25e2", "WM-N-MASS,10.0,1.0,1e308,20.0"]
+    readings = tmp_path / "edge.csv"
+    readings.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    summary, paths = run_batch(template, readings, jobs=1)
+    with paths.errors_csv.open(encoding="utf-8", newline="") as handle:
+        errors = list(csv.DictReader(handle))
+    assert len(errors) == len(CSV_NUMBER_ROWS) + 1 and summary.solved == 1
+    for error, (_, fragment) in zip(errors, CSV_NUMBER_ROWS):
+        assert fragment in error["message"], error["message"]
+    # 1e308 g at 120 mm would be an infinite correction: refused at the reader.
+    assert errors[-1]["serial"] == "WM-N-MASS" and "2_mass_g is 1e+308" in errors[-1]["message"]
+    (good,) = records(paths.results_jsonl)
+    # +1500. at -0 degrees; 0.5 g at the free side's 120 mm at 125 degrees (by hand).
+    assert good["planes"][0]["correction_gmm"] == 1500.0
+    assert good["planes"][1]["correction_gmm"] == pytest.approx(60.0, rel=1e-12)
+    assert good["planes"][1]["correction_angle_deg"] == pytest.approx(125.0, abs=1e-9)
+    for line in paths.results_jsonl.read_text(encoding="utf-8").splitlines():
+        strict_json(line)
+    strict_json(paths.summary_json.read_text(encoding="utf-8"))
+
+
+def test_json_lines_numbers_at_the_edges_are_bad_rows(tmp_path, quick_files):
+    template = quick_files[0]
+    def row(serial, first):
+        return f'{{"serial": "{serial}", "planes": [{{"gmm": {first}, "angle_deg": 1.0}}, ' \
+               '{"gmm": 10.0, "angle_deg": 2.0}]}'
+
+    lines = [row("WM-J-01", HUGE), row("WM-J-02", "9" * 5000), "[" * 100_000,
+             row("WM-J-04", "1e400"), row("WM-J-05", '"12.5"'), row("WM-J-06", "NaN"),
+             row("WM-J-07", "-0"), row("WM-J-08", "1e-300"), '{"serial": "WM-J-09", "planes": '
+             + "[" * 5000]
+    readings = tmp_path / "edge.jsonl"
+    readings.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    summary, paths = run_batch(template, readings, jobs=1)
+    with paths.errors_csv.open(encoding="utf-8", newline="") as handle:
+        errors = {int(e["line"]): e["message"] for e in csv.DictReader(handle)}
+    assert "planes[1].gmm is a whole number of 401 digits" in errors[1]
+    assert "planes[1].gmm is a whole number of 5000 digits" in errors[2]
+    assert "nested too deeply" in errors[3]
+    assert "planes[1].gmm is 1e400 (expected zero or a number" in errors[4]
+    assert "is the text '12.5' (expected a JSON number" in errors[5]
+    assert "planes[1].gmm is nan" in errors[6]
+    assert "planes[1].gmm is 1e-300" in errors[8]
+    assert 9 in errors and sorted(errors) == [1, 2, 3, 4, 5, 6, 8, 9]
+    (zero,) = records(paths.results_jsonl)  # -0 is zero: no parts, no residual
+    assert zero["serial"] == "WM-J-07" and zero["planes"][0]["part_count"] == 0
+    assert zero["planes"][0]["residual_gmm"] == 0.0 and summary.errors == 8
+
+
+def test_outputs_are_strict_json_even_for_a_non_finite_value():
+    # json.dumps writes float("inf") as Infinity, which RFC 8259 forbids;
+    # json_text writes null instead.
+    from placer.fields import json_text
+
+    text = json_text({"residual_gmm": float("inf"), "x": [float("nan"), -0.0, 1.5]})
+    assert strict_json(text) == {"residual_gmm": None, "x": [None, -0.0, 1.5]}
+    from placer.batchfile import csv_row
+
+    assert csv_row({"serial": "S", "within_tolerance": None, "planes": [
+        {"parts": "", "residual_gmm": None, "within_tolerance": None}]}) == ["S"] + [""] * 4
+
+
+# ------------------------------------------------ per-rotor work and records
+def test_no_plane_arrays_per_rotor(monkeypatch, quick_files):
+    template = quick_files[0]
+    # Everything but the target is built once: solving rotors must not
+    # rebuild a plane's arrays (placer.solve.plane_arrays).
+    import placer.batch
+
+    job = read_template(template)
+    solver = BatchSolver(job)
+    solver.build_tables()
+
+    def rebuilt(plane):
+        raise AssertionError("plane_arrays called for a rotor")
+
+    monkeypatch.setattr(placer.batch, "plane_arrays", rebuilt)
+    monkeypatch.setattr("placer.solve.plane_arrays", rebuilt)
+    for i, (serial, planes) in enumerate(random_rows(12)):
+        reading = RotorReading(i + 2, serial, tuple(
+            complex(g * math.cos(math.radians(a)), g * math.sin(math.radians(a)))
+            for g, a in planes))
+        outcome = solver.solve(reading)
+        assert [p.correction_gmm for p in outcome.planes] == list(reading.corrections_gmm)
+
+
+def test_existing_parts_and_total_basis_as_single_jobs(tmp_path):
+    # correction_basis "total": the existing parts' correction is taken off the
+    # reading; the batch adds that offset to every rotor's target.  Checked
+    # against each rotor solved as its own job file (read_job + solve_job).
+    rotor = ('[rotor]\nname = "reworked hub"\ncorrection_basis = "total"\n')
+    plane = ('[[planes]]\nname = "hub"\nradius_mm = 150.0\npositions = 12\ncapacity = 3\n'
+             'catalog = "washers-steel"\nmax_parts = 3\ntolerance_gmm = 60.0\n'
+             'existing = [{ position = 2, item = "M10", count = 1 }, '
+             '{ position = 7, item = "M6", count = 2 }]\n')
+    (tmp_path / "t.toml").write_text(rotor + plane, encoding="utf-8")
+    rows = [(f"RW-{i}", [(g, a)]) for i, (g, a) in
+            enumerate([(0.0, 0.0), (1200.0, 30.0), (3100.0, 200.0), (450.0, 300.0)])]
+    (tmp_path / "r.csv").write_text(readings_csv(rows, "serial,1_gmm,1_angle_deg"),
+                                    encoding="utf-8")
+    _, paths = run_batch(tmp_path / "t.toml", tmp_path / "r.csv", jobs=1)
+    for record, (_, corrections) in zip(records(paths.results_jsonl), rows):
+        gmm, angle = corrections[0]
+        (tmp_path / "one.toml").write_text(
+            rotor + plane + f"correction = {{ gmm = {gmm!r}, angle_deg = {angle!r} }}\n",
+            encoding="utf-8")
+        want = solve_job(read_job(tmp_path / "one.toml")).planes[0].chosen
+        got = record["planes"][0]
+        assert got["residual_gmm"] == pytest.approx(want.residual_gmm, abs=1e-9)
+        assert [(p["position"], p["item"], p["count"], p["action"]) for p in got["fitted"]] \
+            == [(p.position, p.item, p.count, p.action) for p in want.parts]
+
+
+def test_records_carry_the_input(tmp_path, quick_files):
+    from placer.batch import reading_digest
+
+    template, readings, rows = quick_files
+    _, paths = run_batch(template, readings, jobs=1)
+    for record, (serial, planes) in zip(records(paths.results_jsonl), rows):
+        vectors = [complex(g * math.cos(math.radians(a)), g * math.sin(math.radians(a)))
+                   for g, a in planes]
+        assert record["input"] == reading_digest(vectors)
+        for plane, (gmm, angle) in zip(record["planes"], planes):
+            assert plane["correction_gmm"] == pytest.approx(gmm, rel=1e-12, abs=1e-12)
+            if gmm:
+                assert plane["correction_angle_deg"] == pytest.approx(angle % 360, abs=1e-9)
+    # The digest tells apart values that differ in the last bit only.
+    assert reading_digest([1.0 + 0j]) != reading_digest([math.nextafter(1.0, 2.0) + 0j])
+
+
+# ----------------------------------------------------------- resume, refused
+@pytest.mark.parametrize("change, fragment", [
+    (lambda rows: [(s, [(g + 0.01, a), p2]) if i == 3 else (s, [(g, a), p2])
+                   for i, (s, [(g, a), p2]) in enumerate(rows)],
+     "rotor WM-SF2-0003 has other corrections"),
+    (lambda rows: [r for i, r in enumerate(rows) if i != 5],
+     "rotor WM-SF2-0005 is no longer in the readings file"),
+    (lambda rows: [(s, [(-1.0, a), p2]) if i == 2 else (s, [(g, a), p2])
+                   for i, (s, [(g, a), p2]) in enumerate(rows)],
+     "rotor WM-SF2-0002 is now a bad row"),
+])
+def test_resume_refuses_rows_changed_since(run_cli, tmp_path, quick_files, change, fragment):
+    template, readings, rows = quick_files
+    code, _, err = run_cli("batch", template, readings, "--jobs", "1")
+    assert code in (0, 1) and err == ""
+    outputs = sorted(tmp_path.glob("line3.results*"))
+    before = {p: p.read_bytes() for p in outputs}
+    readings.write_text(readings_csv(change(rows)), encoding="utf-8")
+    code, out, err = run_cli("batch", template, readings, "--jobs", "1", "--resume")
+    assert code == 2 and out == "" and err.count("\n") == 1
+    assert fragment in err and "line3.results.jsonl" in err and "--force" in err
+    assert {p: p.read_bytes() for p in outputs} == before  # nothing touched
+
+
+def test_resume_accepts_the_same_numbers_written_otherwise(tmp_path, quick_files):
+    template, readings, rows = quick_files
+    _, paths = run_batch(template, readings, jobs=1)
+    before = paths.results_jsonl.read_bytes()
+    # 1500.5 written as " 1500.500": the same floats, so nothing to redo.
+    lines = readings_csv(rows).splitlines()
+    lines[1:] = [",".join([cells[0]] + [f" {cell}00 " for cell in cells[1:]])
+                 for cells in (line.split(",") for line in lines[1:])]
+    readings.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    again, _ = run_batch(template, readings, jobs=1, resume=True)
+    assert again.already_done == len(rows) and paths.results_jsonl.read_bytes() == before
+
+
+# ----------------------------------------------------------- jobs and cores
+def test_jobs_capped_at_the_usable_cores(monkeypatch, tmp_path, quick_files):
+    # Python docs: os.sched_getaffinity(0) is the set of CPUs this process may run on.
+    import os
+
+    import placer.batchfile
+    from placer.batch import usable_cores
+
+    if hasattr(os, "sched_getaffinity"):
+        assert usable_cores() == len(os.sched_getaffinity(0))
+    template, readings, rows = quick_files
+    monkeypatch.setattr(placer.batchfile, "usable_cores", lambda: 2)
+    notes: list[str] = []
+    summary, _ = run_batch(template, readings, jobs=64, note=notes.append)
+    assert notes == ["placer batch: --jobs 64 capped at 2, the cores this process may use"]
+    assert summary.jobs == 2
+    one, _ = run_batch(template, readings, prefix=tmp_path / "one", jobs=1, note=notes.append)
+    assert one.jobs == 1 and len(notes) == 1
+
+
+def test_jobs_note_and_count_on_the_command_line(run_cli, monkeypatch, quick_files):
+    import placer.batchfile
+
+    template, readings, rows = quick_files
+    monkeypatch.setattr(placer.batchfile, "usable_cores", lambda: 1)
+    code, out, err = run_cli("batch", template, readings, "--jobs", "8")
+    assert code in (0, 1)
+    assert err == "placer batch: --jobs 8 capped at 1, the cores this process may use\n"
+    assert "with 1 process(es)" in out
+
+
+# ---------------------------------------------------------------- progress
+class _Clock:
+    """A clock the test moves by hand [s]."""
+
+    def __init__(self) -> None:
+        self.now = 0.0
+
+    def __call__(self) -> float:
+        return self.now
+
+
+def test_progress_plain_lines_when_piped():
+    # The rate counts from the first call (tables built), not from the start.
+    import io
+
+    from placer.batchfile import progress_display
+
+    clock, stream = _Clock(), io.StringIO()
+    with progress_display(stream, every_s=10.0, clock=clock) as progress:
+        clock.now = 100.0          # 100 s building the tables
+        progress(0, 50)
+        clock.now = 105.0
+        progress(10, 50)           # under 10 s since the last line: quiet
+        clock.now = 110.0
+        progress(20, 50)           # 20 rotors in 10 s: 2/s, 30 left: 15 s
+        clock.now = 115.0
+        progress(30, 50)
+    assert stream.getvalue() == "placer batch: 20/50 rotors, 2 rotors/s, about 15 s left\n"
+
+
+def test_progress_bar_on_a_forced_terminal():
+    import io
+
+    from placer.batchfile import progress_display
+
+    clock, stream = _Clock(), io.StringIO()
+    with progress_display(stream, terminal=True, clock=clock) as progress:
+        clock.now = 50.0
+        progress(0, 40)
+        clock.now = 51.0
+        progress(10, 40)
+        clock.now = 52.0
+        progress(40, 40)           # 40 rotors in 2 s after the tables: 20/s
+    text = stream.getvalue()
+    assert "\x1b[" in text                        # terminal control codes: drawn as a bar
+    assert "40/40" in text and "20 rotors/s" in text
+    assert "━" in text                            # rich's bar
+
+
+@pytest.mark.parametrize("jobs", [1, 2])
+def test_progress_called_first_when_the_tables_are_built(monkeypatch, tmp_path, quick_files,
+                                                         jobs):
+    # (0, n) once the searches and tables exist, before any rotor; then one call per rotor.
+    template, readings, rows = quick_files
+    calls: list[tuple[int, int, bool]] = []
+    built = BatchSolver.build_tables
+    state = {"built": False}
+
+    def build(self):
+        built(self)
+        state["built"] = True
+
+    monkeypatch.setattr(BatchSolver, "build_tables", build)
+    run_batch(template, readings, prefix=tmp_path / f"p{jobs}", jobs=jobs,
+              progress=lambda done, total: calls.append((done, total, state["built"])))
+    assert calls[0] == (0, len(rows), True)
+    assert [c[:2] for c in calls[1:]] == [(k, len(rows)) for k in range(1, len(rows) + 1)]
+
+
+def test_batch_piped_prints_no_progress_for_a_short_run(run_cli, quick_files):
+    template, readings, _ = quick_files
+    code, out, err = run_cli("batch", template, readings, "--jobs", "1")
+    assert err == "" and out.count("\n") == 1 and code in (0, 1)
+
+
+# -------------------------------------------------------- a real interrupt
+def test_interrupted_with_two_jobs_then_resumed(tmp_path):
+    # A real Ctrl-C (SIGINT) to `placer batch --jobs 2` once some rows are
+    # written, then --resume: the results must equal an uninterrupted run's,
+    # each rotor exactly once.
+    import os
+    import signal
+    import subprocess
+    import sys
+    import time
+
+    (tmp_path / "drawer.toml").write_text(
+        'name = "test drawer"\n[[items]]\nid = "S"\nmass_g = 2.0\n[[items]]\nid = "M"\n'
+        'mass_g = 3.5\n[[items]]\nid = "L"\nmass_g = 7.0\n', encoding="utf-8")
+    template = tmp_path / "t.toml"
+    template.write_text('[rotor]\nname = "interrupted"\n[[planes]]\nname = "rim"\n'
+                        'radius_mm = 80.0\npositions = 8\ncapacity = 2\ncatalog = "drawer.toml"\n'
+                        'max_parts = 4\ntolerance_gmm = 30.0\n', encoding="utf-8")
+    rng = random.Random(23)
+    rows = [(f"IR-{i:05d}", [(round(rng.uniform(0, 2000), 2), round(rng.uniform(0, 360), 1))])
+            for i in range(4000)]
+    readings = tmp_path / "rows.csv"
+    readings.write_text(readings_csv(rows, "serial,1_gmm,1_angle_deg"), encoding="utf-8")
+    prefix = tmp_path / "cut"
+    jsonl = Path(str(prefix) + ".jsonl")
+    env = {k: v for k, v in os.environ.items() if k not in ("FORCE_COLOR", "COLUMNS")}
+    command = [sys.executable, "-m", "placer", "batch", str(template), str(readings),
+               "--out", str(prefix), "--jobs", "2"]
+    proc = subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            env=env)
+    deadline = time.monotonic() + 60
+    while time.monotonic() < deadline and proc.poll() is None:
+        if jsonl.exists() and jsonl.read_bytes().count(b"\n") >= 100:
+            break
+        time.sleep(0.005)
+    proc.send_signal(signal.SIGINT)
+    out, err = proc.communicate(timeout=60)
+    assert proc.returncode == 130, (proc.returncode, err)
+    assert err.endswith("placer: interrupted\n") and "Traceback" not in err
+    written = jsonl.read_bytes().count(b"\n")
+    assert 100 <= written < len(rows)  # stopped part-way
+    assert not Path(str(prefix) + ".summary.json").exists()
+    resumed, _ = run_batch(template, readings, prefix=prefix, jobs=2, resume=True)
+    assert resumed.already_done >= 100 and resumed.solved == len(rows)
+    _, full = run_batch(template, readings, prefix=tmp_path / "full", jobs=2)
+    got = records(jsonl)
+    assert [r["serial"] for r in got] == [serial for serial, _ in rows]  # none lost, none twice
+    assert got == records(full.results_jsonl)

@@ -2,7 +2,13 @@
 
 Each property follows from the problem's definition (no outside source
 needed): more choice never hurts; the problem is invariant under rotation
-and linear under scaling.
+and linear under scaling.  The reported residual is recomputed by hand
+with numpy from the instance's own numbers: correction minus the sum of
+count · mass_g · radius_mm · e^{i·angle} over the listed parts (vector
+addition of unbalances in one plane, ISO 21940-11:2016 via
+placer.residual's References), never through placer's own residual code;
+and the least residual is checked against brute-force enumeration
+(tests/oracle.py).
 """
 
 from __future__ import annotations
@@ -15,7 +21,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from placer.search import PlacementSearch, residual_of
+from placer.search import PlacementSearch
 
 SETTINGS = settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
@@ -46,14 +52,24 @@ def front_of(angles, radii, masses, capacity, stock, target, k):
     return search.front(np.array([target]))
 
 
+def by_hand_gmm(correction: complex, parts, angles_deg, radii_mm, masses_g) -> complex:
+    """Correction - sum of count·mass·radius·e^{i·angle} over (position, item, count) parts."""
+    fitted = sum(count * masses_g[item] * radii_mm[position] *
+                 np.exp(1j * np.radians(angles_deg[position]))
+                 for position, item, count in parts)
+    return complex(correction - fitted)
+
+
 @SETTINGS
 @given(instances())
 def test_reported_residual_is_the_recomputed_one(inst):
     angles, radii, masses, capacity, stock, target, k = inst
     front = front_of(*inst)
+    scale = max(abs(target), float(radii.max() * masses.max()))
     for entry in front.entries:
-        again = residual_of(np.array([target]), effects_of(angles, radii, masses), entry.parts)
-        assert abs(again[0]) == pytest.approx(entry.residual_norm, rel=1e-12, abs=1e-9)
+        again = by_hand_gmm(target, entry.parts, angles, radii, masses)
+        assert abs(again) == pytest.approx(entry.residual_norm, rel=1e-9, abs=1e-9 * scale)
+        assert entry.residual[0] == pytest.approx(again, rel=1e-9, abs=1e-9 * scale)
         assert entry.used_parts <= entry.part_count
 
 
@@ -118,3 +134,161 @@ def test_positions_at_the_same_angle_and_huge_or_tiny_values():
                          300 * scale * scale + 0j, 2)
         # Known by reasoning: 1 g and 2 g on the two positions at 0° give 300 g·mm.
         assert front.entries[2].residual_norm == pytest.approx(0.0, abs=1e-9 * scale * scale)
+
+
+# ------------------------------------------------- through the job file and solve_job
+DECIMAL_ANGLES = st.floats(0, 359.9).map(lambda a: round(a, 4))
+
+
+@st.composite
+def job_numbers(draw):
+    """A one-plane job's numbers: positions (angles, radii), items, stock, correction.
+
+    Numbers as a technician writes them (at most 4 decimals): a file's numbers
+    are zero or at least 1e-12 in size (placer.fields).
+    """
+    n_pos = draw(st.integers(1, 7))
+    angles = draw(st.lists(DECIMAL_ANGLES, min_size=n_pos, max_size=n_pos))
+    radii = draw(st.lists(st.floats(20, 300), min_size=n_pos, max_size=n_pos))
+    n_items = draw(st.integers(1, 3))
+    masses = draw(st.lists(st.floats(0.5, 30), min_size=n_items, max_size=n_items))
+    stock = draw(st.lists(st.one_of(st.none(), st.integers(0, 3)), min_size=n_items,
+                          max_size=n_items))
+    capacity = draw(st.integers(1, 3))
+    max_parts = draw(st.integers(1, 3))
+    gmm = round(draw(st.floats(0, 1.5 * max_parts * max(masses) * max(radii))), 4)
+    angle = draw(DECIMAL_ANGLES)
+    return angles, radii, masses, stock, capacity, max_parts, gmm, angle
+
+
+def job_text(numbers, catalog: str = "drawer.toml", correction: bool = True) -> str:
+    angles, radii, masses, stock, capacity, max_parts, gmm, angle = numbers
+    text = ('[rotor]\nname = "property rotor"\n[[planes]]\nname = "p"\n'
+            f"angles_deg = [{', '.join(map(repr, angles))}]\n"
+            f"radii_mm = [{', '.join(map(repr, radii))}]\n"
+            f'capacity = {capacity}\nmax_parts = {max_parts}\ncatalog = "{catalog}"\n')
+    if correction:
+        text += f"correction = {{ gmm = {gmm!r}, angle_deg = {angle!r} }}\n"
+    return text
+
+
+def drawer_text(masses, stock) -> str:
+    items = "".join(f'[[items]]\nid = "I{i}"\nmass_g = {m!r}\n'
+                    + ("" if s is None else f"stock = {s}\n")
+                    for i, (m, s) in enumerate(zip(masses, stock)))
+    return 'name = "property drawer"\n' + items
+
+
+def check_option_by_hand(option, correction: complex, angles, radii, masses) -> None:
+    """residual_gmm and residual_angle_deg of a PlanOption against the by-hand sum."""
+    parts = [(p.position - 1, int(p.item[1:]), p.count) for p in option.parts]
+    assert all(p.action == "fit" for p in option.parts)
+    again = by_hand_gmm(correction, parts, angles, radii, masses)
+    scale = max(abs(correction), max(radii) * max(masses))
+    assert option.residual_gmm == pytest.approx(abs(again), rel=1e-9, abs=1e-9 * scale)
+    if abs(again) > 1e-6 * scale:  # the angle of a vanishing residual means nothing
+        turn = (option.residual_angle_deg - np.degrees(np.angle(again))) % 360.0
+        assert min(turn, 360.0 - turn) < 1e-6
+
+
+@SETTINGS
+@given(job_numbers())
+def test_solve_job_residuals_recomputed_by_hand_and_least_by_enumeration(numbers):
+    import tempfile
+    from pathlib import Path
+
+    from oracle import brute_front
+    from placer.jobfile import read_job
+    from placer.solve import solve_job
+
+    angles, radii, masses, stock, capacity, max_parts, gmm, angle = numbers
+    with tempfile.TemporaryDirectory() as folder:
+        (Path(folder) / "drawer.toml").write_text(drawer_text(masses, stock), encoding="utf-8")
+        (Path(folder) / "job.toml").write_text(job_text(numbers), encoding="utf-8")
+        result = solve_job(read_job(Path(folder) / "job.toml"))
+    correction = gmm * np.exp(1j * np.radians(angle))
+    plane = result.planes[0]
+    for option in (plane.chosen, *plane.front):
+        check_option_by_hand(option, correction, angles, radii, masses)
+    # No tolerance: the chosen plan is the least residual with at most max_parts
+    # parts, by enumeration of every plan (tests/oracle.py).
+    effects = -(np.array(radii) * np.exp(1j * np.radians(angles)))[:, None] * \
+        np.array(masses)[None, :]
+    limits = [max_parts if s is None else s for s in stock]
+    best = brute_front(effects, np.array([correction]), [capacity] * len(angles), limits,
+                       max_parts)[-1]
+    assert plane.chosen.residual_gmm == pytest.approx(best, rel=1e-9, abs=1e-9 * max(1.0, gmm))
+
+
+@settings(max_examples=15, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(job_numbers(), st.lists(st.tuples(st.floats(0, 4000).map(lambda g: round(g, 2)),
+                                         DECIMAL_ANGLES), min_size=1, max_size=6))
+def test_batch_records_recomputed_by_hand(numbers, rows):
+    import json
+    import tempfile
+    from pathlib import Path
+
+    from placer.batchfile import run_batch
+
+    angles, radii, masses, stock, *_ = numbers
+    with tempfile.TemporaryDirectory() as name:
+        folder = Path(name)
+        (folder / "drawer.toml").write_text(drawer_text(masses, stock), encoding="utf-8")
+        (folder / "t.toml").write_text(job_text(numbers, correction=False), encoding="utf-8")
+        lines = ["serial,1_gmm,1_angle_deg"] + [f"P-{i},{g!r},{a!r}"
+                                               for i, (g, a) in enumerate(rows)]
+        (folder / "r.csv").write_text("\n".join(lines) + "\n", encoding="utf-8")
+        _, paths = run_batch(folder / "t.toml", folder / "r.csv", jobs=1)
+        records = [json.loads(line) for line in
+                   paths.results_jsonl.read_text(encoding="utf-8").splitlines()]
+    assert len(records) == len(rows)
+    for record, (gmm, angle) in zip(records, rows):
+        plane = record["planes"][0]
+        correction = gmm * np.exp(1j * np.radians(angle))
+        parts = [(p["position"] - 1, int(p["item"][1:]), p["count"]) for p in plane["fitted"]]
+        again = by_hand_gmm(correction, parts, angles, radii, masses)
+        scale = max(gmm, max(radii) * max(masses))
+        assert plane["residual_gmm"] == pytest.approx(abs(again), rel=1e-9, abs=1e-9 * scale)
+        if abs(again) > 1e-6 * scale:
+            turn = (plane["residual_angle_deg"] - np.degrees(np.angle(again))) % 360.0
+            assert min(turn, 360.0 - turn) < 1e-6
+        for p in plane["fitted"]:  # the listed part is the job's own position and item
+            assert p["angle_deg"] == pytest.approx(angles[p["position"] - 1] % 360.0)
+            assert p["mass_g"] == masses[int(p["item"][1:])]
+
+
+@st.composite
+def small_instances(draw):
+    """Instances brute force enumerates in milliseconds: at most 18 placements, 3 parts."""
+    n_pos = draw(st.integers(1, 6))
+    n_items = draw(st.integers(1, 3))
+    angles = np.array(draw(st.lists(st.floats(0, 360), min_size=n_pos, max_size=n_pos)))
+    radii = np.array(draw(st.lists(st.floats(10, 400), min_size=n_pos, max_size=n_pos)))
+    masses = np.array(draw(st.lists(st.floats(0.2, 50), min_size=n_items, max_size=n_items)))
+    capacity = np.array(draw(st.lists(st.integers(0, 3), min_size=n_pos, max_size=n_pos)))
+    stock = np.array(draw(st.lists(st.integers(0, 4), min_size=n_items, max_size=n_items)))
+    magnitude = draw(st.floats(0, 120)) * float(radii.mean())
+    target = magnitude * cmath.exp(1j * math.radians(draw(st.floats(0, 360))))
+    return angles, radii, masses, capacity, stock, target, draw(st.integers(1, 3))
+
+
+@SETTINGS
+@given(small_instances())
+def test_batch_table_path_against_enumeration(inst):
+    # The batch's fast path (every selection tabulated, one k-d tree query per
+    # part count) against brute-force enumeration of every plan (tests/oracle.py).
+    from oracle import brute_front
+    from placer.batch import BatchSearch
+
+    angles, radii, masses, capacity, stock, target, k = inst
+    effects = effects_of(angles, radii, masses)
+    search = BatchSearch(effects, capacity, stock, k)
+    assert search.tabulated or search.n == 0
+    front = search.front(np.array([target]))
+    truth = brute_front(effects, np.array([target]), capacity, stock, k)
+    scale = max(abs(target), float(radii.max() * masses.max()))
+    for entry, best in zip(front.entries, truth):
+        assert entry.residual_norm == pytest.approx(best, rel=1e-9, abs=1e-9 * scale)
+        again = by_hand_gmm(target, entry.parts, angles, radii, masses)
+        assert abs(again) == pytest.approx(entry.residual_norm, rel=1e-9, abs=1e-9 * scale)
+        assert entry.proven
