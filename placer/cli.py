@@ -91,7 +91,12 @@ def _parser() -> argparse.ArgumentParser:
                            description="Read a session file (reference run, trial runs, "
                                        "optional check run), work out the influence "
                                        "coefficients and the correction, and plan the parts "
-                                       "for all planes together by least predicted vibration.")
+                                       "for all planes together by least predicted vibration.",
+                           epilog="Exit codes: 0 plan printed (predicted at or below "
+                                  "[solve] vibration_limit, or no limit given), 1 the "
+                                  "chosen plan is still predicted above vibration_limit "
+                                  "(the least vibration plan is printed), 2 bad input or "
+                                  "database (one line on stderr; nothing saved).")
     field.add_argument("session", metavar="SESSION", help="session file (TOML), see examples/")
     field.add_argument("--json", action="store_true", help="print one JSON object")
     field.add_argument("--norm", choices=("max", "rms"),
@@ -101,22 +106,27 @@ def _parser() -> argparse.ArgumentParser:
                        help="most parts in all planes together (overrides [solve] max_parts)")
     field.add_argument("--save", action="store_true",
                        help="store the visit (runs, readings, coefficients, plan) in the "
-                            "machine history database")
+                            "machine history database, after everything else succeeded")
     field.add_argument("--db", metavar="FILE",
                        help="history database (default: $PLACER_DB, else placer/history.sqlite "
                             "in the user's data folder)")
     field.add_argument("--width", type=int, default=None, metavar="COLUMNS",
-                       help="width of the sheet in columns")
+                       help="width of the sheet in columns (at least 40)")
 
     machines = sub.add_parser("machines", help="list the machines in the history database",
                               description="List the machines stored in the history database, "
-                                          "with their number of visits and the last one.")
+                                          "with their number of visits and the last one "
+                                          "(times in UTC).")
     machines.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
     machines.add_argument("--json", action="store_true", help="print JSON")
-    history = sub.add_parser("history", help="show one machine's visits",
-                             description="Show a machine's stored visits: date, coefficients, "
-                                         "plan and predicted result.")
+    history = sub.add_parser("history", help="show one machine's visits, or one visit",
+                             description="Show a machine's stored visits: date (UTC), "
+                                         "coefficients, plan and predicted result; with "
+                                         "--visit N, one visit's runs, readings, "
+                                         "coefficients and plan.")
     history.add_argument("machine", metavar="MACHINE", help="machine id, as in [machine] id")
+    history.add_argument("--visit", type=int, metavar="N",
+                         help="show visit N of this machine in full")
     history.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
     history.add_argument("--json", action="store_true", help="print JSON")
 
@@ -264,61 +274,82 @@ def _tolerance(args: argparse.Namespace) -> int:
 def _field(args: argparse.Namespace) -> int:
     from dataclasses import replace
 
-    from placer.fieldplan import solve_session
+    from placer.fieldplan import CoefficientMismatch, solve_session
+    from placer.history import History, default_db_path
     from placer.sessionfile import read_session
 
+    # Everything that can be bad input is checked before anything is written.
+    console = _console(args.width)
+    if args.max_parts is not None and not 1 <= args.max_parts <= 8:
+        raise InputError(f"is {args.max_parts}", key="--max-parts", expected="1 to 8")
     session = read_session(Path(args.session))
     if args.norm:
         session = replace(session, norm=args.norm)
     if args.max_parts is not None:
-        if not 1 <= args.max_parts <= 8:
-            raise InputError(f"is {args.max_parts}", key="--max-parts", expected="1 to 8")
         session = replace(session, max_parts=args.max_parts)
-    stored = label = None
+    path = Path(args.db) if args.db else default_db_path()
+    stored = None
     if session.coefficients == "stored":
-        from placer.history import History, default_db_path
-
-        path = Path(args.db) if args.db else default_db_path()
         if not path.exists():
             raise InputError(f"no history database at {path}", file=session.source,
                              key="solve.coefficients",
                              expected="a database with this machine's coefficients (--db)")
         with History(path) as db:
-            found = db.latest_coefficients(session.machine_id,
-                                           [c.name for c in session.channels],
-                                           len(session.planes))
-        if found is None:
+            stored = db.latest_coefficients(session.machine_id,
+                                            [c.name for c in session.channels],
+                                            [p.geometry.name for p in session.planes])
+        if stored is None:
             raise InputError(f"no stored coefficients for machine '{session.machine_id}' with "
-                             "these sensors and planes", file=session.source,
+                             "these sensors and planes (names in order)", file=session.source,
                              key="solve.coefficients", expected="coefficients = \"runs\" and "
                              "trial runs, or a visit saved with --save")
-        stored, label = found
     try:
-        result = solve_session(session, stored, label or "")
+        result = solve_session(session, stored)
+    except CoefficientMismatch as exc:
+        raise InputError(exc.detail, file=session.source, key=exc.key,
+                         expected=exc.expected) from None
     except ValueError as exc:
         raise InputError(str(exc), file=session.source, key="runs") from None
+    record = db = None
     if args.save:
         from placer.fieldrecord import visit_record
-        from placer.history import History, default_db_path
+        from placer.history import check_record
 
-        path = Path(args.db) if args.db else default_db_path()
-        with History(path) as db:
-            visit_id = db.save_visit(visit_record(result))
-        print(f"placer: visit {visit_id} of {session.machine_id} saved in {path}",
-              file=sys.stderr)
-    if args.json:
-        from placer.fieldreport import field_dict
+        record = visit_record(result)
+        check_record(record)
+        # Opened before anything is printed: a file that is not a history is refused here.
+        db = History(path)
+    try:
+        if args.json:
+            from placer.fieldreport import field_dict
 
-        print(json_text(field_dict(result), indent=2))
-    else:
-        from placer.fieldreport import render_field
+            text = json_text(field_dict(result), indent=2) + "\n"
+        else:
+            from placer.fieldreport import render_field
 
-        render_field(result, _console(args.width))
+            with console.capture() as captured:
+                render_field(result, console)
+            text = captured.get()
+        try:
+            sys.stdout.write(text)
+            sys.stdout.flush()
+        except BrokenPipeError:
+            # The reader went away (| head): the visit is still saved below.
+            import os
+
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        if db is not None:
+            visit_id = db.save_visit(record)
+            print(f"placer: visit {visit_id} of {session.machine_id} saved in {path}",
+                  file=sys.stderr)
+    finally:
+        if db is not None:
+            db.close()
     return EXIT_OUTSIDE if result.within_limit is False else EXIT_OK
 
 
 def _machines(args: argparse.Namespace) -> int:
-    from placer.history import History, default_db_path
+    from placer.history import History, default_db_path, utc_label
 
     path = Path(args.db) if args.db else default_db_path()
     if not path.exists():
@@ -336,13 +367,14 @@ def _machines(args: argparse.Namespace) -> int:
     for column in ("Id", "Name", "Visits", "Last visit"):
         table.add_column(column)
     for m in rows:
-        table.add_row(m.id, m.name, str(m.visits), m.last_visit or "-")
+        table.add_row(m.id, m.name, str(m.visits), utc_label(m.last_visit) if m.last_visit
+                      else "-")
     _console().print(table)
     return EXIT_OK
 
 
 def _history(args: argparse.Namespace) -> int:
-    from placer.history import History, default_db_path
+    from placer.history import History, default_db_path, utc_label
 
     path = Path(args.db) if args.db else default_db_path()
     if not path.exists():
@@ -351,6 +383,13 @@ def _history(args: argparse.Namespace) -> int:
     with History(path) as db:
         visits = db.visits(args.machine)
         known = [m.id for m in db.machines()]
+        if visits and args.visit is not None:
+            ids = [v.id for v in visits]
+            if args.visit not in ids:
+                raise InputError(f"machine '{args.machine}' has no visit {args.visit}",
+                                 key="--visit", expected="one of its visits: "
+                                 + ", ".join(map(str, ids)))
+            record = db.visit(args.visit)
     if not visits:
         import difflib
 
@@ -358,26 +397,47 @@ def _history(args: argparse.Namespace) -> int:
         raise InputError(f"no visits of machine '{args.machine}'", key="MACHINE",
                          expected=(f"did you mean '{close[0]}'? " if close else "")
                          + "one of: " + (", ".join(known) or "none stored"))
+    if args.visit is not None:
+        from placer.fieldreport import render_visit, visit_dict
+
+        if args.json:
+            print(json_text(visit_dict(args.visit, record), indent=2))
+        else:
+            render_visit(args.visit, record, _console())
+        return EXIT_OK
     if args.json:
         print(json_text([{"id": v.id, "started_at": v.started_at,
                           "coefficient_source": v.coefficient_source,
                           "condition": v.condition, "runs": v.runs, "result": v.result}
                          for v in visits], indent=2))
         return EXIT_OK
+    from rich import box
     from rich.table import Table
 
-    table = Table(title=f"Visits of {args.machine}", title_justify="left")
-    for column in ("Visit", "Date", "Runs", "Coefficients", "Cond.", "Plan", "Predicted"):
-        table.add_column(column)
+    table = Table(title=f"Visits of {args.machine} (times in UTC; 'placer history "
+                        f"{args.machine} --visit N' shows one in full)", title_justify="left",
+                  box=box.SIMPLE_HEAD, pad_edge=False)
+    table.add_column("Visit", justify="right", no_wrap=True)
+    table.add_column("Date", no_wrap=True)
+    table.add_column("Runs", justify="right", no_wrap=True)
+    table.add_column("Coefficients", no_wrap=True)
+    table.add_column("Cond.", justify="right", no_wrap=True)
+    table.add_column("Plan", overflow="fold", ratio=1)
+    table.add_column("Predicted", no_wrap=True)
     for v in visits:
-        plan = ", ".join(f"P{m.plane + 1}#{m.position} {m.item}x{m.count}" for m in v.planned)
+        plan = ", ".join(("−" if m.count < 0 else "") + f"P{m.plane + 1}#{m.position}\u00a0"
+                         f"{m.item}" + (f"×{abs(m.count)}" if abs(m.count) != 1 else "")
+                         for m in v.planned)
         before = v.result.get("vibration_before")
         after = v.result.get("vibration_after")
-        predicted = "-" if after is None else f"{before:.2f} -> {after:.2f}"
-        table.add_row(str(v.id), v.started_at[:16].replace("T", " "), str(v.runs),
-                      v.coefficient_source.replace(" of this visit", ""),
-                      "-" if v.condition is None else f"{v.condition:.1f}", plan or "-",
-                      predicted)
+        predicted = ("-" if not isinstance(before, (int, float))
+                     or not isinstance(after, (int, float)) else f"{before:.2f}→{after:.2f}")
+        source = v.coefficient_source
+        source = (source.split(" of ")[0] if source.startswith("visit ")
+                  else source.replace(" of this visit", "").replace("trial run(s)", "trials"))
+        table.add_row(str(v.id), utc_label(v.started_at).removesuffix(" UTC"), str(v.runs),
+                      source, "-" if v.condition is None else f"{v.condition:.1f}",
+                      plan or "-", predicted)
     _console().print(table)
     return EXIT_OK
 
