@@ -65,8 +65,10 @@ _MAX_HEAD_ROWS = 6_000_000
 _DENSE_LIMIT = 200_000
 """Heads x tail rows up to which heads are completed by a dense scan, not a k-d tree."""
 _DENSE_TAIL = 4096
-"""Tail rows up to which a dense scan is used for any number of heads (a small tree does not
-pay for importing scipy, as on a 12-hole bolt circle)."""
+"""Tail rows up to which the dense scan takes more heads (a small tree does not pay for
+importing scipy, as on a 12-hole bolt circle)..."""
+_DENSE_LIMIT_SMALL_TAIL = 3_000_000
+"""...up to this many heads x tail rows."""
 _DENSE_CHUNK = 262_144
 """Head x tail combinations scored at once in the dense scan."""
 
@@ -302,7 +304,8 @@ class PlacementSearch:
         priority = self._head_bound(head_sums, heads, k, t_real)
         order = np.argsort(priority, kind="stable")
         heads, head_sums, priority = heads[order], head_sums[order], priority[order]
-        if len(cols) <= _DENSE_TAIL or len(heads) * len(cols) <= _DENSE_LIMIT:
+        if len(heads) * len(cols) <= (_DENSE_LIMIT_SMALL_TAIL if len(cols) <= _DENSE_TAIL
+                                      else _DENSE_LIMIT):
             return self._complete_dense(heads, head_sums, priority, t_real, bound)
         cols, sums, tree = self._tail()
         best_row, best_value = None, bound
