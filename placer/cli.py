@@ -99,6 +99,9 @@ def _parser() -> argparse.ArgumentParser:
                                   "database (one line on stderr; nothing saved).")
     field.add_argument("session", metavar="SESSION", help="session file (TOML), see examples/")
     field.add_argument("--json", action="store_true", help="print one JSON object")
+    field.add_argument("--time-limit", type=float, default=10.0, metavar="SECONDS",
+                       help="time the coupled search may take; part counts not finished "
+                            "in time are marked not proven (default 10)")
     field.add_argument("--norm", choices=("max", "rms"),
                        help="least largest reading (max) or least root-sum-square over "
                             "sensors (rms); overrides the session's [solve] norm")
@@ -280,6 +283,9 @@ def _field(args: argparse.Namespace) -> int:
 
     # Everything that can be bad input is checked before anything is written.
     console = _console(args.width)
+    if not math.isfinite(args.time_limit) or args.time_limit <= 0:
+        raise InputError(f"is {args.time_limit:g}", key="--time-limit",
+                         expected="a number of seconds above zero")
     if args.max_parts is not None and not 1 <= args.max_parts <= 8:
         raise InputError(f"is {args.max_parts}", key="--max-parts", expected="1 to 8")
     session = read_session(Path(args.session))
@@ -304,7 +310,7 @@ def _field(args: argparse.Namespace) -> int:
                              key="solve.coefficients", expected="coefficients = \"runs\" and "
                              "trial runs, or a visit saved with --save")
     try:
-        result = solve_session(session, stored)
+        result = solve_session(session, stored, time_limit_s=args.time_limit)
     except CoefficientMismatch as exc:
         raise InputError(exc.detail, file=session.source, key=exc.key,
                          expected=exc.expected) from None

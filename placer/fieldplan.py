@@ -12,7 +12,7 @@ fitting it.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -237,7 +237,12 @@ def _coefficients(session: Session, stored: StoredCoefficients | None
     return coefficients, f"{len(trial_index)} trial run(s) of this visit"
 
 
-def solve_session(session: Session, stored: StoredCoefficients | None = None) -> FieldResult:
+DEFAULT_TIME_LIMIT_S = 10.0
+"""Time the coupled search may take per visit before it leaves part counts unproven [s]."""
+
+
+def solve_session(session: Session, stored: StoredCoefficients | None = None,
+                  time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> FieldResult:
     """Coefficients, continuous correction and the coupled discrete plan of a visit.
 
     Parameters
@@ -246,6 +251,10 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None) ->
     stored : StoredCoefficients, optional
         Coefficients of an earlier visit (``coefficients = "stored"``); they
         are brought to this session's unit, measure and angle sense.
+    time_limit_s : float
+        Budget of the coupled search [s]; part counts it cannot finish in
+        time keep the best plan with fewer parts, marked not proven.  The
+        per-plane rounded plan for comparison gets the same budget.
 
     Raises
     ------
@@ -274,12 +283,22 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None) ->
         sc = static_couple(correction[0], correction[1], session.plane_separation_mm)
     fitted = session.fitted_parts() if checks else ()
     search, rows, items = field_search(session, matrix, fitted)
-    front = search.front(np.sqrt(weights) * now)
+    front = search.front(np.sqrt(weights) * now, budget_s=time_limit_s)
     options = [_option(session, e, rows, items, fitted, matrix, now) for e in front.entries]
+    rounded = _rounded_plan(session, correction, matrix, now, fitted, time_limit_s)
+    # The rounded plan is a coupled plan too: where the search ran out of time it may be
+    # the better one found.  A count proven by the search is never beaten by it.
+    options = [replace(rounded, part_count=o.part_count, proven=False)
+               if not o.proven and o.part_count >= rounded.used_parts
+               and rounded.objective < o.objective else o for o in options]
     tidy = [options[0]] + [o for prev, o in zip(options, options[1:])
                            if o.used_parts > prev.used_parts and o.objective < prev.objective]
-    rounded = _rounded_plan(session, correction, matrix, now, fitted)
     warnings = list(coefficients.warnings)
+    unproven = [o.part_count for o in options if not o.proven]
+    if unproven:
+        warnings.append(f"the coupled search did not finish {min(unproven)} to "
+                        f"{max(unproven)} parts within the time limit ({time_limit_s:g} s, "
+                        "--time-limit): those plans are the best found, not proven")
     if sc is not None and sc.couple_negligible:
         warnings.append("the couple part is negligible (under 10 % of the static part, "
                         "placer's own rule): one plane would do")
@@ -291,7 +310,8 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None) ->
 
 
 def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
-                  now: np.ndarray, fitted: tuple[PlacedMass, ...] = ()) -> FieldOption:
+                  now: np.ndarray, fitted: tuple[PlacedMass, ...] = (),
+                  time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> FieldOption:
     """Each plane's continuous correction rounded on its own (exactly), then predicted.
 
     Each plane gets an equal share of max_parts (at least one) and its own
@@ -316,7 +336,8 @@ def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
         stock = np.array([share if i.stock is None else i.stock for i in catalog.items]
                          + [m.count for m in mine], dtype=np.int64)
         search = PlacementSearch(effects, capacity, stock, share)
-        best = search.front(np.array([correction[p]])).entries[-1]
+        best = search.front(np.array([correction[p]]),
+                            budget_s=time_limit_s / len(session.planes)).entries[-1]
         for j, k, c in best.parts:
             if j >= n_pos:
                 mass = mine[j - n_pos]

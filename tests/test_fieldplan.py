@@ -352,3 +352,16 @@ def test_more_fitted_parts_than_a_position_takes_is_bad_input(tmp_path):
         read_session(write(tmp_path, text))
     assert caught.value.key == "runs[4].fitted[2].count"
     assert "takes 2" in caught.value.detail
+
+
+def test_time_limit_leaves_counts_unproven_and_says_so():
+    # A 720-position plane (found by fuzzing) cannot be searched to 6 parts in 0.3 s:
+    # the counts not finished are marked, a warning says so, and nothing found is
+    # worse than the per-plane rounded plan, which is a coupled plan too (by reasoning).
+    session = read_session(ROOT / "tests" / "fuzz_corpus" / "session-slow-720-positions.toml")
+    result = solve_session(session, time_limit_s=0.3)
+    assert not all(o.proven for o in result.front)
+    assert any("did not finish" in w for w in result.warnings)
+    objectives = [o.objective for o in result.front]
+    assert objectives == sorted(objectives, reverse=True)
+    assert result.front[-1].objective <= result.rounded.objective + 1e-12

@@ -309,6 +309,7 @@ def run_kind(capsys, folder: Path, kind: str, raw: bytes) -> tuple[int, str, Pat
     if kind == "session":
         # --max-parts 3: the reader is the target; the plan search of 4 parts takes seconds.
         return _with_path(*run_cli(capsys, ["field", path, "--json", "--max-parts", "3",
+                                            "--time-limit", "0.5",
                                             "--db", folder / "none.sqlite"]), path)
     return _with_path(*run_cli(capsys, ["solve", path, "--json", "--time-limit", "0.5",
                                         "--samples", "100"]), path)
@@ -450,9 +451,9 @@ def test_corpus_holds_every_kind():
         assert path.name in listed, f"{path.name} has no line in fuzz_corpus/README.md"
 
 
-KNOWN_OPEN = {
-    "session-slow-720-positions.toml": "placer field has no time bound: about 50 s for a "
-                                       "720-position plane (placer/fieldplan.py, reported)",
+KNOWN_OPEN: dict[str, str] = {
+    # File name -> why it still breaks placer; replayed as an expected failure.
+    # (session-slow-720-positions.toml was one until `placer field` got --time-limit.)
 }
 """Corpus inputs that still break placer, in code outside these tests' reach; each is
 replayed under a short bound and expected to fail (strict: a fix makes the test fail
