@@ -9,7 +9,6 @@ expected.
 from __future__ import annotations
 
 import argparse
-import json
 import math
 import sys
 from pathlib import Path
@@ -246,9 +245,22 @@ def _catalogs(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _positive_options(*pairs: tuple[str, float]) -> None:
+    """Command-line quantities must be positive and in the range every file is held to."""
+    from placer.fields import MAX_MAGNITUDE, MIN_MAGNITUDE
+
+    for key, value in pairs:
+        if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
+            raise InputError(f"is {value:g}", key=key,
+                             expected="a number above zero, between 1e-12 and 1e12")
+
+
 def _tolerance(args: argparse.Namespace) -> int:
     from placer.tolerance import allocate_to_planes, parse_grade, permissible_residual_gmm
 
+    _positive_options(("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
+                      *((("--distances-mm", d) for d in args.distances_mm)
+                        if args.distances_mm else ()))
     grade = parse_grade(args.grade)
     u_per = permissible_residual_gmm(grade, args.mass_kg, args.rpm)
     names = ["A"] if args.planes == 1 else ["A", "B"]
@@ -451,10 +463,8 @@ def _history(args: argparse.Namespace) -> int:
 def _trial(args: argparse.Namespace) -> int:
     from placer.fieldreport import trial_suggestion
 
-    for key, value in (("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
-                       ("--radius-mm", args.radius_mm)):
-        if not (value > 0 and value < float("inf")):
-            raise InputError(f"is {value:g}", key=key, expected="a number above zero")
+    _positive_options(("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
+                      ("--radius-mm", args.radius_mm))
     print(trial_suggestion(args.mass_kg, args.rpm, args.radius_mm))
     print("Fit it as firmly as a final weight; lock out before fitting; keep clear of the "
           "plane of rotation on the run.")

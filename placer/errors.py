@@ -30,7 +30,7 @@ class PlacerError(Exception):
         if self.expected:
             text = f"{text} (expected {self.expected})"
         parts.append(text)
-        return ": ".join(parts).replace("\n", " ")
+        return " ".join(": ".join(parts).splitlines())
 
 
 class InputError(PlacerError, ValueError):

@@ -677,3 +677,24 @@ def test_version(run_cli):
 
     code, out, err = run_cli("--version")
     assert code == 0 and out.strip() == f"placer {placer.__version__}"
+
+
+@pytest.mark.parametrize("args", [
+    ("trial", "--mass-kg", "65", "--rpm", "1e-300", "--radius-mm", "180"),
+    ("trial", "--mass-kg", "nan", "--rpm", "1475", "--radius-mm", "180"),
+    ("tolerance", "--grade", "G2.5", "--mass-kg", "12", "--rpm", "1e308"),
+    ("tolerance", "--grade", "G2.5", "--mass-kg", "1e308", "--rpm", "2950"),
+    ("tolerance", "--grade", "G2.5", "--mass-kg", "12", "--rpm", "2950", "--planes", "2",
+     "--distances-mm", "100", "-5"),
+])
+def test_command_line_quantities_out_of_range(run_cli, args):
+    code, out, err = run_cli(*args)
+    assert code == 2 and out == ""
+    assert len(err.strip().splitlines()) == 1 and err.startswith("placer: error: --")
+
+
+def test_error_lines_fold_every_line_break():
+    from placer.errors import InputError
+
+    text = InputError("bad\u2028value\r\nhere", file="f.toml", key="k").one_line()
+    assert text == "f.toml: k: bad value here"
