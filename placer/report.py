@@ -210,14 +210,21 @@ def render_catalog_list(names: list[str], catalogs: list[Catalog], console: Cons
 
 
 def render_catalog(catalog: Catalog, console: Console) -> None:
-    """One catalogue's items."""
-    table = Table(title=catalog.name, box=box.SIMPLE, title_justify="left",
-                  caption=catalog.description or None)
+    """One catalogue's items, then its description."""
+    table = Table(title=catalog.name, box=box.SIMPLE, title_justify="left")
     table.add_column("Id")
     table.add_column("Mass g", justify="right")
+    tolerances = any(item.mass_tolerance_g for item in catalog.items)
+    if tolerances:
+        table.add_column("± g", justify="right")
     table.add_column("Stock", justify="right")
     table.add_column("Description")
     for item in catalog.items:
-        table.add_row(item.id, f"{item.mass_g:g}", "-" if item.stock is None else str(item.stock),
-                      item.description)
+        cells = [item.id, f"{item.mass_g:g}"]
+        if tolerances:
+            cells.append(f"{item.mass_tolerance_g:.3g}")
+        cells += ["-" if item.stock is None else str(item.stock), item.description]
+        table.add_row(*cells)
     console.print(table)
+    if catalog.description:
+        console.print(Text(catalog.description))
