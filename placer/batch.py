@@ -58,7 +58,8 @@ from placer.job import Job, PlaneJob
 from placer.plan import PlanOption, choose
 from placer.search import PlacementSearch, _feasible
 from placer.solve import (DEFAULT_TIME_LIMIT_S, PlaneArrays, exact_front,
-                          further_correction_gmm, plane_arrays, solve_job, to_option)
+                          further_correction_gmm, overdrawn_items, plane_arrays,
+                          shared_stock_groups, solve_job, to_option)
 
 CHUNK_ROWS = 64
 """Most rotors sent to a worker process at once."""
@@ -275,7 +276,7 @@ class BatchSolver:
             self.arrays.append(arrays)
             # The target is linear in the correction: correction + its value at zero.
             self.offsets_gmm.append(complex(further_correction_gmm(_row_plane(plane, 0j))))
-        self._shared = _shared_stock_groups(template)
+        self._shared = shared_stock_groups(template.planes)
 
     @property
     def n_planes(self) -> int:
@@ -312,17 +313,10 @@ class BatchSolver:
                             tolerance, within, complex(plane.correction_gmm))
 
     def _overdraws(self, planes: list[PlaneOutcome]) -> bool:
-        """True when planes sharing a catalogue together need more of an item than in stock."""
-        for members in self._shared:
-            catalog = self.template.planes[members[0]].catalog
-            used: dict[str, int] = {}
-            for i in members:
-                for part in planes[i].option.parts:
-                    used[part.item] = used.get(part.item, 0) + part.count
-            if any(item.stock is not None and used.get(item.id, 0) > item.stock
-                   for item in catalog.items):
-                return True
-        return False
+        """True when planes sharing a drawer together need more of an item than in stock."""
+        return any(overdrawn_items([self.template.planes[i] for i in members],
+                                   [planes[i].option.parts for i in members])
+                   for members in self._shared)
 
     def _solved_together(self, reading: RotorReading) -> RotorOutcome:
         job = replace(self.template,
@@ -337,15 +331,6 @@ class BatchSolver:
 def _row_plane(plane: PlaneJob, correction_gmm: complex) -> PlaneJob:
     return replace(plane, correction_gmm=complex(correction_gmm),
                    given_as=f"correction {abs(correction_gmm):g} g·mm from the batch readings")
-
-
-def _shared_stock_groups(template: Job) -> list[list[int]]:
-    """Plane indices that draw on one catalogue with limited stock (two or more planes)."""
-    groups: dict[str, list[int]] = {}
-    for i, plane in enumerate(template.planes):
-        groups.setdefault(plane.catalog.source, []).append(i)
-    return [members for members in groups.values() if len(members) > 1
-            and any(item.stock is not None for item in template.planes[members[0]].catalog.items)]
 
 
 # --------------------------------------------------------------------- parallel
