@@ -534,7 +534,7 @@ class BatchTally:
         """Count one solved rotor."""
         self.add(outcome.within_tolerance,
                  [(p.catalog, part.item, part.count) for p in outcome.planes
-                  for part in p.option.parts if getattr(part, "action", "fit") == "fit"])
+                  for part in p.option.parts if part.action == "fit"])
 
     def summary(self, rows_read: int, already_done: int, errors: int, elapsed_s: float,
                 jobs: int) -> BatchSummary:

@@ -63,7 +63,8 @@ its suffix replaced by ``.results``)
                    "correction_gmm": ..., "correction_angle_deg": ...,
                    "parts": "3:M10×2;7:M6×1",
                    "fitted": [{"position": 3, "angle_deg": ..., "item": "M10",
-                               "mass_g": ..., "count": 2, "action": "fit"}, ...],
+                               "mass_g": ..., "count": 2,
+                               "action": "fit" | "drill" | "remove"}, ...],
                    "part_count": 3, "residual_gmm": ..., "residual_angle_deg": ...,
                    "tolerance_gmm": ... | null, "within_tolerance": ... | null}, ...]}
 
@@ -517,7 +518,7 @@ def parts_text(fitted: list[dict]) -> str:
 
 
 def _signed(part: dict) -> int:
-    return part["count"] if part.get("action", "fit") == "fit" else -part["count"]
+    return -part["count"] if part.get("action") == "remove" else part["count"]
 
 
 def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
@@ -530,7 +531,7 @@ def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
     for p in outcome.planes:
         fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
                    "mass_g": f.mass_g, "count": f.count,
-                   "action": getattr(f, "action", "fit")} for f in p.option.parts]
+                   "action": f.verb} for f in p.option.parts]
         planes.append({"plane": p.plane, "name": p.name, "catalog": p.catalog,
                        "correction_gmm": abs(p.correction_gmm),
                        "correction_angle_deg": angle_of_deg(p.correction_gmm),
@@ -661,7 +662,7 @@ def check_unchanged(done: list[dict[str, Any]], rows: list[RotorReading | RowErr
 def _record_parts(record: dict[str, Any]) -> list[tuple[str, str, int]]:
     return [(plane["catalog"], part["item"], part["count"])
             for plane in record["planes"] for part in plane["fitted"]
-            if part.get("action", "fit") == "fit"]
+            if part.get("action") != "remove"]
 
 
 def _write_line(handle: TextIO, text: str) -> None:

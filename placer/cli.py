@@ -289,7 +289,8 @@ def _tolerance(args: argparse.Namespace) -> int:
 def _field(args: argparse.Namespace) -> int:
     from dataclasses import replace
 
-    from placer.fieldplan import CoefficientMismatch, solve_session
+    from placer.fieldplan import solve_session
+    from placer.influence import CoefficientMismatch
     from placer.history import History, default_db_path
     from placer.sessionfile import read_session
 

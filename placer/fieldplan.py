@@ -16,14 +16,16 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from placer.influence import (Coefficients, CoefficientMismatch, StaticCouple,
+from placer.influence import (Coefficients, StaticCouple,
                               StoredCoefficients, adapt_stored, checked_coefficients,
                               coefficients_from_runs, least_squares_correction, static_couple)
+from placer.job import ExistingPart
 from placer.plan import FittedPart
 from placer.search import PlacementSearch, Selection
 from placer.session import FIELD_NORMS, PlacedMass, Session
+from placer.solve import PlaneArrays, part_of_row, placement_arrays
 
-__all__ = ["CoefficientMismatch", "FieldOption", "FieldResult", "field_search", "objective_of",
+__all__ = ["FieldOption", "FieldResult", "PlaneBlock", "field_search", "objective_of",
            "solve_session"]
 
 
@@ -92,27 +94,41 @@ def objective_of(values: np.ndarray, weights: np.ndarray, norm: str) -> float:
 
 
 @dataclass(frozen=True)
-class _Row:
-    """A row of the search: a position of a plane, or taking off a fitted part (``fitted``)."""
+class PlaneBlock:
+    """One plane's rows in the coupled search.
+
+    ``arrays`` is the plane as :func:`placer.solve.placement_arrays` builds
+    it (positions, one hole per position, parts fitted for a check run to
+    take off); its rows stand at ``first_row`` onwards in the search, and its
+    column k is the search's column ``columns[k]``: one column per drawer
+    (catalogue file and item, so planes sharing a catalogue share its stock),
+    and one of its own for each part on the rotor.
+    """
 
     plane: int
-    position: int
-    fitted: int = -1
+    arrays: PlaneArrays
+    first_row: int
+    columns: np.ndarray
+    existing: tuple[ExistingPart, ...]
+
+    def part(self, session: Session, row: int, column: int, count: int) -> FittedPart:
+        """The part that ``count`` on search row ``row``, search column ``column`` stands for."""
+        plane = session.planes[self.plane]
+        local = int(np.nonzero(self.columns == column)[0][0])
+        return part_of_row(plane.geometry, plane.catalog, self.existing, self.arrays,
+                           row - self.first_row, local, count)
 
 
-def _item_columns(session: Session) -> list[tuple[str, int]]:
-    """Items of all catalogues in one list, as (catalogue source, item index)."""
-    items: list[tuple[str, int]] = []
-    for plane in session.planes:
-        for k in range(len(plane.catalog.items)):
-            key = (plane.catalog.source, k)
-            if key not in items:
-                items.append(key)
-    return items
+def _on_rotor(session: Session, plane_index: int,
+              fitted: tuple[PlacedMass, ...]) -> tuple[ExistingPart, ...]:
+    """Parts fitted for check runs on one plane, as parts on the rotor."""
+    catalog = session.planes[plane_index].catalog
+    return tuple(ExistingPart(m.position, catalog.item_index(m.item), m.count)
+                 for m in fitted if m.plane == plane_index)
 
 
 def field_search(session: Session, matrix: np.ndarray,
-                 fitted: tuple[PlacedMass, ...] = ()) -> tuple[PlacementSearch, list, list]:
+                 fitted: tuple[PlacedMass, ...] = ()) -> tuple[PlacementSearch, list[PlaneBlock]]:
     """The exact search over every plane's positions, with sensors as channels.
 
     Parameters
@@ -128,46 +144,46 @@ def field_search(session: Session, matrix: np.ndarray,
 
     Returns
     -------
-    (PlacementSearch, rows, columns)
-        The search and, for its rows and columns, what they stand for.
+    (PlacementSearch, blocks)
+        The search, and per plane where its rows and columns are.
+
+    Notes
+    -----
+    A plane's arrays hold each part's correction effect e (g·mm, the
+    residual's change in :mod:`placer.solve`: minus the part's unbalance);
+    at the sensors the part adds A[:, plane]·(−e), weighted by the square
+    root of each sensor's weight.
     """
-    rows = [_Row(p, j) for p, plane in enumerate(session.planes)
-            for j in range(plane.geometry.n_positions)]
-    rows += [_Row(m.plane, m.position - 1, f) for f, m in enumerate(fitted)]
-    items: list = _item_columns(session)
-    n_items = len(items)
-    items += [("fitted", f) for f in range(len(fitted))]
     weights = np.sqrt(np.array([c.weight for c in session.channels]))
-    effects = np.zeros((len(rows), len(items), len(session.channels)), dtype=complex)
-    capacity = np.zeros(len(rows), dtype=np.int64)
-    offsets = np.cumsum([0] + [pl.geometry.n_positions for pl in session.planes])
-    for r, row in enumerate(rows):
-        plane = session.planes[row.plane]
-        if row.fitted >= 0:
-            mass = fitted[row.fitted]
-            effects[r, n_items + row.fitted] = (-weights * matrix[:, row.plane] * mass.gmm
-                                                / mass.count)
-            capacity[r] = mass.count
-            continue
-        capacity[r] = plane.geometry.capacities()[row.position]
-        unit = plane.geometry.unit_vectors_mm()[row.position]
-        for col, (source, k) in enumerate(items[:n_items]):
-            item = plane.catalog.items[k] if source == plane.catalog.source else None
-            if item is not None and plane.geometry.takes(row.position + 1, item.removes):
-                effects[r, col] = weights * matrix[:, row.plane] * item.mass_g * unit
-    for mass in fitted:
-        r = offsets[mass.plane] + mass.position - 1
-        capacity[r] = max(0, capacity[r] - mass.count)
-    stock = np.zeros(len(items), dtype=np.int64)
-    for col, (source, k) in enumerate(items[:n_items]):
-        catalog = next(pl.catalog for pl in session.planes if pl.catalog.source == source)
-        item = catalog.items[k]
-        stock[col] = session.max_parts if item.stock is None else item.stock
-    for f, mass in enumerate(fitted):
-        stock[n_items + f] = mass.count
-    search = PlacementSearch(effects, capacity, stock, session.max_parts,
-                             norm=FIELD_NORMS[session.norm])
-    return search, rows, items
+    blocks: list[PlaneBlock] = []
+    drawers: dict[str, int] = {}
+    column_stock: list[int] = []
+    first_row = 0
+    for p, plane in enumerate(session.planes):
+        existing = _on_rotor(session, p, fitted)
+        arrays = placement_arrays(plane.geometry, plane.catalog, existing, session.max_parts, 0j)
+        columns = []
+        for k, item in enumerate(plane.catalog.items):
+            if item.stock_key not in drawers:
+                drawers[item.stock_key] = len(column_stock)
+                column_stock.append(int(arrays.stock[k]))
+            columns.append(drawers[item.stock_key])
+        for k in range(len(plane.catalog.items), arrays.stock.size):
+            columns.append(len(column_stock))
+            column_stock.append(int(arrays.stock[k]))
+        blocks.append(PlaneBlock(p, arrays, first_row, np.array(columns), existing))
+        first_row += arrays.effects.shape[0]
+    effects = np.zeros((first_row, len(column_stock), len(session.channels)), dtype=complex)
+    capacity = np.zeros(first_row, dtype=np.int64)
+    for b in blocks:
+        rows = slice(b.first_row, b.first_row + b.arrays.effects.shape[0])
+        at_sensors = -weights * matrix[:, b.plane]
+        for local, column in enumerate(b.columns):
+            effects[rows, column, :] = b.arrays.effects[:, local, 0][:, None] * at_sensors[None, :]
+        capacity[rows] = b.arrays.capacity
+    search = PlacementSearch(effects, capacity, np.array(column_stock, dtype=np.int64),
+                             session.max_parts, norm=FIELD_NORMS[session.norm])
+    return search, blocks
 
 
 def _predicted(session: Session, parts, matrix: np.ndarray, now: np.ndarray) -> np.ndarray:
@@ -190,27 +206,12 @@ def _field_option(session: Session, part_count: int, parts, matrix: np.ndarray,
                        objective_of(predicted, weights, session.norm), proven)
 
 
-def _part(session: Session, plane_index: int, position_index: int, item_id: str,
-          mass_g: float, count: int, action: str = "fit") -> FittedPart:
-    geometry = session.planes[plane_index].geometry
-    return FittedPart(position=position_index + 1, angle_deg=geometry.angles_deg[position_index],
-                      radius_mm=geometry.radii_mm[position_index], item=item_id, mass_g=mass_g,
-                      count=count, action=action)
-
-
-def _option(session, selection: Selection, rows, items, fitted, matrix, now) -> FieldOption:
+def _option(session: Session, selection: Selection, blocks: list[PlaneBlock],
+            matrix: np.ndarray, now: np.ndarray) -> FieldOption:
     parts = []
-    for r, col, count in selection.parts:
-        row = rows[r]
-        if row.fitted >= 0:
-            mass = fitted[row.fitted]
-            part = FittedPart(position=mass.position, angle_deg=mass.angle_deg,
-                              radius_mm=mass.radius_mm, item=mass.item or "", mass_g=mass.mass_g,
-                              count=count, action="remove")
-        else:
-            item = session.planes[row.plane].catalog.items[items[col][1]]
-            part = _part(session, row.plane, row.position, item.id, item.mass_g, count)
-        parts.append((row.plane, part))
+    for row, column, count in selection.parts:
+        block = next(b for b in reversed(blocks) if b.first_row <= row)
+        parts.append((block.plane, block.part(session, row, column, count)))
     parts.sort(key=lambda pp: (pp[1].action != "remove", pp[0], pp[1].position))
     return _field_option(session, selection.part_count, parts, matrix, now, selection.proven)
 
@@ -282,9 +283,9 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     if len(session.planes) == 2:
         sc = static_couple(correction[0], correction[1], session.plane_separation_mm)
     fitted = session.fitted_parts() if checks else ()
-    search, rows, items = field_search(session, matrix, fitted)
+    search, blocks = field_search(session, matrix, fitted)
     front = search.front(np.sqrt(weights) * now, budget_s=time_limit_s)
-    options = [_option(session, e, rows, items, fitted, matrix, now) for e in front.entries]
+    options = [_option(session, e, blocks, matrix, now) for e in front.entries]
     rounded = _rounded_plan(session, correction, matrix, now, fitted, time_limit_s)
     # The rounded plan is a coupled plan too: where the search ran out of time it may be
     # the better one found.  A count proven by the search is never beaten by it.
@@ -321,29 +322,14 @@ def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
     """
     share = max(1, session.max_parts // len(session.planes))
     parts = []
+    proven = True
     for p, plane in enumerate(session.planes):
-        geometry, catalog = plane.geometry, plane.catalog
-        mine = [m for m in fitted if m.plane == p]
-        masses = np.array([i.mass_g for i in catalog.items])
-        n_pos, n_items = geometry.n_positions, len(masses)
-        effects = np.zeros((n_pos + len(mine), n_items + len(mine), 1), dtype=complex)
-        effects[:n_pos, :n_items, 0] = -(geometry.unit_vectors_mm()[:, None] * masses[None, :])
-        capacity = np.concatenate([geometry.capacities(), np.zeros(len(mine), dtype=np.int64)])
-        for f, mass in enumerate(mine):
-            effects[n_pos + f, n_items + f, 0] = mass.gmm / mass.count
-            capacity[n_pos + f] = mass.count
-            capacity[mass.position - 1] = max(0, capacity[mass.position - 1] - mass.count)
-        stock = np.array([share if i.stock is None else i.stock for i in catalog.items]
-                         + [m.count for m in mine], dtype=np.int64)
-        search = PlacementSearch(effects, capacity, stock, share)
-        best = search.front(np.array([correction[p]]),
+        existing = _on_rotor(session, p, fitted)
+        arrays = placement_arrays(plane.geometry, plane.catalog, existing, share, correction[p])
+        search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, share)
+        best = search.front(arrays.target,
                             budget_s=time_limit_s / len(session.planes)).entries[-1]
-        for j, k, c in best.parts:
-            if j >= n_pos:
-                mass = mine[j - n_pos]
-                parts.append((p, FittedPart(mass.position, mass.angle_deg, mass.radius_mm,
-                                            mass.item or "", mass.mass_g, c, "remove")))
-            else:
-                item = catalog.items[k]
-                parts.append((p, _part(session, p, j, item.id, item.mass_g, c)))
-    return _field_option(session, sum(c.count for _, c in parts), parts, matrix, now, True)
+        proven &= best.proven
+        parts += [(p, part_of_row(plane.geometry, plane.catalog, existing, arrays, r, k, c))
+                  for r, k, c in best.parts]
+    return _field_option(session, sum(c.count for _, c in parts), parts, matrix, now, proven)

@@ -50,7 +50,7 @@ def _parts_table(option: FieldOption, result: FieldResult) -> Table:
         table.add_column(name, justify=justify)
     for p, part in option.parts:
         table.add_row(result.session.planes[p].geometry.name, str(part.position),
-                      f"{part.angle_deg:.1f}", "fit" if part.action == "fit" else "take off",
+                      f"{part.angle_deg:.1f}", {"fit": "fit", "drill": "drill", "remove": "take off"}[part.verb],
                       part.item, str(part.count), f"{part.mass_g * part.count:g}")
     return table
 
@@ -168,7 +168,7 @@ def _option_dict(option: FieldOption, result: FieldResult) -> dict[str, Any]:
         "parts": [{"plane": p + 1, "plane_name": result.session.planes[p].geometry.name,
                    "position": part.position, "angle_deg": part.angle_deg,
                    "radius_mm": part.radius_mm, "item": part.item, "mass_g": part.mass_g,
-                   "count": part.count, "action": part.action} for p, part in option.parts],
+                   "count": part.count, "action": part.verb} for p, part in option.parts],
         "predicted": [_phasor_dict(v) for v in option.predicted],
     }
 

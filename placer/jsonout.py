@@ -22,7 +22,7 @@ def option_dict(option: PlanOption) -> dict[str, Any]:
         "parts": [
             {"position": p.position, "angle_deg": float(p.angle_deg),
              "radius_mm": p.radius_mm, "item": p.item, "mass_g": p.mass_g, "count": p.count,
-             "action": p.action if p.action == "remove" or p.mass_g > 0 else "drill"}
+             "action": p.verb}
             for p in option.parts
         ],
     }

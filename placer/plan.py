@@ -26,6 +26,14 @@ class FittedPart:
     action: str = "fit"
 
     @property
+    def verb(self) -> str:
+        """What the technician does: "remove" a part on the rotor, "drill" a hole
+        (a removal item, negative mass), or "fit" an added part."""
+        if self.action == "remove":
+            return "remove"
+        return "drill" if self.mass_g < 0 else "fit"
+
+    @property
     def signed_count(self) -> int:
         """+count for parts fitted, -count for parts removed."""
         return self.count if self.action == "fit" else -self.count

@@ -28,9 +28,7 @@ DRILL_CAUTION = (
 
 
 def _action(part) -> str:
-    if part.action == "remove":
-        return "REMOVE"
-    return "DRILL" if part.mass_g < 0 else "fit"
+    return part.verb if part.verb == "fit" else part.verb.upper()
 
 
 def _verdict(within: bool | None) -> Text:
@@ -188,7 +186,7 @@ def render_job(result: JobResult, console: Console) -> None:
         summary = ("At least one plane is OUTSIDE tolerance: see the notes above before "
                    "running the machine.")
     console.print(Text(summary, style="bold"))
-    drills = any(p.mass_g < 0 and p.action == "fit"
+    drills = any(p.verb == "drill"
                  for plane in result.planes for p in plane.chosen.parts)
     cautions = CAUTIONS + ((DRILL_CAUTION,) if drills else ())
     console.print(Panel("\n".join(f"- {c}" for c in cautions), title="Cautions",

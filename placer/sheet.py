@@ -280,14 +280,12 @@ def plane_facts(plane: PlaneResult) -> PlaneFacts:
 
 def drills(parts: tuple[FittedPart, ...] | list[FittedPart]) -> bool:
     """True when the parts include a hole to drill (a part to fit of negative mass)."""
-    return any(p.action == "fit" and p.mass_g < 0 for p in parts)
+    return any(p.verb == "drill" for p in parts)
 
 
 def action_word(part: FittedPart) -> str:
     """What the technician does with ``part``: REMOVE, DRILL or FIT."""
-    if part.action == "remove":
-        return "REMOVE"
-    return "DRILL" if part.mass_g < 0 else "FIT"
+    return part.verb.upper()
 
 
 def _fmt_gmm(value: float) -> str:
@@ -669,7 +667,7 @@ def _symbols(plane: PlaneResult, facts: PlaneFacts) -> dict[int, list[tuple[str,
     order = {"fit": 0, "drill": 1, "remove": 2, "stay": 3}
     out: dict[int, list[tuple[str, str, int]]] = {}
     for p in plane.chosen.parts:
-        kind = "remove" if p.action == "remove" else "drill" if p.mass_g < 0 else "fit"
+        kind = p.verb
         out.setdefault(p.position, []).append((kind, p.item, p.count))
     for s in facts.staying:
         out.setdefault(s.position, []).append(("stay", s.item, s.count))

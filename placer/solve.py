@@ -12,9 +12,9 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from placer.geometry import angle_of_deg
-from placer.catalog import Item
-from placer.job import Job, PlaneJob
+from placer.catalog import Catalog, Item
+from placer.geometry import PlaneGeometry, angle_of_deg
+from placer.job import ExistingPart, Job, PlaneJob
 from placer.plan import FittedPart, PlanOption, choose, improving
 from placer.residual import residual_vector_gmm
 from placer.robust import DEFAULT_SAMPLES, DEFAULT_SEED, robustness
@@ -96,7 +96,9 @@ class PlaneArrays:
         return int(rows.max())     # rows[0] is the position's own row for added parts
 
 
-def plane_arrays(plane: PlaneJob) -> PlaneArrays:
+def placement_arrays(geometry: PlaneGeometry, catalog: Catalog,
+                     existing: Sequence[ExistingPart], max_parts: int,
+                     target_gmm: complex) -> PlaneArrays:
     """The plane as arrays for the search: residual = target + Σ count·effect [g·mm].
 
     Rows: the plane's positions for added parts; then, for each position that
@@ -108,16 +110,21 @@ def plane_arrays(plane: PlaneJob) -> PlaneArrays:
     mass, takes mass away); removing an existing part gives its correction
     back, +mass·radius·e^{iθ}.  A position holding existing parts has that
     much less room for new ones.  An existing hole cannot be taken back.
+    Items without a stock count get ``max_parts``.
+
+    This is the one place where positions, items and parts on the rotor
+    become arrays: jobs (:func:`plane_arrays`) and field visits
+    (:mod:`placer.fieldplan`, parts fitted for a check run) both use it.
     """
-    geometry, items = plane.geometry, plane.catalog.items
-    n_pos, n_items, n_old = geometry.n_positions, len(items), len(plane.existing)
+    items = catalog.items
+    n_pos, n_items, n_old = geometry.n_positions, len(items), len(existing)
     masses = np.array([item.mass_g for item in items], dtype=float)
     removal = masses < 0
     unit = geometry.unit_vectors_mm()
-    drilled = {old.position - 1 for old in plane.existing if items[old.item].removes}
+    drilled = {old.position - 1 for old in existing if items[old.item].removes}
     drill_rows = [j for j in range(n_pos) if removal.any() and j not in drilled
                   and geometry.takes(j + 1, removal=True)]
-    removable = [e for e, old in enumerate(plane.existing) if not items[old.item].removes]
+    removable = [e for e, old in enumerate(existing) if not items[old.item].removes]
     n_rows = n_pos + len(drill_rows) + len(removable)
     effects = np.zeros((n_rows, n_items + n_old, 1), dtype=complex)
     effects[:n_pos, :n_items, 0] = -(unit[:, None] * masses[None, :])
@@ -128,24 +135,48 @@ def plane_arrays(plane: PlaneJob) -> PlaneArrays:
     caps = geometry.capacities()
     capacity = np.concatenate([caps, np.zeros(n_rows - n_pos, dtype=np.int64)])
     row_position = np.concatenate([np.arange(n_pos), np.array(drill_rows, dtype=np.int64),
-                                   np.array([plane.existing[e].position - 1 for e in removable],
+                                   np.array([existing[e].position - 1 for e in removable],
                                             dtype=np.int64)])
     row_existing = np.full(n_rows, -1, dtype=np.int64)
     for r, j in enumerate(drill_rows, start=n_pos):
         effects[r, :n_items, 0] = np.where(removal, -unit[j] * masses, 0)
         capacity[r] = 1 if caps[j] > 0 else 0
     for r, e in enumerate(removable, start=n_pos + len(drill_rows)):
-        old = plane.existing[e]
+        old = existing[e]
         effects[r, n_items + e, 0] = items[old.item].mass_g * unit[old.position - 1]
         capacity[r] = old.count
         row_existing[r] = e
-    for old in plane.existing:
+    for old in existing:
         if not items[old.item].removes:
             capacity[old.position - 1] = max(0, capacity[old.position - 1] - old.count)
-    stock = np.array([plane.max_parts if item.stock is None else item.stock for item in items]
-                     + [old.count for old in plane.existing], dtype=np.int64)
-    return PlaneArrays(effects, np.array([further_correction_gmm(plane)]), capacity, stock,
+    stock = np.array([max_parts if item.stock is None else item.stock for item in items]
+                     + [old.count for old in existing], dtype=np.int64)
+    return PlaneArrays(effects, np.array([complex(target_gmm)]), capacity, stock,
                        row_position, row_existing)
+
+
+def part_of_row(geometry: PlaneGeometry, catalog: Catalog, existing: Sequence[ExistingPart],
+                arrays: PlaneArrays, row: int, column: int, count: int) -> FittedPart:
+    """What ``count`` of column ``column`` on row ``row`` of :func:`placement_arrays` means.
+
+    A row that takes off an existing part gives that part with action
+    "remove"; any other row fits (or drills) the column's item at the row's
+    position.
+    """
+    j = int(arrays.row_position[row])
+    if arrays.row_existing[row] >= 0:
+        item, action = catalog.items[existing[int(arrays.row_existing[row])].item], "remove"
+    else:
+        item, action = catalog.items[column], "fit"
+    return FittedPart(position=j + 1, angle_deg=geometry.angles_deg[j],
+                      radius_mm=geometry.radii_mm[j], item=item.id, mass_g=item.mass_g,
+                      count=count, action=action)
+
+
+def plane_arrays(plane: PlaneJob) -> PlaneArrays:
+    """A job's plane as arrays (see :func:`placement_arrays`), target the further correction."""
+    return placement_arrays(plane.geometry, plane.catalog, plane.existing, plane.max_parts,
+                            further_correction_gmm(plane))
 
 
 def exact_front(arrays: PlaneArrays, max_parts: int,
@@ -209,21 +240,10 @@ def to_option(plane: PlaneJob, entry: Selection,
 
     Parts to remove come first (they are taken off before new ones go on).
     """
-    geometry, items = plane.geometry, plane.catalog.items
-    n_items = len(items)
     arrays = plane_arrays(plane) if rows is None else rows
-    parts = []
-    for r, k, c in entry.parts:
-        j = int(arrays.row_position[r])
-        if arrays.row_existing[r] >= 0:
-            old = plane.existing[k - n_items]
-            k, action = old.item, "remove"
-        else:
-            action = "fit"
-        parts.append(FittedPart(position=j + 1, angle_deg=geometry.angles_deg[j],
-                                radius_mm=geometry.radii_mm[j], item=items[k].id,
-                                mass_g=items[k].mass_g, count=c, action=action))
-    parts = tuple(sorted(parts, key=lambda p: (p.action != "remove", p.position, p.item)))
+    parts = tuple(sorted((part_of_row(plane.geometry, plane.catalog, plane.existing, arrays,
+                                      r, k, c) for r, k, c in entry.parts),
+                         key=lambda p: (p.action != "remove", p.position, p.item)))
     vector = residual_vector_gmm(further_correction_gmm(plane), parts)
     return PlanOption(part_count=sum(p.count for p in parts), parts=parts,
                       residual_gmm=float(abs(vector)),

@@ -365,3 +365,49 @@ def test_time_limit_leaves_counts_unproven_and_says_so():
     objectives = [o.objective for o in result.front]
     assert objectives == sorted(objectives, reverse=True)
     assert result.front[-1].objective <= result.rounded.objective + 1e-12
+
+
+def _visit_with_catalogues(tmp_path: Path, first: str, second: str, capacity: int = 2) -> Path:
+    """The example visit with the planes' catalogues (TOML values) and capacity replaced."""
+    text = (ROOT / "examples" / "exhaust-fan-visit.toml").read_text(encoding="utf-8")
+    head, planes = text.split("[[planes]]", 1)
+    planes = planes.replace('catalog = "washers-steel"', "catalog = @", 2)
+    planes = planes.replace("catalog = @", f"catalog = {first}", 1)
+    planes = planes.replace("catalog = @", f"catalog = {second}", 1)
+    planes = planes.replace("capacity = 2", f"capacity = {capacity}")
+    path = tmp_path / "visit.toml"
+    path.write_text(head + "[[planes]]" + planes, encoding="utf-8")
+    return path
+
+
+SMALL_DRAWER = ('name = "small drawer"\n[[items]]\nid = "A"\nmass_g = 11.0\nstock = 1\n'
+                '[[items]]\nid = "B"\nmass_g = 6.0\nstock = 1\n')
+HOLES = 'name = "holes"\n[[items]]\nid = "H"\nmass_g = -6.0\nremoves = true\n'
+
+
+def test_field_plan_shares_a_drawer_across_merged_catalogues(tmp_path):
+    # Both planes draw on the one small drawer (one A, one B), the second plane
+    # through a merged list: no plan on the front may use more than the drawer
+    # holds (stock is per catalogue file and item; by reasoning).
+    (tmp_path / "drawer.toml").write_text(SMALL_DRAWER)
+    (tmp_path / "holes.toml").write_text(HOLES)
+    path = _visit_with_catalogues(tmp_path, '"drawer.toml"', '["drawer.toml", "holes.toml"]')
+    result = solve_session(read_session(path))
+    for option in (*result.front, result.chosen):
+        used: dict[str, int] = {}
+        for _, part in option.parts:
+            used[part.item] = used.get(part.item, 0) + part.count
+        assert used.get("A", 0) <= 1 and used.get("B", 0) <= 1, used
+
+
+def test_field_plan_drills_one_hole_per_position(tmp_path):
+    # Common practice, no source: one drilled hole per position, whatever the
+    # position's capacity for added parts (here 3).
+    (tmp_path / "holes.toml").write_text(HOLES)
+    path = _visit_with_catalogues(tmp_path, '"holes.toml"', '"holes.toml"', capacity=3)
+    result = solve_session(read_session(path))
+    assert any(part.mass_g < 0 for o in result.front for _, part in o.parts)
+    for option in (*result.front, result.chosen, result.rounded):
+        places = [(plane, part.position) for plane, part in option.parts]
+        assert all(part.count == 1 for _, part in option.parts)
+        assert len(places) == len(set(places))
