@@ -269,7 +269,7 @@ def render_visit(visit_id: int, record: VisitRecord, console: Console) -> None:
         for name in record.plane_names:
             table.add_column(name, justify="right", overflow="fold")
         for name, row in zip(record.channel_names, record.coefficients):
-            table.add_row(name, *(_amp(v * 1e6) for v in row))
+            table.add_row(name, *(_amp(v * 1e3) for v in row))   # 1 kg·mm = 1000 g·mm
         body.append(table)
         body.append(Text("Condition number "
                          + ("-" if record.condition is None else f"{record.condition:.2f}")))

@@ -352,6 +352,12 @@ def test_history_of_one_visit_with_its_date_in_utc(tmp_path, capsys):
     connection.close()
     assert complex(*stored) == pytest.approx(complex(visit["coefficients_per_gmm"][0][0]["re"],
                                                      visit["coefficients_per_gmm"][0][0]["im"]))
+    # The table is per kg·mm: 1 kg·mm = 1000 g·mm, so 1000 times the stored value
+    # per g·mm (unit conversion).
+    code, text, _ = run(capsys, "history", "BDW-EF3", "--db", db, "--visit", "1")
+    first = complex(visit["coefficients_per_gmm"][0][0]["re"],
+                    visit["coefficients_per_gmm"][0][0]["im"])
+    assert "per kg·mm" in text and f"{abs(first) * 1e3:.2f}∠" in text
     code, _, err = run(capsys, "history", "BDW-EF3", "--db", db, "--visit", "7")
     assert code == 2 and "--visit" in err and "1, 2" in err
 
