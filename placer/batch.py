@@ -140,10 +140,14 @@ class RotorOutcome:
     serial: str
     planes: tuple[PlaneOutcome, ...]
     solved_together: bool = False
+    stock_short: tuple[str, ...] = ()
 
     @property
     def within_tolerance(self) -> bool | None:
-        """False when a plane is outside its tolerance; None when no plane has one."""
+        """False when a plane is outside its tolerance, or no plan within the stock was
+        found (``stock_short``, the items short); None when no plane has a tolerance."""
+        if self.stock_short:
+            return False
         flags = [p.within_tolerance for p in self.planes if p.within_tolerance is not None]
         if not flags:
             return None
@@ -325,7 +329,8 @@ class BatchSolver:
                       source=f"{self.template.source}, rotor {reading.serial}")
         result = solve_job(job, self.time_limit_s)
         planes = tuple(self._outcome(i, p.plane, p.chosen) for i, p in enumerate(result.planes))
-        return RotorOutcome(reading.line, reading.serial, planes, solved_together=True)
+        return RotorOutcome(reading.line, reading.serial, planes, solved_together=True,
+                            stock_short=result.stock_short)
 
 
 def _row_plane(plane: PlaneJob, correction_gmm: complex) -> PlaneJob:
@@ -508,9 +513,14 @@ class BatchTally:
 
     def __init__(self, template: Job | None = None) -> None:
         self._order: dict[tuple[str, str], int] = {}
+        # (plane's catalogue name, item id) -> (the item's own catalogue, item id): a plane
+        # that merges catalogues draws on the same drawers as one that names them alone.
+        self._drawer: dict[tuple[str, str], tuple[str, str]] = {}
         for plane in template.planes if template is not None else ():
             for item in plane.catalog.items:
-                self._order.setdefault((plane.catalog.name, item.id), len(self._order))
+                own = (item.catalog or plane.catalog.name, item.id)
+                self._drawer[(plane.catalog.name, item.id)] = own
+                self._order.setdefault(own, len(self._order))
         self.solved = 0
         self.within = 0
         self.outside = 0
@@ -528,7 +538,8 @@ class BatchTally:
         else:
             self.outside += 1
         for catalog, item, count in parts:
-            self.parts[(catalog, item)] = self.parts.get((catalog, item), 0) + int(count)
+            key = self._drawer.get((catalog, item), (catalog, item))
+            self.parts[key] = self.parts.get(key, 0) + int(count)
 
     def add_outcome(self, outcome: RotorOutcome) -> None:
         """Count one solved rotor."""

@@ -59,6 +59,7 @@ its suffix replaced by ``.results``)
       {"serial": ..., "line": <line in the readings file>, "template": <digest>,
        "input": <digest of the row's corrections>,
        "within_tolerance": true | false | null, "solved_together": false,
+       "stock_short": [ids of items no plan within the stock could spare],
        "planes": [{"plane": 1, "name": ..., "catalog": ...,
                    "correction_gmm": ..., "correction_angle_deg": ...,
                    "parts": "3:M10×2;7:M6×1",
@@ -543,7 +544,8 @@ def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
     return {"serial": outcome.serial, "line": outcome.line, "template": digest,
             "input": reading_digest(p.correction_gmm for p in outcome.planes),
             "within_tolerance": outcome.within_tolerance,
-            "solved_together": outcome.solved_together, "planes": planes}
+            "solved_together": outcome.solved_together,
+            "stock_short": list(outcome.stock_short), "planes": planes}
 
 
 def csv_header(n_planes: int) -> list[str]:

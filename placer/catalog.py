@@ -27,6 +27,8 @@ class Item:
         The catalogue file the item comes from: items of one file share its
         stock across the planes of a job, even where a plane merges several
         catalogues.
+    catalog : str
+        The name of that catalogue (its drawer, for the stores).
     """
 
     id: str
@@ -35,6 +37,7 @@ class Item:
     description: str = ""
     mass_tolerance_g: float = 0.0
     source: str = ""
+    catalog: str = ""
 
     @property
     def stock_key(self) -> str:
@@ -51,8 +54,8 @@ class Item:
 class Catalog:
     """A drawer of stock parts.
 
-    ``source`` identifies the catalogue: planes of one job whose catalogues
-    have the same source share its stock.
+    ``source`` identifies the catalogue file (or the files of a merged
+    catalogue); stock is shared per item (:attr:`Item.stock_key`).
     """
 
     name: str

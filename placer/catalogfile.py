@@ -63,6 +63,7 @@ def read_catalog(path: Path) -> Catalog:
             description=table.text("description", default=""),
             mass_tolerance_g=tolerance,
             source=source,
+            catalog=name,
         ))
     return Catalog(name=name, items=tuple(items), source=source,
                    description=root.text("description", default=""))

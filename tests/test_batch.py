@@ -848,3 +848,25 @@ def test_interrupted_with_two_jobs_then_resumed(tmp_path):
     got = records(jsonl)
     assert [r["serial"] for r in got] == [serial for serial, _ in rows]  # none lost, none twice
     assert got == records(full.results_jsonl)
+
+
+def test_parts_used_per_drawer_across_merged_catalogues(tmp_path):
+    # Plane B names the drawer inside a merged list: the stores still see one line
+    # per drawer item (by reasoning: one drawer file, one shelf).
+    (tmp_path / "drawer.toml").write_text(
+        'name = "shared drawer"\n[[items]]\nid = "L"\nmass_g = 10.0\n'
+        '[[items]]\nid = "S"\nmass_g = 2.0\n')
+    (tmp_path / "holes.toml").write_text(
+        'name = "holes"\n[[items]]\nid = "H"\nmass_g = -1.0\nremoves = true\n')
+    planes = []
+    for name, catalog in (("A", '"drawer.toml"'), ("B", '["drawer.toml", "holes.toml"]')):
+        planes.append(f'[[planes]]\nname = "{name}"\nradius_mm = 100.0\npositions = 6\n'
+                      f"catalog = {catalog}\nmax_parts = 2\n")
+    (tmp_path / "t.toml").write_text('[rotor]\nname = "merged"\n' + "\n".join(planes))
+    rows = [("R1", [(1000.0, 0.0), (1000.0, 180.0)]), ("R2", [(1000.0, 60.0), (1000.0, 240.0)])]
+    (tmp_path / "r.csv").write_text(readings_csv(rows))
+    summary, _ = run_batch(tmp_path / "t.toml", tmp_path / "r.csv", jobs=1)
+    keys = [(p.catalog, p.item) for p in summary.parts_used]
+    assert len(keys) == len(set(keys))
+    assert ("shared drawer", "L") in keys
+    assert all(catalog in ("shared drawer", "holes") for catalog, _ in keys)
