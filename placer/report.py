@@ -83,11 +83,7 @@ def _front_table(result: PlaneResult) -> Table:
     table.add_column("Residual g·mm", justify="right")
     table.add_column("of required", justify="right")
     table.add_column("Verdict")
-    rows = [result.chosen] if result.chosen.used_parts == 0 else []
-    rows += list(result.front)
-    if result.chosen.used_parts and all(o.parts != result.chosen.parts for o in rows):
-        rows.append(result.chosen)     # chosen with other planes under shared stock
-        rows.sort(key=lambda o: (o.used_parts, o.residual_gmm))
+    rows = result.trade_off
     robust = any(o.chance_within is not None for o in rows)
     if robust:
         table.add_column("Chance", justify="right")

@@ -176,6 +176,7 @@ class PlacementSearch:
         self.n = len(self.pos_of)
         self.eff_real = _as_real(self.eff)
         self._pairs: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
+        self._tail_rows: tuple[np.ndarray, np.ndarray] | None = None
         self._tree = None
         self.pair_table_too_large = self.n * (self.n + 1) // 2 > _MAX_PAIRS
         self._deadline = float("inf")
@@ -192,21 +193,23 @@ class PlacementSearch:
 
     def _tail_table(self) -> tuple[np.ndarray, np.ndarray]:
         """The table that completes a head: every feasible pair, or (past the pair
-        budget) every single placement; its placements and summed effects."""
-        if self.pair_table_too_large:
-            return np.arange(self.n)[:, None], self.eff_real
-        a, b, sums = self._pair_table()
-        return np.stack([a, b], axis=1), sums
+        budget) every single placement; its placements and summed effects (built once)."""
+        if self._tail_rows is None:
+            if self.pair_table_too_large:
+                self._tail_rows = (np.arange(self.n)[:, None], self.eff_real)
+            else:
+                a, b, sums = self._pair_table()
+                self._tail_rows = (np.stack([a, b], axis=1), sums)
+        return self._tail_rows
 
     def _tail(self) -> tuple[np.ndarray, np.ndarray, object]:
         """The tail table (see `_tail_table`) and its k-d tree."""
         if self._tree is None:
             from scipy.spatial import cKDTree
 
-            self._tail_cols, self._tail_sums = self._tail_table()
-            self._tree = cKDTree(self._tail_sums, balanced_tree=False, compact_nodes=False,
-                                 leafsize=16)
-        return self._tail_cols, self._tail_sums, self._tree
+            cols, sums = self._tail_table()
+            self._tree = cKDTree(sums, balanced_tree=False, compact_nodes=False, leafsize=16)
+        return (*self._tail_table(), self._tree)
 
     # ----------------------------------------------------------------- search
     def front(self, target: np.ndarray, max_parts: int | None = None,

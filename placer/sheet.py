@@ -1440,7 +1440,7 @@ def _parts_tables(page: _Page, x: float, y: float, w: float, plane: PlaneResult,
 
 def _front_table(page: _Page, x: float, y: float, w: float, plane: PlaneResult,
                  facts: PlaneFacts) -> float:
-    rows_of = ([plane.chosen] if plane.chosen.used_parts == 0 else []) + list(plane.front)
+    rows_of = plane.trade_off
     rated = any(o.chance_within is not None for o in rows_of)
     page.text(x, y, "TRADE-OFF: PARTS AGAINST RESIDUAL", 8.5, weight="bold")
     columns = [("Parts", "r"), ("Residual", "r"), ("% req.", "r"), ("Verdict", "l")]

@@ -53,6 +53,21 @@ class PlaneResult:
     def required_gmm(self) -> float:
         return abs(self.plane.correction_gmm)
 
+    @property
+    def trade_off(self) -> tuple[PlanOption, ...]:
+        """The rows of the trade-off table: parts against residual, fewest first.
+
+        The front, with the plan of no parts first when that is the choice,
+        and the chosen plan added where it is not on the front (chosen with
+        other planes under shared stock).
+        """
+        rows = [self.chosen] if self.chosen.used_parts == 0 else []
+        rows += list(self.front)
+        if self.chosen.used_parts and all(o.parts != self.chosen.parts for o in rows):
+            rows.append(self.chosen)
+            rows.sort(key=lambda o: (o.used_parts, o.residual_gmm))
+        return tuple(rows)
+
 
 @dataclass(frozen=True)
 class JobResult:
@@ -307,7 +322,8 @@ def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S,
         notes = [n for n in (_reach_note(plane, arrays),) if n]
         results.append(_plane_result(plane, tolerance, source, entries, chosen, notes,
                                      elapsed, method, errors=errors or FittingErrors(),
-                                     placement_error_deg=job.rotor.placement_error_deg))
+                                     placement_error_deg=job.rotor.placement_error_deg,
+                                     rows=arrays))
     results, stock_notes, short = _share_stock(job, results, arrays_of, time_limit_s)
     return JobResult(job=job, planes=tuple(results), permissible_gmm=u_per, shares=shares,
                      notes=tuple(job_notes + stock_notes), stock_short=short)
@@ -336,8 +352,9 @@ def _with_robustness(plane: PlaneJob, option: PlanOption, tolerance: float,
 
 def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, method,
                   optimal=None, errors: FittingErrors | None = None,
-                  placement_error_deg: float = 0.0) -> PlaneResult:
-    rows = plane_arrays(plane)
+                  placement_error_deg: float = 0.0,
+                  rows: PlaneArrays | None = None) -> PlaneResult:
+    rows = plane_arrays(plane) if rows is None else rows
     option = to_option(plane, chosen, rows)
     zero = to_option(plane, entries[0], rows)
     front = [to_option(plane, e, rows) for e in improving(entries)]
