@@ -89,12 +89,11 @@ def phase_in_rotor_sense(phase_deg: float, phase_sense: str, rotor_sense: str,
         rotor's angles are clockwise or counterclockwise.
     """
     against = phase_deg if phase_sense == "lag" else -phase_deg
-    if rotor_sense in ("clockwise", "counterclockwise"):
-        if rotation is None:
-            raise ValueError("the rotation sense is needed when angles are clockwise or "
-                             "counterclockwise")
-        rotor_sense = "with rotation" if rotor_sense == rotation else "against rotation"
-    value = against if rotor_sense == "against rotation" else -against
+    sense = sense_against_rotation(rotor_sense, rotation)
+    if sense is None:
+        raise ValueError("the rotation sense is needed when angles are clockwise or "
+                         "counterclockwise")
+    value = against if sense == "against rotation" else -against
     return value % 360.0
 
 
