@@ -48,8 +48,9 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("--json", action="store_true",
                        help="print one JSON object instead of the sheet")
     solve.add_argument("--time-limit", type=float, default=10.0, metavar="SECONDS",
-                       help="most time the CP-SAT model may take for one decision when the "
-                            "exact search hands it over (default 10)")
+                       help="time the exact search may take per plane before it hands a part "
+                            "count to the CP-SAT model, and the model's time for that count; "
+                            "counts not proven in time are marked (default 10)")
     solve.add_argument("--width", type=int, default=None, metavar="COLUMNS",
                        help="width of the sheet in columns (default: the terminal's, "
                             "80 when not a terminal)")
