@@ -27,19 +27,19 @@ SETTINGS = settings(max_examples=60, deadline=None, suppress_health_check=[Healt
 
 
 @st.composite
-def instances(draw):
-    n_pos = draw(st.integers(1, 9))
-    n_items = draw(st.integers(1, 4))
+def instances(draw, max_positions: int = 9, max_items: int = 4, max_magnitude: float = 150.0,
+              max_parts: int = 4):
+    """Random planes: uneven angles and radii, capacity and stock 0..4, a target, a part limit."""
+    n_pos = draw(st.integers(1, max_positions))
+    n_items = draw(st.integers(1, max_items))
     angles = np.array(draw(st.lists(st.floats(0, 360), min_size=n_pos, max_size=n_pos)))
     radii = np.array(draw(st.lists(st.floats(10, 400), min_size=n_pos, max_size=n_pos)))
     masses = np.array(draw(st.lists(st.floats(0.2, 50), min_size=n_items, max_size=n_items)))
     capacity = np.array(draw(st.lists(st.integers(0, 3), min_size=n_pos, max_size=n_pos)))
     stock = np.array(draw(st.lists(st.integers(0, 4), min_size=n_items, max_size=n_items)))
-    magnitude = draw(st.floats(0, 150)) * float(radii.mean())
-    angle = draw(st.floats(0, 360))
-    k = draw(st.integers(1, 4))
-    return angles, radii, masses, capacity, stock, magnitude * cmath.exp(1j * math.radians(
-        angle)), k
+    magnitude = draw(st.floats(0, max_magnitude)) * float(radii.mean())
+    target = magnitude * cmath.exp(1j * math.radians(draw(st.floats(0, 360))))
+    return angles, radii, masses, capacity, stock, target, draw(st.integers(1, max_parts))
 
 
 def effects_of(angles, radii, masses):
@@ -257,19 +257,9 @@ def test_batch_records_recomputed_by_hand(numbers, rows):
             assert p["mass_g"] == masses[int(p["item"][1:])]
 
 
-@st.composite
-def small_instances(draw):
+def small_instances():
     """Instances brute force enumerates in milliseconds: at most 18 placements, 3 parts."""
-    n_pos = draw(st.integers(1, 6))
-    n_items = draw(st.integers(1, 3))
-    angles = np.array(draw(st.lists(st.floats(0, 360), min_size=n_pos, max_size=n_pos)))
-    radii = np.array(draw(st.lists(st.floats(10, 400), min_size=n_pos, max_size=n_pos)))
-    masses = np.array(draw(st.lists(st.floats(0.2, 50), min_size=n_items, max_size=n_items)))
-    capacity = np.array(draw(st.lists(st.integers(0, 3), min_size=n_pos, max_size=n_pos)))
-    stock = np.array(draw(st.lists(st.integers(0, 4), min_size=n_items, max_size=n_items)))
-    magnitude = draw(st.floats(0, 120)) * float(radii.mean())
-    target = magnitude * cmath.exp(1j * math.radians(draw(st.floats(0, 360))))
-    return angles, radii, masses, capacity, stock, target, draw(st.integers(1, 3))
+    return instances(max_positions=6, max_items=3, max_magnitude=120.0, max_parts=3)
 
 
 @SETTINGS
