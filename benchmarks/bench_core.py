@@ -32,7 +32,7 @@ each correction it measures
   for K = 3 and K = 4 parts, one worker, with a time limit: time, whether it
   proved its own (polygonal) optimum, and the Euclidean residual of its
   incumbent relative to the exact one;
-* the hand method (placer.split.handbook_plan): residual relative to the
+* the hand method (placer.handbook.handbook_plan): residual relative to the
   exact front at the same part count (2) and at 4 parts, and the parts used.
 
 Times are wall-clock, in process, after imports.  Printing is the point of
@@ -58,8 +58,8 @@ import numpy as np  # noqa: E402
 import scipy.spatial  # noqa: E402,F401  (imported here so no timing pays for it)
 from ortools.sat.python import cp_model  # noqa: E402
 
-from placer.search import ABS_TOL, REL_TOL, PlacementSearch  # noqa: E402
-from placer.split import handbook_plan, residual_gmm  # noqa: E402
+from placer.engine.search import ABS_TOL, REL_TOL, PlacementSearch  # noqa: E402
+from placer.handbook import handbook_plan, residual_gmm  # noqa: E402
 
 MAX_PARTS = 4
 POLYGON_SIDES = 16

@@ -8,8 +8,8 @@ The public pieces, by name (see DEVELOPERS.md for the package map)::
 """
 
 from placer.errors import CatalogError, InputError, JobError, PlacerError, ToleranceError
-from placer.jobfile import read_job
-from placer.search import PlacementSearch
+from placer.io.jobfile import read_job
+from placer.engine.search import PlacementSearch
 from placer.solve import solve_job
 from placer.tolerance import allocate_to_planes, permissible_residual_gmm
 

@@ -3,13 +3,13 @@
 Pure core of ``placer batch``: takes the template :class:`placer.job.Job`
 and the rotors' readings as dataclasses, returns one :class:`RotorOutcome`
 per rotor and a :class:`BatchSummary`.  Reading and writing files is
-:mod:`placer.batchfile`'s business.
+:mod:`placer.io.batchfile`'s business.
 
 How a rotor is solved (Notes)
 -----------------------------
 * Everything that does not depend on the correction is built once per
   process for the whole batch: per plane one :class:`BatchSearch` (a
-  :class:`placer.search.PlacementSearch`: placements, pair table, k-d tree;
+  :class:`placer.engine.search.PlacementSearch`: placements, pair table, k-d tree;
   for a small plane the table of all its selections, see there) and the
   plane's tolerance (``tolerance_gmm``, else its share of U_per from the
   grade, exactly as :func:`placer.solve.solve_job` works it out).
@@ -56,7 +56,7 @@ import numpy as np
 from placer.errors import JobError
 from placer.job import Job, PlaneJob
 from placer.plan import PlanOption, choose
-from placer.search import PlacementSearch, _feasible
+from placer.engine.search import PlacementSearch, _feasible
 from placer.solve import (DEFAULT_TIME_LIMIT_S, PlaneArrays, exact_front,
                           further_correction_gmm, overdrawn_items, plane_arrays,
                           shared_stock_groups, solve_job, to_option)
@@ -155,7 +155,7 @@ class RotorOutcome:
 
 
 class BatchSearch(PlacementSearch):
-    """:class:`placer.search.PlacementSearch` for a batch: the same answers, sooner.
+    """:class:`placer.engine.search.PlacementSearch` for a batch: the same answers, sooner.
 
     Per-batch fast path: when a plane is small enough that every feasible
     selection of k = 1 .. max_parts parts can be tabulated (at most
@@ -164,7 +164,7 @@ class BatchSearch(PlacementSearch):
     with the summed effect of each in a k-d tree, built once, on the first
     front.  The least residual with exactly k parts is then one
     nearest-neighbour query, exact in Euclidean distance, and it is handed
-    to the search's own :meth:`~placer.search.PlacementSearch.front` in
+    to the search's own :meth:`~placer.engine.search.PlacementSearch.front` in
     place of the head-and-pair search, so the front (stopping rule, strict
     improvement on k - 1 parts, proof flags) is the search's.  For a
     12-hole, 5-size plane with capacity 3 and up to 4 parts that is 634 535
@@ -174,7 +174,7 @@ class BatchSearch(PlacementSearch):
     Parameters
     ----------
     effects, capacity, stock, max_parts, norm
-        As for :class:`placer.search.PlacementSearch`.
+        As for :class:`placer.engine.search.PlacementSearch`.
     tabulate_max : int
         Most selections tabulated (an upper bound that ignores capacity and
         stock decides); 0 turns the fast path off.

@@ -14,7 +14,7 @@ import sys
 from pathlib import Path
 
 from placer.errors import InputError, PlacerError
-from placer.fields import json_text
+from placer.io.tables import json_text
 
 EXIT_OK, EXIT_OUTSIDE, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -180,7 +180,7 @@ def _console(width: int | None = None):
 
 
 def _solve(args: argparse.Namespace) -> int:
-    from placer.jobfile import read_job
+    from placer.io.jobfile import read_job
     from placer.solve import solve_job
 
     if not math.isfinite(args.time_limit) or args.time_limit <= 0:
@@ -195,22 +195,22 @@ def _solve(args: argparse.Namespace) -> int:
 
     job = read_job(Path(args.job))
     if args.sheet is not None:
-        from placer.sheet import require_matplotlib, sheet_paths
+        from placer.views.sheet import require_matplotlib, sheet_paths
 
         require_matplotlib()
         sheet_paths(Path(args.sheet), len(job.planes), force=args.force)
     errors = FittingErrors(samples=args.samples, seed=args.seed, min_chance=args.min_chance)
     result = solve_job(job, time_limit_s=args.time_limit, errors=errors)
     if args.json:
-        from placer.jsonout import job_dict
+        from placer.io.jsonout import job_dict
 
         print(json_text(job_dict(result), indent=2))
     else:
-        from placer.report import render_job
+        from placer.views.terminal.job import render_job
 
         render_job(result, _console(args.width))
     if args.sheet is not None:
-        from placer.sheet import write_sheet
+        from placer.views.sheet import write_sheet
 
         pages = write_sheet(result, Path(args.sheet), force=args.force)
         files = ", ".join(dict.fromkeys(str(page.path) for page in pages))
@@ -220,7 +220,7 @@ def _solve(args: argparse.Namespace) -> int:
 
 def _catalogs(args: argparse.Namespace) -> int:
     from placer.catalog import bundled_names
-    from placer.catalogfile import read_catalog, resolve_catalog
+    from placer.io.catalogfile import read_catalog, resolve_catalog
 
     if args.name is None:
         names = bundled_names()
@@ -230,7 +230,7 @@ def _catalogs(args: argparse.Namespace) -> int:
             print(json_text([{"name": n, "title": c.name, "items": len(c.items)}
                              for n, c in zip(names, catalogs)], indent=1))
         else:
-            from placer.report import render_catalog_list
+            from placer.views.terminal.job import render_catalog_list
 
             render_catalog_list(names, catalogs, _console())
         return EXIT_OK
@@ -240,7 +240,7 @@ def _catalogs(args: argparse.Namespace) -> int:
             {"id": i.id, "mass_g": i.mass_g, "stock": i.stock} for i in catalog.items]},
             indent=1))
     else:
-        from placer.report import render_catalog
+        from placer.views.terminal.job import render_catalog
 
         render_catalog(catalog, _console())
     return EXIT_OK
@@ -248,7 +248,7 @@ def _catalogs(args: argparse.Namespace) -> int:
 
 def _positive_options(*pairs: tuple[str, float]) -> None:
     """Command-line quantities must be positive and in the range every file is held to."""
-    from placer.fields import MAX_MAGNITUDE, MIN_MAGNITUDE
+    from placer.io.tables import MAX_MAGNITUDE, MIN_MAGNITUDE
 
     for key, value in pairs:
         if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
@@ -292,8 +292,8 @@ def _field(args: argparse.Namespace) -> int:
 
     from placer.fieldplan import solve_session
     from placer.influence import CoefficientMismatch
-    from placer.history import History, default_db_path
-    from placer.sessionfile import read_session
+    from placer.io.history import History, default_db_path
+    from placer.io.sessionfile import read_session
 
     # Everything that can be bad input is checked before anything is written.
     console = _console(args.width)
@@ -332,8 +332,8 @@ def _field(args: argparse.Namespace) -> int:
         raise InputError(str(exc), file=session.source, key="runs") from None
     record = db = None
     if args.save:
-        from placer.fieldrecord import visit_record
-        from placer.history import check_record
+        from placer.io.fieldrecord import visit_record
+        from placer.io.history import check_record
 
         record = visit_record(result)
         check_record(record)
@@ -341,11 +341,11 @@ def _field(args: argparse.Namespace) -> int:
         db = History(path)
     try:
         if args.json:
-            from placer.fieldreport import field_dict
+            from placer.views.terminal.field import field_dict
 
             text = json_text(field_dict(result), indent=2) + "\n"
         else:
-            from placer.fieldreport import render_field
+            from placer.views.terminal.field import render_field
 
             with console.capture() as captured:
                 render_field(result, console)
@@ -369,7 +369,7 @@ def _field(args: argparse.Namespace) -> int:
 
 
 def _machines(args: argparse.Namespace) -> int:
-    from placer.history import History, default_db_path, utc_label
+    from placer.io.history import History, default_db_path, utc_label
 
     path = Path(args.db) if args.db else default_db_path()
     if not path.exists():
@@ -394,7 +394,7 @@ def _machines(args: argparse.Namespace) -> int:
 
 
 def _history(args: argparse.Namespace) -> int:
-    from placer.history import History, default_db_path, utc_label
+    from placer.io.history import History, default_db_path, utc_label
 
     path = Path(args.db) if args.db else default_db_path()
     if not path.exists():
@@ -418,7 +418,7 @@ def _history(args: argparse.Namespace) -> int:
                          expected=(f"did you mean '{close[0]}'? " if close else "")
                          + "one of: " + (", ".join(known) or "none stored"))
     if args.visit is not None:
-        from placer.fieldreport import render_visit, visit_dict
+        from placer.views.terminal.field import render_visit, visit_dict
 
         if args.json:
             print(json_text(visit_dict(args.visit, record), indent=2))
@@ -463,7 +463,7 @@ def _history(args: argparse.Namespace) -> int:
 
 
 def _trial(args: argparse.Namespace) -> int:
-    from placer.fieldreport import trial_suggestion
+    from placer.views.terminal.field import trial_suggestion
 
     _positive_options(("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
                       ("--radius-mm", args.radius_mm))
@@ -476,7 +476,7 @@ def _trial(args: argparse.Namespace) -> int:
 def _batch(args: argparse.Namespace) -> int:
     import math
 
-    from placer.batchfile import progress_display, render_summary, run_batch
+    from placer.io.batchfile import progress_display, render_summary, run_batch
 
     if not math.isfinite(args.time_limit) or args.time_limit <= 0:
         raise InputError(f"is {args.time_limit:g}", key="--time-limit",

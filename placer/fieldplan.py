@@ -2,7 +2,7 @@
 
 Pure: takes a :class:`placer.session.Session` (and optionally stored
 coefficients), returns a :class:`FieldResult`.  The discrete plan is the
-exact search of :mod:`placer.search` with one channel per sensor: the
+exact search of :mod:`placer.engine.search` with one channel per sensor: the
 effect of a part is the vibration it adds at every sensor, A[:, plane]·m·r·e^{iθ},
 so the planes are solved together, not each plane's correction rounded on
 its own.  After a check run, the parts fitted for it take room on their
@@ -21,7 +21,7 @@ from placer.influence import (Coefficients, StaticCouple,
                               coefficients_from_runs, least_squares_correction, static_couple)
 from placer.job import ExistingPart
 from placer.plan import FittedPart
-from placer.search import PlacementSearch, Selection
+from placer.engine.search import PlacementSearch, Selection
 from placer.session import FIELD_NORMS, PlacedMass, Session
 from placer.solve import PlaneArrays, part_of_row, placement_arrays
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from placer.search import Selection
+from placer.engine.search import Selection
 
 
 @dataclass(frozen=True)

@@ -18,7 +18,7 @@ from placer.job import ExistingPart, Job, PlaneJob
 from placer.plan import FittedPart, PlanOption, choose, improving
 from placer.residual import residual_vector_gmm
 from placer.robust import DEFAULT_SAMPLES, DEFAULT_SEED, robustness
-from placer.search import PartList, PlacementSearch, Selection, is_proven, residual_of
+from placer.engine.search import PartList, PlacementSearch, Selection, is_proven, residual_of
 from placer.tolerance import PlaneShare, allocate_to_planes, permissible_residual_gmm
 
 DEFAULT_TIME_LIMIT_S = 10.0
@@ -210,7 +210,7 @@ def exact_front(arrays: PlaneArrays, max_parts: int,
         if search.n > MAX_MODEL_PLACEMENTS:
             method = "exact search (not proven past its budget)"
             continue
-        from placer.model import ModelPlane, min_residual
+        from placer.engine.model import ModelPlane, min_residual
 
         method = "exact search + CP-SAT"
         previous = entries[k - 1]
@@ -485,7 +485,7 @@ def _share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArra
         over = overdrawn_items(planes, [results[i].chosen.parts for i in members])
         if not over:
             continue
-        from placer.model import ModelPlane, solve_shared_stock
+        from placer.engine.model import ModelPlane, solve_shared_stock
 
         shared = {item.stock_key: int(item.stock) for plane in planes
                   for item in plane.catalog.items if item.stock is not None}

@@ -5,7 +5,7 @@ history database DB, starts saving a large visit (machine ``WM-KILL``,
 N_RUNS runs) and, when the PAUSE_AT-th batch of readings has been inserted,
 writes MARKER and sleeps inside the open transaction until it is killed.
 The pause comes from wrapping the sqlite3 connection here, in test code;
-placer.history has no hook for it.
+placer.io.history has no hook for it.
 
 The scenario is invented: fans and pumps of the Wrenmoor shop.
 """
@@ -21,7 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
-from placer.history import History, MassRecord, RunRecord, VisitRecord
+from placer.io.history import History, MassRecord, RunRecord, VisitRecord
 from placer.readings import phasor
 
 

@@ -208,7 +208,7 @@ def test_good_run_leaves_its_files_alone(tmp_path, run_cli):
 
 # ----------------------------------------------------------------------------------
 # Numbers at the edges.  Every number in a file is zero or between 1e-12 and 1e12 in
-# size (placer.fields module notes: the float64 range of IEEE 754 and Python's
+# size (placer.io.tables module notes: the float64 range of IEEE 754 and Python's
 # 4300-digit int/str limit decide what cannot work; the limits themselves are common
 # practice, no source).  NaN, infinity and huge whole numbers in any number field get
 # the one-line error naming the file and the key.

@@ -27,9 +27,9 @@ import pytest
 
 from oracle import brute_front
 from placer.batch import BatchSolver, RotorReading, solve_readings
-from placer.batchfile import read_readings, read_template, run_batch
+from placer.io.batchfile import read_readings, read_template, run_batch
 from placer.errors import InputError
-from placer.jobfile import read_job
+from placer.io.jobfile import read_job
 from placer.solve import plane_arrays, solve_job
 
 ROTOR = """[rotor]
@@ -439,7 +439,7 @@ def test_mass_columns_at_the_plane_radius(tmp_path, template):
 
 @pytest.mark.parametrize("capacity, stock", [(3, 30), (1, 2), (2, 1)])
 def test_tabulated_front_equals_the_search(capacity, stock):
-    # The batch's table lookup against placer.search's own head-and-pair search,
+    # The batch's table lookup against placer.engine.search's own head-and-pair search,
     # every entry of the front, on the 12-hole washer plane (masses of
     # catalogs/washers-steel.toml) and with capacity or stock binding.
     from placer.batch import BatchSearch
@@ -524,7 +524,7 @@ def strict_json(text: str):
 def test_csv_numbers_outside_plain_decimals_are_bad_rows(tmp_path, quick_files):
     template = quick_files[0]
     # Source for what float() accepts: Python docs, float() and PEP 515
-    # (underscores); the range is placer.fields' (1e-12 .. 1e12).
+    # (underscores); the range is placer.io.tables' (1e-12 .. 1e12).
     lines = ["serial,1_gmm,1_angle_deg,2_mass_g,2_angle_deg"]
     lines += [f"WM-N-{i:02d},{cell},10.0,2.0,20.0" for i, (cell, _) in enumerate(CSV_NUMBER_ROWS)]
     lines += ["WM-N-GOOD,+1500.,-0,.5,1.25e2", "WM-N-MASS,10.0,1.0,1e308,20.0"]
@@ -579,11 +579,11 @@ def test_json_lines_numbers_at_the_edges_are_bad_rows(tmp_path, quick_files):
 def test_outputs_are_strict_json_even_for_a_non_finite_value():
     # json.dumps writes float("inf") as Infinity, which RFC 8259 forbids;
     # json_text writes null instead.
-    from placer.fields import json_text
+    from placer.io.tables import json_text
 
     text = json_text({"residual_gmm": float("inf"), "x": [float("nan"), -0.0, 1.5]})
     assert strict_json(text) == {"residual_gmm": None, "x": [None, -0.0, 1.5]}
-    from placer.batchfile import csv_row
+    from placer.io.batchfile import csv_row
 
     assert csv_row({"serial": "S", "within_tolerance": None, "planes": [
         {"parts": "", "residual_gmm": None, "within_tolerance": None}]}) == ["S"] + [""] * 4
@@ -699,13 +699,13 @@ def test_jobs_capped_at_the_usable_cores(monkeypatch, tmp_path, quick_files):
     # Python docs: os.sched_getaffinity(0) is the set of CPUs this process may run on.
     import os
 
-    import placer.batchfile
+    import placer.io.batchfile
     from placer.batch import usable_cores
 
     if hasattr(os, "sched_getaffinity"):
         assert usable_cores() == len(os.sched_getaffinity(0))
     template, readings, rows = quick_files
-    monkeypatch.setattr(placer.batchfile, "usable_cores", lambda: 2)
+    monkeypatch.setattr(placer.io.batchfile, "usable_cores", lambda: 2)
     notes: list[str] = []
     summary, _ = run_batch(template, readings, jobs=64, note=notes.append)
     assert notes == ["placer batch: --jobs 64 capped at 2, the cores this process may use"]
@@ -715,10 +715,10 @@ def test_jobs_capped_at_the_usable_cores(monkeypatch, tmp_path, quick_files):
 
 
 def test_jobs_note_and_count_on_the_command_line(run_cli, monkeypatch, quick_files):
-    import placer.batchfile
+    import placer.io.batchfile
 
     template, readings, rows = quick_files
-    monkeypatch.setattr(placer.batchfile, "usable_cores", lambda: 1)
+    monkeypatch.setattr(placer.io.batchfile, "usable_cores", lambda: 1)
     code, out, err = run_cli("batch", template, readings, "--jobs", "8")
     assert code in (0, 1)
     assert err == "placer batch: --jobs 8 capped at 1, the cores this process may use\n"
@@ -740,7 +740,7 @@ def test_progress_plain_lines_when_piped():
     # The rate counts from the first call (tables built), not from the start.
     import io
 
-    from placer.batchfile import progress_display
+    from placer.io.batchfile import progress_display
 
     clock, stream = _Clock(), io.StringIO()
     with progress_display(stream, every_s=10.0, clock=clock) as progress:
@@ -758,7 +758,7 @@ def test_progress_plain_lines_when_piped():
 def test_progress_bar_on_a_forced_terminal():
     import io
 
-    from placer.batchfile import progress_display
+    from placer.io.batchfile import progress_display
 
     clock, stream = _Clock(), io.StringIO()
     with progress_display(stream, terminal=True, clock=clock) as progress:

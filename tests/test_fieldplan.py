@@ -18,7 +18,7 @@ import pytest
 from oracle import brute_front
 from placer.fieldplan import objective_of, solve_session
 from placer.influence import StoredCoefficients
-from placer.sessionfile import read_session
+from placer.io.sessionfile import read_session
 
 ROOT = Path(__file__).resolve().parent.parent
 WASHERS = {"M6": 1.02, "M8": 1.83, "M10": 3.57, "M12": 6.27, "M16": 11.30}
@@ -344,7 +344,7 @@ def test_single_plane_session_matches_the_textbook_formula(tmp_path):
 
 
 def test_more_fitted_parts_than_a_position_takes_is_bad_input(tmp_path):
-    from placer.sessionfile import SessionError
+    from placer.io.sessionfile import SessionError
 
     a, u0 = synthetic(7)
     text = session_toml(a, u0, capacity=2, check=[(0, 2, "M8", 2), (0, 2, "M12", 1)])

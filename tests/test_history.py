@@ -1,4 +1,4 @@
-"""Tests of placer.history, the machine history database.
+"""Tests of placer.io.history, the machine history database.
 
 What the checks are measured against: the record that was saved (a round
 trip must give back every value to the last bit: SQLite REAL is an IEEE 754
@@ -26,9 +26,9 @@ import numpy as np
 import pytest
 
 from history_writer import make_visit, watch_connections
-from placer import history
+from placer.io import history
 from placer.errors import PlacerError
-from placer.history import History, HistoryError, MachineSummary, default_db_path
+from placer.io.history import History, HistoryError, MachineSummary, default_db_path
 
 WRITER = Path(__file__).with_name("history_writer.py")
 
@@ -200,7 +200,7 @@ def test_visit_survives_restart_in_new_process(db: Path, tmp_path: Path) -> None
     with History(db) as h:
         visit_id = h.save_visit(record)
     out = tmp_path / "read-back.pickle"
-    code = ("import pickle, sys; from pathlib import Path; from placer.history import History\n"
+    code = ("import pickle, sys; from pathlib import Path; from placer.io.history import History\n"
             "with History(Path(sys.argv[1])) as h:\n"
             "    data = (h.visit(int(sys.argv[2])), h.machines())\n"
             "Path(sys.argv[3]).write_bytes(pickle.dumps(data))\n")

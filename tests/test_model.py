@@ -9,8 +9,8 @@ import numpy as np
 import pytest
 
 from oracle import brute_front
-from placer.model import ModelPlane, min_residual, solve_shared_stock
-from placer.search import residual_of
+from placer.engine.model import ModelPlane, min_residual, solve_shared_stock
+from placer.engine.search import residual_of
 from test_search import ring_effects
 
 

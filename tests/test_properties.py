@@ -21,7 +21,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from placer.search import PlacementSearch
+from placer.engine.search import PlacementSearch
 
 SETTINGS = settings(max_examples=60, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 
@@ -145,7 +145,7 @@ def job_numbers(draw):
     """A one-plane job's numbers: positions (angles, radii), items, stock, correction.
 
     Numbers as a technician writes them (at most 4 decimals): a file's numbers
-    are zero or at least 1e-12 in size (placer.fields).
+    are zero or at least 1e-12 in size (placer.io.tables).
     """
     n_pos = draw(st.integers(1, 7))
     angles = draw(st.lists(DECIMAL_ANGLES, min_size=n_pos, max_size=n_pos))
@@ -198,7 +198,7 @@ def test_solve_job_residuals_recomputed_by_hand_and_least_by_enumeration(numbers
     from pathlib import Path
 
     from oracle import brute_front
-    from placer.jobfile import read_job
+    from placer.io.jobfile import read_job
     from placer.solve import solve_job
 
     angles, radii, masses, stock, capacity, max_parts, gmm, angle = numbers
@@ -228,7 +228,7 @@ def test_batch_records_recomputed_by_hand(numbers, rows):
     import tempfile
     from pathlib import Path
 
-    from placer.batchfile import run_batch
+    from placer.io.batchfile import run_batch
 
     angles, radii, masses, stock, *_ = numbers
     with tempfile.TemporaryDirectory() as name:

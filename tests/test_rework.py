@@ -10,8 +10,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from placer.catalogfile import load_bundled
-from placer.jobfile import read_job
+from placer.io.catalogfile import load_bundled
+from placer.io.jobfile import read_job
 from placer.plan import FittedPart
 from placer.robust import residual_samples_gmm, robustness
 from placer.solve import FittingErrors, solve_job

@@ -11,9 +11,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import placer.search
+import placer.engine.search
 from oracle import brute_front
-from placer.search import PlacementSearch, residual_of
+from placer.engine.search import PlacementSearch, residual_of
 
 
 def ring_effects(n_positions, masses_g, radius_mm, start_deg=0.0):
@@ -24,15 +24,15 @@ def ring_effects(n_positions, masses_g, radius_mm, start_deg=0.0):
 @contextlib.contextmanager
 def completion(mode: str):
     """Force how heads are completed: "dense" numpy scan or "tree" (scipy k-d tree)."""
-    saved = placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT
+    saved = placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT
     if mode == "tree":
-        placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT = -1, -1
+        placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT = -1, -1
     else:
-        placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT = 10**12, 10**12
+        placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT = 10**12, 10**12
     try:
         yield
     finally:
-        placer.search._DENSE_TAIL, placer.search._DENSE_LIMIT = saved
+        placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT = saved
 
 
 def check_against_oracle(effects, target, capacity, stock, max_parts, norm="euclidean"):

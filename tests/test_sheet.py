@@ -29,10 +29,10 @@ import pytest
 from conftest import example_files
 from placer.cli import main
 from placer.errors import InputError
-from placer.jobfile import read_job
+from placer.io.jobfile import read_job
 from placer.plan import FittedPart
-from placer.report import DRILL_CAUTION
-from placer.sheet import (MATPLOTLIB_MISSING, PNG_DPI, _fmt_gmm, angles_counterclockwise,
+from placer.views.terminal.job import DRILL_CAUTION
+from placer.views.sheet import (MATPLOTLIB_MISSING, PNG_DPI, _fmt_gmm, angles_counterclockwise,
                           page_angle_deg, plane_page, rotation_clockwise, spread_deg, write_sheet)
 from placer.solve import solve_job
 
@@ -738,7 +738,7 @@ def test_sheet_module_does_not_import_matplotlib_at_start_up():
     import subprocess
     import sys
 
-    code = ("import sys, placer.cli, placer.sheet; "
+    code = ("import sys, placer.cli, placer.views.sheet; "
             "print('matplotlib' in sys.modules)")
     out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
                          check=True).stdout

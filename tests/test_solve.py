@@ -9,9 +9,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-import placer.search
+import placer.engine.search
 from oracle import brute_front
-from placer.jobfile import read_job
+from placer.io.jobfile import read_job
 from placer.plan import choose
 from placer.residual import residual_vector_gmm
 from placer.solve import PlaneArrays, exact_front, solve_job
@@ -126,8 +126,8 @@ def test_unreachable_correction_is_solved_and_flagged(tmp_path):
 
 def test_cp_sat_takes_over_when_tables_are_over_budget(monkeypatch):
     """Force the search to decline every part count above 1: CP-SAT must prove them."""
-    monkeypatch.setattr(placer.search, "_MAX_PAIRS", 0)
-    monkeypatch.setattr(placer.search, "_MAX_HEAD_ROWS", -1)
+    monkeypatch.setattr(placer.engine.search, "_MAX_PAIRS", 0)
+    monkeypatch.setattr(placer.engine.search, "_MAX_HEAD_ROWS", -1)
     effects = ring_effects(5, [1.5, 4.0], 100.0)
     target = np.array([620.0 * cmath.exp(1j * 0.7)])
     arrays = PlaneArrays(effects[:, :, None], target, np.full(5, 2), np.array([3, 3]))
@@ -146,7 +146,7 @@ def test_cp_sat_takes_over_when_tables_are_over_budget(monkeypatch):
 
 def test_singles_tail_past_the_pair_budget_is_still_exact(monkeypatch):
     """Without the pair table the search completes heads from single placements."""
-    monkeypatch.setattr(placer.search, "_MAX_PAIRS", 0)
+    monkeypatch.setattr(placer.engine.search, "_MAX_PAIRS", 0)
     effects = ring_effects(7, [1.5, 4.0, 6.0], 100.0)
     target = np.array([1320.0 * cmath.exp(1j * 0.4)])
     arrays = PlaneArrays(effects[:, :, None], target, np.full(7, 2), np.array([3, 3, 2]))

@@ -1,4 +1,4 @@
-"""Tests of placer.split: the law-of-sines split and the method done by hand.
+"""Tests of placer.handbook: the law-of-sines split and the method done by hand.
 
 Published checks come first (US Bureau of Reclamation FIST Volume 2-2,
 example 4; the mid-pitch rule of /work/shared/REFERENCES.md), then checks
@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 from placer.errors import InputError
-from placer.split import (bracketing_positions, handbook_plan, nearest_item, residual_gmm,
+from placer.handbook import (bracketing_positions, handbook_plan, nearest_item, residual_gmm,
                           split_between)
 
 # FIST Volume 2-2 prints the exact split to 0.01 lb, so it agrees with the

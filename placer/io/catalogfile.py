@@ -20,7 +20,7 @@ from pathlib import Path
 
 from placer.catalog import Catalog, Item, bundled_dir, bundled_names
 from placer.errors import CatalogError
-from placer.fields import Table, read_toml
+from placer.io.tables import Table, read_toml
 
 
 def read_catalog(path: Path) -> Catalog:

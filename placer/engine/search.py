@@ -30,7 +30,7 @@ How the search proves its answer (Notes)
   clash with the head on a position or an item, the pair table is scanned in
   full for that head), so the result is the proven optimum.
 * Above a size budget the search gives up on a part count and leaves it to
-  the CP-SAT model (:mod:`placer.model`), which reports its own proof status.
+  the CP-SAT model (:mod:`placer.engine.model`), which reports its own proof status.
 
 References
 ----------

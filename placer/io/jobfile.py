@@ -6,9 +6,9 @@ import math
 from pathlib import Path
 
 from placer.catalog import Catalog
-from placer.catalogfile import read_catalog, resolve_catalog
+from placer.io.catalogfile import read_catalog, resolve_catalog
 from placer.errors import JobError, ToleranceError
-from placer.fields import Table, read_toml
+from placer.io.tables import Table, read_toml
 from placer.geometry import PlaneGeometry, equally_spaced_deg, gmm_vector
 from placer.job import (DEFAULT_ANGLE_SENSE, DEFAULT_MAX_PARTS, ExistingPart, Job, PlaneJob,
                         Rotor)

@@ -1,6 +1,6 @@
 """The CP-SAT model: the general engine for side constraints.
 
-The exact search (:mod:`placer.search`) proves the trade-off front of each
+The exact search (:mod:`placer.engine.search`) proves the trade-off front of each
 plane on its own.  Two things it does not do are left to this integer model,
 solved by OR-Tools CP-SAT:
 
@@ -30,7 +30,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from placer.search import PartList
+from placer.engine.search import PartList
 
 _SCALE_UNITS = 1.0e6
 """Integer units the largest effect or target is scaled to (at most; see `_scale_units`)."""

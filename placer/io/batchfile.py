@@ -37,7 +37,7 @@ decimal point, an optional exponent (``12.5``, ``-3``, ``.5``, ``1.25e3``).
 Forms Python's ``float`` also reads but a spreadsheet or a balancing
 machine does not write (``1_000``, ``0x1p3``, digits of other scripts) are
 refused, and so are ``nan`` and ``inf``.  Every number is zero or between
-1e-12 and 1e12 in size, as in every placer file (:mod:`placer.fields`).
+1e-12 and 1e12 in size, as in every placer file (:mod:`placer.io.tables`).
 
 Readings, JSON lines (``.jsonl``)
 ---------------------------------
@@ -122,11 +122,11 @@ from typing import Any, TextIO
 from placer.batch import (BatchSummary, BatchTally, RotorOutcome, RotorReading, default_jobs,
                           processes_used, reading_digest, solve_readings, usable_cores)
 from placer.errors import InputError, JobError
-from placer.fields import (MAX_WHOLE, RANGE_EXPECTED, Table, json_text, number_problem,
+from placer.io.tables import (MAX_WHOLE, RANGE_EXPECTED, Table, json_text, number_problem,
                            printable, read_toml, whole_number_text)
 from placer.geometry import angle_of_deg, gmm_vector
 from placer.job import Job
-from placer.jobfile import _plane, _rotor
+from placer.io.jobfile import _plane, _rotor
 from placer.solve import DEFAULT_TIME_LIMIT_S
 
 SERIAL_PATTERN = re.compile(r"[A-Za-z0-9._-]{1,40}")
@@ -201,7 +201,7 @@ def read_template(path: Path) -> Job:
     root.allow_only(("rotor", "planes"))
     rotor = _rotor(root.sub("rotor", required=True))
     catalogs: dict = {}
-    # The steps of placer.jobfile.read_job, on the table with placeholders
+    # The steps of placer.io.jobfile.read_job, on the table with placeholders
     # (tests/test_batch.py checks that both give the same job).
     plane_jobs = [_plane(table, path.parent, catalogs, rotor.correction_basis)
                   for table in root.tables("planes", required=True)]

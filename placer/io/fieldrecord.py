@@ -5,7 +5,7 @@ from __future__ import annotations
 from datetime import datetime, timezone
 
 from placer.fieldplan import FieldResult
-from placer.history import MassRecord, RunRecord, VisitRecord
+from placer.io.history import MassRecord, RunRecord, VisitRecord
 
 
 def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRecord:

@@ -35,8 +35,8 @@ import numpy as np
 
 from placer.catalog import Catalog
 from placer.errors import JobError
-from placer.fields import Table, read_toml
-from placer.jobfile import PLANE_KEYS, _rotor, plane_geometry
+from placer.io.tables import Table, read_toml
+from placer.io.jobfile import PLANE_KEYS, _rotor, plane_geometry
 from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense, phasor
 from placer.session import FIELD_NORMS, RUN_KINDS, Channel, FieldPlane, PlacedMass, Run, Session
 

@@ -1485,7 +1485,7 @@ FOOTER_IN = 0.45
 
 
 def _caution_lines(drilling: bool) -> list[list[str]]:
-    from placer.report import CAUTIONS, DRILL_CAUTION
+    from placer.views.terminal.job import CAUTIONS, DRILL_CAUTION
 
     cautions = CAUTIONS + ((DRILL_CAUTION,) if drilling else ())
     return [_wrap(c, PAGE_IN[0] - 2 * MARGIN_IN - 0.7, CAUTION_PT) for c in cautions]

@@ -1,0 +1,1 @@
+"""Readers and writers: files, the JSON shapes and the history database (the edges of placer)."""

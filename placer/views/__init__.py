@@ -1,0 +1,1 @@
+"""What users see: the terminal sheets and the printed sheet."""

@@ -1,0 +1,1 @@
+"""The terminal sheets (rich), one module per command family."""
