@@ -7,9 +7,15 @@ The public pieces, by name (see DEVELOPERS.md for the package map)::
     permissible_residual_gmm     ISO 21940-11 tolerance
 """
 
-from placer.errors import CatalogError, InputError, JobError, PlacerError, ToleranceError
-from placer.io.jobfile import read_job
 from placer.engine.search import PlacementSearch
+from placer.errors import (
+    CatalogError,
+    InputError,
+    JobError,
+    PlacerError,
+    ToleranceError,
+)
+from placer.io.jobfile import read_job
 from placer.solve import solve_job
 from placer.tolerance import allocate_to_planes, permissible_residual_gmm
 

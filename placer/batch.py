@@ -8,18 +8,19 @@ per rotor and a :class:`BatchSummary`.  Reading and writing files is
 How a rotor is solved (Notes)
 -----------------------------
 * Everything that does not depend on the correction is built once per
-  process for the whole batch: per plane one :class:`BatchSearch` (a
-  :class:`placer.engine.search.PlacementSearch`: placements, pair table, k-d tree;
-  for a small plane the table of all its selections, see there) and the
+  process for the whole batch: per plane one
+  :class:`placer.engine.tabulated.TabulatedSearch` (placements, pair table,
+  k-d tree; for a small plane the table of all its selections) and the
   plane's tolerance (``tolerance_gmm``, else its share of U_per from the
-  grade, exactly as :func:`placer.solve.solve_job` works it out).
+  grade: :func:`placer.tolerance.job_tolerances`, as for ``placer solve``).
 * Per rotor and plane only the target changes: it is the rotor's correction
   plus the plane's fixed offset (the existing parts' correction taken off
   when the rotor's correction_basis is "total", else zero), and goes into
-  the plane's prebuilt arrays (:class:`placer.solve.PlaneArrays`, built once)
-  in place of the template's; then :func:`placer.solve.exact_front` with the
-  prebuilt search, :func:`placer.plan.choose` (fewest parts within the
-  tolerance, else the least residual) and :func:`placer.solve.to_option`
+  the plane's prebuilt arrays (:class:`placer.engine.arrays.PlaneArrays`,
+  built once) in place of the template's; then
+  :func:`placer.engine.front.exact_front` with the prebuilt search,
+  :func:`placer.engine.front.choose` (fewest parts within the tolerance,
+  else the least residual) and :func:`placer.engine.arrays.option_of`
   (residual recomputed from the listed parts).  The result is the one
   ``placer solve`` gives for a job file holding that rotor's correction.
 * Stock: every rotor is solved as if the drawers were full (the batch does
@@ -37,14 +38,13 @@ How a rotor is solved (Notes)
 
 References
 ----------
-Residual and tolerance as in :mod:`placer.solve` (ISO 21940-11:2016, residual
-unbalance and its allocation to correction planes).
+[ISO21940-11] residual unbalance and its allocation to the correction planes,
+as in :mod:`placer.solve`.
 """
 
 from __future__ import annotations
 
 import hashlib
-import math
 import multiprocessing
 import os
 import signal
@@ -53,18 +53,19 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from placer.engine.arrays import PlaneArrays, option_of, plane_arrays
+from placer.engine.front import choose, exact_front
+from placer.engine.tabulated import TabulatedSearch
 from placer.errors import JobError
 from placer.job import Job, PlaneJob
-from placer.plan import PlanOption, choose
-from placer.engine.search import PlacementSearch, _feasible
-from placer.solve import (DEFAULT_TIME_LIMIT_S, PlaneArrays, exact_front,
-                          further_correction_gmm, overdrawn_items, plane_arrays,
-                          shared_stock_groups, solve_job, to_option)
+from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.plan import PlanOption
+from placer.solve import solve_job
+from placer.stock import overdrawn_items, shared_stock_groups
+from placer.tolerance import job_tolerances
 
 CHUNK_ROWS = 64
 """Most rotors sent to a worker process at once."""
-TABULATE_MAX_SELECTIONS = 2_000_000
-"""Most selections a plane may have for the batch to tabulate them all (see BatchSearch)."""
 
 
 @dataclass(frozen=True)
@@ -154,92 +155,6 @@ class RotorOutcome:
         return all(flags)
 
 
-class BatchSearch(PlacementSearch):
-    """:class:`placer.engine.search.PlacementSearch` for a batch: the same answers, sooner.
-
-    Per-batch fast path: when a plane is small enough that every feasible
-    selection of k = 1 .. max_parts parts can be tabulated (at most
-    ``tabulate_max`` selections, one channel, Euclidean norm), each part
-    count gets the table of all its selections (capacity and stock checked)
-    with the summed effect of each in a k-d tree, built once, on the first
-    front.  The least residual with exactly k parts is then one
-    nearest-neighbour query, exact in Euclidean distance, and it is handed
-    to the search's own :meth:`~placer.engine.search.PlacementSearch.front` in
-    place of the head-and-pair search, so the front (stopping rule, strict
-    improvement on k - 1 parts, proof flags) is the search's.  For a
-    12-hole, 5-size plane with capacity 3 and up to 4 parts that is 634 535
-    selections (60 + 1 830 + 37 820 + 594 825), built in about 0.5 s.
-    Planes past the limit are searched as usual.
-
-    Parameters
-    ----------
-    effects, capacity, stock, max_parts, norm
-        As for :class:`placer.engine.search.PlacementSearch`.
-    tabulate_max : int
-        Most selections tabulated (an upper bound that ignores capacity and
-        stock decides); 0 turns the fast path off.
-    """
-
-    def __init__(self, effects: np.ndarray, capacity: np.ndarray, stock: np.ndarray,
-                 max_parts: int, norm: str = "euclidean",
-                 tabulate_max: int = TABULATE_MAX_SELECTIONS) -> None:
-        super().__init__(effects, capacity, stock, max_parts, norm)
-        self.tabulated = (self.n_channels == 1 and self.norm == "euclidean" and self.n > 0
-                          and _selection_count_bound(self.n, self.max_parts) <= tabulate_max)
-        self._levels: list[tuple[np.ndarray, object]] | None = None
-
-    def _tabulated_levels(self) -> list[tuple[np.ndarray, object]]:
-        """Per part count k: (rows of placement indices, k-d tree of their summed effects)."""
-        if self._levels is None:
-            from scipy.spatial import cKDTree
-
-            rows = np.arange(self.n, dtype=np.int32)[:, None]
-            sums = self.eff_real
-            levels = [(rows, cKDTree(sums))]
-            for _ in range(2, self.max_parts + 1):
-                # Grow every selection by a placement at or after its last one.
-                row_of, extra = np.nonzero(np.arange(self.n)[None, :] >= rows[:, -1][:, None])
-                grown = np.concatenate([rows[row_of], extra[:, None].astype(np.int32)], axis=1)
-                ok = _feasible(grown, self.pos_of, self.item_of, self.capacity, self.stock)
-                rows = grown[ok]
-                sums = sums[row_of[ok]] + self.eff_real[extra[ok]]
-                levels.append((rows, cKDTree(sums) if len(rows) else None))
-            self._levels = levels
-        return self._levels
-
-    def _best_with(self, k: int, t_real: np.ndarray, bound: float):
-        """Best selection of exactly k parts: (placement rows, residual), by table lookup."""
-        if not self.tabulated:
-            return super()._best_with(k, t_real, bound)
-        rows, tree = self._tabulated_levels()[k - 1]
-        if tree is None:
-            return None, np.inf
-        distance, index = tree.query(-t_real)
-        return rows[index].astype(np.int64), float(distance)
-
-
-def _selection_count_bound(n_placements: int, max_parts: int) -> int:
-    """Multisets of 1 .. max_parts of n placements: sum of C(n + k - 1, k)."""
-    return sum(math.comb(n_placements + k - 1, k) for k in range(1, max_parts + 1))
-
-
-def template_tolerances(template: Job) -> tuple[float | None, ...]:
-    """Each plane's tolerance [g·mm] as :func:`placer.solve.solve_job` works it out.
-
-    ``tolerance_gmm`` of the plane, else its share of U_per from the rotor's
-    grade, mass and speed, else None.  Solved once with zero corrections, so
-    the rule stays the one of ``placer solve``.
-
-    References
-    ----------
-    ISO 21940-11:2016, permissible residual unbalance and its allocation to
-    the correction planes (via :mod:`placer.tolerance`).
-    """
-    zero = replace(template, planes=tuple(replace(p, correction_gmm=0j, given_as="batch template")
-                                          for p in template.planes))
-    return tuple(p.tolerance_gmm for p in solve_job(zero).planes)
-
-
 class BatchSolver:
     """Solves rotor after rotor of one template, building its searches once.
 
@@ -261,7 +176,7 @@ class BatchSolver:
     def __init__(self, template: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> None:
         self.template = template
         self.time_limit_s = float(time_limit_s)
-        self.tolerances_gmm = template_tolerances(template)
+        self.tolerances_gmm = tuple(p.tolerance_gmm for p in job_tolerances(template).planes)
         self.searches = []
         self.arrays: list[PlaneArrays] = []
         self.offsets_gmm: list[complex] = []
@@ -275,11 +190,11 @@ class BatchSolver:
                                "cannot serve the batch", file=template.source,
                                key=f"planes[{number}]",
                                expected="a plane whose parts do not change with the correction")
-            self.searches.append(BatchSearch(arrays.effects, arrays.capacity, arrays.stock,
+            self.searches.append(TabulatedSearch(arrays.effects, arrays.capacity, arrays.stock,
                                              plane.max_parts))
             self.arrays.append(arrays)
             # The target is linear in the correction: correction + its value at zero.
-            self.offsets_gmm.append(complex(further_correction_gmm(_row_plane(plane, 0j))))
+            self.offsets_gmm.append(complex(_row_plane(plane, 0j).further_correction_gmm))
         self._shared = shared_stock_groups(template.planes)
 
     @property
@@ -304,7 +219,7 @@ class BatchSolver:
                              target=np.array([complex(correction) + self.offsets_gmm[index]]))
             entries, _, _ = exact_front(arrays, plane.max_parts, self.time_limit_s,
                                         search=self.searches[index])
-            option = to_option(plane, choose(entries, self.tolerances_gmm[index]), rows=arrays)
+            option = option_of(plane, choose(entries, self.tolerances_gmm[index]), rows=arrays)
             planes.append(self._outcome(index, plane, option))
         if self._overdraws(planes):
             return self._solved_together(reading)

@@ -248,7 +248,7 @@ def _catalogs(args: argparse.Namespace) -> int:
 
 def _positive_options(*pairs: tuple[str, float]) -> None:
     """Command-line quantities must be positive and in the range every file is held to."""
-    from placer.io.tables import MAX_MAGNITUDE, MIN_MAGNITUDE
+    from placer.limits import MAX_MAGNITUDE, MIN_MAGNITUDE
 
     for key, value in pairs:
         if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
@@ -257,7 +257,11 @@ def _positive_options(*pairs: tuple[str, float]) -> None:
 
 
 def _tolerance(args: argparse.Namespace) -> int:
-    from placer.tolerance import allocate_to_planes, parse_grade, permissible_residual_gmm
+    from placer.tolerance import (
+        allocate_to_planes,
+        parse_grade,
+        permissible_residual_gmm,
+    )
 
     _positive_options(("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
                       *((("--distances-mm", d) for d in args.distances_mm)

@@ -16,14 +16,22 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from placer.influence import (Coefficients, StaticCouple,
-                              StoredCoefficients, adapt_stored, checked_coefficients,
-                              coefficients_from_runs, least_squares_correction, static_couple)
-from placer.job import ExistingPart
-from placer.plan import FittedPart
+from placer.engine.arrays import PlaneArrays, part_of_row, placement_arrays
 from placer.engine.search import PlacementSearch, Selection
+from placer.influence import (
+    Coefficients,
+    StaticCouple,
+    StoredCoefficients,
+    adapt_stored,
+    checked_coefficients,
+    coefficients_from_runs,
+    least_squares_correction,
+    static_couple,
+)
+from placer.job import ExistingPart
+from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.plan import FittedPart
 from placer.session import FIELD_NORMS, PlacedMass, Session
-from placer.solve import PlaneArrays, part_of_row, placement_arrays
 
 __all__ = ["FieldOption", "FieldResult", "PlaneBlock", "field_search", "objective_of",
            "solve_session"]
@@ -97,7 +105,7 @@ def objective_of(values: np.ndarray, weights: np.ndarray, norm: str) -> float:
 class PlaneBlock:
     """One plane's rows in the coupled search.
 
-    ``arrays`` is the plane as :func:`placer.solve.placement_arrays` builds
+    ``arrays`` is the plane as :func:`placer.engine.arrays.placement_arrays` builds
     it (positions, one hole per position, parts fitted for a check run to
     take off); its rows stand at ``first_row`` onwards in the search, and its
     column k is the search's column ``columns[k]``: one column per drawer
@@ -236,10 +244,6 @@ def _coefficients(session: Session, stored: StoredCoefficients | None
         channel_weights=weights, baselines=baselines,
         baseline_names=[session.runs[base[i]].name for i in trial_index])
     return coefficients, f"{len(trial_index)} trial run(s) of this visit"
-
-
-DEFAULT_TIME_LIMIT_S = 10.0
-"""Time the coupled search may take per visit before it leaves part counts unproven [s]."""
 
 
 def solve_session(session: Session, stored: StoredCoefficients | None = None,

@@ -71,9 +71,22 @@ def equally_spaced_deg(count: int, start_deg: float = 0.0) -> tuple[float, ...]:
     return tuple((start_deg + 360.0 * i / count) % 360.0 for i in range(count))
 
 
-def gmm_vector(magnitude_gmm: float, angle_deg: float) -> complex:
-    """An unbalance or correction as a complex number [g·mm] at ``angle_deg``."""
-    return cmath.rect(magnitude_gmm, math.radians(angle_deg))
+def polar(magnitude: float, angle_deg: float) -> complex:
+    """magnitude·e^{i·angle}: an unbalance, a correction or a reading as a complex number.
+
+    Parameters
+    ----------
+    magnitude : float
+        Size [g·mm for an unbalance, the reading's unit for a vibration].
+    angle_deg : float
+        Angle [deg] from the reference mark, in the sense the angles are counted.
+
+    Returns
+    -------
+    complex
+        The vector [as ``magnitude``].
+    """
+    return cmath.rect(magnitude, math.radians(angle_deg))
 
 
 def angle_of_deg(vector: complex) -> float:

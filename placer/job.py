@@ -6,9 +6,7 @@ from dataclasses import dataclass
 
 from placer.catalog import Catalog
 from placer.geometry import PlaneGeometry
-
-DEFAULT_MAX_PARTS = 4
-"""Longest plan considered when the job does not say."""
+from placer.limits import DEFAULT_MAX_PARTS
 
 DEFAULT_ANGLE_SENSE = "against rotation"
 """Sense in which angles are counted from the reference mark when the job does not say."""
@@ -65,6 +63,24 @@ class PlaneJob:
     max_parts: int = DEFAULT_MAX_PARTS
     existing: tuple[ExistingPart, ...] = ()
     correction_basis: str = "further"
+
+    @property
+    def further_correction_gmm(self) -> complex:
+        """The correction still needed with the existing parts on [g·mm].
+
+        With correction_basis "further" that is the correction as measured; with
+        "total" the existing parts' own correction is taken off it.
+
+        References
+        ----------
+        Vector addition of unbalances in one plane [StaticCouple].
+        """
+        if self.correction_basis != "total" or not self.existing:
+            return self.correction_gmm
+        unit = self.geometry.unit_vectors_mm()
+        items = self.catalog.items
+        return complex(self.correction_gmm - sum(items[o.item].mass_g * o.count
+                                                 * unit[o.position - 1] for o in self.existing))
 
 
 @dataclass(frozen=True)

@@ -1,10 +1,11 @@
-"""Plans in domain terms, and choosing one from the trade-off front."""
+"""Plans in domain terms, and the results of a solved plane and job."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
 
-from placer.engine.search import Selection
+from placer.job import Job, PlaneJob
+from placer.tolerance import PlaneShare
 
 
 @dataclass(frozen=True)
@@ -64,25 +65,58 @@ class PlanOption:
         return sum(p.count for p in self.parts)
 
 
-def improving(entries: list[Selection]) -> list[Selection]:
-    """The entries k >= 1 that improve on k - 1 (the trade-off front as shown)."""
-    out = []
-    for previous, entry in zip(entries, entries[1:]):
-        if entry.used_parts > previous.used_parts and entry.residual_norm < previous.residual_norm:
-            out.append(entry)
-    return out
+@dataclass(frozen=True)
+class PlaneResult:
+    """The outcome for one correction plane."""
+
+    plane: PlaneJob
+    tolerance_gmm: float | None
+    tolerance_source: str
+    front: tuple[PlanOption, ...]
+    chosen: PlanOption
+    within_tolerance: bool | None
+    optimal: bool
+    notes: tuple[str, ...]
+    elapsed_s: float
+    method: str
+
+    @property
+    def name(self) -> str:
+        return self.plane.geometry.name
+
+    @property
+    def required_gmm(self) -> float:
+        return abs(self.plane.correction_gmm)
+
+    @property
+    def trade_off(self) -> tuple[PlanOption, ...]:
+        """The rows of the trade-off table: parts against residual, fewest first.
+
+        The front, with the plan of no parts first when that is the choice,
+        and the chosen plan added where it is not on the front (chosen with
+        other planes under shared stock).
+        """
+        rows = [self.chosen] if self.chosen.used_parts == 0 else []
+        rows += list(self.front)
+        if self.chosen.used_parts and all(o.parts != self.chosen.parts for o in rows):
+            rows.append(self.chosen)
+            rows.sort(key=lambda o: (o.used_parts, o.residual_gmm))
+        return tuple(rows)
 
 
-def choose(entries: list[Selection], tolerance_gmm: float | None) -> Selection:
-    """The plan to fit from the front ``entries`` (index k = at most k parts).
+@dataclass(frozen=True)
+class JobResult:
+    """The outcome for a whole job."""
 
-    With a tolerance: the fewest parts within it (the least residual among
-    those, since entry k is the least with at most k parts; zero parts when
-    the rotor is already within tolerance).  Without one, or when no entry
-    is within it: the least residual with at most max_parts parts.
-    """
-    if tolerance_gmm is not None:
-        for entry in entries:
-            if entry.residual_norm <= tolerance_gmm:
-                return entry
-    return entries[-1]
+    job: Job
+    planes: tuple[PlaneResult, ...]
+    permissible_gmm: float | None
+    shares: tuple[PlaneShare, ...] | None
+    notes: tuple[str, ...]
+    stock_short: tuple[str, ...] = ()
+
+    @property
+    def all_within(self) -> bool:
+        """False when any plane with a tolerance is outside it, or the plans overdraw stock."""
+        return not self.stock_short and not any(p.within_tolerance is False
+                                                for p in self.planes)

@@ -25,7 +25,6 @@ the inch).
 
 from __future__ import annotations
 
-import cmath
 import math
 
 AMPLITUDE_UNITS = {"um": ("displacement", 1.0), "mils": ("displacement", 25.4),
@@ -95,11 +94,6 @@ def phase_in_rotor_sense(phase_deg: float, phase_sense: str, rotor_sense: str,
                          "counterclockwise")
     value = against if sense == "against rotation" else -against
     return value % 360.0
-
-
-def phasor(amplitude: float, angle_deg: float) -> complex:
-    """amplitude·e^{i·angle}."""
-    return cmath.rect(amplitude, math.radians(angle_deg))
 
 
 def quantity_of(unit: str) -> str:

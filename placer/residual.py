@@ -1,23 +1,39 @@
-"""The one definition of a plane's residual, used by the solver's output and by every test."""
+"""The one definition of the residual, and of the field objective, used by everything.
+
+A plane's residual is the required correction less what the parts correct,
+``correction − Σ ±count·mass_g·radius_mm·e^{i·angle}`` [g·mm]; the engine's
+array form is ``target + Σ count·effect`` with ``effect = −mass·radius·e^{iθ}``
+(:func:`residual_of`).  In field balancing the residual is the vibration
+predicted at every sensor, and the objective its largest or root-sum-square
+value (:func:`objective_of`).
+"""
 
 from __future__ import annotations
 
-import cmath
-import math
 from collections.abc import Iterable
 
+import numpy as np
+
+from placer.geometry import polar
 from placer.plan import FittedPart
 
 
-def fitted_gmm(parts: Iterable[FittedPart]) -> complex:
-    """Sum of ±count·mass_g·radius_mm·e^{i·angle} over the parts [g·mm].
+def part_gmm(part: FittedPart) -> complex:
+    """What ``part`` corrects: ±count·mass_g·radius_mm·e^{i·angle} [g·mm].
 
     A part removed counts with a minus sign (it takes its correction away).
+
+    References
+    ----------
+    Unbalance of a part U = m·e [BlochGeitner]; unbalances add as vectors
+    [StaticCouple].
     """
-    total = 0j
-    for part in parts:
-        total += part.signed_count * part.mass_g * part.radius_mm * cmath.exp(1j * math.radians(part.angle_deg))
-    return total
+    return polar(part.signed_count * part.mass_g * part.radius_mm, part.angle_deg)
+
+
+def fitted_gmm(parts: Iterable[FittedPart]) -> complex:
+    """Sum of what the parts correct [g·mm] (see :func:`part_gmm`)."""
+    return sum((part_gmm(part) for part in parts), 0j)
 
 
 def residual_vector_gmm(correction_gmm: complex, parts: Iterable[FittedPart]) -> complex:
@@ -27,9 +43,60 @@ def residual_vector_gmm(correction_gmm: complex, parts: Iterable[FittedPart]) ->
     where a further part would have to go (the heavy spot of the residual
     unbalance is opposite it).
 
+    Parameters
+    ----------
+    correction_gmm : complex
+        Required correction [g·mm], at the angle where mass must be added.
+    parts : iterable of FittedPart
+        The parts fitted (and removed).
+
     References
     ----------
-    Vector addition of unbalances in one plane; ISO 21940-11:2016 (residual
-    unbalance as the vector left after correction).
+    Residual unbalance as the vector left after correction [ISO21940-11].
     """
     return correction_gmm - fitted_gmm(parts)
+
+
+def residual_of(target: np.ndarray, effects: np.ndarray,
+                parts: Iterable[tuple[int, int, int]]) -> np.ndarray:
+    """Residual ``target + Σ count·effects[row, column]`` of a part list, in array form.
+
+    Parameters
+    ----------
+    target : complex array (n_channels,)
+        The residual with no parts [g·mm, or the reading's unit per channel].
+    effects : complex array (n_rows, n_columns, n_channels)
+        What one part of a column on a row changes [as ``target``].
+    parts : iterable of (row, column, count)
+        The parts.
+
+    Returns
+    -------
+    complex array (n_channels,)
+        The residual [as ``target``].
+    """
+    total = np.array(target, dtype=complex, copy=True)
+    for row, column, count in parts:
+        total = total + count * effects[row, column]
+    return total
+
+
+def objective_of(values: np.ndarray, weights: np.ndarray, norm: str) -> float:
+    """The field objective of a vibration vector: weighted largest or root-sum-square.
+
+    Parameters
+    ----------
+    values : complex array (n_channels,)
+        Vibration at each sensor [session unit and measure].
+    weights : float array (n_channels,)
+        Each sensor's weight; the amplitudes are scaled by its square root.
+    norm : {"max", "rms"}
+        Largest weighted amplitude, or root of the sum of their squares.
+
+    Returns
+    -------
+    float
+        The objective [session unit and measure, weighted].
+    """
+    scaled = np.sqrt(weights) * np.abs(values)
+    return float(scaled.max() if norm == "max" else np.linalg.norm(scaled))

@@ -11,8 +11,7 @@ residual is reported beside it.  Seeded, so runs repeat exactly.
 References
 ----------
 Monte Carlo estimation of a probability: the share of independent draws,
-with standard error sqrt(p(1 - p)/n) (any text on sampling, e.g. Rubinstein
-and Kroese, Simulation and the Monte Carlo Method, ch. 4; from memory).  The
+with standard error sqrt(p(1 - p)/n) ([RubinsteinKroese], ch. 4; from memory).  The
 uniform bands are placer's own assumption for "± g" and "± degrees".
 """
 
@@ -22,10 +21,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from placer.limits import DEFAULT_SAMPLES, DEFAULT_SEED
 from placer.plan import FittedPart
-
-DEFAULT_SAMPLES = 4000
-DEFAULT_SEED = 2026
 
 
 @dataclass(frozen=True)

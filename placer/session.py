@@ -7,7 +7,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from placer.catalog import Catalog
-from placer.geometry import PlaneGeometry, gmm_vector
+from placer.geometry import PlaneGeometry, polar
 from placer.job import Rotor
 
 RUN_KINDS = ("reference", "trial", "check")
@@ -49,7 +49,7 @@ class PlacedMass:
 
     @property
     def gmm(self) -> complex:
-        return gmm_vector(self.count * self.mass_g * self.radius_mm, self.angle_deg)
+        return polar(self.count * self.mass_g * self.radius_mm, self.angle_deg)
 
 
 @dataclass(frozen=True)

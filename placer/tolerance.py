@@ -25,6 +25,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 
 from placer.errors import ToleranceError
+from placer.job import Job
 
 __all__ = [
     "BALANCE_QUALITY_GRADES_MM_S",
@@ -32,6 +33,9 @@ __all__ = [
     "OZ_IN_TO_GMM",
     "LB_TO_KG",
     "PlaneShare",
+    "PlaneTolerance",
+    "JobTolerances",
+    "job_tolerances",
     "parse_grade",
     "permissible_residual_gmm",
     "permissible_eccentricity_um",
@@ -457,3 +461,86 @@ def api_617_limit_gmm(journal_load_kg: float, max_continuous_rpm: float) -> floa
     load_kg = _positive_finite(journal_load_kg, "journal_load_kg", "kg")
     speed = _positive_finite(max_continuous_rpm, "max_continuous_rpm", "r/min")
     return 6350.0 * load_kg / speed
+
+
+@dataclass(frozen=True)
+class PlaneTolerance:
+    """One plane's tolerance and where it came from.
+
+    Attributes
+    ----------
+    tolerance_gmm : float or None
+        Permissible residual in the plane [g·mm]; None when none is given.
+    source : str
+        Where it came from, for the sheet ("job file (tolerance_gmm)", or the
+        grade's share).
+    """
+
+    tolerance_gmm: float | None
+    source: str
+
+
+@dataclass(frozen=True)
+class JobTolerances:
+    """The tolerances of a job: U_per from the grade, its shares, and each plane's.
+
+    Attributes
+    ----------
+    permissible_gmm : float or None
+        U_per of the whole rotor [g·mm]; None without grade, mass and speed.
+    shares : tuple of PlaneShare or None
+        U_per allocated to the planes (None with ``permissible_gmm``).
+    planes : tuple of PlaneTolerance
+        Each plane's tolerance: its own ``tolerance_gmm``, else its share.
+    notes : tuple of str
+        Why no tolerance comes from the grade, when that is not plain.
+    """
+
+    permissible_gmm: float | None
+    shares: tuple[PlaneShare, ...] | None
+    planes: tuple[PlaneTolerance, ...]
+    notes: tuple[str, ...]
+
+
+def job_tolerances(job: Job) -> JobTolerances:
+    """Each plane's tolerance: its own ``tolerance_gmm``, else its share of U_per.
+
+    U_per comes from the rotor's grade, mass and maximum service speed and is
+    shared between the planes by the lever rule (``com_distances_mm``) or
+    equally.
+
+    Parameters
+    ----------
+    job : Job
+        The rotor and its planes (their corrections are not used).
+
+    Returns
+    -------
+    JobTolerances
+
+    References
+    ----------
+    [ISO21940-11] U_per and its allocation to the correction planes.
+    """
+    rotor = job.rotor
+    given = [rotor.grade_mm_s is not None, rotor.mass_kg is not None,
+             rotor.service_rpm is not None]
+    u_per = shares = None
+    notes: tuple[str, ...] = ()
+    if all(given):
+        u_per = permissible_residual_gmm(rotor.grade_mm_s, rotor.mass_kg, rotor.service_rpm)
+        shares = tuple(allocate_to_planes(u_per, [p.geometry.name for p in job.planes],
+                                          rotor.com_distances_mm))
+    elif any(given):
+        notes = ("grade, mass_kg and service_rpm are all needed for a tolerance from the "
+                 "balance quality grade; planes use tolerance_gmm only",)
+    planes = []
+    for index, own in enumerate(p.tolerance_gmm for p in job.planes):
+        if own is not None:
+            planes.append(PlaneTolerance(own, "job file (tolerance_gmm)"))
+        elif shares is not None:
+            planes.append(PlaneTolerance(shares[index].permissible_gmm,
+                                         f"{shares[index].share:.0%} of U_per from the grade"))
+        else:
+            planes.append(PlaneTolerance(None, "none given"))
+    return JobTolerances(u_per, shares, tuple(planes), notes)

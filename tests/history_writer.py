@@ -21,8 +21,8 @@ from pathlib import Path
 
 import numpy as np
 
+from placer.geometry import polar
 from placer.io.history import History, MassRecord, RunRecord, VisitRecord
-from placer.readings import phasor
 
 
 class WatchedConnection:
@@ -97,7 +97,7 @@ def make_visit(machine_id: str = "WM-EF-07",
                       MassRecord(n_planes - 1, None, 17.5, 198.0, 3.25, None, 1, "fitted",
                                  False))
         runs.append(RunRecord(f"run {r + 1}", kind, readings,
-                              tuple(phasor(a, p) for a, p in readings), masses))
+                              tuple(polar(a, p) for a, p in readings), masses))
     matrix = None
     condition = None
     if coefficients:

@@ -24,13 +24,14 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from oracle import brute_front
+
 from placer.batch import BatchSolver, RotorReading, solve_readings
-from placer.io.batchfile import read_readings, read_template, run_batch
+from placer.engine.arrays import plane_arrays
 from placer.errors import InputError
+from placer.io.batchfile import read_readings, read_template, run_batch
 from placer.io.jobfile import read_job
-from placer.solve import plane_arrays, solve_job
+from placer.solve import solve_job
 
 ROTOR = """[rotor]
 name = "Wrenmoor supply fan impeller SF-2"
@@ -442,7 +443,7 @@ def test_tabulated_front_equals_the_search(capacity, stock):
     # The batch's table lookup against placer.engine.search's own head-and-pair search,
     # every entry of the front, on the 12-hole washer plane (masses of
     # catalogs/washers-steel.toml) and with capacity or stock binding.
-    from placer.batch import BatchSearch
+    from placer.engine.tabulated import TabulatedSearch
 
     masses = np.array([1.02, 1.83, 3.57, 6.27, 11.30])
     unit = 150.0 * np.exp(1j * np.radians(np.arange(12) * 30.0))
@@ -450,8 +451,8 @@ def test_tabulated_front_equals_the_search(capacity, stock):
     cap = np.full(12, capacity)
     cap[4] = 0  # one blocked hole
     stock_of = np.full(5, stock)
-    tabulated = BatchSearch(effects, cap, stock_of, 4)
-    searched = BatchSearch(effects, cap, stock_of, 4, tabulate_max=0)
+    tabulated = TabulatedSearch(effects, cap, stock_of, 4)
+    searched = TabulatedSearch(effects, cap, stock_of, 4, tabulate_max=0)
     assert tabulated.tabulated and not searched.tabulated
     rng = np.random.default_rng(5)
     for _ in range(30):
@@ -593,7 +594,7 @@ def test_outputs_are_strict_json_even_for_a_non_finite_value():
 def test_no_plane_arrays_per_rotor(monkeypatch, quick_files):
     template = quick_files[0]
     # Everything but the target is built once: solving rotors must not
-    # rebuild a plane's arrays (placer.solve.plane_arrays).
+    # rebuild a plane's arrays (placer.engine.arrays.plane_arrays).
     import placer.batch
 
     job = read_template(template)
@@ -604,7 +605,7 @@ def test_no_plane_arrays_per_rotor(monkeypatch, quick_files):
         raise AssertionError("plane_arrays called for a rotor")
 
     monkeypatch.setattr(placer.batch, "plane_arrays", rebuilt)
-    monkeypatch.setattr("placer.solve.plane_arrays", rebuilt)
+    monkeypatch.setattr("placer.engine.arrays.plane_arrays", rebuilt)
     for i, (serial, planes) in enumerate(random_rows(12)):
         reading = RotorReading(i + 2, serial, tuple(
             complex(g * math.cos(math.radians(a)), g * math.sin(math.radians(a)))

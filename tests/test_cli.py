@@ -29,7 +29,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from conftest import example_files, example_kind
 from oracle import brute_front
 

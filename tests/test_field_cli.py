@@ -19,9 +19,9 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from test_fieldplan import rect, session_toml, synthetic, unit_vector
 
 from placer.cli import main
-from test_fieldplan import rect, session_toml, synthetic, unit_vector
 
 ROOT = Path(__file__).resolve().parent.parent
 VISIT = ROOT / "examples" / "exhaust-fan-visit.toml"

@@ -14,8 +14,8 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from oracle import brute_front
+
 from placer.fieldplan import objective_of, solve_session
 from placer.influence import StoredCoefficients
 from placer.io.sessionfile import read_session

@@ -24,10 +24,10 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from history_writer import make_visit, watch_connections
-from placer.io import history
+
 from placer.errors import PlacerError
+from placer.io import history
 from placer.io.history import History, HistoryError, MachineSummary, default_db_path
 
 WRITER = Path(__file__).with_name("history_writer.py")

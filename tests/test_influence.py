@@ -18,12 +18,24 @@ import math
 import numpy as np
 import pytest
 
-from placer.influence import (CoefficientMismatch, StoredCoefficients, adapt_stored,
-                              coefficients_from_runs, condition_number,
-                              least_squares_correction, static_couple, trial_mass_g,
-                              trial_run_warnings)
-from placer.readings import (amplitude_scale, convert_amplitude, phase_in_rotor_sense, phasor,
-                             sense_against_rotation)
+from placer.geometry import polar
+from placer.influence import (
+    CoefficientMismatch,
+    StoredCoefficients,
+    adapt_stored,
+    coefficients_from_runs,
+    condition_number,
+    least_squares_correction,
+    static_couple,
+    trial_mass_g,
+    trial_run_warnings,
+)
+from placer.readings import (
+    amplitude_scale,
+    convert_amplitude,
+    phase_in_rotor_sense,
+    sense_against_rotation,
+)
 
 
 def rect(a, deg):
@@ -244,7 +256,7 @@ def test_reading_conventions():
     assert phase_in_rotor_sense(30, "lag", "with rotation") == pytest.approx(330)
     assert phase_in_rotor_sense(30, "lag", "clockwise", "counterclockwise") == pytest.approx(30)
     assert phase_in_rotor_sense(30, "lag", "clockwise", "clockwise") == pytest.approx(330)
-    assert phasor(2.0, 90.0) == pytest.approx(2j)
+    assert polar(2.0, 90.0) == pytest.approx(2j)
     assert amplitude_scale("mils", "peak-to-peak", "um", "peak") == pytest.approx(12.7)
     with pytest.raises(ValueError):
         amplitude_scale("um", "peak", "mm/s", "peak")
@@ -259,8 +271,8 @@ def test_phase_sense_does_not_change_the_physical_answer():
     trials = np.array([[rect(3600, 45), 0], [0, rect(3600, 180)]])
     runs = [v0 + a @ t for t in trials]
     # As lead readings the phases are negated; converting back must give the same W.
-    to_lead = lambda v: np.array([phasor(abs(x), -math.degrees(cmath.phase(x))) for x in v])  # noqa: E731
-    back = lambda v: np.array([phasor(abs(x), phase_in_rotor_sense(  # noqa: E731
+    to_lead = lambda v: np.array([polar(abs(x), -math.degrees(cmath.phase(x))) for x in v])  # noqa: E731
+    back = lambda v: np.array([polar(abs(x), phase_in_rotor_sense(  # noqa: E731
         math.degrees(cmath.phase(x)), "lead", "against rotation")) for x in v])
     coeff = coefficients_from_runs(back(to_lead(v0)), np.array([back(to_lead(r)) for r in runs]),
                                    trials, ["s1", "s2"], ["p1", "p2"])

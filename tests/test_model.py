@@ -3,15 +3,14 @@
 from __future__ import annotations
 
 import cmath
-import math
 
 import numpy as np
 import pytest
-
 from oracle import brute_front
+from test_search import ring_effects
+
 from placer.engine.model import ModelPlane, min_residual, solve_shared_stock
 from placer.engine.search import residual_of
-from test_search import ring_effects
 
 
 @pytest.mark.parametrize("seed", range(6))

@@ -198,6 +198,7 @@ def test_solve_job_residuals_recomputed_by_hand_and_least_by_enumeration(numbers
     from pathlib import Path
 
     from oracle import brute_front
+
     from placer.io.jobfile import read_job
     from placer.solve import solve_job
 
@@ -268,11 +269,12 @@ def test_batch_table_path_against_enumeration(inst):
     # The batch's fast path (every selection tabulated, one k-d tree query per
     # part count) against brute-force enumeration of every plan (tests/oracle.py).
     from oracle import brute_front
-    from placer.batch import BatchSearch
+
+    from placer.engine.tabulated import TabulatedSearch
 
     angles, radii, masses, capacity, stock, target, k = inst
     effects = effects_of(angles, radii, masses)
-    search = BatchSearch(effects, capacity, stock, k)
+    search = TabulatedSearch(effects, capacity, stock, k)
     assert search.tabulated or search.n == 0
     front = search.front(np.array([target]))
     truth = brute_front(effects, np.array([target]), capacity, stock, k)

@@ -15,7 +15,11 @@ from placer.io.jobfile import read_job
 from placer.plan import FittedPart
 from placer.robust import residual_samples_gmm, robustness
 from placer.solve import FittingErrors, solve_job
-from placer.stockparts import ALUMINIUM_DENSITY_G_CM3, STEEL_DENSITY_G_CM3, drilled_hole_mass_g
+from placer.stockparts import (
+    ALUMINIUM_DENSITY_G_CM3,
+    STEEL_DENSITY_G_CM3,
+    drilled_hole_mass_g,
+)
 
 ROOT = Path(__file__).resolve().parent.parent
 

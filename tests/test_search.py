@@ -10,9 +10,9 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
+from oracle import brute_front
 
 import placer.engine.search
-from oracle import brute_front
 from placer.engine.search import PlacementSearch, residual_of
 
 

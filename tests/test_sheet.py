@@ -25,16 +25,25 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from conftest import example_files
+
 from placer.cli import main
 from placer.errors import InputError
 from placer.io.jobfile import read_job
 from placer.plan import FittedPart
-from placer.views.terminal.job import DRILL_CAUTION
-from placer.views.sheet import (MATPLOTLIB_MISSING, PNG_DPI, _fmt_gmm, angles_counterclockwise,
-                          page_angle_deg, plane_page, rotation_clockwise, spread_deg, write_sheet)
 from placer.solve import solve_job
+from placer.views.sheet import (
+    MATPLOTLIB_MISSING,
+    PNG_DPI,
+    _fmt_gmm,
+    angles_counterclockwise,
+    page_angle_deg,
+    plane_page,
+    rotation_clockwise,
+    spread_deg,
+    write_sheet,
+)
+from placer.views.terminal.job import DRILL_CAUTION
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 SUPPLY_FAN = EXAMPLES / "supply-fan.toml"

@@ -8,14 +8,15 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+from oracle import brute_front
+from test_search import ring_effects
 
 import placer.engine.search
-from oracle import brute_front
+from placer.engine.arrays import PlaneArrays
+from placer.engine.front import choose, exact_front
 from placer.io.jobfile import read_job
-from placer.plan import choose
 from placer.residual import residual_vector_gmm
-from placer.solve import PlaneArrays, exact_front, solve_job
-from test_search import ring_effects
+from placer.solve import solve_job
 
 CATALOG = """
 name = "test drawer"

@@ -15,8 +15,13 @@ import numpy as np
 import pytest
 
 from placer.errors import InputError
-from placer.handbook import (bracketing_positions, handbook_plan, nearest_item, residual_gmm,
-                          split_between)
+from placer.handbook import (
+    bracketing_positions,
+    handbook_plan,
+    nearest_item,
+    residual_gmm,
+    split_between,
+)
 
 # FIST Volume 2-2 prints the exact split to 0.01 lb, so it agrees with the
 # exact value to half a unit of its last digit.

@@ -8,7 +8,12 @@ import math
 import pytest
 
 from placer.errors import InputError
-from placer.stockparts import ISO_7089_NORMAL, STEEL_DENSITY_G_CM3, WasherSize, washer_mass_g
+from placer.stockparts import (
+    ISO_7089_NORMAL,
+    STEEL_DENSITY_G_CM3,
+    WasherSize,
+    washer_mass_g,
+)
 
 # REFERENCES.md prints the washer masses to 0.01 g, so a printed figure stands
 # for anything within half a unit of its last digit (0.005 g); 0.006 g allows

@@ -31,6 +31,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from placer.engine.search import PartList
+from placer.limits import DEFAULT_TIME_LIMIT_S
 
 _SCALE_UNITS = 1.0e6
 """Integer units the largest effect or target is scaled to (at most; see `_scale_units`)."""
@@ -172,7 +173,7 @@ class _Built:
 
 
 def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
-                       time_limit_s: float = 10.0) -> ModelOutcome:
+                       time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> ModelOutcome:
     """All planes at once under shared stock, lexicographically.
 
     First the most planes within tolerance; then the least residual of the
@@ -217,7 +218,7 @@ def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
                         solver.StatusName(status))
 
 
-def min_residual(plane: ModelPlane, time_limit_s: float = 10.0) -> ModelOutcome:
+def min_residual(plane: ModelPlane, time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> ModelOutcome:
     """Least residual of one plane with at most ``plane.max_parts`` parts.
 
     The lower bound is the solver's bound on the scaled squared norm, turned

@@ -46,6 +46,9 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.residual import residual_of
+
 NORMS = ("euclidean", "max")
 """Norms the search can minimise over the channels of the residual."""
 
@@ -101,26 +104,6 @@ class Front:
     @property
     def optimal(self) -> bool:
         return all(entry.proven for entry in self.entries)
-
-
-def residual_of(target: np.ndarray, effects: np.ndarray, parts: PartList) -> np.ndarray:
-    """Residual ``target + sum count * effects[position, item]`` of a part list.
-
-    Parameters
-    ----------
-    target : complex array (n_channels,)
-    effects : complex array (n_positions, n_items, n_channels)
-    parts : (position_index, item_index, count) triples
-    """
-    total = np.array(target, dtype=complex, copy=True)
-    for position, item, count in parts:
-        total = total + count * effects[position, item]
-    return total
-
-
-def is_proven(found: float, lower_bound: float) -> bool:
-    """True when ``found`` is within 0.5 % or 0.01 of the proven ``lower_bound``."""
-    return found <= max(lower_bound * (1.0 + REL_TOL), lower_bound + ABS_TOL) + 1e-12
 
 
 class PlacementSearch:
@@ -185,7 +168,7 @@ class PlacementSearch:
     def _pair_table(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
         if self._pairs is None:
             a, b = np.triu_indices(self.n)
-            ok = _feasible(np.stack([a, b], axis=1), self.pos_of, self.item_of,
+            ok = feasible(np.stack([a, b], axis=1), self.pos_of, self.item_of,
                            self.capacity, self.stock)
             a, b = a[ok], b[ok]
             self._pairs = (a, b, self.eff_real[a] + self.eff_real[b])
@@ -213,7 +196,7 @@ class PlacementSearch:
 
     # ----------------------------------------------------------------- search
     def front(self, target: np.ndarray, max_parts: int | None = None,
-              budget_s: float = 10.0) -> Front:
+              budget_s: float = DEFAULT_TIME_LIMIT_S) -> Front:
         """Least residual for each part count 0 .. max_parts for this ``target``.
 
         A part count whose search would run past ``budget_s`` seconds (from the
@@ -287,7 +270,7 @@ class PlacementSearch:
                 ri, ci = np.nonzero(cand)
                 grown = np.concatenate([r[ri], ci[:, None]], axis=1)
                 grown_sums = s[ri] + self.eff_real[ci]
-                ok = _feasible(grown, self.pos_of, self.item_of, self.capacity, self.stock)
+                ok = feasible(grown, self.pos_of, self.item_of, self.capacity, self.stock)
                 ok &= self._head_bound(grown_sums, grown, k, t_real) < bound
                 new_rows.append(grown[ok])
                 new_sums.append(grown_sums[ok])
@@ -340,7 +323,7 @@ class PlacementSearch:
                 safe = np.where(finite, idx, 0)
                 combos = np.concatenate([np.repeat(h, n_neigh, axis=0),
                                          cols[safe.ravel()]], axis=1)
-                ok = _feasible(combos, self.pos_of, self.item_of, self.capacity,
+                ok = feasible(combos, self.pos_of, self.item_of, self.capacity,
                                self.stock).reshape(len(h), n_neigh) & finite
                 if self.norm == "euclidean":
                     value = dist
@@ -392,7 +375,7 @@ class PlacementSearch:
             while begin < len(order):
                 batch = order[begin:begin + size]
                 combos = np.concatenate([h[hi[batch]], cols[ci[batch]]], axis=1)
-                ok = _feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
+                ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
                 if ok.any():
                     first = batch[int(np.argmax(ok))]
                     best_row = combos[int(np.argmax(ok))]
@@ -414,7 +397,7 @@ class PlacementSearch:
         candidates = candidates[np.argsort(value[candidates], kind="stable")]
         combos = np.concatenate([np.repeat(row[None, :], len(candidates), axis=0),
                                  cols[candidates]], axis=1)
-        ok = _feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
+        ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
         if not ok.any():
             return None
         j = candidates[int(np.argmax(ok))]
@@ -454,7 +437,7 @@ def _as_real(values: np.ndarray) -> np.ndarray:
     return np.concatenate([values.real, values.imag], axis=1)
 
 
-def _feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
+def feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
               capacity: np.ndarray, stock: np.ndarray) -> np.ndarray:
     """Which multisets of placements (one per row) respect capacity and stock."""
     width = rows.shape[1]

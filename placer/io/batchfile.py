@@ -119,15 +119,30 @@ from dataclasses import asdict, dataclass, replace
 from pathlib import Path
 from typing import Any, TextIO
 
-from placer.batch import (BatchSummary, BatchTally, RotorOutcome, RotorReading, default_jobs,
-                          processes_used, reading_digest, solve_readings, usable_cores)
+from placer.batch import (
+    BatchSummary,
+    BatchTally,
+    RotorOutcome,
+    RotorReading,
+    default_jobs,
+    processes_used,
+    reading_digest,
+    solve_readings,
+    usable_cores,
+)
 from placer.errors import InputError, JobError
-from placer.io.tables import (MAX_WHOLE, RANGE_EXPECTED, Table, json_text, number_problem,
-                           printable, read_toml, whole_number_text)
-from placer.geometry import angle_of_deg, gmm_vector
-from placer.job import Job
+from placer.geometry import angle_of_deg, polar
 from placer.io.jobfile import _plane, _rotor
-from placer.solve import DEFAULT_TIME_LIMIT_S
+from placer.io.tables import (
+    Table,
+    json_text,
+    number_problem,
+    printable,
+    read_toml,
+    whole_number_text,
+)
+from placer.job import Job
+from placer.limits import DEFAULT_TIME_LIMIT_S, MAX_WHOLE, RANGE_EXPECTED
 
 SERIAL_PATTERN = re.compile(r"[A-Za-z0-9._-]{1,40}")
 """A serial: 1 to 40 ASCII letters, digits, '-', '_' or '.'."""
@@ -430,7 +445,7 @@ def _vector(raw_magnitude: Any, raw_angle: Any, columns: _PlaneColumns, magnitud
     if isinstance(angle, str):
         return angle
     gmm = magnitude * columns.radius_mm if columns.kind == "mass_g" else magnitude
-    vector = gmm_vector(gmm, angle)
+    vector = polar(gmm, angle)
     if not (math.isfinite(vector.real) and math.isfinite(vector.imag)):  # cannot happen in range
         return f"{magnitude_name} gives a correction that is not finite (expected {RANGE_EXPECTED})"
     return vector
@@ -870,8 +885,13 @@ def progress_display(stream: TextIO | None = None, terminal: bool | None = None,
 
     if terminal:
         from rich.console import Console
-        from rich.progress import (BarColumn, MofNCompleteColumn, Progress, TextColumn,
-                                   TimeRemainingColumn)
+        from rich.progress import (
+            BarColumn,
+            MofNCompleteColumn,
+            Progress,
+            TextColumn,
+            TimeRemainingColumn,
+        )
 
         bar = Progress(TextColumn("rotors"), BarColumn(), MofNCompleteColumn(),
                        TextColumn("{task.fields[rate]} rotors/s"), TimeRemainingColumn(),

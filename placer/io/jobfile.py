@@ -6,12 +6,17 @@ import math
 from pathlib import Path
 
 from placer.catalog import Catalog
-from placer.io.catalogfile import read_catalog, resolve_catalog
 from placer.errors import JobError, ToleranceError
+from placer.geometry import PlaneGeometry, equally_spaced_deg, polar
+from placer.io.catalogfile import read_catalog, resolve_catalog
 from placer.io.tables import Table, read_toml
-from placer.geometry import PlaneGeometry, equally_spaced_deg, gmm_vector
-from placer.job import (DEFAULT_ANGLE_SENSE, DEFAULT_MAX_PARTS, ExistingPart, Job, PlaneJob,
-                        Rotor)
+from placer.job import DEFAULT_ANGLE_SENSE, ExistingPart, Job, PlaneJob, Rotor
+from placer.limits import (
+    DEFAULT_MAX_PARTS,
+    MAX_CAPACITY,
+    MAX_PARTS_LIMIT,
+    MAX_POSITIONS,
+)
 from placer.tolerance import parse_grade
 
 ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense",
@@ -25,8 +30,6 @@ ACCEPTS = ("both", "add", "remove")
 CORRECTION_BASES = ("further", "total")
 VECTOR_KEYS = ("mass_g", "gmm", "angle_deg")
 ANGLE_SENSES = ("against rotation", "with rotation", "clockwise", "counterclockwise")
-MAX_POSITIONS = 3600
-MAX_PARTS_LIMIT = 8
 
 
 def read_job(path: Path) -> Job:
@@ -146,7 +149,7 @@ def plane_geometry(t: Table, base_dir: Path,
     angles = _angles(t)
     radii = _radii(t, len(angles))
     blocked = _blocked(t, len(angles))
-    capacity = t.integer("capacity", default=1, minimum=1, maximum=12)
+    capacity = t.integer("capacity", default=1, minimum=1, maximum=MAX_CAPACITY)
     raw = t.data.get("catalog")
     references = raw if isinstance(raw, list) else [t.text("catalog", required=True)]
     parts = []
@@ -257,7 +260,7 @@ def _requirement(t: Table) -> tuple[complex, str]:
         text = f"{which} {magnitude:g} g·mm at {angle:g}°"
     else:
         raise v.fail("mass_g", "missing", "mass_g = ... or gmm = ...")
-    vector = gmm_vector(magnitude, angle)
+    vector = polar(magnitude, angle)
     if which == "unbalance":
         vector = -vector
     if not (math.isfinite(vector.real) and math.isfinite(vector.imag)):

@@ -5,8 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from placer.geometry import angle_of_deg
-from placer.plan import PlanOption
-from placer.solve import JobResult, PlaneResult, further_correction_gmm
+from placer.plan import JobResult, PlaneResult, PlanOption
 
 
 def option_dict(option: PlanOption) -> dict[str, Any]:
@@ -43,8 +42,8 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
             "angle_deg": float(angle_of_deg(plane.correction_gmm)),
             "given_as": plane.given_as,
         },
-        "further_gmm": float(abs(further_correction_gmm(plane))),
-        "further_angle_deg": float(angle_of_deg(further_correction_gmm(plane))),
+        "further_gmm": float(abs(plane.further_correction_gmm)),
+        "further_angle_deg": float(angle_of_deg(plane.further_correction_gmm)),
         "existing": [{"position": e.position, "item": plane.catalog.items[e.item].id,
                       "count": e.count} for e in plane.existing],
         "catalog": plane.catalog.name,

@@ -35,10 +35,20 @@ import numpy as np
 
 from placer.catalog import Catalog
 from placer.errors import JobError
-from placer.io.tables import Table, read_toml
+from placer.geometry import polar
 from placer.io.jobfile import PLANE_KEYS, _rotor, plane_geometry
-from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense, phasor
-from placer.session import FIELD_NORMS, RUN_KINDS, Channel, FieldPlane, PlacedMass, Run, Session
+from placer.io.tables import Table, read_toml
+from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
+from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense
+from placer.session import (
+    FIELD_NORMS,
+    RUN_KINDS,
+    Channel,
+    FieldPlane,
+    PlacedMass,
+    Run,
+    Session,
+)
 
 FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
     "correction", "unbalance", "tolerance_gmm", "max_parts", "existing"))
@@ -125,7 +135,8 @@ def read_session(path: Path) -> Session:
         rotor=rotor, rotation=rotation, plane_separation_mm=separation, unit=unit,
         measure=measure, phase_sense=phase, channels=tuple(channels), planes=tuple(planes),
         runs=runs, norm=norm,
-        max_parts=solve.integer("max_parts", default=4, minimum=1, maximum=8),
+        max_parts=solve.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
+                                  maximum=MAX_PARTS_LIMIT),
         coefficients=coefficients, source=file,
         vibration_limit=solve.number("vibration_limit", positive=True), visit_date=visit_date)
 
@@ -162,7 +173,7 @@ class _Converter:
 
     def __call__(self, amplitude: float, phase_deg: float) -> complex:
         angle = phase_in_rotor_sense(phase_deg, self.phase, self.sense, self.rotation)
-        return phasor(amplitude, angle)
+        return polar(amplitude, angle)
 
 
 def _run(t: Table, convert: _Converter, n_channels: int, planes: list[FieldPlane]) -> Run:

@@ -4,27 +4,16 @@ Used by every reader (job, catalogue, session, batch template).  Each getter
 raises the reader's error class with the file, the key path and what was
 expected.
 
-Numbers at the edges (Notes)
-----------------------------
-Every number a file gives is zero or between :data:`MIN_MAGNITUDE` and
-:data:`MAX_MAGNITUDE` in size (whole numbers: at most ``MAX_MAGNITUDE``).
-The ceiling keeps every product placer forms (mass_g · radius_mm · count,
-1000 · G · m / ω, sums over thousands of parts) far from the float64
-overflow at 1.8e308, so that no result is infinite; the floor keeps the
-quotients (the permissible residual 1000 · G · m / ω) from underflowing to
-zero.  Both are far outside anything a balancing shop measures (1e12 g is a
-million tonnes, 1e-12 mm a hundredth of an atom).  :func:`read_toml` checks
-the whole numbers of a file as it parses it, so that one of thousands of
-digits is reported with its key instead of failing float conversion
-later; :func:`number_problem` is the same rule for the CSV and JSON-lines
-readers of ``placer batch``.
+Every number is held to the range of :mod:`placer.limits`;
+:func:`read_toml` checks the whole numbers of a file as it parses it, so that
+one of thousands of digits is reported with its key instead of failing float
+conversion later; :func:`number_problem` is the one range rule, used here
+and by the CSV and JSON-lines readers of ``placer batch``.
 
 References
 ----------
-IEEE 754-2008, binary64 range (largest finite 1.8e308, smallest normal
-2.2e-308); Python ``sys.int_info.str_digits_check_threshold`` (4300-digit
-limit on int/str conversion, CVE-2020-10735).  The limits themselves are
-common practice, no source.
+[PythonDocs] ``sys.int_info.str_digits_check_threshold`` (4300-digit limit on
+int/str conversion); [RFC8259] section 6 for :func:`json_text`.
 """
 
 from __future__ import annotations
@@ -37,27 +26,27 @@ from pathlib import Path
 from typing import Any
 
 from placer.errors import InputError
-
-MAX_MAGNITUDE = 1e12
-"""Largest size of any number in a placer input file (see the module notes)."""
-MIN_MAGNITUDE = 1e-12
-"""Smallest size of a number other than zero in a placer input file."""
-MAX_WHOLE = 10**12
-"""Largest size of a whole number in a placer input file."""
-RANGE_EXPECTED = "zero or a number between 1e-12 and 1e12 in size"
+from placer.limits import MAX_MAGNITUDE, MAX_WHOLE, MIN_MAGNITUDE, RANGE_EXPECTED
 
 
 def number_problem(value: float) -> str | None:
     """Why a float cannot be used as an input number, or None when it can.
 
-    Non-finite values and values outside the range of the module notes are
-    refused; the text completes "<key> is ...".
+    Non-finite values and values outside the range of :mod:`placer.limits`
+    are refused; the text completes "<key> is ...".
     """
+    problem = range_problem(value)
+    return None if problem is None else f"{problem[0]} (expected {problem[1]})"
+
+
+def range_problem(value: float) -> tuple[str, str] | None:
+    """(the value as shown, what was expected) when ``value`` is not finite or out of
+    the range of :mod:`placer.limits`; None when it can be used."""
     if not math.isfinite(value):
-        return f"{value} (expected a finite number)"
+        return f"{value}", "a finite number"
     size = abs(value)
     if size > MAX_MAGNITUDE or 0.0 < size < MIN_MAGNITUDE:
-        return f"{value:g} (expected {RANGE_EXPECTED})"
+        return f"{value:g}", RANGE_EXPECTED
     return None
 
 
@@ -215,11 +204,9 @@ class Table:
         if isinstance(value, int) and abs(value) > MAX_WHOLE:
             raise self.fail(name, f"is {whole_number_text(value)}", RANGE_EXPECTED)
         value = float(value)
-        if not math.isfinite(value):
-            raise self.fail(name, f"is {value}", "a finite number")
-        size = abs(value)
-        if size > MAX_MAGNITUDE or 0.0 < size < MIN_MAGNITUDE:
-            raise self.fail(name, f"is {value:g}", RANGE_EXPECTED)
+        problem = range_problem(value)
+        if problem is not None:
+            raise self.fail(name, f"is {problem[0]}", problem[1])
         if positive and value <= 0:
             raise self.fail(name, f"is {value:g}", "a number above zero")
         if non_negative and value < 0:

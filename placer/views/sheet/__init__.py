@@ -23,7 +23,7 @@ no rotation arrow is drawn.  Positions are drawn at their radius relative
 to the largest one.
 
 The arrows are the correction still needed with any existing parts on
-(``placer.solve.further_correction_gmm``) and the residual after the plan,
+(``PlaneJob.further_correction_gmm``) and the residual after the plan,
 to one scale.  A residual too short to see at that scale is drawn enlarged
 and labelled so; one that is zero to within ``ZERO_SHARE`` of the plane's
 largest magnitude is not drawn but printed as "residual ≈ 0".
@@ -47,8 +47,7 @@ from typing import Any
 
 from placer.errors import InputError
 from placer.geometry import angle_of_deg
-from placer.plan import FittedPart
-from placer.solve import JobResult, PlaneResult, further_correction_gmm
+from placer.plan import FittedPart, JobResult, PlaneResult
 
 SUFFIXES = (".pdf", ".png", ".svg")
 """File types the sheet is written as."""
@@ -258,7 +257,7 @@ class PlaneFacts:
 def plane_facts(plane: PlaneResult) -> PlaneFacts:
     """What one page shows of ``plane`` beside its plan (see :class:`PlaneFacts`)."""
     job = plane.plane
-    further = complex(further_correction_gmm(job))
+    further = complex(job.further_correction_gmm)
     given = complex(job.correction_gmm)
     basis = job.correction_basis if job.existing else "none"
     largest = max(abs(given), abs(further), plane.tolerance_gmm or 0.0)

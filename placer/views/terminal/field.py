@@ -13,8 +13,8 @@ from rich.text import Text
 
 from placer.fieldplan import FieldOption, FieldResult
 from placer.geometry import angle_of_deg
-from placer.io.history import MassRecord, VisitRecord, utc_label
 from placer.influence import trial_mass_g
+from placer.io.history import MassRecord, VisitRecord, utc_label
 from placer.views.terminal.job import CAUTIONS
 
 TRIAL_CAUTION = ("Trial runs spin the rotor with a weight fitted for the purpose: fasten it as "

@@ -10,7 +10,7 @@ from rich.text import Text
 
 from placer.catalog import Catalog
 from placer.geometry import angle_of_deg
-from placer.solve import JobResult, PlaneResult
+from placer.plan import JobResult, PlaneResult
 from placer.tolerance import PlaneShare
 
 CAUTIONS = (
