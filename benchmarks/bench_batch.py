@@ -9,7 +9,7 @@ at 150 mm, the 5 steel washers of the bundled catalogue "washers-steel", up to
 3 washers per bolt, plans of up to 4 parts, one correction plane, grade G6.3
 (8 kg, 1480 r/min).  N seeded rows are written as a readings CSV (magnitudes
 uniform between 0 and 3 times the largest washer's g·mm, angles uniform) and
-the batch is run in this process by ``placer.io.batchfile.run_batch``, as
+the batch is run in this process by ``placer.io.batchresults.run_batch``, as
 ``placer batch`` runs it, with ``jobs`` = 1, 2, ... up to the cores this
 process may use (``placer.batch.usable_cores``: its CPU affinity).  The
 time is the whole run: reading the files, building the tables (once, in
@@ -53,7 +53,8 @@ if str(REPO) not in sys.path:
 import scipy.spatial  # noqa: E402,F401  (imported here so no timing pays for it)
 
 from placer.batch import BatchSolver, RotorReading, usable_cores  # noqa: E402
-from placer.io.batchfile import read_readings, read_template, run_batch  # noqa: E402
+from placer.io.batchreadings import read_readings
+from placer.io.batchresults import read_template, run_batch  # noqa: E402
 from placer.io.catalogfile import read_catalog, resolve_catalog  # noqa: E402
 
 TARGET_PER_CORE = 500.0

@@ -3,7 +3,7 @@
 Pure core of ``placer batch``: takes the template :class:`placer.job.Job`
 and the rotors' readings as dataclasses, returns one :class:`RotorOutcome`
 per rotor and a :class:`BatchSummary`.  Reading and writing files is
-:mod:`placer.io.batchfile`'s business.
+:mod:`placer.io.batchreadings` and :mod:`placer.io.batchresults`.
 
 How a rotor is solved (Notes)
 -----------------------------

@@ -13,10 +13,21 @@ import math
 import sys
 from pathlib import Path
 
-from placer.errors import InputError, PlacerError
+from placer.errors import InputError, PlacerError, fill_options
 from placer.io.tables import json_text
+from placer.limits import (DEFAULT_SAMPLES, DEFAULT_SEED, DEFAULT_TIME_LIMIT_S, MAX_MAGNITUDE,
+                           MAX_PARTS_LIMIT, MAX_SAMPLES, MIN_MAGNITUDE, MIN_SAMPLES, MIN_WIDTH)
 
 EXIT_OK, EXIT_OUTSIDE, EXIT_BAD_INPUT = 0, 1, 2
+
+FLAGS = {
+    "time_limit_s": "--time-limit", "width": "--width", "min_chance": "--min-chance",
+    "samples": "--samples", "seed": "--seed", "max_parts": "--max-parts", "sheet": "--sheet",
+    "force": "--force", "out": "--out", "resume": "--resume", "jobs": "--jobs", "db": "--db",
+    "save": "--save", "mass_kg": "--mass-kg", "rpm": "--rpm", "radius_mm": "--radius-mm",
+    "distances_mm": "--distances-mm", "grade": "--grade", "visit": "--visit",
+}
+"""How the command line shows an argument the library names (see placer.errors)."""
 
 
 class _Parser(argparse.ArgumentParser):
@@ -47,7 +58,8 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("job", metavar="JOB", help="job file (TOML), see examples/")
     solve.add_argument("--json", action="store_true",
                        help="print one JSON object instead of the sheet")
-    solve.add_argument("--time-limit", type=float, default=10.0, metavar="SECONDS",
+    solve.add_argument("--time-limit", type=float, default=DEFAULT_TIME_LIMIT_S,
+                       metavar="SECONDS",
                        help="time the exact search may take per plane before it hands a part "
                             "count to the CP-SAT model, and the model's time for that count; "
                             "counts not proven in time are marked (default 10)")
@@ -58,10 +70,10 @@ def _parser() -> argparse.ArgumentParser:
                        help="choose the fewest parts whose chance of staying within tolerance "
                             "once fitted (mass tolerances, rotor.placement_error_deg) is at "
                             "least P, e.g. 0.9")
-    solve.add_argument("--samples", type=int, default=4000, metavar="N",
-                       help="Monte Carlo draws per plan for that chance (default 4000)")
-    solve.add_argument("--seed", type=int, default=2026, metavar="S",
-                       help="seed of the Monte Carlo draws, so runs repeat (default 2026)")
+    solve.add_argument("--samples", type=int, default=DEFAULT_SAMPLES, metavar="N",
+                       help=f"Monte Carlo draws per plan for that chance (default {DEFAULT_SAMPLES})")
+    solve.add_argument("--seed", type=int, default=DEFAULT_SEED, metavar="S",
+                       help=f"seed of the Monte Carlo draws, so runs repeat (default {DEFAULT_SEED})")
     solve.add_argument("--sheet", metavar="FILE",
                        help="also write a printable fitting sheet: .pdf (a page per plane), "
                             ".png or .svg (NAME-1.png... per plane when there are several); "
@@ -99,7 +111,8 @@ def _parser() -> argparse.ArgumentParser:
                                   "database (one line on stderr; nothing saved).")
     field.add_argument("session", metavar="SESSION", help="session file (TOML), see examples/")
     field.add_argument("--json", action="store_true", help="print one JSON object")
-    field.add_argument("--time-limit", type=float, default=10.0, metavar="SECONDS",
+    field.add_argument("--time-limit", type=float, default=DEFAULT_TIME_LIMIT_S,
+                       metavar="SECONDS",
                        help="time the coupled search may take; part counts not finished "
                             "in time are marked not proven (default 10)")
     field.add_argument("--norm", choices=("max", "rms"),
@@ -114,7 +127,7 @@ def _parser() -> argparse.ArgumentParser:
                        help="history database (default: $PLACER_DB, else placer/history.sqlite "
                             "in the user's data folder)")
     field.add_argument("--width", type=int, default=None, metavar="COLUMNS",
-                       help="width of the sheet in columns (at least 40)")
+                       help=f"width of the sheet in columns (at least {MIN_WIDTH})")
 
     machines = sub.add_parser("machines", help="list the machines in the history database",
                               description="List the machines stored in the history database, "
@@ -164,34 +177,61 @@ def _parser() -> argparse.ArgumentParser:
                        help="keep the rotors already in PREFIX.jsonl and solve the rest "
                             "(refused when a kept rotor's readings changed since)")
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
-    batch.add_argument("--time-limit", type=float, default=10.0, metavar="SECONDS",
+    batch.add_argument("--time-limit", type=float, default=DEFAULT_TIME_LIMIT_S,
+                       metavar="SECONDS",
                        help="most time the CP-SAT model may take for one decision (default 10)")
     return parser
+
+
+
+def _check(args: argparse.Namespace) -> None:
+    """The options commands share, checked once, before any file is read."""
+    time_limit = getattr(args, "time_limit", None)
+    if time_limit is not None and not (math.isfinite(time_limit) and time_limit > 0):
+        raise InputError(f"is {time_limit:g}", option="time_limit_s",
+                         expected="a number of seconds above zero")
+    width = getattr(args, "width", None)
+    if width is not None and width < MIN_WIDTH:
+        raise InputError(f"is {width}", option="width", expected=f"at least {MIN_WIDTH} columns")
+    chance = getattr(args, "min_chance", None)
+    if chance is not None and not 0.0 <= chance <= 1.0:
+        raise InputError(f"is {chance:g}", option="min_chance",
+                         expected="a chance between 0 and 1")
+    samples = getattr(args, "samples", None)
+    if samples is not None and not MIN_SAMPLES <= samples <= MAX_SAMPLES:
+        raise InputError(f"is {samples}", option="samples",
+                         expected=f"{MIN_SAMPLES} to {MAX_SAMPLES} draws")
+    max_parts = getattr(args, "max_parts", None)
+    if max_parts is not None and not 1 <= max_parts <= MAX_PARTS_LIMIT:
+        raise InputError(f"is {max_parts}", option="max_parts",
+                         expected=f"1 to {MAX_PARTS_LIMIT}")
+
+
+def _positive(*pairs: tuple[str, float]) -> None:
+    """Command-line quantities must be positive and in the range every file is held to."""
+    for name, value in pairs:
+        if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
+            raise InputError(f"is {value:g}", option=name,
+                             expected="a number above zero, between 1e-12 and 1e12")
 
 
 def _console(width: int | None = None):
     from rich.console import Console
 
-    if width is not None and width < 40:
-        raise InputError(f"is {width}", key="--width", expected="at least 40 columns")
     if width is None and not sys.stdout.isatty():
         width = 80
     return Console(width=width, highlight=False)
 
 
+def _db(args: argparse.Namespace) -> Path:
+    from placer.io.history import default_db_path
+
+    return Path(args.db) if args.db else default_db_path()
+
+
 def _solve(args: argparse.Namespace) -> int:
     from placer.io.jobfile import read_job
-    from placer.solve import solve_job
-
-    if not math.isfinite(args.time_limit) or args.time_limit <= 0:
-        raise InputError(f"is {args.time_limit:g}", key="--time-limit",
-                         expected="a number of seconds above zero")
-    if args.min_chance is not None and not 0.0 <= args.min_chance <= 1.0:
-        raise InputError(f"is {args.min_chance:g}", key="--min-chance",
-                         expected="a chance between 0 and 1")
-    if not 10 <= args.samples <= 1_000_000:
-        raise InputError(f"is {args.samples}", key="--samples", expected="10 to 1000000 draws")
-    from placer.solve import FittingErrors
+    from placer.solve import FittingErrors, solve_job
 
     job = read_job(Path(args.job))
     if args.sheet is not None:
@@ -221,131 +261,69 @@ def _solve(args: argparse.Namespace) -> int:
 def _catalogs(args: argparse.Namespace) -> int:
     from placer.catalog import bundled_names
     from placer.io.catalogfile import read_catalog, resolve_catalog
+    from placer.io.jsonout import catalog_dict, catalogs_list
+    from placer.views.terminal.catalog import render_catalog, render_catalog_list
 
     if args.name is None:
         names = bundled_names()
         catalogs = [read_catalog(resolve_catalog(n, Path.cwd(), "placer catalogs", "NAME"))
                     for n in names]
         if args.json:
-            print(json_text([{"name": n, "title": c.name, "items": len(c.items)}
-                             for n, c in zip(names, catalogs)], indent=1))
+            print(json_text(catalogs_list(names, catalogs), indent=1))
         else:
-            from placer.views.terminal.job import render_catalog_list
-
             render_catalog_list(names, catalogs, _console())
         return EXIT_OK
     catalog = read_catalog(resolve_catalog(args.name, Path.cwd(), "placer catalogs", "NAME"))
     if args.json:
-        print(json_text({"name": catalog.name, "items": [
-            {"id": i.id, "mass_g": i.mass_g, "stock": i.stock} for i in catalog.items]},
-            indent=1))
+        print(json_text(catalog_dict(catalog), indent=1))
     else:
-        from placer.views.terminal.job import render_catalog
-
         render_catalog(catalog, _console())
     return EXIT_OK
 
 
-def _positive_options(*pairs: tuple[str, float]) -> None:
-    """Command-line quantities must be positive and in the range every file is held to."""
-    from placer.limits import MAX_MAGNITUDE, MIN_MAGNITUDE
-
-    for key, value in pairs:
-        if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
-            raise InputError(f"is {value:g}", key=key,
-                             expected="a number above zero, between 1e-12 and 1e12")
-
-
 def _tolerance(args: argparse.Namespace) -> int:
-    from placer.tolerance import (
-        allocate_to_planes,
-        parse_grade,
-        permissible_residual_gmm,
-    )
+    from placer.io.jsonout import tolerance_dict
+    from placer.tolerance import allocate_to_planes, parse_grade, permissible_residual_gmm
+    from placer.views.terminal.tolerance import tolerance_lines
 
-    _positive_options(("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
-                      *((("--distances-mm", d) for d in args.distances_mm)
-                        if args.distances_mm else ()))
+    _positive(("mass_kg", args.mass_kg), ("rpm", args.rpm),
+              *((("distances_mm", d) for d in args.distances_mm) if args.distances_mm else ()))
     grade = parse_grade(args.grade)
     u_per = permissible_residual_gmm(grade, args.mass_kg, args.rpm)
     names = ["A"] if args.planes == 1 else ["A", "B"]
     if args.distances_mm is not None and args.planes != 2:
-        raise InputError("needs two planes", key="--distances-mm", expected="--planes 2")
+        raise InputError("needs two planes", option="distances_mm", expected="--planes 2")
     shares = allocate_to_planes(u_per, names, args.distances_mm)
     if args.json:
-        print(json_text({"grade_mm_s": grade, "mass_kg": args.mass_kg, "service_rpm": args.rpm,
-                         "permissible_gmm": u_per, "shares": [
-                             {"plane": s.name, "share": s.share,
-                              "permissible_gmm": s.permissible_gmm} for s in shares]},
-                        indent=1))
+        print(json_text(tolerance_dict(grade, args.mass_kg, args.rpm, u_per, shares), indent=1))
         return EXIT_OK
-    print(f"Grade G{grade:g}, rotor {args.mass_kg:g} kg, {args.rpm:g} r/min")
-    print(f"U_per = 1000·G·m/ω = {u_per:.1f} g·mm  (ISO 21940-11)")
-    print(f"  = {u_per / args.mass_kg:.2f} g·mm/kg permissible specific unbalance")
-    rule = ("one plane takes the full value" if args.planes == 1 else
-            "lever rule from the distances, each share held to 30-70 % (limits from memory)"
-            if args.distances_mm else "equal shares, as for a symmetric rotor")
-    print(f"Per plane, {rule}:")
-    for s in shares:
-        print(f"  plane {s.name}: {s.share:.0%} = {s.permissible_gmm:.1f} g·mm")
+    print("\n".join(tolerance_lines(grade, args.mass_kg, args.rpm, u_per, shares,
+                                   lever_rule=args.distances_mm is not None)))
     return EXIT_OK
 
 
 def _field(args: argparse.Namespace) -> int:
     from dataclasses import replace
 
-    from placer.fieldplan import solve_session
-    from placer.influence import CoefficientMismatch
-    from placer.io.history import History, default_db_path
+    from placer.io.fieldvisit import open_for_saving, solve_visit
     from placer.io.sessionfile import read_session
 
     # Everything that can be bad input is checked before anything is written.
     console = _console(args.width)
-    if not math.isfinite(args.time_limit) or args.time_limit <= 0:
-        raise InputError(f"is {args.time_limit:g}", key="--time-limit",
-                         expected="a number of seconds above zero")
-    if args.max_parts is not None and not 1 <= args.max_parts <= 8:
-        raise InputError(f"is {args.max_parts}", key="--max-parts", expected="1 to 8")
     session = read_session(Path(args.session))
     if args.norm:
         session = replace(session, norm=args.norm)
     if args.max_parts is not None:
         session = replace(session, max_parts=args.max_parts)
-    path = Path(args.db) if args.db else default_db_path()
-    stored = None
-    if session.coefficients == "stored":
-        if not path.exists():
-            raise InputError(f"no history database at {path}", file=session.source,
-                             key="solve.coefficients",
-                             expected="a database with this machine's coefficients (--db)")
-        with History(path) as db:
-            stored = db.latest_coefficients(session.machine_id,
-                                            [c.name for c in session.channels],
-                                            [p.geometry.name for p in session.planes])
-        if stored is None:
-            raise InputError(f"no stored coefficients for machine '{session.machine_id}' with "
-                             "these sensors and planes (names in order)", file=session.source,
-                             key="solve.coefficients", expected="coefficients = \"runs\" and "
-                             "trial runs, or a visit saved with --save")
-    try:
-        result = solve_session(session, stored, time_limit_s=args.time_limit)
-    except CoefficientMismatch as exc:
-        raise InputError(exc.detail, file=session.source, key=exc.key,
-                         expected=exc.expected) from None
-    except ValueError as exc:
-        raise InputError(str(exc), file=session.source, key="runs") from None
-    record = db = None
+    path = _db(args)
+    result = solve_visit(session, path, time_limit_s=args.time_limit)
+    db = record = None
     if args.save:
-        from placer.io.fieldrecord import visit_record
-        from placer.io.history import check_record
-
-        record = visit_record(result)
-        check_record(record)
         # Opened before anything is printed: a file that is not a history is refused here.
-        db = History(path)
+        db, record = open_for_saving(result, path)
     try:
         if args.json:
-            from placer.views.terminal.field import field_dict
+            from placer.io.jsonout import field_dict
 
             text = json_text(field_dict(result), indent=2) + "\n"
         else:
@@ -373,36 +351,31 @@ def _field(args: argparse.Namespace) -> int:
 
 
 def _machines(args: argparse.Namespace) -> int:
-    from placer.io.history import History, default_db_path, utc_label
+    from placer.io.history import History
+    from placer.io.jsonout import machines_list
+    from placer.views.terminal.history import render_machines
 
-    path = Path(args.db) if args.db else default_db_path()
+    path = _db(args)
     if not path.exists():
         print(f"No history database yet at {path}; 'placer field SESSION --save' starts one.")
         return EXIT_OK
     with History(path) as db:
         rows = db.machines()
     if args.json:
-        print(json_text([{"id": m.id, "name": m.name, "visits": m.visits,
-                          "last_visit": m.last_visit} for m in rows], indent=2))
-        return EXIT_OK
-    from rich.table import Table
-
-    table = Table(title=f"Machines in {path}", title_justify="left")
-    for column in ("Id", "Name", "Visits", "Last visit"):
-        table.add_column(column)
-    for m in rows:
-        table.add_row(m.id, m.name, str(m.visits), utc_label(m.last_visit) if m.last_visit
-                      else "-")
-    _console().print(table)
+        print(json_text(machines_list(rows), indent=2))
+    else:
+        render_machines(rows, str(path), _console())
     return EXIT_OK
 
 
 def _history(args: argparse.Namespace) -> int:
-    from placer.io.history import History, default_db_path, utc_label
+    from placer.io.history import History
+    from placer.io.jsonout import visit_dict, visits_list
+    from placer.views.terminal.history import render_visit, render_visits
 
-    path = Path(args.db) if args.db else default_db_path()
+    path = _db(args)
     if not path.exists():
-        raise InputError(f"no history database at {path}", key="--db",
+        raise InputError(f"no history database at {path}", option="db",
                          expected="a database written by 'placer field --save'")
     with History(path) as db:
         visits = db.visits(args.machine)
@@ -411,7 +384,7 @@ def _history(args: argparse.Namespace) -> int:
             ids = [v.id for v in visits]
             if args.visit not in ids:
                 raise InputError(f"machine '{args.machine}' has no visit {args.visit}",
-                                 key="--visit", expected="one of its visits: "
+                                 option="visit", expected="one of its visits: "
                                  + ", ".join(map(str, ids)))
             record = db.visit(args.visit)
     if not visits:
@@ -422,77 +395,44 @@ def _history(args: argparse.Namespace) -> int:
                          expected=(f"did you mean '{close[0]}'? " if close else "")
                          + "one of: " + (", ".join(known) or "none stored"))
     if args.visit is not None:
-        from placer.views.terminal.field import render_visit, visit_dict
-
         if args.json:
             print(json_text(visit_dict(args.visit, record), indent=2))
         else:
             render_visit(args.visit, record, _console())
         return EXIT_OK
     if args.json:
-        print(json_text([{"id": v.id, "started_at": v.started_at,
-                          "coefficient_source": v.coefficient_source,
-                          "condition": v.condition, "runs": v.runs, "result": v.result}
-                         for v in visits], indent=2))
-        return EXIT_OK
-    from rich import box
-    from rich.table import Table
-
-    table = Table(title=f"Visits of {args.machine} (times in UTC; 'placer history "
-                        f"{args.machine} --visit N' shows one in full)", title_justify="left",
-                  box=box.SIMPLE_HEAD, pad_edge=False)
-    table.add_column("Visit", justify="right", no_wrap=True)
-    table.add_column("Date", no_wrap=True)
-    table.add_column("Runs", justify="right", no_wrap=True)
-    table.add_column("Coefficients", no_wrap=True)
-    table.add_column("Cond.", justify="right", no_wrap=True)
-    table.add_column("Plan", overflow="fold", ratio=1)
-    table.add_column("Predicted", no_wrap=True)
-    for v in visits:
-        plan = ", ".join(("−" if m.count < 0 else "") + f"P{m.plane + 1}#{m.position}\u00a0"
-                         f"{m.item}" + (f"×{abs(m.count)}" if abs(m.count) != 1 else "")
-                         for m in v.planned)
-        before = v.result.get("vibration_before")
-        after = v.result.get("vibration_after")
-        predicted = ("-" if not isinstance(before, (int, float))
-                     or not isinstance(after, (int, float)) else f"{before:.2f}→{after:.2f}")
-        source = v.coefficient_source
-        source = (source.split(" of ")[0] if source.startswith("visit ")
-                  else source.replace(" of this visit", "").replace("trial run(s)", "trials"))
-        table.add_row(str(v.id), utc_label(v.started_at).removesuffix(" UTC"), str(v.runs),
-                      source, "-" if v.condition is None else f"{v.condition:.1f}",
-                      plan or "-", predicted)
-    _console().print(table)
+        print(json_text(visits_list(visits), indent=2))
+    else:
+        render_visits(args.machine, visits, _console())
     return EXIT_OK
 
 
 def _trial(args: argparse.Namespace) -> int:
-    from placer.views.terminal.field import trial_suggestion
+    from placer.views.terminal.tolerance import trial_lines
 
-    _positive_options(("--mass-kg", args.mass_kg), ("--rpm", args.rpm),
-                      ("--radius-mm", args.radius_mm))
-    print(trial_suggestion(args.mass_kg, args.rpm, args.radius_mm))
-    print("Fit it as firmly as a final weight; lock out before fitting; keep clear of the "
-          "plane of rotation on the run.")
+    _positive(("mass_kg", args.mass_kg), ("rpm", args.rpm), ("radius_mm", args.radius_mm))
+    print("\n".join(trial_lines(args.mass_kg, args.rpm, args.radius_mm)))
     return EXIT_OK
 
 
 def _batch(args: argparse.Namespace) -> int:
-    import math
+    from placer.io.batchresults import run_batch
+    from placer.views.terminal.batch import progress_display, render_summary
 
-    from placer.io.batchfile import progress_display, render_summary, run_batch
-
-    if not math.isfinite(args.time_limit) or args.time_limit <= 0:
-        raise InputError(f"is {args.time_limit:g}", key="--time-limit",
-                         expected="a number of seconds above zero")
     with progress_display(sys.stderr) as progress:
         summary, paths = run_batch(Path(args.template), Path(args.readings),
                                    Path(args.out) if args.out else None, jobs=args.jobs,
                                    resume=args.resume, force=args.force,
                                    time_limit_s=args.time_limit, progress=progress,
-                                   note=lambda text: print(text, file=sys.stderr))
+                                   note=lambda text: print(fill_options(text, FLAGS),
+                                                           file=sys.stderr))
     render_summary(summary, paths, sys.stdout)
     return EXIT_OK if summary.all_within else EXIT_OUTSIDE
+
+
+HANDLERS = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance, "field": _field,
+            "machines": _machines, "history": _history, "trial": _trial, "batch": _batch}
+"""The function that runs each command."""
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -505,16 +445,11 @@ def main(argv: list[str] | None = None) -> int:
     if args.command is None:
         parser.print_help()
         return EXIT_BAD_INPUT
-    handlers = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance,
-                "field": _field, "machines": _machines, "history": _history, "trial": _trial,
-                "batch": _batch}
     try:
-        return handlers[args.command](args)
-    except InputError as exc:
-        print(f"placer: error: {exc.one_line()}", file=sys.stderr)
-        return EXIT_BAD_INPUT
+        _check(args)
+        return HANDLERS[args.command](args)
     except PlacerError as exc:
-        print(f"placer: error: {exc.one_line()}", file=sys.stderr)
+        print(f"placer: error: {exc.one_line(FLAGS)}", file=sys.stderr)
         return EXIT_BAD_INPUT
     except KeyboardInterrupt:
         print("placer: interrupted", file=sys.stderr)

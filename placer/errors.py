@@ -1,40 +1,89 @@
-"""Error classes of placer.
+"""Every error class of placer.
 
 Every error a user can cause carries the file it came from, the key path
-inside that file (``planes[1].correction.angle_deg``) and what was expected.
-Only the command line maps errors to exit codes and messages.
+inside that file (``planes[1].correction.angle_deg``) or the name of the
+argument it concerns (``time_limit_s``), and what was expected.  The core
+never speaks of command-line flags: an argument is named by its Python
+name, and a text may refer to another argument as ``{opt:force}``.  Only
+the command line renders those as flags (``--force``, see
+:meth:`PlacerError.one_line`) and maps errors to exit codes.
 """
 
 from __future__ import annotations
 
+import re
+from collections.abc import Mapping
+
+_OPTION = re.compile(r"\{opt:([a-z_]+)\}")
+"""An argument named inside a message: ``{opt:force}``."""
+
+
+def fill_options(text: str, flags: Mapping[str, str] | None = None) -> str:
+    """``text`` with every ``{opt:name}`` shown as ``flags[name]`` (else as ``name``).
+
+    Parameters
+    ----------
+    text : str
+        A message that may name arguments as ``{opt:name}``.
+    flags : mapping of str to str, optional
+        How to show an argument: its Python name -> what the user typed.
+    """
+    return _OPTION.sub(lambda m: (flags or {}).get(m.group(1), m.group(1)), text)
+
 
 class PlacerError(Exception):
-    """Base class of every error placer raises on purpose."""
+    """Base class of every error placer raises on purpose.
+
+    Parameters
+    ----------
+    message : str
+        What is wrong.
+    file : str, optional
+        The file the bad value came from.
+    key : str, optional
+        The key path inside that file.
+    expected : str, optional
+        What was expected instead.
+    option : str, optional
+        The argument (Python name) the bad value came from, when it did not
+        come from a file.
+    """
 
     def __init__(self, message: str, *, file: str | None = None, key: str | None = None,
-                 expected: str | None = None) -> None:
+                 expected: str | None = None, option: str | None = None) -> None:
         self.file = file
         self.key = key
         self.expected = expected
+        self.option = option
         self.detail = message
         super().__init__(self.one_line())
 
-    def one_line(self) -> str:
-        """The message as one line: ``file: key: detail (expected ...)``."""
+    def one_line(self, flags: Mapping[str, str] | None = None) -> str:
+        """The message as one line: ``file: key: detail (expected ...)``.
+
+        Parameters
+        ----------
+        flags : mapping of str to str, optional
+            How to show an argument: its Python name -> what the user typed
+            (``{"force": "--force"}``).  Arguments not in it, or all of them
+            without it, are shown by their Python name.
+        """
         parts = []
         if self.file:
             parts.append(str(self.file))
         if self.key:
-            parts.append(self.key)
-        text = self.detail
+            parts.append(fill_options(self.key, flags))
+        elif self.option:
+            parts.append((flags or {}).get(self.option, self.option))
+        text = fill_options(self.detail, flags)
         if self.expected:
-            text = f"{text} (expected {self.expected})"
+            text = f"{text} (expected {fill_options(self.expected, flags)})"
         parts.append(text)
         return " ".join(": ".join(parts).splitlines())
 
 
 class InputError(PlacerError, ValueError):
-    """Bad input in a file or on the command line."""
+    """Bad input in a file or in an argument."""
 
 
 class JobError(InputError):
@@ -47,3 +96,15 @@ class CatalogError(InputError):
 
 class ToleranceError(InputError):
     """A balance-quality grade, mass or speed that gives no tolerance."""
+
+
+class SessionError(JobError):
+    """A session file is missing, unreadable or holds a bad value."""
+
+
+class CoefficientMismatch(InputError):
+    """Stored coefficients that cannot serve this visit; ``key`` and ``expected`` say why."""
+
+
+class HistoryError(PlacerError):
+    """The history database cannot be opened, read or written."""

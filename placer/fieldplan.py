@@ -16,6 +16,7 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
+from placer.errors import InputError
 from placer.engine.arrays import PlaneArrays, part_of_row, placement_arrays
 from placer.engine.search import PlacementSearch, Selection
 from placer.influence import (
@@ -264,16 +265,20 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     Raises
     ------
     CoefficientMismatch
-        Stored coefficients that cannot serve this session.
-    ValueError
-        Trial runs that do not move every plane.
+        Stored coefficients that cannot serve this session (naming its file).
+    InputError
+        Trial runs that do not move every plane (key "runs").
 
     References
     ----------
     Correction W = -(Aᴴ D A)⁻¹ Aᴴ D V (:func:`placer.influence.least_squares_correction`).
     """
     _, state = session.weights_in()
-    coefficients, source = _coefficients(session, stored)
+    try:
+        coefficients, source = _coefficients(session, stored)
+    except InputError as exc:
+        raise type(exc)(exc.detail, file=session.source, key=exc.key,
+                        expected=exc.expected) from None
     matrix = coefficients.matrix
     checks = [r for r in session.runs if r.kind == "check"]
     if checks:
@@ -302,8 +307,8 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     unproven = [o.part_count for o in options if not o.proven]
     if unproven:
         warnings.append(f"the coupled search did not finish {min(unproven)} to "
-                        f"{max(unproven)} parts within the time limit ({time_limit_s:g} s, "
-                        "--time-limit): those plans are the best found, not proven")
+                        f"{max(unproven)} parts within the time limit ({time_limit_s:g} s): "
+                        "those plans are the best found, not proven")
     if sc is not None and sc.couple_negligible:
         warnings.append("the couple part is negligible (under 10 % of the static part, "
                         "placer's own rule): one plane would do")

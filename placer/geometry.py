@@ -14,6 +14,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+ROTATIONS = ("clockwise", "counterclockwise")
+"""How the rotor turns, seen from the side the technician works on."""
+ANGLE_SENSES = ("against rotation", "with rotation", "clockwise", "counterclockwise")
+"""How angles are counted from the reference mark ("clockwise" and "counterclockwise" as
+seen from the working side)."""
+
 
 @dataclass(frozen=True)
 class PlaneGeometry:

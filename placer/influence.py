@@ -10,10 +10,9 @@ References
 ----------
 Single plane: α = (V1 - V0)/T, W = -V0/α; two planes: the 2×2 complex
 system α·W = -V0; more channels than planes: least squares
-W = -(Aᴴ A)⁻¹ Aᴴ V0 (Goodman, T. P., "A least-squares method for computing
-balance corrections", ASME J. Eng. Ind. 86 (1964) 273-279; from memory, not
-read).  All as collected in ../shared/REFERENCES.md, "Influence
-coefficients".
+W = -(Aᴴ A)⁻¹ Aᴴ V0 ([Goodman1964]: Goodman, T. P., "A least-squares method
+for computing balance corrections", ASME J. Eng. Ind. 86 (1964) 273-279; from
+memory, not read).  [InfluenceCoefficients] in REFERENCES.md.
 """
 
 from __future__ import annotations
@@ -23,10 +22,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from placer.errors import CoefficientMismatch, InputError
+
 TRUST_AMPLITUDE_CHANGE = 0.30
 """A trial run is trusted when it changes an amplitude by at least 30 % ...
 
-(common practice; 20-25 % is also used; ../shared/REFERENCES.md)."""
+([TrialRunRule]: common practice; 20-25 % is also used)."""
 TRUST_PHASE_CHANGE_DEG = 30.0
 """... or a phase by at least 30° (common practice, as above)."""
 ILL_CONDITIONED = 10.0
@@ -34,12 +35,11 @@ ILL_CONDITIONED = 10.0
 
 placer's own threshold: beyond it the planes separate poorly and the
 correction magnifies reading errors roughly by that factor (condition-number
-error bound of linear least squares; numerical analysis, e.g. Golub and Van
-Loan, Matrix Computations, ch. 5; from memory)."""
+error bound of linear least squares; [GolubVanLoan], ch. 5; from memory)."""
 TRIAL_FORCE_SHARE = 0.10
 """Trial weight sized so its centrifugal force is 10 % of the rotor weight.
 
-From memory, widely quoted (../shared/REFERENCES.md)."""
+[TrialMassRule]: from memory, widely quoted."""
 STANDARD_GRAVITY_M_S2 = 9.80665
 """Standard acceleration of gravity [m/s²] (CGPM 1901, by definition)."""
 
@@ -136,20 +136,20 @@ def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
 
     Raises
     ------
-    ValueError
-        The trial runs do not move every plane independently.
+    InputError
+        The trial runs do not move every plane independently (key "runs").
 
     References
     ----------
     α = (V1 - V0)/T per plane, generalised to V_r - V_0 = A·w_r
-    (../shared/REFERENCES.md, "Influence coefficients").
+    [InfluenceCoefficients].
     """
     delta = readings - reference[None, :]
     n_runs, n_planes = weights_gmm.shape
     rank = np.linalg.matrix_rank(weights_gmm) if n_runs else 0
     if rank < n_planes:
-        raise ValueError(f"the trial runs move only {rank} of {n_planes} planes independently; "
-                         "each plane needs a trial run of its own")
+        raise InputError(f"the trial runs move only {rank} of {n_planes} planes independently; "
+                         "each plane needs a trial run of its own", key="runs")
     solution, *_ = np.linalg.lstsq(weights_gmm, delta, rcond=None)
     matrix = solution.T
     if baselines is None:
@@ -178,8 +178,8 @@ def trial_run_warnings(baselines: np.ndarray, readings: np.ndarray,
 
     References
     ----------
-    30 % in amplitude or 30° in phase: common practice (20-25 % is also
-    used; ../shared/REFERENCES.md).
+    30 % in amplitude or 30° in phase: [TrialRunRule], common practice (20-25 %
+    is also used).
     """
     baselines = np.asarray(baselines)
     if baselines.ndim == 1:
@@ -221,8 +221,8 @@ def trial_mass_g(rotor_mass_kg: float, service_rpm: float, radius_mm: float,
                  force_share: float = TRIAL_FORCE_SHARE) -> float:
     """Trial mass whose centrifugal force is ``force_share`` of the rotor weight [g].
 
-    m_t·r·ω² = share·M·g  ->  m_t = share·M·g/(r·ω²)   (from memory, widely quoted;
-    ../shared/REFERENCES.md).
+    m_t·r·ω² = share·M·g  ->  m_t = share·M·g/(r·ω²)   ([TrialMassRule]: from memory,
+    widely quoted).
     """
     for name, value in (("mass_kg", rotor_mass_kg), ("service_rpm", service_rpm),
                         ("radius_mm", radius_mm)):
@@ -256,8 +256,7 @@ def static_couple(w1_gmm: complex, w2_gmm: complex,
                   separation_mm: float | None = None) -> StaticCouple:
     """Static and couple parts: U_s = U1 + U2, U_c = (U1 - U2)/2 (statics).
 
-    Back: U1 = U_s/2 + U_c, U2 = U_s/2 - U_c (../shared/REFERENCES.md,
-    "Static, couple, dynamic").
+    Back: U1 = U_s/2 + U_c, U2 = U_s/2 - U_c ([StaticCouple]).
     """
     static = w1_gmm + w2_gmm
     couple = (w1_gmm - w2_gmm) / 2.0
@@ -286,14 +285,6 @@ class StoredCoefficients:
     channel_names: tuple[str, ...]
     plane_names: tuple[str, ...]
     label: str
-
-
-class CoefficientMismatch(ValueError):
-    """Stored coefficients that cannot serve this visit; ``key`` and ``expected`` say why."""
-
-    def __init__(self, detail: str, key: str, expected: str) -> None:
-        super().__init__(detail)
-        self.detail, self.key, self.expected = detail, key, expected
 
 
 def adapt_stored(stored: StoredCoefficients, unit: str, measure: str, angle_sense: str,
@@ -332,30 +323,30 @@ def adapt_stored(stored: StoredCoefficients, unit: str, measure: str, angle_sens
     References
     ----------
     Unit and measure factors: :mod:`placer.readings`; angle senses:
-    ../shared/REFERENCES.md, "Influence coefficients" (angles counted in
-    one sense for W = -V0/α to hold).
+    [InfluenceCoefficients] (angles counted in one sense for W = -V0/α to
+    hold).
     """
     from placer.readings import amplitude_scale, quantity_of, sense_against_rotation
 
     if quantity_of(stored.unit) != quantity_of(unit):
         raise CoefficientMismatch(
             f"is in {unit} ({quantity_of(unit)}) but the stored coefficients of "
-            f"{stored.label} are in {stored.unit} ({quantity_of(stored.unit)})", "readings.unit",
-            f"a {quantity_of(stored.unit)} unit, or new trial runs with "
+            f"{stored.label} are in {stored.unit} ({quantity_of(stored.unit)})", key="readings.unit",
+            expected=f"a {quantity_of(stored.unit)} unit, or new trial runs with "
             "[solve] coefficients = \"runs\"")
     notes = []
     if service_rpm is None:
         raise CoefficientMismatch(
-            "missing", "rotor.service_rpm",
-            f"the speed of the runs [r/min], to check it against {stored.label}")
+            "missing", key="rotor.service_rpm",
+            expected=f"the speed of the runs [r/min], to check it against {stored.label}")
     if stored.service_rpm is None:
         notes.append(f"the speed of {stored.label} was not stored: check that its runs were at "
                      f"{service_rpm:g} r/min like this one, as coefficients change with speed")
     elif abs(service_rpm - stored.service_rpm) > SPEED_TOLERANCE * stored.service_rpm:
         raise CoefficientMismatch(
             f"is {service_rpm:g} r/min but the stored coefficients of {stored.label} are for "
-            f"{stored.service_rpm:g} r/min", "rotor.service_rpm",
-            f"within {SPEED_TOLERANCE:.0%} of {stored.service_rpm:g} r/min, or new trial runs "
+            f"{stored.service_rpm:g} r/min", key="rotor.service_rpm",
+            expected=f"within {SPEED_TOLERANCE:.0%} of {stored.service_rpm:g} r/min, or new trial runs "
             "with [solve] coefficients = \"runs\"")
     matrix = np.asarray(stored.matrix, dtype=complex) * amplitude_scale(
         stored.unit, stored.measure, unit, measure)
@@ -365,8 +356,8 @@ def adapt_stored(stored: StoredCoefficients, unit: str, measure: str, angle_sens
         if stored.angle_sense != angle_sense:
             raise CoefficientMismatch(
                 f"is '{angle_sense}' but {stored.label} counted angles {stored.angle_sense} "
-                "and its sense of rotation was not stored", "rotor.angle_sense",
-                f"'{stored.angle_sense}', as in that visit")
+                "and its sense of rotation was not stored", key="rotor.angle_sense",
+                expected=f"'{stored.angle_sense}', as in that visit")
     elif mine != theirs:
         matrix = matrix.conj()
     return matrix, notes

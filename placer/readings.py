@@ -17,10 +17,10 @@ References
 ----------
 Influence-coefficient balancing with complex phasors; the rule that weight
 angles must be counted in the same sense as the phase lag for W = -V0/α to
-hold (../shared/REFERENCES.md, "Influence coefficients").  Peak, peak-to-peak
+hold ([InfluenceCoefficients] in REFERENCES.md).  Peak, peak-to-peak
 and rms of a sinusoid: peak-to-peak = 2·peak, rms = peak/√2 (sinusoid
-identities).  1 mil = 0.001 in = 25.4 µm; 1 in/s = 25.4 mm/s (definition of
-the inch).
+identities).  1 mil = 0.001 in = 25.4 µm; 1 in/s = 25.4 mm/s ([NISTHB44]: the inch is
+25.4 mm exactly).
 """
 
 from __future__ import annotations

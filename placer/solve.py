@@ -93,8 +93,8 @@ def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, met
     front = [option_of(plane, e, rows) for e in improving(entries)]
     errors = errors or FittingErrors()
     if tolerance is None and errors.min_chance is not None:
-        notes = list(notes) + ["--min-chance needs a tolerance; this plane has none, so the "
-                               "plan is chosen by residual alone"]
+        notes = list(notes) + ["a least chance of staying within tolerance needs a tolerance; "
+                               "this plane has none, so the plan is chosen by residual alone"]
     rated = tolerance is not None and (errors.min_chance is not None or
                                        fitting_errors_given(plane, placement_error_deg))
     if rated:

@@ -30,10 +30,9 @@ __all__ = [
 STEEL_DENSITY_G_CM3: float = 7.85
 """Density of steel for washer masses [g/cm³].
 
-7.85 g/cm³ is the value the project's published-facts sheet
-(``/work/shared/REFERENCES.md``, section "Stock parts", flat washers
-ISO 7089) uses for steel washers; the washer masses printed there (M8 about
-1.83 g, M10 about 3.57 g, M12 about 6.27 g) follow from it. It is also the
+7.85 g/cm³ is the value [ISO7089] in REFERENCES.md uses for steel washers;
+the washer masses printed there (M8 about 1.83 g, M10 about 3.57 g, M12
+about 6.27 g) follow from it. It is also the
 usual handbook figure for carbon steel (from memory).
 """
 
@@ -78,7 +77,7 @@ size of the bolt.
 Where each row comes from:
 
 - M8 (8.4 / 16 / 1.6 mm), M10 (10.5 / 20 / 2 mm) and M12 (13 / 24 / 2.5 mm)
-  are as given in ``/work/shared/REFERENCES.md`` (section "Stock parts").
+  are as given in [ISO7089] (REFERENCES.md).
 - M5 (5.3 / 10 / 1.0 mm), M6 (6.4 / 12 / 1.6 mm), M16 (17 / 30 / 3 mm) and
   M20 (21 / 37 / 3 mm) are from memory: the usual nominal values of the
   ISO 7089 table, not checked against the standard's text.
@@ -141,11 +140,11 @@ def washer_mass_g(inner_diameter_mm: float, outer_diameter_mm: float, thickness_
     Volume of a hollow cylinder (annulus of thickness h), elementary
     geometry. Dimensions: ISO 7089 (plain washers, normal series, product
     grade A), see :data:`ISO_7089_NORMAL`. Density and check masses:
-    ``/work/shared/REFERENCES.md``, section "Stock parts".
+    [ISO7089] in REFERENCES.md.
 
     Examples
     --------
-    ISO 7089 M8 washer in steel; REFERENCES.md prints about 1.83 g:
+    ISO 7089 M8 washer in steel; [ISO7089] gives about 1.83 g:
 
     >>> round(washer_mass_g(8.4, 16.0, 1.6), 2)
     1.83

@@ -84,7 +84,7 @@ OZ_IN_TO_GMM: float = 720.078
 
 1 oz * in = 28.349523125 g * 25.4 mm = 720.0779 g*mm; the value 720.078 is
 the one printed in the Energy-Tech magazine article comparing API 617,
-MIL-STD-167 and ISO 1940-1 (see /work/shared/REFERENCES.md).
+MIL-STD-167 and ISO 1940-1 ([EnergyTech] in REFERENCES.md).
 """
 
 LB_TO_KG: float = 0.45359237

@@ -22,7 +22,8 @@ from pathlib import Path
 import numpy as np
 
 from placer.geometry import polar
-from placer.io.history import History, MassRecord, RunRecord, VisitRecord
+from placer.io.history import History
+from placer.records import MassRecord, RunRecord, VisitRecord
 
 
 class WatchedConnection:

@@ -29,7 +29,8 @@ from oracle import brute_front
 from placer.batch import BatchSolver, RotorReading, solve_readings
 from placer.engine.arrays import plane_arrays
 from placer.errors import InputError
-from placer.io.batchfile import read_readings, read_template, run_batch
+from placer.io.batchreadings import read_readings
+from placer.io.batchresults import read_template, run_batch
 from placer.io.jobfile import read_job
 from placer.solve import solve_job
 
@@ -584,7 +585,7 @@ def test_outputs_are_strict_json_even_for_a_non_finite_value():
 
     text = json_text({"residual_gmm": float("inf"), "x": [float("nan"), -0.0, 1.5]})
     assert strict_json(text) == {"residual_gmm": None, "x": [None, -0.0, 1.5]}
-    from placer.io.batchfile import csv_row
+    from placer.io.batchresults import csv_row
 
     assert csv_row({"serial": "S", "within_tolerance": None, "planes": [
         {"parts": "", "residual_gmm": None, "within_tolerance": None}]}) == ["S"] + [""] * 4
@@ -700,26 +701,30 @@ def test_jobs_capped_at_the_usable_cores(monkeypatch, tmp_path, quick_files):
     # Python docs: os.sched_getaffinity(0) is the set of CPUs this process may run on.
     import os
 
-    import placer.io.batchfile
+    import placer.io.batchresults
     from placer.batch import usable_cores
 
     if hasattr(os, "sched_getaffinity"):
         assert usable_cores() == len(os.sched_getaffinity(0))
     template, readings, rows = quick_files
-    monkeypatch.setattr(placer.io.batchfile, "usable_cores", lambda: 2)
+    monkeypatch.setattr(placer.io.batchresults, "usable_cores", lambda: 2)
     notes: list[str] = []
     summary, _ = run_batch(template, readings, jobs=64, note=notes.append)
-    assert notes == ["placer batch: --jobs 64 capped at 2, the cores this process may use"]
+    from placer.cli import FLAGS
+    from placer.errors import fill_options
+
+    assert [fill_options(n, FLAGS) for n in notes] == [
+        "placer batch: --jobs 64 capped at 2, the cores this process may use"]
     assert summary.jobs == 2
     one, _ = run_batch(template, readings, prefix=tmp_path / "one", jobs=1, note=notes.append)
     assert one.jobs == 1 and len(notes) == 1
 
 
 def test_jobs_note_and_count_on_the_command_line(run_cli, monkeypatch, quick_files):
-    import placer.io.batchfile
+    import placer.io.batchresults
 
     template, readings, rows = quick_files
-    monkeypatch.setattr(placer.io.batchfile, "usable_cores", lambda: 1)
+    monkeypatch.setattr(placer.io.batchresults, "usable_cores", lambda: 1)
     code, out, err = run_cli("batch", template, readings, "--jobs", "8")
     assert code in (0, 1)
     assert err == "placer batch: --jobs 8 capped at 1, the cores this process may use\n"
@@ -741,7 +746,7 @@ def test_progress_plain_lines_when_piped():
     # The rate counts from the first call (tables built), not from the start.
     import io
 
-    from placer.io.batchfile import progress_display
+    from placer.views.terminal.batch import progress_display
 
     clock, stream = _Clock(), io.StringIO()
     with progress_display(stream, every_s=10.0, clock=clock) as progress:
@@ -759,7 +764,7 @@ def test_progress_plain_lines_when_piped():
 def test_progress_bar_on_a_forced_terminal():
     import io
 
-    from placer.io.batchfile import progress_display
+    from placer.views.terminal.batch import progress_display
 
     clock, stream = _Clock(), io.StringIO()
     with progress_display(stream, terminal=True, clock=clock) as progress:

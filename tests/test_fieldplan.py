@@ -344,7 +344,7 @@ def test_single_plane_session_matches_the_textbook_formula(tmp_path):
 
 
 def test_more_fitted_parts_than_a_position_takes_is_bad_input(tmp_path):
-    from placer.io.sessionfile import SessionError
+    from placer.errors import SessionError
 
     a, u0 = synthetic(7)
     text = session_toml(a, u0, capacity=2, check=[(0, 2, "M8", 2), (0, 2, "M12", 1)])

@@ -28,7 +28,9 @@ from history_writer import make_visit, watch_connections
 
 from placer.errors import PlacerError
 from placer.io import history
-from placer.io.history import History, HistoryError, MachineSummary, default_db_path
+from placer.errors import HistoryError
+from placer.io.history import History, default_db_path
+from placer.records import MachineSummary
 
 WRITER = Path(__file__).with_name("history_writer.py")
 

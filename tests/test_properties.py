@@ -229,7 +229,7 @@ def test_batch_records_recomputed_by_hand(numbers, rows):
     import tempfile
     from pathlib import Path
 
-    from placer.io.batchfile import run_batch
+    from placer.io.batchresults import run_batch
 
     angles, radii, masses, stock, *_ = numbers
     with tempfile.TemporaryDirectory() as name:

@@ -33,9 +33,8 @@ from placer.io.jobfile import read_job
 from placer.plan import FittedPart
 from placer.solve import solve_job
 from placer.views.sheet import (
-    MATPLOTLIB_MISSING,
     PNG_DPI,
-    _fmt_gmm,
+    fmt_gmm,
     angles_counterclockwise,
     page_angle_deg,
     plane_page,
@@ -43,7 +42,7 @@ from placer.views.sheet import (
     spread_deg,
     write_sheet,
 )
-from placer.views.terminal.job import DRILL_CAUTION
+from placer.views.wording import DRILL_CAUTION
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 SUPPLY_FAN = EXAMPLES / "supply-fan.toml"
@@ -130,7 +129,7 @@ def test_png_is_a4_at_150_dpi(supply_fan, tmp_path):
 def test_unknown_suffix_is_refused(supply_fan, tmp_path, name):
     with pytest.raises(InputError) as caught:
         write_sheet(supply_fan, tmp_path / name)
-    assert caught.value.key == "--sheet"
+    assert caught.value.option == "sheet"
     assert caught.value.expected == ".pdf, .png or .svg"
     assert list(tmp_path.iterdir()) == []
 
@@ -140,8 +139,9 @@ def test_existing_file_is_refused_without_force(supply_fan, tmp_path):
     target.write_bytes(b"keep me")
     with pytest.raises(InputError) as caught:
         write_sheet(supply_fan, target)
-    assert caught.value.key == "--sheet"
-    assert caught.value.expected == "a new file name, or --force"
+    assert caught.value.option == "sheet"
+    assert caught.value.one_line({"sheet": "--sheet", "force": "--force"}).endswith(
+        "(expected a new file name, or --force)")
     assert target.read_bytes() == b"keep me"
     write_sheet(supply_fan, target, force=True)
     assert target.read_bytes().startswith(b"%PDF")
@@ -158,7 +158,7 @@ def test_existing_second_page_refuses_before_writing_any(supply_fan, tmp_path):
 def test_missing_folder_is_refused(supply_fan, tmp_path):
     with pytest.raises(InputError) as caught:
         write_sheet(supply_fan, tmp_path / "no-such-folder" / "plan.pdf")
-    assert caught.value.key == "--sheet"
+    assert caught.value.option == "sheet"
 
 
 # --- the drawing convention ----------------------------------------------------------
@@ -553,7 +553,7 @@ def test_long_rotor_name_wraps_and_header_facts_stay_apart(scratch):
     (0.001, "0.001"), (0.0123, "0.0123"), (0.875, "0.875"), (3.05, "3.05"), (2.2, "2.2"),
     (21.34, "21.3"), (1639.84, "1 639.8"), (0.0, "0")])
 def test_small_values_keep_their_significant_digits(value, text):
-    assert _fmt_gmm(value) == text
+    assert fmt_gmm(value) == text
 
 
 def test_tight_tolerance_is_printed_as_given(scratch):
@@ -738,8 +738,8 @@ def test_cli_without_matplotlib(tmp_path, capsys, monkeypatch):
     monkeypatch.setattr(importlib.util, "find_spec",
                         lambda name, *a: None if name == "matplotlib" else real(name, *a))
     assert main(["solve", str(SUPPLY_FAN), "--sheet", str(tmp_path / "s.pdf")]) == 2
-    assert capsys.readouterr().err == f"placer: error: {MATPLOTLIB_MISSING}\n"
-    assert MATPLOTLIB_MISSING == "--sheet needs matplotlib: pip install 'placer[sheet]'"
+    assert capsys.readouterr().err == (
+        "placer: error: --sheet needs matplotlib: pip install 'placer[sheet]'\n")
     assert not (tmp_path / "s.pdf").exists()
 
 

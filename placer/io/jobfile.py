@@ -7,7 +7,7 @@ from pathlib import Path
 
 from placer.catalog import Catalog
 from placer.errors import JobError, ToleranceError
-from placer.geometry import PlaneGeometry, equally_spaced_deg, polar
+from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry, equally_spaced_deg, polar
 from placer.io.catalogfile import read_catalog, resolve_catalog
 from placer.io.tables import Table, read_toml
 from placer.job import DEFAULT_ANGLE_SENSE, ExistingPart, Job, PlaneJob, Rotor
@@ -21,35 +21,55 @@ from placer.tolerance import parse_grade
 
 ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense",
               "correction_basis", "placement_error_deg", "rotation")
-ROTATIONS = ("clockwise", "counterclockwise")
-"""How the rotor turns, seen from the side the technician works on."""
 PLANE_KEYS = ("name", "radius_mm", "radii_mm", "positions", "start_deg", "angles_deg", "blocked",
               "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "max_parts",
               "accepts", "add_only", "remove_only", "existing")
 ACCEPTS = ("both", "add", "remove")
 CORRECTION_BASES = ("further", "total")
 VECTOR_KEYS = ("mass_g", "gmm", "angle_deg")
-ANGLE_SENSES = ("against rotation", "with rotation", "clockwise", "counterclockwise")
 
 
-def read_job(path: Path) -> Job:
-    """Read and check a job file, with its catalogues."""
+def read_job(path: Path, *, template: bool = False) -> Job:
+    """Read and check a job file, with its catalogues.
+
+    Parameters
+    ----------
+    path : Path
+        The job file (TOML).
+    template : bool
+        Read it as the template of a production batch: its planes need no
+        correction (one given is checked like any job file's and then not
+        used); every plane's correction is zero, given as "batch template".
+
+    Returns
+    -------
+    Job
+
+    Raises
+    ------
+    JobError
+        Naming the file, the key and what was expected.
+    CatalogError
+        For a catalogue it names that is missing or bad.
+    """
     path = Path(path)
     file = str(path)
-    root = Table(read_toml(path, JobError, "job file"), file, "", JobError)
+    root = Table(read_toml(path, JobError, "template file" if template else "job file"), file,
+                 "", JobError)
     root.allow_only(("rotor", "planes"))
-    rotor = _rotor(root.sub("rotor", required=True))
+    rotor = rotor_of(root.sub("rotor", required=True))
     catalogs: dict[Path, Catalog] = {}
     planes = []
     for table in root.tables("planes", required=True):
-        planes.append(_plane(table, path.parent, catalogs, rotor.correction_basis))
+        planes.append(_plane(table, path.parent, catalogs, rotor.correction_basis, template))
     if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(planes):
         raise JobError(f"gives {len(rotor.com_distances_mm)} distances for {len(planes)} planes",
                        file=file, key="rotor.com_distances_mm", expected="one distance per plane")
     return Job(rotor=rotor, planes=tuple(planes), source=file)
 
 
-def _rotor(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
+def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
+    """The ``[rotor]`` table of a job or session file (``extra_keys``: a session's own)."""
     t.allow_only(ROTOR_KEYS + extra_keys)
     grade = None
     if t.has("grade"):
@@ -90,10 +110,15 @@ def _rotor(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
 
 
 def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog],
-           basis: str = "further") -> PlaneJob:
+           basis: str = "further", template: bool = False) -> PlaneJob:
     t.allow_only(PLANE_KEYS)
     geometry, catalog = plane_geometry(t, base_dir, catalogs)
-    correction, given_as = _requirement(t)
+    if template:
+        if t.has("correction") or t.has("unbalance"):
+            _requirement(t)                   # checked like any job file's, then not used
+        correction, given_as = 0j, "batch template"
+    else:
+        correction, given_as = _requirement(t)
     return PlaneJob(
         geometry=geometry,
         catalog=catalog,

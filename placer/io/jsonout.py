@@ -1,11 +1,23 @@
-"""The JSON shape of a solved job (``placer solve JOB --json``)."""
+"""Every JSON shape placer prints or writes (``--json`` of each command)."""
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from typing import Any
 
+from placer.catalog import Catalog
+from placer.fieldplan import FieldOption, FieldResult
 from placer.geometry import angle_of_deg
 from placer.plan import JobResult, PlaneResult, PlanOption
+from placer.records import (
+    MachineSummary,
+    MassRecord,
+    VisitRecord,
+    VisitSummary,
+    utc_label,
+)
+from placer.tolerance import PlaneShare
+from placer.units import kg_mm2_from_gmm2
 
 
 def option_dict(option: PlanOption) -> dict[str, Any]:
@@ -70,3 +82,120 @@ def job_dict(result: JobResult) -> dict[str, Any]:
         "notes": list(result.notes),
         "planes": [plane_dict(p) for p in result.planes],
     }
+
+
+def _option_dict(option: FieldOption, result: FieldResult) -> dict[str, Any]:
+    return {
+        "part_count": option.used_parts,
+        "objective": option.objective,
+        "proven": option.proven,
+        "parts": [{"plane": p + 1, "plane_name": result.session.planes[p].geometry.name,
+                   "position": part.position, "angle_deg": part.angle_deg,
+                   "radius_mm": part.radius_mm, "item": part.item, "mass_g": part.mass_g,
+                   "count": part.count, "action": part.verb} for p, part in option.parts],
+        "predicted": [_phasor_dict(v) for v in option.predicted],
+    }
+
+
+def _phasor_dict(value: complex) -> dict[str, float]:
+    return {"amplitude": float(abs(value)), "angle_deg": angle_of_deg(complex(value))}
+
+
+def field_dict(result: FieldResult) -> dict[str, Any]:
+    """The JSON object of ``placer field --json``."""
+    s = result.session
+    matrix = result.coefficients.matrix
+    out: dict[str, Any] = {
+        "machine": {"id": s.machine_id, "name": s.machine_name},
+        "unit": s.unit, "measure": s.measure, "norm": s.norm,
+        "amplitudes": f"{s.unit} {s.measure}, as read",
+        "angle_convention": f"degrees from the reference mark, counted {s.rotor.angle_sense}",
+        "coefficient_source": result.coefficient_source,
+        "coefficients_per_gmm": [[{"re": float(v.real), "im": float(v.imag)} for v in row]
+                                 for row in matrix],
+        "condition_number": result.coefficients.condition,
+        "basis": result.basis,
+        "vibration_now": [_phasor_dict(v) for v in result.vibration_now],
+        "correction": [{"plane": p + 1, "gmm": float(abs(w)), "angle_deg": angle_of_deg(w)}
+                       for p, w in enumerate(result.correction_gmm)],
+        "pareto": [_option_dict(o, result) for o in result.front],
+        "chosen": _option_dict(result.chosen, result),
+        "rounded_per_plane": _option_dict(result.rounded, result),
+        "coupled_same_parts": _option_dict(result.coupled_same_parts, result),
+        "fitted_on_rotor": [{"plane": m.plane + 1, "position": m.position, "item": m.item,
+                             "count": m.count} for m in result.fitted],
+        "vibration_limit": s.vibration_limit,
+        "within_limit": result.within_limit,
+        "warnings": list(result.warnings),
+    }
+    if result.static_couple is not None:
+        sc = result.static_couple
+        out["static_couple"] = {"static_gmm": float(abs(sc.static_gmm)),
+                                "static_angle_deg": angle_of_deg(sc.static_gmm),
+                                "couple_gmm": float(abs(sc.couple_gmm)),
+                                "couple_angle_deg": angle_of_deg(sc.couple_gmm),
+                                "couple_moment_gmm2": sc.couple_moment_gmm2,
+                                "couple_moment_kg_mm2": None if sc.couple_moment_gmm2 is None
+                                else kg_mm2_from_gmm2(sc.couple_moment_gmm2),
+                                "couple_negligible": bool(sc.couple_negligible)}
+    return out
+
+
+def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
+    """The JSON object of ``placer history MACHINE --visit N``."""
+    def mass(m: MassRecord) -> dict[str, Any]:
+        return {"plane": m.plane + 1, "plane_name": record.plane_names[m.plane],
+                "position": m.position, "angle_deg": m.angle_deg, "radius_mm": m.radius_mm,
+                "mass_g": m.mass_g, "item": m.item, "count": m.count, "role": m.role,
+                "removed_after": m.removed_after}
+
+    return {
+        "visit": visit_id, "machine": {"id": record.machine_id, "name": record.machine_name},
+        "started_at": record.started_at, "started_at_utc": utc_label(record.started_at),
+        "session_file": record.session_file, "unit": record.unit, "measure": record.measure,
+        "phase_sense": record.phase_sense, "angle_sense": record.angle_sense,
+        "rotation": record.rotation, "service_rpm": record.service_rpm,
+        "sensors": list(record.channel_names), "planes": list(record.plane_names),
+        "runs": [{"name": r.name, "kind": r.kind,
+                  "readings": [{"amplitude": a, "phase_deg": p} for a, p in r.readings],
+                  "masses": [mass(m) for m in r.masses]} for r in record.runs],
+        "coefficient_source": record.coefficient_source,
+        "coefficients_per_gmm": None if record.coefficients is None else [
+            [{"re": float(v.real), "im": float(v.imag)} for v in row]
+            for row in record.coefficients],
+        "condition_number": record.condition,
+        "planned": [mass(m) for m in record.planned],
+        "result": record.result,
+    }
+
+
+def catalogs_list(names: Sequence[str], catalogs: Sequence[Catalog]) -> list[dict[str, Any]]:
+    """The JSON of ``placer catalogs --json``: each bundled catalogue's name, title, items."""
+    return [{"name": n, "title": c.name, "items": len(c.items)} for n, c in zip(names, catalogs)]
+
+
+def catalog_dict(catalog: Catalog) -> dict[str, Any]:
+    """The JSON of ``placer catalogs NAME --json``: the catalogue's items."""
+    return {"name": catalog.name, "items": [
+        {"id": i.id, "mass_g": i.mass_g, "stock": i.stock} for i in catalog.items]}
+
+
+def tolerance_dict(grade_mm_s: float, mass_kg: float, service_rpm: float, u_per_gmm: float,
+                   shares: Sequence[PlaneShare]) -> dict[str, Any]:
+    """The JSON of ``placer tolerance --json``: U_per and each plane's share."""
+    return {"grade_mm_s": grade_mm_s, "mass_kg": mass_kg, "service_rpm": service_rpm,
+            "permissible_gmm": u_per_gmm, "shares": [
+                {"plane": s.name, "share": s.share, "permissible_gmm": s.permissible_gmm}
+                for s in shares]}
+
+
+def machines_list(machines: Sequence[MachineSummary]) -> list[dict[str, Any]]:
+    """The JSON of ``placer machines --json``."""
+    return [{"id": m.id, "name": m.name, "visits": m.visits, "last_visit": m.last_visit}
+            for m in machines]
+
+
+def visits_list(visits: Sequence[VisitSummary]) -> list[dict[str, Any]]:
+    """The JSON of ``placer history MACHINE --json``: one entry per visit."""
+    return [{"id": v.id, "started_at": v.started_at, "coefficient_source": v.coefficient_source,
+             "condition": v.condition, "runs": v.runs, "result": v.result} for v in visits]

@@ -34,9 +34,9 @@ from pathlib import Path
 import numpy as np
 
 from placer.catalog import Catalog
-from placer.errors import JobError
-from placer.geometry import polar
-from placer.io.jobfile import PLANE_KEYS, _rotor, plane_geometry
+from placer.errors import SessionError
+from placer.geometry import ROTATIONS, polar
+from placer.io.jobfile import PLANE_KEYS, plane_geometry, rotor_of
 from placer.io.tables import Table, read_toml
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
 from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense
@@ -52,11 +52,6 @@ from placer.session import (
 
 FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
     "correction", "unbalance", "tolerance_gmm", "max_parts", "existing"))
-ROTATIONS = ("clockwise", "counterclockwise")
-
-
-class SessionError(JobError):
-    """A session file is missing, unreadable or holds a bad value."""
 
 
 def read_session(path: Path) -> Session:
@@ -73,10 +68,8 @@ def read_session(path: Path) -> Session:
         raise machine.fail("id", "is empty", "a machine tag such as \"WM-0417\"")
     visit_date = _visit_date(root.sub("visit"))
     rotor_table = root.sub("rotor", required=True)
-    rotor = _rotor(rotor_table, ("rotation", "plane_separation_mm"))
-    rotation = rotor_table.text("rotation")
-    if rotation is not None and rotation not in ROTATIONS:
-        raise rotor_table.fail("rotation", f"is '{rotation}'", "clockwise or counterclockwise")
+    rotor = rotor_of(rotor_table, ("plane_separation_mm",))
+    rotation = rotor.rotation
     if rotor.angle_sense in ROTATIONS and rotation is None:
         raise rotor_table.fail("rotation", "missing",
                                "the sense of rotation, as the angles are "

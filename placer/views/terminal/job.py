@@ -8,27 +8,10 @@ from rich.panel import Panel
 from rich.table import Table
 from rich.text import Text
 
-from placer.catalog import Catalog
 from placer.geometry import angle_of_deg
 from placer.plan import JobResult, PlaneResult
 from placer.tolerance import PlaneShare
-
-CAUTIONS = (
-    "Lock out and tag out the machine before fitting or removing any part; "
-    "try a start to prove it is isolated.",
-    "A part that comes off a spinning rotor is a projectile: fasten every part "
-    "as the machine maker specifies, and keep clear of the plane of rotation on test runs.",
-    "Local codes and the machine maker's instructions come first.",
-)
-
-DRILL_CAUTION = (
-    "Drilling: check the wall or boss is thick enough and within the maker's drilling "
-    "limits, drill only with the machine isolated and still, and clear every chip before "
-    "the run.")
-
-
-def _action(part) -> str:
-    return part.verb if part.verb == "fit" else part.verb.upper()
+from placer.views.wording import action_word, cautions_for, drills
 
 
 def _verdict(within: bool | None) -> Text:
@@ -70,7 +53,7 @@ def _parts_table(result: PlaneResult) -> Table:
     table.add_column("Each g", justify="right")
     table.add_column("Total g·mm", justify="right")
     for p in result.chosen.parts:
-        table.add_row(_action(p), str(p.position),
+        table.add_row(action_word(p, emphasise=True), str(p.position),
                       f"{p.angle_deg:.1f}", p.item, str(p.count),
                       f"{p.mass_g:g}", f"{p.mass_g * p.count * p.radius_mm:.0f}")
     return table
@@ -132,7 +115,7 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
                         "rotor as it is.\n", style="bold")
     body = [info]
     if result.chosen.parts:
-        actions = {_action(p) for p in result.chosen.parts}
+        actions = {action_word(p, emphasise=True) for p in result.chosen.parts}
         if actions == {"fit"}:
             heading = "Fit these parts:"
         elif "REMOVE" in actions:
@@ -182,43 +165,6 @@ def render_job(result: JobResult, console: Console) -> None:
         summary = ("At least one plane is OUTSIDE tolerance: see the notes above before "
                    "running the machine.")
     console.print(Text(summary, style="bold"))
-    drills = any(p.verb == "drill"
-                 for plane in result.planes for p in plane.chosen.parts)
-    cautions = CAUTIONS + ((DRILL_CAUTION,) if drills else ())
+    cautions = cautions_for(drilling=any(drills(plane.chosen.parts) for plane in result.planes))
     console.print(Panel("\n".join(f"- {c}" for c in cautions), title="Cautions",
                         title_align="left", box=box.SQUARE))
-
-
-def render_catalog_list(names: list[str], catalogs: list[Catalog], console: Console) -> None:
-    """The bundled catalogues, one line each."""
-    table = Table(title="Bundled catalogues", box=box.SIMPLE, title_justify="left")
-    table.add_column("Name")
-    table.add_column("Title")
-    table.add_column("Items", justify="right")
-    table.add_column("Masses g")
-    for name, catalog in zip(names, catalogs):
-        masses = [i.mass_g for i in catalog.items]
-        table.add_row(name, catalog.name, str(len(masses)), f"{min(masses):g} to {max(masses):g}")
-    console.print(table)
-    console.print("Show one with: placer catalogs NAME")
-
-
-def render_catalog(catalog: Catalog, console: Console) -> None:
-    """One catalogue's items, then its description."""
-    table = Table(title=catalog.name, box=box.SIMPLE, title_justify="left")
-    table.add_column("Id")
-    table.add_column("Mass g", justify="right")
-    tolerances = any(item.mass_tolerance_g for item in catalog.items)
-    if tolerances:
-        table.add_column("± g", justify="right")
-    table.add_column("Stock", justify="right")
-    table.add_column("Description")
-    for item in catalog.items:
-        cells = [item.id, f"{item.mass_g:g}"]
-        if tolerances:
-            cells.append(f"{item.mass_tolerance_g:.3g}")
-        cells += ["-" if item.stock is None else str(item.stock), item.description]
-        table.add_row(*cells)
-    console.print(table)
-    if catalog.description:
-        console.print(Text(catalog.description))

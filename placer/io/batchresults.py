@@ -1,0 +1,405 @@
+"""Results of ``placer batch``: written row by row, resumed, summed up.
+
+The I/O edge of :mod:`placer.batch` (which stays pure): it reads the
+template and the readings (:mod:`placer.io.jobfile`,
+:mod:`placer.io.batchreadings`), writes every result as it is found, and
+the summary at the end.
+
+Template
+--------
+A normal job file (``[rotor]`` and ``[[planes]]``, see ``placer solve``).
+A plane's ``correction`` / ``unbalance`` may be left out; if given it is
+checked like any job file's and then not used.
+
+Results (``PREFIX`` from ``--out``; default the readings file's name with
+its suffix replaced by ``.results``)
+--------------------------------------------------------------------------
+* ``PREFIX.jsonl``: one object per solved rotor, written and flushed row by
+  row::
+
+      {"serial": ..., "line": <line in the readings file>, "template": <digest>,
+       "input": <digest of the row's corrections>,
+       "within_tolerance": true | false | null, "solved_together": false,
+       "stock_short": [ids of items no plan within the stock could spare],
+       "planes": [{"plane": 1, "name": ..., "catalog": ...,
+                   "correction_gmm": ..., "correction_angle_deg": ...,
+                   "parts": "3:M10×2;7:M6×1",
+                   "fitted": [{"position": 3, "angle_deg": ..., "item": "M10",
+                               "mass_g": ..., "count": 2,
+                               "action": "fit" | "drill" | "remove"}, ...],
+                   "part_count": 3, "residual_gmm": ..., "residual_angle_deg": ...,
+                   "tolerance_gmm": ... | null, "within_tolerance": ... | null}, ...]}
+
+* ``PREFIX.csv``: ``serial``, then per plane ``<plane>_parts``,
+  ``<plane>_residual_gmm``, ``<plane>_within_tolerance``, then
+  ``within_tolerance`` (all planes); flags are ``true`` / ``false``, empty
+  where no tolerance is given; ``parts`` is ``position:item×count`` joined
+  by ``;`` (empty for no parts; a negative count for parts the plan takes
+  off, action "remove").  Rewritten from ``PREFIX.jsonl`` when a
+  batch is resumed, so the two always hold the same rotors.
+* ``PREFIX.errors.csv``: ``line,serial,message`` for each bad row.
+* ``PREFIX.summary.json``: the :class:`placer.batch.BatchSummary` fields
+  (rows_read, solved, already_done, errors, within, outside, no_tolerance,
+  share_within, parts_used, elapsed_s, jobs) plus template, template_digest,
+  readings, solved_now and outputs, written at the end.  ``jobs`` is the
+  number of processes that solved (``--jobs`` capped at the usable cores
+  and at the rotors to solve).
+
+All JSON written is strict JSON (RFC 8259): a number that is not finite
+would be written as null (none is expected: the readers keep every input
+in range).
+
+Results come in input order.  Existing outputs are never overwritten
+without ``resume`` (keep the rotors of ``PREFIX.jsonl``, drop a partial
+last line, solve the rest) or ``force`` (start again).  Rows are flushed to
+the operating system one by one, which survives an interrupted or killed
+batch (not a power cut).
+
+Resume checks that the readings are the ones the kept results were solved
+from: every kept result's serial must still be in the readings file, with
+the same corrections (the ``input`` digest, exact to the last bit of every
+number).  Otherwise the batch stops with exit 2 before writing anything,
+naming the results file, the line and the serial; ``--force`` starts
+again, or another ``--out`` keeps both.  A row that was bad before and is
+good now is simply solved.
+"""
+
+from __future__ import annotations
+
+import csv
+import hashlib
+import json
+import time
+from collections.abc import Callable
+from dataclasses import asdict, dataclass
+from pathlib import Path
+from typing import Any, TextIO
+
+from placer.batch import (BatchSummary, BatchTally, RotorOutcome, RotorReading, default_jobs,
+                          processes_used, reading_digest, solve_readings, usable_cores)
+from placer.errors import InputError
+from placer.geometry import angle_of_deg
+from placer.io.batchreadings import RowError, read_readings
+from placer.io.jobfile import read_job
+from placer.io.tables import json_text, printable
+from placer.limits import DEFAULT_TIME_LIMIT_S
+
+
+@dataclass(frozen=True)
+class BatchPaths:
+    """The four output files of a batch."""
+
+    results_csv: Path
+    results_jsonl: Path
+    errors_csv: Path
+    summary_json: Path
+
+    @classmethod
+    def from_prefix(cls, prefix: Path) -> BatchPaths:
+        prefix = str(prefix)
+        return cls(Path(prefix + ".csv"), Path(prefix + ".jsonl"), Path(prefix + ".errors.csv"),
+                   Path(prefix + ".summary.json"))
+
+    def all(self) -> tuple[Path, ...]:
+        return (self.results_csv, self.results_jsonl, self.errors_csv, self.summary_json)
+
+
+def default_prefix(readings_path: Path) -> Path:
+    """The readings file's name with its suffix replaced by ``.results``."""
+    readings_path = Path(readings_path)
+    return readings_path.with_name(readings_path.stem + ".results")
+
+
+def read_template(path: Path):
+    """Read a template job file: a job file whose planes need no correction
+    (:func:`placer.io.jobfile.read_job` with ``template=True``)."""
+    return read_job(path, template=True)
+
+
+def template_digest(path: Path) -> str:
+    """First 12 hex digits of the SHA-256 of the template file's bytes."""
+    return hashlib.sha256(Path(path).read_bytes()).hexdigest()[:12]
+
+
+def parts_text(fitted: list[dict]) -> str:
+    """``position:item×count`` joined by ``;`` (empty for no parts); count < 0 to take off."""
+    return ";".join(f"{p['position']}:{p['item']}×{_signed(p)}" for p in fitted)
+
+
+def _signed(part: dict) -> int:
+    return -part["count"] if part.get("action") == "remove" else part["count"]
+
+
+def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
+    """The JSON object of one solved rotor (a line of ``PREFIX.jsonl``).
+
+    ``input`` is :func:`placer.batch.reading_digest` of the corrections the
+    rotor was solved for; each plane repeats its correction as read.
+    """
+    planes = []
+    for p in outcome.planes:
+        fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
+                   "mass_g": f.mass_g, "count": f.count,
+                   "action": f.verb} for f in p.option.parts]
+        planes.append({"plane": p.plane, "name": p.name, "catalog": p.catalog,
+                       "correction_gmm": abs(p.correction_gmm),
+                       "correction_angle_deg": angle_of_deg(p.correction_gmm),
+                       "parts": parts_text(fitted), "fitted": fitted,
+                       "part_count": p.option.used_parts, "residual_gmm": p.option.residual_gmm,
+                       "residual_angle_deg": p.option.residual_angle_deg,
+                       "tolerance_gmm": p.tolerance_gmm,
+                       "within_tolerance": p.within_tolerance})
+    return {"serial": outcome.serial, "line": outcome.line, "template": digest,
+            "input": reading_digest(p.correction_gmm for p in outcome.planes),
+            "within_tolerance": outcome.within_tolerance,
+            "solved_together": outcome.solved_together,
+            "stock_short": list(outcome.stock_short), "planes": planes}
+
+
+def csv_header(n_planes: int) -> list[str]:
+    """Columns of ``PREFIX.csv``."""
+    names = ["serial"]
+    for number in range(1, n_planes + 1):
+        names += [f"{number}_parts", f"{number}_residual_gmm", f"{number}_within_tolerance"]
+    return names + ["within_tolerance"]
+
+
+def _flag(value: bool | None) -> str:
+    return "" if value is None else ("true" if value else "false")
+
+
+def csv_row(record: dict[str, Any]) -> list[str]:
+    """One line of ``PREFIX.csv`` from a result record (a residual of null left empty)."""
+    row = [record["serial"]]
+    for plane in record["planes"]:
+        residual = plane["residual_gmm"]
+        row += [plane["parts"], "" if residual is None else repr(float(residual)),
+                _flag(plane["within_tolerance"])]
+    return row + [_flag(record["within_tolerance"])]
+
+
+def read_done(path: Path, digest: str, n_planes: int | None = None
+              ) -> tuple[list[dict[str, Any]], int]:
+    """The rotors already in ``PREFIX.jsonl`` and how many bytes of it to keep.
+
+    A partial last line (a batch killed while writing it) is left out of
+    both; :func:`cut_to` cuts it off the file once the batch goes on.
+
+    Raises
+    ------
+    InputError
+        When a line other than the last is not a result record (of
+        ``n_planes`` planes, when given), or a record was written from
+        another template.
+    """
+    path = Path(path)
+    data = path.read_bytes()
+    keep = data.rfind(b"\n") + 1
+    lines = data[:keep].split(b"\n")[:-1]
+    records: list[dict[str, Any]] = []
+    for number, raw in enumerate(lines, start=1):
+        try:
+            record = json.loads(raw.decode("utf-8"))
+            _check_record(record, n_planes)
+        except (ValueError, KeyError, IndexError, TypeError, RecursionError):
+            if number == len(lines) and keep == len(data):
+                keep -= len(raw) + 1
+                break
+            raise InputError("is not a result record", file=str(path), key=f"line {number}",
+                             expected="a file written by placer batch, or {opt:force} to start "
+                                      "again") from None
+        if record.get("template") != digest:
+            raise InputError(f"was written from another template "
+                             f"({printable(str(record.get('template')))[:20]}, "
+                             f"now {digest})", file=str(path), key=f"line {number}",
+                             expected="the same template, or {opt:force} to start again")
+        records.append(record)
+    return records, keep
+
+
+def _check_record(record: Any, n_planes: int | None) -> None:
+    """Raise ValueError unless ``record`` has what resuming reads from it."""
+    if not isinstance(record, dict) or not isinstance(record.get("serial"), str):
+        raise ValueError("no serial")
+    planes = record["planes"]
+    if not isinstance(planes, list) or not planes or (n_planes and len(planes) != n_planes):
+        raise ValueError("planes")
+    for plane in planes:
+        if not isinstance(plane["parts"], str) or not isinstance(plane["catalog"], str):
+            raise ValueError("plane")
+        residual = plane["residual_gmm"]
+        if residual is not None and not isinstance(residual, (int, float)):
+            raise ValueError("residual")
+        for part in plane["fitted"]:
+            if not isinstance(part["item"], str) or not isinstance(part["count"], int):
+                raise ValueError("part")
+
+
+def cut_to(path: Path, keep: int) -> None:
+    """Cut ``path`` to its first ``keep`` bytes (a no-op when it is that long)."""
+    if Path(path).stat().st_size != keep:
+        with Path(path).open("r+b") as handle:
+            handle.truncate(keep)
+
+
+def check_unchanged(done: list[dict[str, Any]], rows: list[RotorReading | RowError],
+                    results_path: Path) -> None:
+    """Refuse to resume when a kept result's row is gone or its corrections changed.
+
+    Raises
+    ------
+    InputError
+        Naming the results file, the record's line and serial.
+    """
+    readings: dict[str, RotorReading | RowError] = {}
+    for row in rows:
+        if row.serial is not None:
+            readings.setdefault(row.serial, row)
+    again = "the readings the results were solved from, or {opt:force} to start again"
+    for number, record in enumerate(done, start=1):
+        serial = record["serial"]
+        row = readings.get(serial)
+        if row is None:
+            raise InputError(f"rotor {serial} is no longer in the readings file",
+                             file=str(results_path), key=f"line {number}", expected=again)
+        if isinstance(row, RowError) or record.get("input") != row.digest:
+            what = "is now a bad row" if isinstance(row, RowError) else \
+                "has other corrections in the readings file than when it was solved"
+            raise InputError(f"rotor {serial} {what}", file=str(results_path),
+                             key=f"line {number}", expected=again)
+
+
+def _record_parts(record: dict[str, Any]) -> list[tuple[str, str, int]]:
+    return [(plane["catalog"], part["item"], part["count"])
+            for plane in record["planes"] for part in plane["fitted"]
+            if part.get("action") != "remove"]
+
+
+def _write_line(handle: TextIO, text: str) -> None:
+    handle.write(text)
+    handle.flush()
+
+
+ProgressCallback = Callable[[int, int], None]
+"""Called with (rotors solved in this run, rotors to solve in this run).
+
+Called once with 0 rotors solved when the tables are built and solving
+starts (so that a rate counts from then), then after each rotor."""
+
+
+def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = None,
+              jobs: int | None = None, resume: bool = False, force: bool = False,
+              time_limit_s: float = DEFAULT_TIME_LIMIT_S,
+              progress: ProgressCallback | None = None,
+              start_method: str | None = None,
+              note: Callable[[str], None] | None = None) -> tuple[BatchSummary, BatchPaths]:
+    """Solve every rotor of a readings file against a template; write the outputs.
+
+    Parameters
+    ----------
+    template_path : Path
+        Template job file.
+    readings_path : Path
+        Readings, ``.csv`` or ``.jsonl``.
+    prefix : Path, optional
+        Output prefix (default :func:`default_prefix`).
+    jobs : int, optional
+        Worker processes (default one per usable core; 1 solves in this
+        process); more than :func:`placer.batch.usable_cores` are capped at
+        that, with a note.
+    resume, force : bool
+        Keep the rotors already in ``PREFIX.jsonl`` and solve the rest /
+        overwrite existing outputs.  Without either, existing outputs are an
+        error.
+    time_limit_s : float
+        CP-SAT time limit per decision, if needed [s].
+    progress : callable, optional
+        See :data:`ProgressCallback`.
+    start_method : str, optional
+        Start method of the worker processes (see :func:`placer.batch.solve_readings`).
+    note : callable, optional
+        Called with a one-line note for the user (``--jobs`` capped).
+
+    Raises
+    ------
+    InputError
+        For a bad template or readings file, outputs that exist, or (with
+        ``resume``) results that do not belong to these readings.
+    """
+    started = time.perf_counter()
+    if resume and force:
+        raise InputError("resume and force together", option="resume",
+                         expected="one of {opt:resume} or {opt:force}")
+    jobs = default_jobs() if jobs is None else int(jobs)
+    if jobs < 1:
+        raise InputError(f"is {jobs}", option="jobs", expected="a whole number of at least 1")
+    cores = usable_cores()
+    if jobs > cores:
+        if note is not None:
+            note(f"placer batch: {{opt:jobs}} {jobs} capped at {cores}, the cores this process "
+                 "may use")
+        jobs = cores
+    template = read_template(Path(template_path))
+    digest = template_digest(Path(template_path))
+    rows = read_readings(Path(readings_path), template)
+    paths = BatchPaths.from_prefix(prefix if prefix is not None
+                                   else default_prefix(Path(readings_path)))
+    inputs = {Path(template_path).resolve(), Path(readings_path).resolve()}
+    for path in paths.all():
+        if path.resolve() in inputs:
+            raise InputError("would be overwritten by an output", file=str(path), option="out",
+                             expected="an output prefix apart from the input files")
+    existing = [p for p in paths.all() if p.exists()]
+    if existing and not (resume or force):
+        raise InputError("exists already", file=str(existing[0]), option="out",
+                         expected="{opt:resume} to carry on with it, {opt:force} to overwrite, "
+                                  "or another {opt:out}")
+    n_planes = len(template.planes)
+    done: list[dict[str, Any]] = []
+    if resume and paths.results_jsonl.exists():
+        done, keep = read_done(paths.results_jsonl, digest, n_planes)
+        check_unchanged(done, rows, paths.results_jsonl)
+        cut_to(paths.results_jsonl, keep)
+    paths.summary_json.unlink(missing_ok=True)
+    tally = BatchTally(template)
+    for record in done:
+        tally.add(record["within_tolerance"], _record_parts(record))
+    done_serials = {record["serial"] for record in done}
+    errors = [row for row in rows if isinstance(row, RowError)]
+    todo = [row for row in rows
+            if isinstance(row, RotorReading) and row.serial not in done_serials]
+    already = sum(1 for row in rows if isinstance(row, RotorReading)
+                  and row.serial in done_serials)
+    with paths.errors_csv.open("w", encoding="utf-8", newline="") as error_file:
+        writer = csv.writer(error_file, lineterminator="\n")
+        writer.writerow(["line", "serial", "message"])
+        for row in errors:
+            writer.writerow([row.line, row.serial or "", row.message])
+    mode = "a" if done else "w"
+    ready = None if progress is None else (lambda: progress(0, len(todo)))
+    with paths.results_jsonl.open(mode, encoding="utf-8", newline="\n") as jsonl, \
+            paths.results_csv.open("w", encoding="utf-8", newline="") as results_csv:
+        writer = csv.writer(results_csv, lineterminator="\n")
+        writer.writerow(csv_header(n_planes))
+        for record in done:
+            writer.writerow(csv_row(record))
+        results_csv.flush()
+        outcomes = solve_readings(template, todo, jobs, time_limit_s, start_method=start_method,
+                                  on_ready=ready)
+        for count, outcome in enumerate(outcomes, start=1):
+            record = outcome_record(outcome, digest)
+            _write_line(jsonl, json_text(record) + "\n")
+            writer.writerow(csv_row(record))
+            results_csv.flush()
+            tally.add_outcome(outcome)
+            if progress is not None:
+                progress(count, len(todo))
+    summary = tally.summary(rows_read=len(rows), already_done=already, errors=len(errors),
+                            elapsed_s=time.perf_counter() - started,
+                            jobs=processes_used(jobs, len(todo)))
+    document = {"template": str(template_path), "template_digest": digest,
+                "readings": str(readings_path), **asdict(summary),
+                "solved_now": len(todo),
+                "outputs": {k: str(v) for k, v in asdict(paths).items()}}
+    paths.summary_json.write_text(json_text(document, indent=2) + "\n", encoding="utf-8")
+    return summary, paths

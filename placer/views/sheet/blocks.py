@@ -1,0 +1,304 @@
+"""The blocks of a page: header, plane band, key, result box, work table, trade-off table."""
+
+from __future__ import annotations
+
+from datetime import date
+from pathlib import Path
+
+from placer.plan import JobResult, PlaneResult
+from placer.views.sheet.facts import (
+    PlaneDrawing,
+    PlaneFacts,
+    basis_lines,
+    fmt_gmm,
+    fmt_vector,
+    tolerance_text,
+)
+from placer.views.sheet.symbols import POSITION_MARKERS
+from placer.views.sheet.typeset import (
+    GREY,
+    INK,
+    MARGIN_IN,
+    PAGE_IN,
+    Page,
+    fit_title,
+    join_lines,
+    lines_in,
+    text_width_in,
+    wrap_chars,
+    wrap_words,
+)
+from placer.views.wording import action_word, drills
+
+
+def draw_header(page: Page, result: JobResult, index: int, heading: str, when: date) -> float:
+    """Title, the job's facts in columns as wide as they need, tolerance per plane."""
+    rotor = result.job.rotor
+    left, right = MARGIN_IN, PAGE_IN[0] - MARGIN_IN
+    width = right - left
+    page.rule(0.42, lw=3.0)
+    page.text(left, 0.50, "F I T T I N G   S H E E T", 8.5, weight="bold")
+    page.text(right, 0.50, f"plane {index} of {len(result.planes)}", 8.5, weight="bold",
+              ha="right")
+    lines, size = fit_title(heading, width)
+    page.text(left, 0.70, "\n".join(lines), size, weight="bold", linespacing=1.15)
+    y = 0.70 + lines_in(len(lines), size, 1.15) + 0.11
+    facts = [
+        ("JOB FILE", Path(result.job.source).name),
+        ("DATE", when.isoformat()),
+        ("SERVICE SPEED", "-" if rotor.service_rpm is None else f"{rotor.service_rpm:g} r/min"),
+        ("ROTOR MASS", "-" if rotor.mass_kg is None else f"{rotor.mass_kg:g} kg"),
+        ("GRADE", "-" if rotor.grade_mm_s is None else f"G {rotor.grade_mm_s:g}"),
+        ("U_per (ISO 21940-11)", "-" if result.permissible_gmm is None
+         else f"{fmt_gmm(result.permissible_gmm)} g·mm"),
+    ]
+    if len(result.planes) == 1:
+        facts.append(("TOLERANCE", tolerance_text(result.planes[0])))
+    x, gap, row_h = left, 0.28, 0.0
+    for label, value in facts:
+        value_lines = [value] if text_width_in(value, 9) <= width else wrap_chars(value, width, 9)
+        w = max(text_width_in(label, 6.5, True), max(text_width_in(s, 9) for s in value_lines))
+        if x > left and x + w > right:
+            x, y, row_h = left, y + 0.21 + row_h, 0.0
+        page.text(x, y, label, 6.5, color=GREY, weight="bold")
+        page.text(x, y + 0.13, "\n".join(value_lines), 9)
+        row_h = max(row_h, lines_in(len(value_lines), 9, 1.2))
+        x += w + gap
+    y += 0.13 + row_h + 0.06
+    if len(result.planes) > 1:
+        y += 0.02
+        page.text(left, y, "TOLERANCE PER PLANE", 6.5, color=GREY, weight="bold")
+        lines = join_lines([f"{p.name}: {tolerance_text(p)}" for p in result.planes],
+                            "   ·   ", width, 9)
+        page.text(left, y + 0.13, "\n".join(lines), 9, linespacing=1.3)
+        y += 0.13 + lines_in(len(lines), 9) + 0.06
+    page.rule(y, lw=0.8)
+    return y + 0.09
+
+
+def plane_band(page: Page, plane: PlaneResult, index: int, y: float) -> float:
+    """A black band with the plane's name; its facts beside it, or on lines below."""
+    geometry = plane.plane.geometry
+    left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
+    title = f"PLANE {index}:  {geometry.name.upper()}"
+    title_lines, title_pt = [title], 11.0
+    if text_width_in(title, 11, True) > width - 0.24:
+        title_lines, title_pt = wrap_words(title, width - 0.24, 10, True), 10.0
+    radii = sorted(set(geometry.radii_mm))
+    radius = f"r {radii[0]:g} mm" if len(radii) == 1 else f"r {radii[0]:g} to {radii[-1]:g} mm"
+    room = ("one part per position" if geometry.capacity == 1
+            else f"up to {geometry.capacity} parts per position")
+    facts = (f"{geometry.n_positions} positions, {radius}, {room}   ·   "
+             f"{plane.plane.catalog.name}")
+    fits = len(title_lines) == 1 and \
+        text_width_in(title, 11, bold=True) + text_width_in(facts, 7.5) + 0.5 < width
+    title_h = lines_in(len(title_lines), title_pt, 1.1)
+    if fits:
+        height = 0.34
+    else:
+        fact_lines = wrap_words(facts, width - 0.24, 7.5)
+        height = 0.10 + title_h + 0.06 + lines_in(len(fact_lines), 7.5) + 0.06
+    page.box(left, y, width, height, fill=True, fc=INK, ec=INK)
+    if fits:
+        page.text(left + 0.12, y + 0.17, title, 11, weight="bold", color="white", va="center")
+        page.text(left + width - 0.12, y + 0.17, facts, 7.5, color="white", va="center",
+                  ha="right")
+    else:
+        page.text(left + 0.12, y + 0.08, "\n".join(title_lines), title_pt, weight="bold",
+                  color="white", linespacing=1.1)
+        page.paragraph(left + 0.12, y + 0.08 + title_h + 0.06, facts, width - 0.24, 7.5,
+                       color="white")
+    return y + height
+
+
+KEY_TEXT = {
+    "pos_both": "position, number as on the rotor",
+    "pos_add": "position for added parts only",
+    "pos_remove": "position for drilling only",
+    "blocked": "blocked: takes no part",
+    "fit": "part to fit",
+    "drill": "hole to drill",
+    "remove": "part on the rotor: remove it",
+    "stay": "part on the rotor: leave it on",
+    "required": "required correction",
+    "residual": "residual after the plan",
+    "angle": "angles grow this way",
+    "rotation": "sense of rotation",
+}
+
+
+def _key_rows(drawing: PlaneDrawing) -> list[tuple[str, str]]:
+    rows = []
+    for kind in drawing.kinds:
+        text = KEY_TEXT[kind]
+        if kind == "pos_both" and drawing.accepts_all in ("add", "remove"):
+            text = ("position for added parts only" if drawing.accepts_all == "add"
+                    else "position for drilling only")
+        elif kind == "pos_both" and not drawing.accepts_all:
+            text = "position for parts or drilling"
+        rows.append((kind, text))
+    return rows
+
+
+KEY_ROW_IN = 0.215
+
+
+def draw_key(page: Page, x: float, y: float, w: float, drawing: PlaneDrawing,
+         row_in: float = KEY_ROW_IN) -> float:
+    """The symbols drawn on this plane, each beside its meaning; returns the y below."""
+    from matplotlib.patches import Circle, FancyArrowPatch
+
+    page.text(x, y, "KEY", 8, weight="bold")
+    y += 0.22
+    sx = x + 0.14
+    for kind, text in _key_rows(drawing):
+        cy = y + 0.06
+        if kind.startswith("pos_"):
+            marker = POSITION_MARKERS[kind[4:]]
+            page.mark(sx, cy, marker=marker, ms=7 if marker == "o" else 9, mfc="white", mec=INK,
+                      mew=1.0)
+            page.mark(sx, cy, marker="o", ms=2.1, mfc=INK, mec=INK)
+        elif kind == "blocked":
+            page.mark(sx, cy, marker="s", ms=8, mfc="white", mec=INK, mew=1.0)
+            page.mark(sx, cy, marker="x", ms=6.3, mec=INK, mew=1.3)
+        elif kind == "fit":
+            page.patch(lambda: Circle((sx, cy), 0.065, fc=INK, ec=INK))
+        elif kind == "drill":
+            page.patch(lambda: Circle((sx, cy), 0.065, fc="white", ec=INK, lw=1.8))
+            page.mark(sx, cy, marker="+", ms=13, mec=INK, mew=1.1)
+        elif kind == "remove":
+            page.patch(lambda: Circle((sx, cy), 0.065, fc="white", ec=INK, lw=1.3))
+            page.mark(sx, cy, marker="x", ms=10.5, mec=INK, mew=2.0)
+        elif kind == "stay":
+            page.patch(lambda: Circle((sx, cy), 0.065, fc="white", ec=INK, lw=1.1,
+                                      hatch="/////"))
+        elif kind:
+            style = {"required": dict(arrowstyle="-|>", lw=2.4),
+                     "residual": dict(arrowstyle="->", lw=1.6, linestyle=(0, (4, 2.5))),
+                     "angle": dict(arrowstyle="-|>", lw=1.0, linestyle="-."),
+                     "rotation": dict(arrowstyle="-|>", lw=2.0)}[kind]
+            page.patch(lambda: FancyArrowPatch((sx - 0.13, cy), (sx + 0.15, cy), color=INK,
+                                               mutation_scale=12, shrinkA=0, shrinkB=0,
+                                               **style))
+        end = page.paragraph(x + 0.40, cy - lines_in(1, 7.5) / 2, text, w - 0.40, 7.5)
+        y = max(y + row_in, end + 0.04)
+    return y
+
+
+def result_box(page: Page, x: float, y: float, w: float, plane: PlaneResult,
+                facts: PlaneFacts) -> float:
+    chosen = plane.chosen
+    page.text(x, y, "RESULT", 8, weight="bold")
+    y += 0.22
+    lines = [("Required", fmt_vector(facts.further_gmm, facts))]
+    lines += [("", s) for s in basis_lines(plane, facts)]
+    residual = ("≈ 0 g·mm" if facts.negligible(chosen.residual_gmm) else
+                f"{fmt_gmm(chosen.residual_gmm)} g·mm at {chosen.residual_angle_deg:.1f}°")
+    lines += [("Residual", residual),
+              ("Tolerance", "none given" if plane.tolerance_gmm is None
+               else f"{fmt_gmm(plane.tolerance_gmm)} g·mm")]
+    if plane.tolerance_gmm is not None:
+        lines.append(("", plane.tolerance_source))
+    for label, value in lines:
+        page.text(x, y, label, 7.5, weight="bold")
+        y = page.paragraph(x + 0.68, y, value, w - 0.68, 7.5) + 0.02
+    y += 0.06
+    words = ""
+    if plane.tolerance_gmm:
+        share = chosen.residual_gmm / plane.tolerance_gmm
+        words = ("residual ≈ 0" if facts.negligible(chosen.residual_gmm)
+                 else f"residual = {share:.0%} of the tolerance" if share <= 10
+                 else f"residual = {share:,.0f} times the tolerance".replace(",", " "))
+    height = 0.56 if words else 0.42
+    verdict_y = y + (0.19 if words else 0.21)
+    ink = INK
+    if plane.within_tolerance is None:
+        page.box(x, y, w, height, lw=1.2, linestyle=(0, (3, 2)))
+        page.text(x + w / 2, verdict_y, "NO TOLERANCE GIVEN", 10, weight="bold", ha="center",
+                  va="center")
+    elif plane.within_tolerance:
+        page.box(x, y, w, height, lw=2.6)
+        page.text(x + w / 2, verdict_y, "WITHIN TOLERANCE", 11.5, weight="bold", ha="center",
+                  va="center")
+    else:
+        page.box(x, y, w, height, fill=True, fc=INK, ec=INK)
+        page.text(x + w / 2, verdict_y, "OUTSIDE TOLERANCE", 11.5, weight="bold", ha="center",
+                  va="center", color="white")
+        ink = "white"
+    if words:
+        page.text(x + w / 2, y + 0.42, words, 7.5, ha="center", va="center", color=ink)
+    return y + height + 0.06
+
+
+def work_tables(page: Page, x: float, y: float, w: float, plane: PlaneResult,
+                  facts: PlaneFacts) -> float:
+    """The work in the order to do it: remove, then drill, then fit; what stays on."""
+    parts = sorted(plane.chosen.parts, key=lambda p: (
+        ["REMOVE", "DRILL", "FIT"].index(action_word(p).upper()), p.position, p.item))
+    if parts:
+        steps = []
+        for p in parts:
+            if action_word(p).upper() not in steps:
+                steps.append(action_word(p).upper())
+        heading = ", THEN ".join(steps) if len(steps) > 1 else steps[0]
+        page.text(x, y, heading + (" (IN THIS ORDER)" if len(steps) > 1 else ""), 8.5,
+                  weight="bold")
+        columns = [("Do", "l"), ("Pos.", "r"), ("Angle °", "r"), ("Item", "l"),
+                   ("Count", "r"), ("Mass g", "r"), ("g·mm", "r")]
+        rows = [[action_word(p).upper(), str(p.position), f"{p.angle_deg:.1f}", p.item, str(p.count),
+                 f"{abs(p.mass_g) * p.count:g}",
+                 f"{abs(p.mass_g) * p.count * p.radius_mm:.0f}"] for p in parts]
+        y = page.table(x, y + 0.22, columns, rows, w, ticks=True)
+        if drills(parts):
+            y = page.paragraph(x, y, "DRILL: a hole; mass = metal the hole takes out.", w, 7)
+        y += 0.10
+    else:
+        page.text(x, y, "NOTHING TO REMOVE, DRILL OR FIT", 8.5, weight="bold")
+        why = ("The plane is within tolerance as it is." if plane.within_tolerance
+               else "No part improves the plane.")
+        y = page.paragraph(x, y + 0.22, why, w) + 0.1
+    if facts.staying:
+        staying = ", ".join(f"position {s.position}: {s.item} ×{s.count}" for s in facts.staying)
+        y = page.paragraph(x, y, "Already on the rotor and staying: " + staying, w, 7.5) + 0.06
+    return y
+
+
+def trade_off_table(page: Page, x: float, y: float, w: float, plane: PlaneResult,
+                 facts: PlaneFacts) -> float:
+    rows_of = plane.trade_off
+    rated = any(o.chance_within is not None for o in rows_of)
+    page.text(x, y, "TRADE-OFF: PARTS AGAINST RESIDUAL", 8.5, weight="bold")
+    columns = [("Parts", "r"), ("Residual", "r"), ("% req.", "r"), ("Verdict", "l")]
+    if rated:
+        columns += [("Chance", "r"), ("95 %", "r")]
+    columns.append(("", "l"))
+    required = abs(facts.further_gmm)
+    rows, bold, unproven = [], set(), False
+    for i, option in enumerate(rows_of):
+        star = "" if option.proven else " *"
+        unproven |= not option.proven
+        residual = "≈ 0" if facts.negligible(option.residual_gmm) else \
+            fmt_gmm(option.residual_gmm)
+        row = [str(option.used_parts), f"{residual}{star}",
+               "" if facts.negligible(required) else f"{option.residual_gmm / required:.0%}",
+               "-" if plane.tolerance_gmm is None else
+               "within" if option.residual_gmm <= plane.tolerance_gmm else "outside"]
+        if rated:
+            row.append("-" if option.chance_within is None else f"{option.chance_within:.0%}")
+            row.append("-" if option.residual_p95_gmm is None
+                       else fmt_gmm(option.residual_p95_gmm))
+        chosen = option.parts == plane.chosen.parts
+        row.append("◀" if chosen else "")
+        if chosen:
+            bold.add(i)
+        rows.append(row)
+    y = page.table(x, y + 0.22, columns, rows, w, bold=bold)
+    note = "Parts: parts fitted plus parts removed. Residuals in g·mm. ◀ the plan on this sheet."
+    if unproven:
+        note += " * not proven optimal in the time limit."
+    if rated:
+        note += (" Chance: share of simulated fits (part masses within their tolerance, angles "
+                 "within the job's placement error) that stay within tolerance; 95 %: the "
+                 "residual 95 % of them stay below.")
+    y = page.paragraph(x, y, note, w, 7)
+    return y + 0.06

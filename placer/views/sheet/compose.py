@@ -1,0 +1,213 @@
+"""One page per correction plane, and the file they are written to.
+
+A header with the rotor and its tolerances, the rotor face with every position marked and
+the parts drawn on, the work in the order to do it (parts to remove, holes to drill, parts
+to fit), the residual against the tolerance, the trade-off between parts and residual, and
+the cautions.  The key lists only the symbols drawn.
+"""
+
+from __future__ import annotations
+
+from datetime import date
+from pathlib import Path
+
+from placer.plan import JobResult, PlaneResult
+from placer.views.sheet.blocks import (
+    KEY_ROW_IN,
+    draw_header,
+    draw_key,
+    plane_band,
+    result_box,
+    trade_off_table,
+    work_tables,
+)
+from placer.views.sheet.convention import convention_text
+from placer.views.sheet.face import DRAW_IN, draw_plane
+from placer.views.sheet.facts import PlaneFacts, SheetPage, basis_sentence, plane_facts
+from placer.views.sheet.files import PNG_DPI, require_matplotlib, sheet_paths
+from placer.views.sheet.typeset import (
+    GREY,
+    INK,
+    MARGIN_IN,
+    PAGE_IN,
+    Page,
+    lines_in,
+    text_width_in,
+    wrap_words,
+)
+from placer.views.wording import cautions_for, drills
+
+CAUTION_PT = 7.5
+
+
+FOOTER_IN = 0.45
+"""Distance of the footer rule from the bottom of the page [in]."""
+
+
+def _caution_lines(drilling: bool) -> list[list[str]]:
+    cautions = cautions_for(drilling=drilling)
+    return [wrap_words(c, PAGE_IN[0] - 2 * MARGIN_IN - 0.7, CAUTION_PT) for c in cautions]
+
+
+def _caution_height(drilling: bool) -> float:
+    return sum(lines_in(len(w), CAUTION_PT) + 0.04 for w in _caution_lines(drilling)) + 0.30
+
+
+def _cautions_top(drilling: bool) -> float:
+    """Top of the safety box [in from the top of the page]; the box sits above the sign-off."""
+    return PAGE_IN[1] - FOOTER_IN - 0.55 - 0.25 - _caution_height(drilling)
+
+
+def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
+              job_name: str, drilling: bool) -> None:
+    """The safety box (the shared cautions), the sign-off line and the footer."""
+    left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
+    bottom = PAGE_IN[1] - FOOTER_IN
+    wrapped = _caution_lines(drilling)
+    box_h = _caution_height(drilling)
+    sign_y = max(bottom - 0.55, top + box_h + 0.25)
+    page.box(left, top, width, box_h, lw=2.0)
+    page.box(left, top, 0.36, box_h, fill=True, fc=INK, ec=INK)
+    page.text(left + 0.18, top + box_h / 2, "!", 18, weight="bold", color="white",
+              ha="center", va="center")
+    page.text(left + 0.48, top + 0.07, "SAFETY", 8, weight="bold")
+    cy = top + 0.23
+    for lines in wrapped:
+        page.text(left + 0.48, cy, "\n".join(lines), CAUTION_PT, linespacing=1.3)
+        cy += lines_in(len(lines), CAUTION_PT) + 0.04
+    for k, label in enumerate(("Fitted by", "Date", "Test run checked by")):
+        sx = left + k * width / 3
+        page.text(sx, sign_y + 0.2, label, 7.5, va="bottom")
+        page.rule(sign_y + 0.2, sx + text_width_in(label, 7.5) + 0.1, sx + width / 3 - 0.15, lw=0.6)
+    page.rule(bottom, lw=0.6)
+    page.text(left, bottom + 0.05, f"placer · {job_name} · {when.isoformat()}", 6.5, color=GREY)
+    page.text(left + width, bottom + 0.05, f"sheet {index} of {total}", 6.5, color=GREY,
+              ha="right")
+
+
+def _lower(page: Page, y: float, result: JobResult, plane: PlaneResult,
+           facts: PlaneFacts) -> float:
+    """Convention, the work and the trade-off, notes; returns the y below them."""
+    width = PAGE_IN[0] - 2 * MARGIN_IN
+    basis = basis_sentence(plane, facts)
+    if basis:
+        y = page.paragraph(MARGIN_IN, y, basis, width, 7.5, weight="bold") + 0.02
+    rotor = result.job.rotor
+    y = page.paragraph(MARGIN_IN, y, convention_text(rotor.angle_sense, rotor.rotation), width, 7,
+                       style="italic") + 0.1
+    page.rule(y - 0.04, lw=0.4, color=GREY)
+    half = width / 2 - 0.1
+    y_left = work_tables(page, MARGIN_IN, y + 0.04, half, plane, facts)
+    y_right = trade_off_table(page, MARGIN_IN + width / 2 + 0.1, y + 0.04, half, plane, facts)
+    y = max(y_left, y_right)
+    notes = list(plane.notes) + list(result.notes)
+    if not plane.optimal:
+        notes.append("Not every plan in the trade-off was proven optimal in the time limit.")
+    for note in notes:
+        y = page.paragraph(MARGIN_IN, y, f"Note: {note}", width, 7.5, weight="bold")
+    return y
+
+
+def plane_page(result: JobResult, index: int, *, title: str | None = None,
+               when: date | None = None, dpi: float = PNG_DPI):
+    """One page of the sheet as a matplotlib Figure; returns (figure, drawing).
+
+    ``index`` counts planes from 1.  The figure is at ``dpi`` (PNG_DPI by
+    default), so that ``drawing.ax.transData`` gives the pixels of a PNG
+    written from it at that resolution.  The drawing shrinks when the tables
+    below it would otherwise run into the safety box.
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    when = date.today() if when is None else when
+    plane = result.planes[index - 1]
+    facts = plane_facts(plane)
+    drilling = drills(plane.chosen.parts)
+    fig = Figure(figsize=PAGE_IN, dpi=dpi)
+    FigureCanvasAgg(fig)
+    page = Page(fig)
+    y = draw_header(page, result, index, title or result.job.rotor.name, when)
+    top = plane_band(page, plane, index, y) + 0.12
+    side_x = MARGIN_IN + DRAW_IN + 0.25
+    side_w = PAGE_IN[0] - MARGIN_IN - side_x
+    ax = fig.add_axes((0, 0, 1, 1))
+    sense, rotation = result.job.rotor.angle_sense, result.job.rotor.rotation
+    drawing = draw_plane(ax, plane, sense, DRAW_IN, rotation)
+    room = _cautions_top(drilling) - 0.12 - _lower(Page(None), 0.0, result, plane, facts) \
+        - 0.06 - top
+
+    def side(on: Page, row_in: float) -> float:
+        key_end = draw_key(on, side_x, top + 0.1, side_w, drawing, row_in)
+        return result_box(on, side_x, key_end + 0.12, side_w, plane, facts)
+
+    row_in = next((r for r in (KEY_ROW_IN, 0.19, 0.17) if side(Page(None), r) - top <= room),
+                  0.16)
+    side_end = side(page, row_in)
+    width = DRAW_IN
+
+    def height(w: float) -> float:
+        (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
+        return w * (y1 - y0) / (x1 - x0)
+
+    draw_h = height(width)
+    if draw_h > max(room, side_end - top) + 1e-6:
+        width = max(3.2, width * max(room, side_end - top) / draw_h)
+        ax.cla()
+        drawing = draw_plane(ax, plane, sense, width, rotation)
+        draw_h = height(width)
+    left = MARGIN_IN + (DRAW_IN - width) / 2
+    ax.set_position((left / PAGE_IN[0], 1 - (top + draw_h) / PAGE_IN[1],
+                     width / PAGE_IN[0], draw_h / PAGE_IN[1]))
+    end = _lower(page, max(top + draw_h, side_end) + 0.06, result, plane, facts)
+    draw_cautions(page, max(end + 0.08, _cautions_top(drilling)), when, index, len(result.planes),
+              Path(result.job.source).name, drilling)
+    return fig, drawing
+
+
+def write_sheet(result: JobResult, path: Path, *, title: str | None = None,
+                when: date | None = None, force: bool = False) -> list[SheetPage]:
+    """Write the fitting sheet of a solved job; returns the pages written.
+
+    Parameters
+    ----------
+    result : JobResult
+        The solved job.
+    path : Path
+        ``.pdf`` (one file, a page per plane), ``.png`` or ``.svg`` (a file
+        per plane, ``NAME-1.png``... when the job has several planes).
+    title : str, optional
+        Heading of every page (default: the rotor's name).
+    when : date, optional
+        Date printed on the sheet (default: today).
+    force : bool
+        Overwrite files that exist.
+
+    Raises
+    ------
+    InputError
+        matplotlib missing, unknown suffix, missing folder, or an existing
+        file without ``force``.
+    """
+    require_matplotlib()
+    paths = sheet_paths(Path(path), len(result.planes), force=force)
+    when = date.today() if when is None else when
+    mode = "wb" if force else "xb"
+    pages = [plane_page(result, i, title=title, when=when)
+             for i in range(1, len(result.planes) + 1)]
+    written = []
+    if paths[0].suffix.lower() == ".pdf":
+        from matplotlib.backends.backend_pdf import PdfPages
+
+        with open(paths[0], mode) as stream, PdfPages(stream, metadata={
+                "Title": f"Fitting sheet: {title or result.job.rotor.name}",
+                "Creator": "placer"}) as pdf:
+            for fig, _ in pages:
+                pdf.savefig(fig)
+        written = [SheetPage(paths[0], i, d) for i, (_, d) in enumerate(pages, start=1)]
+    else:
+        for i, ((fig, drawing), target) in enumerate(zip(pages, paths), start=1):
+            with open(target, mode) as stream:
+                fig.savefig(stream, format=target.suffix.lower()[1:], dpi=PNG_DPI)
+            written.append(SheetPage(target, i, drawing))
+    return written

@@ -1,0 +1,58 @@
+"""Which files a sheet is written to, and whether it may be.
+
+A ``.pdf`` holds every plane, one page each.  A ``.png`` or ``.svg`` holds one page: a
+one-plane job writes the path given, a job with several planes writes ``NAME-1.png``,
+``NAME-2.png``... beside it, one per plane.  matplotlib is imported only when a sheet is
+written, never when placer starts.
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from placer.errors import InputError
+
+SUFFIXES = (".pdf", ".png", ".svg")
+"""File types the sheet is written as."""
+
+
+PNG_DPI = 150
+"""Resolution of a PNG sheet [dots per inch]: A4 at 1240 × 1754 pixels."""
+
+
+MATPLOTLIB_MISSING = "{opt:sheet} needs matplotlib: pip install 'placer[sheet]'"
+
+
+def require_matplotlib() -> None:
+    """Raise InputError when matplotlib is not installed (without importing it)."""
+    import importlib.util
+
+    if importlib.util.find_spec("matplotlib") is None:
+        raise InputError(MATPLOTLIB_MISSING)
+
+
+def sheet_paths(path: Path, n_planes: int, *, force: bool = False) -> list[Path]:
+    """The files ``write_sheet`` writes for a job with ``n_planes`` planes.
+
+    Raises
+    ------
+    InputError
+        Unknown suffix, missing folder, or a file that exists without ``force``.
+    """
+    path = Path(path)
+    suffix = path.suffix.lower()
+    if suffix not in SUFFIXES:
+        raise InputError(f"'{path.name}' has no known suffix", option="sheet",
+                         expected=".pdf, .png or .svg")
+    if not path.parent.is_dir():
+        raise InputError(f"folder '{path.parent}' does not exist", option="sheet",
+                         expected="a file in an existing folder")
+    if suffix == ".pdf" or n_planes == 1:
+        paths = [path]
+    else:
+        paths = [path.with_name(f"{path.stem}-{i}{path.suffix}") for i in range(1, n_planes + 1)]
+    for p in paths:
+        if p.exists() and not force:
+            raise InputError(f"'{p}' exists", option="sheet",
+                             expected="a new file name, or {opt:force}")
+    return paths

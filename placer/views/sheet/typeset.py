@@ -1,0 +1,181 @@
+"""Setting text and tables on an A4 page, measured with matplotlib's own font metrics."""
+
+from __future__ import annotations
+
+import functools
+
+INK, GREY = "black", "0.45"
+"""Ink for everything drawn, and the grey of secondary text and lines."""
+
+PAGE_IN = (8.27, 11.69)
+"""A4 portrait [in] (210 mm × 297 mm)."""
+
+
+MARGIN_IN = 0.55
+
+
+class Page:
+    """Drawing on one page in inches from its top-left corner."""
+
+    def __init__(self, fig) -> None:
+        """``fig`` None: a dry run that only measures (every drawing call does nothing)."""
+        self.fig = fig
+        self.ax = None
+        if fig is not None:
+            ax = fig.add_axes((0, 0, 1, 1))
+            ax.set_xlim(0, PAGE_IN[0])
+            ax.set_ylim(PAGE_IN[1], 0)
+            ax.axis("off")
+            self.ax = ax
+
+    def text(self, x: float, y: float, s: str, size: float = 8.0, **kw) -> None:
+        if self.ax is None:
+            return
+        kw.setdefault("va", "top")
+        self.ax.text(x, y, s, fontsize=size, **kw)
+
+    def rule(self, y: float, x0: float = MARGIN_IN, x1: float | None = None,
+             lw: float = 0.6, **kw) -> None:
+        if self.ax is None:
+            return
+        x1 = PAGE_IN[0] - MARGIN_IN if x1 is None else x1
+        self.ax.plot([x0, x1], [y, y], color=kw.pop("color", INK), lw=lw, **kw)
+
+    def box(self, x: float, y: float, w: float, h: float, **kw) -> None:
+        if self.ax is None:
+            return
+        from matplotlib.patches import Rectangle
+
+        kw.setdefault("fill", False)
+        kw.setdefault("ec", INK)
+        self.ax.add_patch(Rectangle((x, y), w, h, **kw))
+
+    def mark(self, x: float, y: float, **kw) -> None:
+        if self.ax is not None:
+            self.ax.plot([x], [y], **kw)
+
+    def patch(self, make) -> None:
+        """Add the patch ``make()`` returns (in page inches)."""
+        if self.ax is not None:
+            self.ax.add_patch(make())
+
+    def table(self, x: float, y: float, columns: list[tuple[str, str]],
+              rows: list[list[str]], width_in: float, bold: set[int] = frozenset(),
+              ticks: bool = False, size: float = 8.0) -> float:
+        """A table no wider than ``width_in``; returns the y below it.
+
+        ``columns`` are (heading, "l" or "r"); each column is as wide as its
+        widest cell, measured, and the type shrinks (to 6.5 pt) until the
+        table fits.
+        """
+        tick_in = 0.28 if ticks else 0.0
+        while True:
+            widths = []
+            for k, (head, _) in enumerate(columns):
+                cells = [text_width_in(r[k], size, i in bold) for i, r in enumerate(rows) if r[k]]
+                widths.append(max([text_width_in(head, size - 1, True)] + cells) + 0.10)
+            if tick_in + sum(widths) <= width_in or size <= 6.5:
+                break
+            size -= 0.5
+        row_h = size * 1.75 / 72
+        width = tick_in + sum(widths)
+        edges = [x + tick_in]
+        for w in widths:
+            edges.append(edges[-1] + w)
+        for k, (head, align) in enumerate(columns):
+            tx = edges[k] + 0.05 if align == "l" else edges[k + 1] - 0.05
+            self.text(tx, y, head, size - 1, weight="bold", ha="left" if align == "l" else "right")
+        y += row_h
+        self.rule(y - 0.04, x, x + width, lw=0.9)
+        for i, row in enumerate(rows):
+            cy = y + row_h / 2 - 0.02
+            if ticks:
+                self.mark(x + 0.1, cy, marker="s", ms=7.5, mfc="white", mec=INK, mew=0.9)
+            for k, (cell, (_, align)) in enumerate(zip(row, columns)):
+                if not cell:
+                    continue
+                tx = edges[k] + 0.05 if align == "l" else edges[k + 1] - 0.05
+                self.text(tx, cy, cell, size, va="center", ha="left" if align == "l" else "right",
+                          weight="bold" if i in bold else "normal")
+            y += row_h
+            self.rule(y - 0.02, x, x + width, lw=0.3, color=GREY)
+        return y + 0.04
+
+    def paragraph(self, x: float, y: float, text: str, width_in: float, size: float = 7.5,
+                  **kw) -> float:
+        """Text wrapped to ``width_in`` (measured word by word); returns the y below it."""
+        lines = wrap_words(text, width_in, size, kw.get("weight") == "bold")
+        self.text(x, y, "\n".join(lines), size, linespacing=1.3, **kw)
+        return y + lines_in(len(lines), size) + 0.03
+
+
+def lines_in(count: int, size: float, linespacing: float = 1.3) -> float:
+    """Height [in] matplotlib gives ``count`` lines of text at ``size`` [pt]."""
+    return count * linespacing * size / 72
+
+
+def wrap_words(text: str, width_in: float, size: float, bold: bool = False) -> list[str]:
+    """Words of ``text`` in lines no wider than ``width_in`` [in]."""
+    lines: list[str] = []
+    for word in text.split():
+        if lines and text_width_in(f"{lines[-1]} {word}", size, bold) <= width_in:
+            lines[-1] = f"{lines[-1]} {word}"
+        else:
+            lines.append(word)
+    return lines or [""]
+
+
+@functools.lru_cache(maxsize=8192)
+def text_width_in(text: str, size: float, bold: bool = False) -> float:
+    """Width of one line of text on the page [in] (the default font, measured by matplotlib)."""
+    from matplotlib.font_manager import FontProperties
+
+    prop = FontProperties(weight="bold" if bold else "normal", size=size)
+    width, _, _ = text_to_path().get_text_width_height_descent(text, prop, ismath=False)
+    return width / 72.0
+
+
+@functools.lru_cache(maxsize=1)
+def text_to_path():  # noqa: N802 - one shared measurer
+    from matplotlib.textpath import TextToPath
+
+    return TextToPath()
+
+
+def join_lines(pieces: list[str], sep: str, width_in: float, size: float) -> list[str]:
+    """Pieces joined by ``sep`` in lines no wider than ``width_in``, never split inside one."""
+    lines: list[str] = []
+    for piece in pieces:
+        if lines and text_width_in(lines[-1] + sep + piece, size) <= width_in:
+            lines[-1] += sep + piece
+        else:
+            lines.append(piece)
+    return lines
+
+
+def fit_title(title: str, width_in: float) -> tuple[list[str], float]:
+    """The rotor's name on one line at 15 pt down to 11 pt, else wrapped (at most 3 lines)."""
+    for size in (15.0, 14.0, 13.0, 12.0, 11.0):
+        if text_width_in(title, size, True) <= width_in:
+            return [title], size
+    for size in (12.0, 11.0, 10.0):
+        lines = wrap_words(title, width_in, size, True)
+        if len(lines) <= 2 and all(text_width_in(s, size, True) <= width_in for s in lines):
+            return lines, size
+    lines = wrap_words(title, width_in, 10.0, True)
+    if len(lines) > 3:
+        lines = lines[:3]
+        while lines[2] and text_width_in(lines[2] + " …", 10.0, True) > width_in:
+            lines[2] = lines[2][:-1]
+        lines[2] = lines[2].rstrip() + " …"
+    return lines, 10.0
+
+
+def wrap_chars(text: str, width_in: float, size: float) -> list[str]:
+    """A word too long for one line, cut into lines no wider than ``width_in``."""
+    lines = [""]
+    for ch in text:
+        if lines[-1] and text_width_in(lines[-1] + ch, size) > width_in:
+            lines.append("")
+        lines[-1] += ch
+    return lines
