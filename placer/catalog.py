@@ -5,6 +5,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from pathlib import Path
 
+from placer import validate
+from placer.errors import InputError
+
 
 @dataclass(frozen=True)
 class Item:
@@ -39,6 +42,17 @@ class Item:
     source: str = ""
     catalog: str = ""
 
+    def __post_init__(self) -> None:
+        if not isinstance(self.id, str) or not self.id.strip():
+            raise InputError(f"is {self.id!r}", key="id", expected="a label such as 'M8'")
+        validate.number(self.mass_g, "mass_g")
+        if self.mass_g == 0:
+            raise InputError("is 0", key="mass_g",
+                             expected="a mass above zero, or below zero for a removal")
+        if self.stock is not None:
+            validate.whole(self.stock, "stock", 0)
+        validate.number(self.mass_tolerance_g, "mass_tolerance_g", non_negative=True)
+
     @property
     def stock_key(self) -> str:
         """What identifies this item's drawer: its catalogue file and its id."""
@@ -62,6 +76,13 @@ class Catalog:
     items: tuple[Item, ...]
     source: str
     description: str = ""
+
+    def __post_init__(self) -> None:
+        if not self.items:
+            raise InputError("has no items", key="items", expected="at least one item")
+        ids = [item.id for item in self.items]
+        if len(set(ids)) != len(ids):
+            raise InputError("has an item id twice", key="items", expected="each id once")
 
     def item_index(self, item_id: str) -> int:
         for index, item in enumerate(self.items):

@@ -232,7 +232,7 @@ def _coefficients(session: Session, stored: StoredCoefficients | None
     weights = np.array([c.weight for c in session.channels])
     if stored is not None:
         matrix, notes = adapt_stored(stored, session.unit, session.measure,
-                                     session.rotor.angle_sense, session.rotation,
+                                     session.rotor.angle_sense, session.rotor.rotation,
                                      session.rotor.service_rpm)
         return checked_coefficients(matrix, plane_names, weights, notes), stored.label
     during, _ = session.weights_in()

@@ -14,8 +14,13 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from placer import validate
+from placer.limits import MAX_CAPACITY, MAX_POSITIONS
+
 ROTATIONS = ("clockwise", "counterclockwise")
 """How the rotor turns, seen from the side the technician works on."""
+ACCEPTS = ("both", "add", "remove")
+"""What a position takes: added parts and removal, or only one of them."""
 ANGLE_SENSES = ("against rotation", "with rotation", "clockwise", "counterclockwise")
 """How angles are counted from the reference mark ("clockwise" and "counterclockwise" as
 seen from the working side)."""
@@ -49,6 +54,20 @@ class PlaneGeometry:
     blocked: frozenset[int] = frozenset()
     capacity: int = 1
     accepts: tuple[str, ...] = ()
+
+    def __post_init__(self) -> None:
+        n = len(self.angles_deg)
+        validate.whole(n, "angles_deg (count)", 1, MAX_POSITIONS)
+        validate.numbers(self.angles_deg, "angles_deg")
+        validate.same_length(self.radii_mm, n, "radii_mm", "position")
+        validate.numbers(self.radii_mm, "radii_mm", positive=True)
+        for number in self.blocked:
+            validate.whole(number, "blocked", 1, n)
+        validate.whole(self.capacity, "capacity", 1, MAX_CAPACITY)
+        if self.accepts:
+            validate.same_length(self.accepts, n, "accepts", "position")
+            for i, kind in enumerate(self.accepts, start=1):
+                validate.one_of(kind, f"accepts[{i}]", ACCEPTS)
 
     def takes(self, number: int, removal: bool) -> bool:
         """Whether position ``number`` takes a removal (or an added part)."""

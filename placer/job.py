@@ -5,8 +5,13 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from placer.catalog import Catalog
-from placer.geometry import PlaneGeometry
-from placer.limits import DEFAULT_MAX_PARTS
+from placer import validate
+from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry
+from placer.errors import InputError
+from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
+
+CORRECTION_BASES = ("further", "total")
+"""How a plane's correction was measured: with the existing parts on, or without them."""
 
 DEFAULT_ANGLE_SENSE = "against rotation"
 """Sense in which angles are counted from the reference mark when the job does not say."""
@@ -34,6 +39,18 @@ class Rotor:
     placement_error_deg: float = 0.0
     rotation: str | None = None
 
+    def __post_init__(self) -> None:
+        validate.number(self.mass_kg, "mass_kg", positive=True, allow_none=True)
+        validate.number(self.service_rpm, "service_rpm", positive=True, allow_none=True)
+        validate.number(self.grade_mm_s, "grade_mm_s", positive=True, allow_none=True)
+        if self.com_distances_mm is not None:
+            validate.numbers(self.com_distances_mm, "com_distances_mm", non_negative=True)
+        validate.one_of(self.angle_sense, "angle_sense", ANGLE_SENSES)
+        validate.one_of(self.correction_basis, "correction_basis", CORRECTION_BASES)
+        validate.number(self.placement_error_deg, "placement_error_deg", non_negative=True)
+        if self.rotation is not None:
+            validate.one_of(self.rotation, "rotation", ROTATIONS)
+
 
 @dataclass(frozen=True)
 class ExistingPart:
@@ -42,6 +59,11 @@ class ExistingPart:
     position: int
     item: int
     count: int = 1
+
+    def __post_init__(self) -> None:
+        validate.whole(self.position, "existing.position", 1)
+        validate.whole(self.item, "existing.item", 0)
+        validate.whole(self.count, "existing.count", 1)
 
 
 @dataclass(frozen=True)
@@ -63,6 +85,17 @@ class PlaneJob:
     max_parts: int = DEFAULT_MAX_PARTS
     existing: tuple[ExistingPart, ...] = ()
     correction_basis: str = "further"
+
+    def __post_init__(self) -> None:
+        z = complex(self.correction_gmm)
+        validate.number(z.real, "correction_gmm")
+        validate.number(z.imag, "correction_gmm")
+        validate.number(self.tolerance_gmm, "tolerance_gmm", non_negative=True, allow_none=True)
+        validate.whole(self.max_parts, "max_parts", 1, MAX_PARTS_LIMIT)
+        validate.one_of(self.correction_basis, "correction_basis", CORRECTION_BASES)
+        for part in self.existing:
+            validate.whole(part.position, "existing.position", 1, self.geometry.n_positions)
+            validate.whole(part.item, "existing.item", 0, len(self.catalog.items) - 1)
 
     @property
     def further_correction_gmm(self) -> complex:
@@ -89,4 +122,11 @@ class Job:
 
     rotor: Rotor
     planes: tuple[PlaneJob, ...]
-    source: str
+    source: str = "(built in Python)"
+
+    def __post_init__(self) -> None:
+        if not self.planes:
+            raise InputError("has no planes", key="planes", expected="at least one plane")
+        distances = self.rotor.com_distances_mm
+        if distances is not None:
+            validate.same_length(distances, len(self.planes), "rotor.com_distances_mm", "plane")

@@ -248,4 +248,4 @@ def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRec
                 "vibration_limit": s.vibration_limit,
                 "within_limit": result.within_limit,
                 "warnings": list(result.warnings)},
-        service_rpm=s.rotor.service_rpm, rotation=s.rotation)
+        service_rpm=s.rotor.service_rpm, rotation=s.rotor.rotation)

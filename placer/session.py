@@ -6,7 +6,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from placer import validate
 from placer.catalog import Catalog
+from placer.errors import InputError
+from placer.limits import MAX_PARTS_LIMIT
 from placer.geometry import PlaneGeometry, polar
 from placer.job import Rotor
 
@@ -77,7 +80,6 @@ class Session:
     machine_id: str
     machine_name: str
     rotor: Rotor
-    rotation: str | None
     plane_separation_mm: float | None
     unit: str
     measure: str
@@ -91,6 +93,22 @@ class Session:
     source: str
     vibration_limit: float | None = None
     visit_date: str | None = None
+
+    def __post_init__(self) -> None:
+        validate.one_of(self.norm, "solve.norm", FIELD_NORMS)
+        validate.whole(self.max_parts, "solve.max_parts", 1, MAX_PARTS_LIMIT)
+        validate.number(self.vibration_limit, "solve.vibration_limit", positive=True,
+                        allow_none=True)
+        validate.number(self.plane_separation_mm, "rotor.plane_separation_mm", positive=True,
+                        allow_none=True)
+        if not self.channels or not self.planes or not self.runs:
+            raise InputError("needs sensors, planes and runs", key="session",
+                             expected="at least one of each")
+        for run in self.runs:
+            if len(run.readings) != len(self.channels):
+                raise InputError(f"run '{run.name}' has {len(run.readings)} readings for "
+                                 f"{len(self.channels)} sensors", key="runs",
+                                 expected="one reading per sensor")
 
     def baselines(self) -> list[int]:
         """For each run, the index of the run whose weights it adds to (-1 for the first).

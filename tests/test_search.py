@@ -24,15 +24,15 @@ def ring_effects(n_positions, masses_g, radius_mm, start_deg=0.0):
 @contextlib.contextmanager
 def completion(mode: str):
     """Force how heads are completed: "dense" numpy scan or "tree" (scipy k-d tree)."""
-    saved = placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT
+    saved = placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT
     if mode == "tree":
-        placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT = -1, -1
+        placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT = -1, -1
     else:
-        placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT = 10**12, 10**12
+        placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT = 10**12, 10**12
     try:
         yield
     finally:
-        placer.engine.search._DENSE_TAIL, placer.engine.search._DENSE_LIMIT = saved
+        placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT = saved
 
 
 def check_against_oracle(effects, target, capacity, stock, max_parts, norm="euclidean"):

@@ -127,8 +127,8 @@ def test_unreachable_correction_is_solved_and_flagged(tmp_path):
 
 def test_cp_sat_takes_over_when_tables_are_over_budget(monkeypatch):
     """Force the search to decline every part count above 1: CP-SAT must prove them."""
-    monkeypatch.setattr(placer.engine.search, "_MAX_PAIRS", 0)
-    monkeypatch.setattr(placer.engine.search, "_MAX_HEAD_ROWS", -1)
+    monkeypatch.setattr(placer.engine.search, "MAX_PAIRS", 0)
+    monkeypatch.setattr(placer.engine.search, "MAX_HEAD_ROWS", -1)
     effects = ring_effects(5, [1.5, 4.0], 100.0)
     target = np.array([620.0 * cmath.exp(1j * 0.7)])
     arrays = PlaneArrays(effects[:, :, None], target, np.full(5, 2), np.array([3, 3]))
@@ -147,7 +147,7 @@ def test_cp_sat_takes_over_when_tables_are_over_budget(monkeypatch):
 
 def test_singles_tail_past_the_pair_budget_is_still_exact(monkeypatch):
     """Without the pair table the search completes heads from single placements."""
-    monkeypatch.setattr(placer.engine.search, "_MAX_PAIRS", 0)
+    monkeypatch.setattr(placer.engine.search, "MAX_PAIRS", 0)
     effects = ring_effects(7, [1.5, 4.0, 6.0], 100.0)
     target = np.array([1320.0 * cmath.exp(1j * 0.4)])
     arrays = PlaneArrays(effects[:, :, None], target, np.full(7, 2), np.array([3, 3, 2]))

@@ -60,19 +60,19 @@ ABS_TOL = 0.01
 REL_TOL = 0.005
 """Relative proof tolerance on the residual (0.5 %)."""
 
-_NEIGHBOURS_FIRST = 4
-_NEIGHBOURS_SECOND = 32
-_CHUNK_ROWS = 65536
-_MAX_PAIRS = 4_000_000
-_MAX_HEAD_ROWS = 6_000_000
-_DENSE_LIMIT = 200_000
+NEIGHBOURS_FIRST = 4
+NEIGHBOURS_SECOND = 32
+CHUNK_ROWS = 65536
+MAX_PAIRS = 4_000_000
+MAX_HEAD_ROWS = 6_000_000
+DENSE_LIMIT = 200_000
 """Heads x tail rows up to which heads are completed by a dense scan, not a k-d tree."""
-_DENSE_TAIL = 4096
+DENSE_TAIL = 4096
 """Tail rows up to which the dense scan takes more heads (a small tree does not pay for
 importing scipy, as on a 12-hole bolt circle)..."""
-_DENSE_LIMIT_SMALL_TAIL = 3_000_000
+DENSE_LIMIT_SMALL_TAIL = 3_000_000
 """...up to this many heads x tail rows."""
-_DENSE_CHUNK = 262_144
+DENSE_CHUNK = 262_144
 """Head x tail combinations scored at once in the dense scan."""
 
 
@@ -161,7 +161,7 @@ class PlacementSearch:
         self._pairs: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
         self._tail_rows: tuple[np.ndarray, np.ndarray] | None = None
         self._tree = None
-        self.pair_table_too_large = self.n * (self.n + 1) // 2 > _MAX_PAIRS
+        self.pair_table_too_large = self.n * (self.n + 1) // 2 > MAX_PAIRS
         self._deadline = float("inf")
 
     # ----------------------------------------------------------------- tables
@@ -262,8 +262,8 @@ class PlacementSearch:
         rows, sums = rows[keep], sums[keep]
         for _ in range(rows.shape[1], size):
             new_rows, new_sums = [], []
-            for start in range(0, len(rows), max(1, _CHUNK_ROWS // max(1, self.n))):
-                r = rows[start:start + max(1, _CHUNK_ROWS // max(1, self.n))]
+            for start in range(0, len(rows), max(1, CHUNK_ROWS // max(1, self.n))):
+                r = rows[start:start + max(1, CHUNK_ROWS // max(1, self.n))]
                 s = sums[start:start + len(r)]
                 last = r[:, -1]
                 cand = np.arange(self.n)[None, :] >= last[:, None]
@@ -274,7 +274,7 @@ class PlacementSearch:
                 ok &= self._head_bound(grown_sums, grown, k, t_real) < bound
                 new_rows.append(grown[ok])
                 new_sums.append(grown_sums[ok])
-                if sum(len(x) for x in new_rows) > _MAX_HEAD_ROWS or self._late():
+                if sum(len(x) for x in new_rows) > MAX_HEAD_ROWS or self._late():
                     return None, None
             rows = np.concatenate(new_rows) if new_rows else np.zeros((0, rows.shape[1] + 1), np.int64)
             sums = np.concatenate(new_sums) if new_sums else np.zeros((0, t_real.size))
@@ -290,8 +290,8 @@ class PlacementSearch:
         priority = self._head_bound(head_sums, heads, k, t_real)
         order = np.argsort(priority, kind="stable")
         heads, head_sums, priority = heads[order], head_sums[order], priority[order]
-        if len(heads) * len(cols) <= (_DENSE_LIMIT_SMALL_TAIL if len(cols) <= _DENSE_TAIL
-                                      else _DENSE_LIMIT):
+        if len(heads) * len(cols) <= (DENSE_LIMIT_SMALL_TAIL if len(cols) <= DENSE_TAIL
+                                      else DENSE_LIMIT):
             return self._complete_dense(heads, head_sums, priority, t_real, bound)
         cols, sums, tree = self._tail()
         best_row, best_value = None, bound
@@ -299,11 +299,11 @@ class PlacementSearch:
         while start < len(heads):
             if self._late():
                 return None
-            stop = start + _CHUNK_ROWS
+            stop = start + CHUNK_ROWS
             live = priority[start:stop] < best_value
             h, hs = heads[start:stop][live], head_sums[start:stop][live]
             start = stop
-            for n_neigh in (_NEIGHBOURS_FIRST, _NEIGHBOURS_SECOND, None):
+            for n_neigh in (NEIGHBOURS_FIRST, NEIGHBOURS_SECOND, None):
                 if len(h) == 0:
                     break
                 if n_neigh is None:
@@ -357,7 +357,7 @@ class PlacementSearch:
         their residual, so the first feasible one is the chunk's best.
         """
         cols, sums = self._tail_table()
-        step = max(1, _DENSE_CHUNK // len(cols))
+        step = max(1, DENSE_CHUNK // len(cols))
         best_row, best_value = None, bound
         for start in range(0, len(heads), step):
             if priority[start] >= best_value:

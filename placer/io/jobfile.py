@@ -7,10 +7,10 @@ from pathlib import Path
 
 from placer.catalog import Catalog
 from placer.errors import JobError, ToleranceError
-from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry, equally_spaced_deg, polar
+from placer.geometry import ACCEPTS, ANGLE_SENSES, ROTATIONS, PlaneGeometry, equally_spaced_deg, polar
 from placer.io.catalogfile import read_catalog, resolve_catalog
 from placer.io.tables import Table, read_toml
-from placer.job import DEFAULT_ANGLE_SENSE, ExistingPart, Job, PlaneJob, Rotor
+from placer.job import CORRECTION_BASES, DEFAULT_ANGLE_SENSE, ExistingPart, Job, PlaneJob, Rotor
 from placer.limits import (
     DEFAULT_MAX_PARTS,
     MAX_CAPACITY,
@@ -24,8 +24,6 @@ ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "an
 PLANE_KEYS = ("name", "radius_mm", "radii_mm", "positions", "start_deg", "angles_deg", "blocked",
               "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "max_parts",
               "accepts", "add_only", "remove_only", "existing")
-ACCEPTS = ("both", "add", "remove")
-CORRECTION_BASES = ("further", "total")
 VECTOR_KEYS = ("mass_g", "gmm", "angle_deg")
 
 

@@ -125,7 +125,7 @@ def read_session(path: Path) -> Session:
     _check_fitted(root, runs, planes)
     return Session(
         machine_id=machine_id, machine_name=machine.text("name", default=machine_id),
-        rotor=rotor, rotation=rotation, plane_separation_mm=separation, unit=unit,
+        rotor=rotor, plane_separation_mm=separation, unit=unit,
         measure=measure, phase_sense=phase, channels=tuple(channels), planes=tuple(planes),
         runs=runs, norm=norm,
         max_parts=solve.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
