@@ -48,3 +48,9 @@ def brute_front(effects: np.ndarray, target: np.ndarray, capacity, stock, max_pa
             value = min(value, measure(total))
         best.append(value)
     return best
+
+
+def ring_effects(n_positions, masses_g, radius_mm, start_deg=0.0):
+    """Effects -m·r·e^{iθ} of each mass on equally spaced positions (written out here)."""
+    angles = np.radians(start_deg + 360.0 * np.arange(n_positions) / n_positions)
+    return -(np.asarray(masses_g)[None, :] * radius_mm) * np.exp(1j * angles)[:, None]

@@ -5,8 +5,8 @@ from placer: the geometry and the required correction are read from the job
 file with :mod:`tomllib`, item masses from the catalogue file, and each
 residual is recomputed with :mod:`cmath` as the vector sum of one plane
 (statics: |required - sum count * mass_g * radius_mm * e^{i angle}|, the
-residual unbalance of ISO 21940-11:2016 in one plane).  "REFERENCES" is
-/work/shared/REFERENCES.md.
+residual unbalance of ISO 21940-11:2016 in one plane).  "REFERENCES" is the
+repository's REFERENCES.md.
 
 Tolerances: the JSON carries full floats, so residuals are compared to
 1e-6 relative with 1e-6 g*mm absolute for residuals

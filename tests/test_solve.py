@@ -8,8 +8,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from oracle import brute_front
-from test_search import ring_effects
+from oracle import brute_front, ring_effects
 
 import placer.engine.search
 from placer.engine.arrays import PlaneArrays
@@ -111,7 +110,10 @@ def test_already_within_tolerance_needs_no_parts():
                          np.array([4]))
     entries, _, _ = exact_front(arrays, 3)
     assert choose(entries, 40.0).parts == ()
-    assert choose(entries, None).residual_norm <= 30.0
+    # Without a tolerance: the least residual with at most 3 parts, by enumeration.
+    least = brute_front(entries_effects, np.array([30.0 + 0j]), np.ones(6, int), np.array([4]),
+                        3)[3]
+    assert choose(entries, None).residual_norm == pytest.approx(least, abs=1e-9)
 
 
 def test_unreachable_correction_is_solved_and_flagged(tmp_path):

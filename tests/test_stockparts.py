@@ -24,13 +24,13 @@ PRINTED_MASS_TOL_G = 0.006
 @pytest.mark.parametrize(
     ("size", "dims_mm", "printed_mass_g"),
     [
-        # Source: /work/shared/REFERENCES.md, "Stock parts": ISO 7089 M8, 8.4/16/1.6 mm,
+        # Source: REFERENCES.md [ISO7089]: ISO 7089 M8, 8.4/16/1.6 mm,
         # steel 7.85 g/cm3, about 1.83 g (recomputed: 1.82929 g).
         ("M8", (8.4, 16.0, 1.6), 1.83),
-        # Source: /work/shared/REFERENCES.md, "Stock parts": ISO 7089 M10, 10.5/20/2 mm,
+        # Source: REFERENCES.md [ISO7089]: ISO 7089 M10, 10.5/20/2 mm,
         # steel 7.85 g/cm3, about 3.57 g (recomputed: 3.57284 g).
         ("M10", (10.5, 20.0, 2.0), 3.57),
-        # Source: /work/shared/REFERENCES.md, "Stock parts": ISO 7089 M12, 13/24/2.5 mm,
+        # Source: REFERENCES.md [ISO7089]: ISO 7089 M12, 13/24/2.5 mm,
         # steel 7.85 g/cm3, about 6.27 g (recomputed: 6.27327 g).
         ("M12", (13.0, 24.0, 2.5), 6.27),
     ],
@@ -47,7 +47,7 @@ def test_published_washer_masses(size: str, dims_mm: tuple[float, float, float],
 @pytest.mark.parametrize(
     ("size", "dims_mm"),
     [
-        # Source: /work/shared/REFERENCES.md, "Stock parts" (ISO 7089 normal series).
+        # Source: REFERENCES.md [ISO7089] (ISO 7089 normal series).
         ("M8", (8.4, 16.0, 1.6)),
         ("M10", (10.5, 20.0, 2.0)),
         ("M12", (13.0, 24.0, 2.5)),
@@ -58,7 +58,7 @@ def test_table_matches_references(size: str, dims_mm: tuple[float, float, float]
 
 
 def test_steel_density_matches_references() -> None:
-    # Source: /work/shared/REFERENCES.md, "Stock parts": steel 7.85 g/cm3.
+    # Source: REFERENCES.md [ISO7089]: steel 7.85 g/cm3.
     assert STEEL_DENSITY_G_CM3 == 7.85
 
 

@@ -1,6 +1,6 @@
 """Checks of placer.tolerance against published formulas and worked examples.
 
-Sources are named beside each check; "REFERENCES" is /work/shared/REFERENCES.md.
+Sources are named beside each check; "REFERENCES" is the repository's REFERENCES.md.
 Tolerances follow the printed precision of the source, as stated at each check.
 """
 

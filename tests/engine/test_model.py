@@ -6,8 +6,7 @@ import cmath
 
 import numpy as np
 import pytest
-from oracle import brute_front
-from test_search import ring_effects
+from oracle import brute_front, ring_effects
 
 from placer.engine.model import ModelPlane, min_residual, solve_shared_stock
 from placer.engine.search import residual_of

@@ -136,11 +136,20 @@ def test_mass_error_matches_the_closed_form():
     assert abs(got - 0.6) < 4 * math.sqrt(0.6 * 0.4 / n)
 
 
-def test_monte_carlo_is_reproducible():
-    parts = one_part(3.0)
-    first = residual_samples_gmm(600.0 + 0j, parts, {"A": 0.2}, 2.0, 500, 7)
-    again = residual_samples_gmm(600.0 + 0j, parts, {"A": 0.2}, 2.0, 500, 7)
-    np.testing.assert_array_equal(first, again)
+def test_monte_carlo_draws_follow_the_documented_model():
+    # The model of placer.robust written out independently with numpy's generator:
+    # per part fitted, first its mass uniform within ± its tolerance, then its angle
+    # uniform within ± the placement error; the residual is |correction - Σ m·r·e^{iθ}|.
+    part = one_part(3.0)[0]
+    got = residual_samples_gmm(600.0 + 0j, (part,), {"A": 0.2}, 2.0, 500, 7)
+    rng = np.random.default_rng(7)
+    mass = part.mass_g + rng.uniform(-0.2, 0.2, 500)
+    angle = np.radians(part.angle_deg + rng.uniform(-2.0, 2.0, 500))
+    expected = np.abs(600.0 - mass * part.radius_mm * np.exp(1j * angle))
+    np.testing.assert_allclose(got, expected, rtol=0, atol=1e-9)
+    # A second seed draws other fits (the seed is used, not ignored).
+    assert not np.array_equal(got, residual_samples_gmm(600.0 + 0j, (part,), {"A": 0.2},
+                                                        2.0, 500, 8))
 
 
 def test_choose_by_chance_of_staying_within_tolerance(tmp_path):

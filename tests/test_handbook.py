@@ -1,7 +1,7 @@
 """Tests of placer.handbook: the law-of-sines split and the method done by hand.
 
 Published checks come first (US Bureau of Reclamation FIST Volume 2-2,
-example 4; the mid-pitch rule of /work/shared/REFERENCES.md), then checks
+example 4; the mid-pitch rule, REFERENCES.md [FIST2-2]), then checks
 against numpy (the split recombines to the original vector; a 2x2 linear
 solve gives the same shares), then cases whose answer is clear by reasoning.
 """
@@ -50,8 +50,8 @@ def test_fist_example_4_exact_split() -> None:
 
 @pytest.mark.parametrize("pitch_deg", [10.0, 30.0, 45.0, 60.0, 90.0, 120.0, 150.0])
 def test_mid_pitch_total_is_m_over_cos_half_pitch(pitch_deg: float) -> None:
-    # /work/shared/REFERENCES.md, "Splitting a correction onto two fixed
-    # positions": mid-pitch the split needs total = m / cos(Δ/2).
+    # REFERENCES.md [FIST2-2], splitting a correction onto two fixed
+    # positions: mid-pitch the split needs total = m / cos(Δ/2).
     angle_a_deg = 20.0
     correction = polar(100.0, angle_a_deg + pitch_deg / 2.0)
     share_a, share_b = split_between(correction, angle_a_deg, angle_a_deg + pitch_deg)

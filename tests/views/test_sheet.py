@@ -34,8 +34,8 @@ from placer.plan import FittedPart
 from placer.solve import solve_job
 from placer.views.sheet import (
     PNG_DPI,
-    fmt_gmm,
     angles_counterclockwise,
+    fmt_gmm,
     page_angle_deg,
     plane_page,
     rotation_clockwise,
@@ -44,7 +44,7 @@ from placer.views.sheet import (
 )
 from placer.views.wording import DRILL_CAUTION
 
-EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 SUPPLY_FAN = EXAMPLES / "supply-fan.toml"
 WHEN = date(2025, 3, 14)
 

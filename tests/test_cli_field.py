@@ -1,6 +1,6 @@
 """``placer field``, ``machines``, ``history`` and ``trial`` end to end.
 
-Sessions of synthetic machines come from test_fieldplan.session_toml
+Sessions of synthetic machines come from tests/sessions.py
 (invented data: V = A·(U + w), REFERENCES.md "Influence coefficients").
 """
 
@@ -19,7 +19,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from test_fieldplan import rect, session_toml, synthetic, unit_vector
+from sessions import rect, session_toml, synthetic, unit_vector
 
 from placer.cli import main
 
@@ -345,7 +345,13 @@ def test_history_of_one_visit_with_its_date_in_utc(tmp_path, capsys):
     assert visit["started_at"] == "2026-11-02T10:15:00+00:00"
     assert [r["kind"] for r in visit["runs"]] == ["reference", "trial", "trial"]
     assert visit["runs"][1]["readings"][0] == {"amplitude": 11.68, "phase_deg": 74.0}
-    assert len(visit["planned"]) >= 1
+    # The stored plan is the plan the visit printed (placer field --json of the same
+    # session, run again): same planes, positions, items and counts.
+    code, out, _ = run(capsys, "field", dated, "--json", *FAST)
+    printed = json.loads(out)["chosen"]["parts"]
+    assert sorted((m["plane"], m["position"], m["item"], m["count"]) for m in visit["planned"]) \
+        == sorted((p["plane"], p["position"], p["item"], p["count"]) for p in printed)
+    assert printed
     connection = sqlite3.connect(db)
     stored = connection.execute("SELECT re, im FROM coefficients WHERE visit_id = 1 AND "
                                 "channel_index = 0 AND plane_index = 0").fetchone()

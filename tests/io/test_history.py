@@ -26,13 +26,12 @@ import numpy as np
 import pytest
 from history_writer import make_visit, watch_connections
 
-from placer.errors import PlacerError
+from placer.errors import HistoryError, PlacerError
 from placer.io import history
-from placer.errors import HistoryError
 from placer.io.history import History, default_db_path
 from placer.records import MachineSummary
 
-WRITER = Path(__file__).with_name("history_writer.py")
+WRITER = Path(__file__).resolve().parents[1] / "history_writer.py"
 
 
 def table_counts(path: Path) -> dict[str, int]:

@@ -10,15 +10,10 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-from oracle import brute_front
+from oracle import brute_front, ring_effects
 
 import placer.engine.search
 from placer.engine.search import PlacementSearch, residual_of
-
-
-def ring_effects(n_positions, masses_g, radius_mm, start_deg=0.0):
-    angles = np.radians(start_deg + 360.0 * np.arange(n_positions) / n_positions)
-    return -(np.asarray(masses_g)[None, :] * radius_mm) * np.exp(1j * angles)[:, None]
 
 
 @contextlib.contextmanager
