@@ -12,20 +12,7 @@ so that the caller converts or refuses them.
 
 Where the file lives: see :func:`default_db_path`.
 
-Schema (version :data:`SCHEMA_VERSION`)::
-
-    schema_version(version)                      one row
-    machines(id PK, name, created_at)
-    visits(id PK, machine_id -> machines, started_at, session_file, unit,
-           measure, phase_sense, angle_sense, coefficient_source, condition,
-           result_json, service_rpm, rotation)        (the last two from version 2)
-    channels(visit_id -> visits, channel_index, name)   PK (visit_id, channel_index)
-    planes(visit_id -> visits, plane_index, name)       PK (visit_id, plane_index)
-    runs(id PK, visit_id -> visits, seq, name, kind)    UNIQUE (visit_id, seq)
-    readings(run_id -> runs, channel_index, amplitude, phase_deg, re, im)
-    coefficients(visit_id -> visits, channel_index, plane_index, re, im)
-    masses(id PK, visit_id -> visits, run_id -> runs or NULL, role, plane_index,
-           position, angle_deg, radius_mm, mass_g, item, count, removed_after)
+The tables and their versions: :mod:`placer.io.historyschema`.
 
 Foreign keys are enforced on every connection.  Masses with ``run_id`` NULL
 are the visit's planned correction (a negative count: parts to take off);
@@ -33,9 +20,6 @@ the others were fitted for that run.  ``started_at`` is ISO 8601 text; placer
 writes it in UTC with its offset, or as a date alone when the session gave
 only a date (:func:`utc_label` shows it).
 
-Version 2 (:func:`_migrate_1_to_2`) added the speed and the sense of
-rotation to visits, and holds phasors and coefficients in the visit's
-measure; version 1 held them as peak values.
 Visits are written once and never changed; only a machine's name follows
 its latest saved visit.
 
@@ -56,20 +40,18 @@ other program are refused with :class:`HistoryError`.
 
 References
 ----------
-SQLite documentation, "Atomic Commit In SQLite" and "Write-Ahead Logging"
-(sqlite.org: rollback journal, hot journals, WAL on network file systems);
-"SQL As Understood By SQLite", BEGIN IMMEDIATE, UPSERT.  XDG Base Directory
-Specification 0.8 (freedesktop.org), ``$XDG_DATA_HOME``.
+[SQLite] "Atomic Commit In SQLite" and "Write-Ahead Logging" (rollback journal,
+hot journals, WAL on network file systems); "SQL As Understood By SQLite",
+BEGIN IMMEDIATE, UPSERT.  [XDG] ``$XDG_DATA_HOME``.
 """
 
 from __future__ import annotations
 
 import json
-import math
 import os
 import sqlite3
 import sys
-from collections.abc import Callable, Sequence
+from collections.abc import Sequence
 from datetime import datetime, timezone
 from pathlib import Path
 from types import TracebackType
@@ -78,127 +60,19 @@ import numpy as np
 
 from placer.errors import HistoryError
 from placer.influence import StoredCoefficients
-from placer.records import (MachineSummary, MassRecord, RunRecord, VisitRecord,
-                            VisitSummary, check_record, utc_label)
-
-SCHEMA_VERSION = 2
-"""Schema version this placer writes; files of a newer version are refused."""
-
-_V1_PEAK_PER_MEASURE = {"peak": 1.0, "peak-to-peak": 0.5, "rms": math.sqrt(2.0)}
-"""How version 1 turned a reading into a peak value (peak = value·factor; sinusoid
-identities: peak-to-peak = 2·peak, rms = peak/√2)."""
-
-
-def _migrate_1_to_2(conn: sqlite3.Connection) -> None:
-    """Version 1 -> 2: visits get service_rpm and rotation (NULL: not known);
-    phasors, coefficients and the result's vibration figures go from peak to
-    the visit's own measure."""
-    conn.execute("ALTER TABLE visits ADD COLUMN service_rpm REAL")
-    conn.execute("ALTER TABLE visits ADD COLUMN rotation TEXT")
-    for measure, factor in _V1_PEAK_PER_MEASURE.items():
-        if factor == 1.0:
-            continue
-        conn.execute(
-            "UPDATE readings SET re = re / ?1, im = im / ?1 WHERE run_id IN "
-            "(SELECT r.id FROM runs AS r JOIN visits AS v ON v.id = r.visit_id "
-            "WHERE v.measure = ?2)", (factor, measure))
-        conn.execute(
-            "UPDATE coefficients SET re = re / ?1, im = im / ?1 WHERE visit_id IN "
-            "(SELECT id FROM visits WHERE measure = ?2)", (factor, measure))
-        for visit_id, text in conn.execute(
-                "SELECT id, result_json FROM visits WHERE measure = ?", (measure,)).fetchall():
-            result = json.loads(text)
-            for key in ("vibration_before", "vibration_after"):
-                if isinstance(result.get(key), (int, float)):
-                    result[key] = result[key] / factor
-            conn.execute("UPDATE visits SET result_json = ? WHERE id = ?",
-                         (json.dumps(result, ensure_ascii=False), visit_id))
-
-
-MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {1: _migrate_1_to_2}
-"""Schema upgrades: ``MIGRATIONS[v](connection)`` turns version v into v + 1.
-
-Each runs inside the opening transaction (foreign keys on) and must leave
-the data consistent; the version row is updated after the last one."""
+from placer.io.historyschema import MIGRATIONS, SCHEMA_V1, SCHEMA_VERSION
+from placer.records import (
+    MachineSummary,
+    MassRecord,
+    RunRecord,
+    VisitRecord,
+    VisitSummary,
+    check_record,
+    utc_label,
+)
 
 DB_FILE_NAME = "history.sqlite"
 EXPECTED_FILE = "a placer history database"
-
-_SCHEMA_V1 = """
-CREATE TABLE schema_version (version INTEGER NOT NULL);
-CREATE TABLE machines (
-    id TEXT PRIMARY KEY,
-    name TEXT NOT NULL,
-    created_at TEXT NOT NULL
-);
-CREATE TABLE visits (
-    id INTEGER PRIMARY KEY,
-    machine_id TEXT NOT NULL REFERENCES machines (id),
-    started_at TEXT NOT NULL,
-    session_file TEXT NOT NULL,
-    unit TEXT NOT NULL,
-    measure TEXT NOT NULL,
-    phase_sense TEXT NOT NULL,
-    angle_sense TEXT NOT NULL,
-    coefficient_source TEXT NOT NULL,
-    condition REAL,
-    result_json TEXT NOT NULL
-);
-CREATE INDEX visits_by_machine ON visits (machine_id, started_at);
-CREATE TABLE channels (
-    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
-    channel_index INTEGER NOT NULL,
-    name TEXT NOT NULL,
-    PRIMARY KEY (visit_id, channel_index)
-);
-CREATE TABLE planes (
-    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
-    plane_index INTEGER NOT NULL,
-    name TEXT NOT NULL,
-    PRIMARY KEY (visit_id, plane_index)
-);
-CREATE TABLE runs (
-    id INTEGER PRIMARY KEY,
-    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
-    seq INTEGER NOT NULL,
-    name TEXT NOT NULL,
-    kind TEXT NOT NULL,
-    UNIQUE (visit_id, seq)
-);
-CREATE TABLE readings (
-    run_id INTEGER NOT NULL REFERENCES runs (id) ON DELETE CASCADE,
-    channel_index INTEGER NOT NULL,
-    amplitude REAL NOT NULL,
-    phase_deg REAL NOT NULL,
-    re REAL NOT NULL,
-    im REAL NOT NULL,
-    PRIMARY KEY (run_id, channel_index)
-);
-CREATE TABLE coefficients (
-    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
-    channel_index INTEGER NOT NULL,
-    plane_index INTEGER NOT NULL,
-    re REAL NOT NULL,
-    im REAL NOT NULL,
-    PRIMARY KEY (visit_id, channel_index, plane_index)
-);
-CREATE TABLE masses (
-    id INTEGER PRIMARY KEY,
-    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
-    run_id INTEGER REFERENCES runs (id) ON DELETE CASCADE,
-    role TEXT NOT NULL CHECK (role IN ('trial', 'fitted', 'planned')),
-    plane_index INTEGER NOT NULL,
-    position INTEGER,
-    angle_deg REAL NOT NULL,
-    radius_mm REAL NOT NULL,
-    mass_g REAL NOT NULL,
-    item TEXT,
-    count INTEGER NOT NULL,
-    removed_after INTEGER NOT NULL CHECK (removed_after IN (0, 1))
-);
-CREATE INDEX masses_by_visit ON masses (visit_id);
-CREATE INDEX masses_by_run ON masses (run_id);
-"""
 
 
 def default_db_path() -> Path:
@@ -291,7 +165,7 @@ class History:
                 version = self._stored_version()
                 if version is None:
                     # one statement at a time: executescript() would commit first
-                    for statement in _SCHEMA_V1.split(";"):
+                    for statement in SCHEMA_V1.split(";"):
                         if statement.strip():
                             conn.execute(statement)
                     conn.execute("INSERT INTO schema_version VALUES (1)")

@@ -278,7 +278,7 @@ def write_version_1_file(path: Path) -> None:
     """A history file as placer wrote it at schema version 1, by hand: one visit read
     in µm rms (stored then as peak values), coefficients, a result summary."""
     connection = sqlite3.connect(path)
-    for statement in history._SCHEMA_V1.split(";"):
+    for statement in history.SCHEMA_V1.split(";"):
         if statement.strip():
             connection.execute(statement)
     connection.execute("INSERT INTO schema_version VALUES (1)")

@@ -1,0 +1,149 @@
+"""The history database's schema, version by version, and the migrations between them.
+
+Schema (version :data:`SCHEMA_VERSION`)::
+
+    schema_version(version)                      one row
+    machines(id PK, name, created_at)
+    visits(id PK, machine_id -> machines, started_at, session_file, unit,
+           measure, phase_sense, angle_sense, coefficient_source, condition,
+           result_json, service_rpm, rotation)        (the last two from version 2)
+    channels(visit_id -> visits, channel_index, name)   PK (visit_id, channel_index)
+    planes(visit_id -> visits, plane_index, name)       PK (visit_id, plane_index)
+    runs(id PK, visit_id -> visits, seq, name, kind)    UNIQUE (visit_id, seq)
+    readings(run_id -> runs, channel_index, amplitude, phase_deg, re, im)
+    coefficients(visit_id -> visits, channel_index, plane_index, re, im)
+    masses(id PK, visit_id -> visits, run_id -> runs or NULL, role, plane_index,
+           position, angle_deg, radius_mm, mass_g, item, count, removed_after)
+
+Version 2 (:func:`migrate_1_to_2`) added the speed and the sense of rotation to
+visits, and holds phasors and coefficients in the visit's measure; version 1
+held them as peak values.  A new file gets :data:`SCHEMA_V1` and is then brought
+up by the same :data:`MIGRATIONS` an older file goes through.
+
+References
+----------
+[SQLite] "SQL As Understood By SQLite".
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import sqlite3
+from collections.abc import Callable
+
+SCHEMA_VERSION = 2
+"""Schema version this placer writes; files of a newer version are refused."""
+
+_V1_PEAK_PER_MEASURE = {"peak": 1.0, "peak-to-peak": 0.5, "rms": math.sqrt(2.0)}
+"""How version 1 turned a reading into a peak value (peak = value·factor; sinusoid
+identities: peak-to-peak = 2·peak, rms = peak/√2)."""
+
+
+def migrate_1_to_2(conn: sqlite3.Connection) -> None:
+    """Version 1 -> 2: visits get service_rpm and rotation (NULL: not known);
+    phasors, coefficients and the result's vibration figures go from peak to
+    the visit's own measure."""
+    conn.execute("ALTER TABLE visits ADD COLUMN service_rpm REAL")
+    conn.execute("ALTER TABLE visits ADD COLUMN rotation TEXT")
+    for measure, factor in _V1_PEAK_PER_MEASURE.items():
+        if factor == 1.0:
+            continue
+        conn.execute(
+            "UPDATE readings SET re = re / ?1, im = im / ?1 WHERE run_id IN "
+            "(SELECT r.id FROM runs AS r JOIN visits AS v ON v.id = r.visit_id "
+            "WHERE v.measure = ?2)", (factor, measure))
+        conn.execute(
+            "UPDATE coefficients SET re = re / ?1, im = im / ?1 WHERE visit_id IN "
+            "(SELECT id FROM visits WHERE measure = ?2)", (factor, measure))
+        for visit_id, text in conn.execute(
+                "SELECT id, result_json FROM visits WHERE measure = ?", (measure,)).fetchall():
+            result = json.loads(text)
+            for key in ("vibration_before", "vibration_after"):
+                if isinstance(result.get(key), (int, float)):
+                    result[key] = result[key] / factor
+            conn.execute("UPDATE visits SET result_json = ? WHERE id = ?",
+                         (json.dumps(result, ensure_ascii=False), visit_id))
+
+
+MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {1: migrate_1_to_2}
+"""Schema upgrades: ``MIGRATIONS[v](connection)`` turns version v into v + 1.
+
+Each runs inside the opening transaction (foreign keys on) and must leave
+the data consistent; the version row is updated after the last one."""
+
+SCHEMA_V1 = """
+CREATE TABLE schema_version (version INTEGER NOT NULL);
+CREATE TABLE machines (
+    id TEXT PRIMARY KEY,
+    name TEXT NOT NULL,
+    created_at TEXT NOT NULL
+);
+CREATE TABLE visits (
+    id INTEGER PRIMARY KEY,
+    machine_id TEXT NOT NULL REFERENCES machines (id),
+    started_at TEXT NOT NULL,
+    session_file TEXT NOT NULL,
+    unit TEXT NOT NULL,
+    measure TEXT NOT NULL,
+    phase_sense TEXT NOT NULL,
+    angle_sense TEXT NOT NULL,
+    coefficient_source TEXT NOT NULL,
+    condition REAL,
+    result_json TEXT NOT NULL
+);
+CREATE INDEX visits_by_machine ON visits (machine_id, started_at);
+CREATE TABLE channels (
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    channel_index INTEGER NOT NULL,
+    name TEXT NOT NULL,
+    PRIMARY KEY (visit_id, channel_index)
+);
+CREATE TABLE planes (
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    plane_index INTEGER NOT NULL,
+    name TEXT NOT NULL,
+    PRIMARY KEY (visit_id, plane_index)
+);
+CREATE TABLE runs (
+    id INTEGER PRIMARY KEY,
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    seq INTEGER NOT NULL,
+    name TEXT NOT NULL,
+    kind TEXT NOT NULL,
+    UNIQUE (visit_id, seq)
+);
+CREATE TABLE readings (
+    run_id INTEGER NOT NULL REFERENCES runs (id) ON DELETE CASCADE,
+    channel_index INTEGER NOT NULL,
+    amplitude REAL NOT NULL,
+    phase_deg REAL NOT NULL,
+    re REAL NOT NULL,
+    im REAL NOT NULL,
+    PRIMARY KEY (run_id, channel_index)
+);
+CREATE TABLE coefficients (
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    channel_index INTEGER NOT NULL,
+    plane_index INTEGER NOT NULL,
+    re REAL NOT NULL,
+    im REAL NOT NULL,
+    PRIMARY KEY (visit_id, channel_index, plane_index)
+);
+CREATE TABLE masses (
+    id INTEGER PRIMARY KEY,
+    visit_id INTEGER NOT NULL REFERENCES visits (id) ON DELETE CASCADE,
+    run_id INTEGER REFERENCES runs (id) ON DELETE CASCADE,
+    role TEXT NOT NULL CHECK (role IN ('trial', 'fitted', 'planned')),
+    plane_index INTEGER NOT NULL,
+    position INTEGER,
+    angle_deg REAL NOT NULL,
+    radius_mm REAL NOT NULL,
+    mass_g REAL NOT NULL,
+    item TEXT,
+    count INTEGER NOT NULL,
+    removed_after INTEGER NOT NULL CHECK (removed_after IN (0, 1))
+);
+CREATE INDEX masses_by_visit ON masses (visit_id);
+CREATE INDEX masses_by_run ON masses (run_id);
+"""
