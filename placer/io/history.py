@@ -51,7 +51,8 @@ import json
 import os
 import sqlite3
 import sys
-from collections.abc import Sequence
+from collections.abc import Iterator, Sequence
+from contextlib import contextmanager
 from datetime import datetime, timezone
 from pathlib import Path
 from types import TracebackType
@@ -73,6 +74,25 @@ from placer.records import (
 
 DB_FILE_NAME = "history.sqlite"
 EXPECTED_FILE = "a placer history database"
+
+
+@contextmanager
+def _immediate(conn: sqlite3.Connection) -> Iterator[None]:
+    """A write transaction (BEGIN IMMEDIATE): committed at the end, rolled back on any
+    exception or interruption, so that nothing half-written stays.
+
+    References
+    ----------
+    [SQLite] BEGIN IMMEDIATE; "Atomic Commit In SQLite".
+    """
+    conn.execute("BEGIN IMMEDIATE")
+    try:
+        yield
+        conn.execute("COMMIT")
+    except BaseException:
+        if conn.in_transaction:
+            conn.execute("ROLLBACK")
+        raise
 
 
 def default_db_path() -> Path:
@@ -160,8 +180,7 @@ class History:
             if version is not None and version >= SCHEMA_VERSION:
                 self._refuse_newer(version)
                 return
-            conn.execute("BEGIN IMMEDIATE")
-            try:
+            with _immediate(conn):
                 version = self._stored_version()
                 if version is None:
                     # one statement at a time: executescript() would commit first
@@ -178,11 +197,6 @@ class History:
                                           expected=f"schema version {SCHEMA_VERSION}")
                     MIGRATIONS[step](conn)
                 conn.execute("UPDATE schema_version SET version = ?", (SCHEMA_VERSION,))
-                conn.execute("COMMIT")
-            except BaseException:
-                if conn.in_transaction:
-                    conn.execute("ROLLBACK")
-                raise
         except sqlite3.DatabaseError as exc:
             if getattr(exc, "sqlite_errorname", "") == "SQLITE_NOTADB":
                 raise self._error("is not a SQLite database", expected=EXPECTED_FILE) from exc
@@ -232,14 +246,8 @@ class History:
         check_record(record)
         conn = self._conn
         try:
-            conn.execute("BEGIN IMMEDIATE")
-            try:
+            with _immediate(conn):
                 visit_id = self._write_visit(record)
-                conn.execute("COMMIT")
-            except BaseException:
-                if conn.in_transaction:
-                    conn.execute("ROLLBACK")
-                raise
         except sqlite3.Error as exc:
             raise self._error(f"cannot save the visit: {exc}") from exc
         return visit_id
