@@ -1,0 +1,1 @@
+"""Computational engines of placer: pure search, no input or output."""
