@@ -47,8 +47,11 @@ from placer.engine.arrangement_mitm import (best_split, make_frame, rearrangemen
 from placer.engine.arrangement_model import Problem, build_problems
 from placer.errors import InputError
 
-DEFAULT_WORK = 8_000_000
-"""Default work budget: half-arrangements and swaps scored (a few seconds)."""
+DEFAULT_WORK = 200_000_000
+"""Default work budget in work units (a half-arrangement scored from sums alone is one
+unit; one checked against limits across the halves, CONSTRAINED_UNIT): a few seconds."""
+WINDOW_SHARE = 8
+"""The windows, which prove nothing, take at most this fraction (1/8) of the budget."""
 STARTS = 3
 """Seeded random starts of the swap descent."""
 ZERO_TEST_REL = 1e-9
@@ -177,10 +180,8 @@ def solve(problem: Problem, budget: int, seed: int, stop_gmm: float = 0.0) -> So
     if arr is False:
         return Solved(None, math.inf, math.inf, True, False, "limits cannot be kept", work)
     total = float(np.sum(problem.weights))
-    a = best_split(len(work_problem.free_slots))
-    if a is not None:
-        free = work_problem.free_slots
-        frame = make_frame(work_problem, work_problem.pinned, free[:a], free[a:])
+    frame = exact_frame(work_problem)
+    if frame is not None and (frame_cost(frame) <= budget - work or arr is None):
         outcome = search_frame(frame, value, max(1, budget - work), seed)
         work += outcome.work
         if outcome.arr is not None:
@@ -191,7 +192,8 @@ def solve(problem: Problem, budget: int, seed: int, stop_gmm: float = 0.0) -> So
         if arr is None:
             return Solved(None, math.inf, 0.0, False, False, "no feasible start", work)
         stop = max(stop_gmm, NOISE_REL * total)
-        arr, value, more = windows(work_problem, arr, value, max(1, budget - work), seed, stop)
+        arr, value, more = windows(work_problem, arr, value,
+                                   max(1, (budget - work) // WINDOW_SHARE), seed, stop)
         work += more
         lower, proven = root_bound(work_problem), False
         method = "swap descent and windows"
@@ -203,12 +205,39 @@ def solve(problem: Problem, budget: int, seed: int, stop_gmm: float = 0.0) -> So
     return Solved(arr, value, lower, proven, False, method, work)
 
 
+def exact_frame(problem: Problem):
+    """The split of the open slots for meet in the middle, or None when too large.
+
+    Two splits are weighed, an arc (round slot 0 when the mirror rule is on, so
+    that its two slots share half A) and a split by diameters (slots sorted by
+    angle modulo 180°, so that opposite slots share a half); the one with fewer
+    pair tables across the halves is taken, as those are checked pair by pair.
+    """
+    free = problem.free_slots
+    a = best_split(len(free), mirrored=problem.mirror is not None)
+    if a is None:
+        return None
+    arc = free
+    if problem.mirror is not None:
+        arc = free[np.argsort(np.minimum(free, problem.n - free), kind="stable")]
+    diametric = free[np.argsort(np.angle(problem.z[free]) % math.pi, kind="stable")]
+    frames = [make_frame(problem, problem.pinned, order[:a], order[a:], mirror=True)
+              for order in (arc, diametric)]
+    return min(frames, key=lambda f: len(f.cross))
+
+
+def frame_cost(frame) -> int:
+    """Work units of a complete meet in the middle over ``frame`` (before pruning)."""
+    sets = math.comb(len(frame.pool), len(frame.a_slots))
+    return sets * (len(frame.perms("A")) + len(frame.perms("B"))) * frame.unit
+
+
 def symmetry_reduced(problem: Problem) -> Problem:
     """The problem with one blade pinned in slot 0 and reflections ruled out, when symmetric.
 
     Every arrangement can be rotated to put the heaviest blade in slot 0 and
     then reflected (slot j to slot -j) so that slot 1 holds a lower-numbered
-    blade than slot n - 1; both keep |residual|, |couple| and every pair
+    blade than slot n - 1 (``Problem.mirror``, applied by the exact search); both keep |residual|, |couple| and every pair
     table (opposite and neighbouring slots stay so; with alternation each
     phase is solved, and reflection keeps a slot's parity for even n).
 
@@ -220,11 +249,7 @@ def symmetry_reduced(problem: Problem) -> Problem:
         return problem
     pinned = problem.pinned.copy()
     pinned[0] = int(np.argmax(problem.weights))
-    edges = dict(problem.edges)
-    lower_first = np.arange(problem.n)[:, None] < np.arange(problem.n)[None, :]
-    key = (1, problem.n - 1)
-    edges[key] = edges[key] & lower_first if key in edges else lower_first
-    return replace(problem, pinned=pinned, edges=edges)
+    return replace(problem, pinned=pinned, mirror=(1, problem.n - 1))
 
 
 def incumbent(problem: Problem, budget: int, seed: int):
@@ -272,7 +297,7 @@ def norm_bound(problem: Problem) -> float:
     w = np.sort(problem.weights)
     u = np.exp(2j * np.pi * np.arange(64) / 64)
     proj = np.sort(np.real(np.conj(u)[:, None] * problem.z[None, :]), axis=1)
-    largest = float((proj @ w).max()) / math.cos(math.pi / 64)
+    largest = float(np.einsum("dk,k->d", proj, w).max()) / math.cos(math.pi / 64)
     return exact.norm_lower_bound(problem.n, largest, problem.scale)
 
 

@@ -22,9 +22,11 @@ from __future__ import annotations
 import numpy as np
 from ortools.sat.python import cp_model
 
-from placer.engine.arrangement_mitm import MAX_HALF, make_frame, search_frame
+from placer.engine.arrangement_mitm import MAX_HALF, make_frame, search_sample
 from placer.engine.arrangement_model import Problem
 
+WINDOW_SETS = 3
+"""Blade sets of half A tried per window (each a full meet in the middle of the halves)."""
 CPSAT_DETERMINISTIC_S = 20.0
 """CP-SAT's deterministic time limit for a feasible start [deterministic s]."""
 
@@ -143,24 +145,15 @@ def windows(problem: Problem, arr: np.ndarray, value: float, budget: int, seed: 
         return arr, value, 0
     rng = np.random.default_rng(seed)
     work = 0
-    per_window = 4 * (2 * _factorial(size // 2))
     while work < budget and value > stop_gmm:
         window = np.sort(rng.choice(free, size=size, replace=False))
         half = size // 2
         frame = make_frame(problem, arr, window[:half], window[half:])
-        outcome = search_frame(frame, value, min(per_window, budget - work),
-                               int(rng.integers(2**31)))
-        work += max(outcome.work, 1)
+        outcome = search_sample(frame, value, WINDOW_SETS, int(rng.integers(2**31)))
+        work += outcome.work
         if outcome.arr is not None and outcome.value < value:
             arr, value = outcome.arr, outcome.value
     return arr, value, work
-
-
-def _factorial(k: int) -> int:
-    out = 1
-    for i in range(2, k + 1):
-        out *= i
-    return out
 
 
 def feasible_start(problem: Problem, seed: int) -> np.ndarray | None | bool:

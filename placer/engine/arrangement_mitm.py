@@ -25,7 +25,7 @@ from __future__ import annotations
 
 import itertools
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from functools import lru_cache
 
 import numpy as np
@@ -41,8 +41,13 @@ DIRECTIONS = 48
 """Directions u of the rearrangement bound."""
 DENSE_PAIRS = 250_000
 """Pairs of half-arrangements up to which the pair is found by a dense scan."""
-NEIGHBOURS = 8
+NEIGHBOURS = 16
 """Candidates fetched per query when a limit spans the two halves."""
+CONSTRAINED_UNIT = 8
+"""Work units per half-arrangement when limits span the halves (measured: such pairs are
+checked candidate by candidate, about 8 times slower than sums alone)."""
+WINDOW_CAP = 2_000_000
+"""Most candidate pairs the sorted-window scan takes before it leaves the pair to the tree."""
 
 
 @lru_cache(maxsize=None)
@@ -53,17 +58,32 @@ def perm_table(k: int) -> np.ndarray:
     return np.array(list(itertools.permutations(range(k))), dtype=np.int64)
 
 
-def half_cost(m: int, a: int) -> int:
-    """Half-arrangements enumerated for m open slots split a | m - a."""
-    return math.comb(m, a) * (math.factorial(a) + math.factorial(m - a))
+def half_cost(m: int, a: int, mirrored: bool = False) -> int:
+    """Half-arrangements kept for m open slots split a | m - a (A halved by the mirror rule)."""
+    keep_a = math.factorial(a) // (2 if mirrored and a >= 2 else 1)
+    return math.comb(m, a) * (keep_a + math.factorial(m - a))
 
 
-def best_split(m: int) -> int | None:
+def best_split(m: int, mirrored: bool = False) -> int | None:
     """Size of half A that enumerates least, or None if a half would pass MAX_HALF."""
     sizes = [a for a in range(0, m + 1) if a <= MAX_HALF and m - a <= MAX_HALF]
-    if not sizes or math.comb(m, min(sizes, key=lambda a: half_cost(m, a))) > MAX_SUBSETS:
+    if not sizes:
         return None
-    return min(sizes, key=lambda a: half_cost(m, a))
+    a = min(sizes, key=lambda a: (half_cost(m, a, mirrored), a))
+    return a if math.comb(m, a) <= MAX_SUBSETS else None
+
+
+def row_sums(values: np.ndarray, z: np.ndarray) -> np.ndarray:
+    """Σ_t values[:, t]·z[t] for every row, column by column.
+
+    Neither ``@`` nor BLAS: on a shared 2-core machine OpenBLAS's threads made
+    these small products up to 40 times slower, and a float table times a
+    complex vector takes numpy's slow path.
+    """
+    out = np.zeros(values.shape[0], dtype=complex)
+    for t in range(values.shape[1]):
+        out += values[:, t] * z[t]
+    return out
 
 
 @dataclass
@@ -80,15 +100,61 @@ class Frame:
     allowed: dict
     inner: dict
     cross: list
+    order_pair: dict = field(default_factory=dict)
+    tables: dict = field(default_factory=dict)
+
+    @property
+    def unlimited(self) -> bool:
+        """Whether no limit spans the halves (each half is filtered alone)."""
+        p = self.problem
+        return not self.cross and (p.couple_limit is None or p.axial is None)
+
+    @property
+    def unit(self) -> int:
+        """Work units per half-arrangement."""
+        return 1 if self.unlimited else CONSTRAINED_UNIT
+
+    def limited(self, half: str) -> bool:
+        """Whether a limit or pin restricts the arrangements of one half."""
+        return bool(self.inner[half]) or not self.allowed[half].all()
+
+    def perms(self, half: str) -> np.ndarray:
+        """The permutations the half takes: all, or those keeping the mirror rule.
+
+        Blades of a half are always listed in increasing order, so the mirror
+        rule blade(u) < blade(v) is perm[u] < perm[v], the same for every set.
+        """
+        key = ("perms", half)
+        if key not in self.tables:
+            slots = self.a_slots if half == "A" else self.b_slots
+            table = perm_table(len(slots))
+            if half in self.order_pair:
+                i, k = self.order_pair[half]
+                table = table[table[:, i] < table[:, k]]
+            self.tables[key] = table
+        return self.tables[key]
+
+    def slot_sums(self, half: str, weights: np.ndarray) -> np.ndarray:
+        """Sum of every arrangement in ``perms(half)`` of blades with ``weights``."""
+        if half not in self.tables:
+            slots = self.a_slots if half == "A" else self.b_slots
+            inverse = np.argsort(self.perms(half), axis=1)
+            self.tables[half] = np.asfortranarray(self.problem.z[slots][inverse])
+        table = self.tables[half]
+        out = np.zeros(table.shape[0], dtype=complex)
+        for i, w in enumerate(weights):
+            out += table[:, i] * w
+        return out
 
 
 def make_frame(problem: Problem, base: np.ndarray, a_slots: np.ndarray,
-               b_slots: np.ndarray) -> Frame:
+               b_slots: np.ndarray, mirror: bool = False) -> Frame:
     """The frame of ``base`` with ``a_slots`` and ``b_slots`` opened.
 
     Pair tables between an open slot and a filled one become a mask of the
     blades allowed in the open slot; tables within a half are checked on
-    its rows; tables across the halves on the candidate pairs.
+    its rows; tables across the halves on the candidate pairs.  With
+    ``mirror``, the problem's mirror rule (both its slots open) is applied.
     """
     n = problem.n
     base = base.copy()
@@ -116,6 +182,17 @@ def make_frame(problem: Problem, base: np.ndarray, a_slots: np.ndarray,
             cross.append((wu[1], wv[1], ok))
         else:
             cross.append((wv[1], wu[1], ok.T))
+    order_pair = {}
+    if mirror and problem.mirror is not None:
+        wu, wv = (where.get(s) for s in problem.mirror)
+        lower_first = np.arange(n)[:, None] < np.arange(n)[None, :]
+        if wu is None or wv is None:
+            raise ValueError("the mirror rule needs both its slots open")
+        if wu[0] == wv[0]:
+            order_pair[wu[0]] = (wu[1], wv[1])
+        else:
+            cross.append((wu[1], wv[1], lower_first) if wu[0] == "A"
+                         else (wv[1], wu[1], lower_first.T))
     fixed = base >= 0
     target = problem.offset + complex(np.sum(problem.weights[base[fixed]] * problem.z[fixed]))
     couple_target = 0j
@@ -123,18 +200,12 @@ def make_frame(problem: Problem, base: np.ndarray, a_slots: np.ndarray,
         couple_target = problem.couple_offset + complex(
             np.sum(problem.axial[base[fixed]] * problem.z[fixed]))
     return Frame(problem, base, np.asarray(a_slots), np.asarray(b_slots),
-                 np.flatnonzero(~used), target, couple_target, allowed, inner, cross)
+                 np.flatnonzero(~used), target, couple_target, allowed, inner, cross, order_pair)
 
 
 def half_rows(frame: Frame, half: str, blades: np.ndarray) -> np.ndarray:
     """Every arrangement of ``blades`` on one half that keeps the half's own limits."""
-    rows = blades[perm_table(len(blades))]
-    if rows.shape[1] == 0:
-        return rows
-    keep = np.all(frame.allowed[half][np.arange(rows.shape[1]), rows], axis=1)
-    for i, k, ok in frame.inner[half]:
-        keep &= ok[rows[:, i], rows[:, k]]
-    return rows[keep]
+    return blades[frame.perms(half)][_kept(frame, half, blades)]
 
 
 def rearrangement_bounds(frame: Frame, subsets: np.ndarray) -> np.ndarray:
@@ -157,7 +228,7 @@ def rearrangement_bounds(frame: Frame, subsets: np.ndarray) -> np.ndarray:
         if len(slots) == 0:
             continue
         proj = -np.sort(-np.real(np.conj(u)[:, None] * frame.problem.z[slots][None, :]), axis=1)
-        total += np.sort(w[members], axis=1) @ proj.T
+        total += np.einsum("sk,dk->sd", np.sort(w[members], axis=1), proj)
     return np.maximum(0.0, total.max(axis=1))
 
 
@@ -193,7 +264,7 @@ def search_frame(frame: Frame, incumbent: float, budget: int, seed: int) -> Outc
     tie = np.random.default_rng(seed).permutation(len(subsets))
     order = np.lexsort((tie, bounds))
     best, best_arr, work = incumbent, None, 0
-    cost = math.factorial(a) + math.factorial(len(frame.b_slots))
+    cost = (len(frame.perms("A")) + len(frame.perms("B"))) * frame.unit
     for count, s in enumerate(order):
         if bounds[s] >= best:
             return Outcome(best, best_arr, best, True, work)
@@ -206,16 +277,32 @@ def search_frame(frame: Frame, incumbent: float, budget: int, seed: int) -> Outc
     return Outcome(best, best_arr, best, True, work)
 
 
+def search_sample(frame: Frame, incumbent: float, count: int, seed: int) -> Outcome:
+    """Like search_frame over ``count`` seeded random blade sets of half A: no bound, no proof."""
+    rng = np.random.default_rng(seed)
+    a = len(frame.a_slots)
+    best, best_arr = incumbent, None
+    cost = (len(frame.perms("A")) + len(frame.perms("B"))) * frame.unit
+    for _ in range(count):
+        subset = np.sort(rng.choice(frame.pool, size=a, replace=False))
+        found = _best_for_subset(frame, subset, best)
+        if found is not None:
+            best, best_arr = found
+    return Outcome(best, best_arr, 0.0, False, (count + 1) * cost)
+
+
 def _best_for_subset(frame: Frame, subset: np.ndarray,
                      best: float) -> tuple[float, np.ndarray] | None:
     rest = np.setdiff1d(frame.pool, subset)
+    if frame.unlimited:
+        return _best_unlimited(frame, subset, rest, best)
     rows_a = half_rows(frame, "A", subset)
     rows_b = half_rows(frame, "B", rest)
     if len(rows_a) == 0 or len(rows_b) == 0:
         return None
     p = frame.problem
-    sum_a = frame.target + p.weights[rows_a] @ p.z[frame.a_slots]
-    sum_b = p.weights[rows_b] @ p.z[frame.b_slots]
+    sum_a = frame.target + row_sums(p.weights[rows_a], p.z[frame.a_slots])
+    sum_b = row_sums(p.weights[rows_b], p.z[frame.b_slots])
     check = _PairCheck(frame, rows_a, rows_b)
     if len(rows_a) * len(rows_b) <= DENSE_PAIRS:
         pair = _dense_pair(sum_a, sum_b, check, best)
@@ -230,6 +317,82 @@ def _best_for_subset(frame: Frame, subset: np.ndarray,
     return value, arr
 
 
+def _best_unlimited(frame: Frame, subset: np.ndarray, rest: np.ndarray,
+                    best: float) -> tuple[float, np.ndarray] | None:
+    """The nearest pair from sums alone: one matrix product per half, no rows built."""
+    w = frame.problem.weights
+    keep_a = _kept(frame, "A", subset)
+    keep_b = _kept(frame, "B", rest)
+    sum_a = frame.target + frame.slot_sums("A", w[subset])[keep_a]
+    sum_b = frame.slot_sums("B", w[rest])[keep_b]
+    if len(sum_a) == 0 or len(sum_b) == 0:
+        return None
+    pair = _window_pair(-sum_a, sum_b, best) if math.isfinite(best) else False
+    if pair is False:
+        pair = _tree_pair(sum_a, sum_b, _NO_CHECK, best)
+    if pair is None:
+        return None
+    value, i, k = pair
+    arr = frame.base.copy()
+    arr[frame.a_slots] = subset[frame.perms("A")[keep_a][i]]
+    arr[frame.b_slots] = rest[frame.perms("B")[keep_b][k]]
+    return value, arr
+
+
+def _kept(frame: Frame, half: str, blades: np.ndarray) -> np.ndarray | slice:
+    """Rows of the half's permutation table that keep its own limits (all: a slice)."""
+    if not frame.limited(half):
+        return slice(None)
+    rows = blades[frame.perms(half)]
+    if rows.shape[1] == 0:
+        return slice(None)
+    keep = np.all(frame.allowed[half][np.arange(rows.shape[1]), rows], axis=1)
+    for i, k, ok in frame.inner[half]:
+        keep &= ok[rows[:, i], rows[:, k]]
+    return np.flatnonzero(keep)
+
+
+def _window_pair(queries: np.ndarray, points: np.ndarray, best: float):
+    """(value, i, k) of the nearest pair |queries[i] - points[k]| < best, None, or False.
+
+    The smaller set is sorted by real part; every pair closer than ``best``
+    has real parts closer than ``best``, so a window of the sorted set holds
+    all of them.  False when the windows hold more than WINDOW_CAP pairs.
+    """
+    flip = len(queries) < len(points)
+    small, large = (queries, points) if flip else (points, queries)
+    order = np.argsort(small.real, kind="stable")
+    keys = small.real[order]
+    lo = np.searchsorted(keys, large.real - best, side="left")
+    # Most windows are empty when ``best`` is small: the second search only
+    # for those whose first key is inside.
+    inside = np.flatnonzero(keys[np.minimum(lo, len(keys) - 1)] <= large.real + best)
+    inside = inside[lo[inside] < len(keys)]
+    counts = np.zeros(len(large), dtype=np.int64)
+    counts[inside] = np.searchsorted(keys, large.real[inside] + best, side="right") - lo[inside]
+    total = int(counts.sum())
+    if total > WINDOW_CAP:
+        return False
+    if total == 0:
+        return None
+    li = np.repeat(np.arange(len(large)), counts)
+    start = np.repeat(lo - (np.cumsum(counts) - counts), counts)
+    si = order[np.arange(total) + start]
+    dist = np.abs(large[li] - small[si])
+    j = int(np.argmin(dist))
+    if dist[j] >= best:
+        return None
+    i, k = (int(si[j]), int(li[j])) if flip else (int(li[j]), int(si[j]))
+    return float(dist[j]), i, k
+
+
+class _NoCheck:
+    active = False
+
+
+_NO_CHECK = _NoCheck()
+
+
 class _PairCheck:
     """The limits that span the halves, checked on index pairs (i in A, k in B)."""
 
@@ -238,8 +401,8 @@ class _PairCheck:
         p = frame.problem
         self.couple = p.couple_limit is not None and p.axial is not None
         if self.couple:
-            self.couple_a = frame.couple_target + p.axial[rows_a] @ p.z[frame.a_slots]
-            self.couple_b = p.axial[rows_b] @ p.z[frame.b_slots]
+            self.couple_a = frame.couple_target + row_sums(p.axial[rows_a], p.z[frame.a_slots])
+            self.couple_b = row_sums(p.axial[rows_b], p.z[frame.b_slots])
         self.active = bool(frame.cross) or self.couple
 
     def __call__(self, i: np.ndarray, k: np.ndarray) -> np.ndarray:

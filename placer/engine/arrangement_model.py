@@ -60,6 +60,9 @@ class Problem:
         The weights times ``scale`` as exact integers, when they are decimals.
     scale : int
         The decimal scale of ``int_weights``.
+    mirror : tuple of (int, int) or None
+        Two slots (u, v) where the search may take blade(u) < blade(v) only,
+        because every mirror image of an arrangement scores the same.
     """
 
     weights: np.ndarray
@@ -74,6 +77,7 @@ class Problem:
     equal_spacing: bool
     int_weights: tuple[int, ...] | None
     scale: int
+    mirror: tuple[int, int] | None = None
 
     @property
     def n(self) -> int:
