@@ -193,6 +193,16 @@ def test_small_budget_gives_true_bound_not_false_proof():
     assert result.lower_bound_gmm <= best
 
 
+@pytest.mark.parametrize("name", ["everything", "alternate pinned", "couple", "nine slots"])
+def test_windows_keep_limits(name):
+    # A budget below one complete search sends the case to swap descent and windows:
+    # enumeration checks that the answer keeps every limit and the bound is true.
+    blades, disc = CASES[name]
+    result = arrange(blades, disc, work_budget=2000)
+    assert "windows" in result.method
+    check_result(blades, disc, result, oracle_best(blades, disc))
+
+
 def test_deterministic():
     # Same input, same output (no clock decides).
     blades, disc = shop_blades(20, 33), Disc(20, limits=Limits(opposite_gmm=300.0))
