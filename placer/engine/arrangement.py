@@ -237,9 +237,10 @@ def symmetry_reduced(problem: Problem) -> Problem:
 
     Every arrangement can be rotated to put the heaviest blade in slot 0 and
     then reflected (slot j to slot -j) so that slot 1 holds a lower-numbered
-    blade than slot n - 1 (``Problem.mirror``, applied by the exact search); both keep |residual|, |couple| and every pair
-    table (opposite and neighbouring slots stay so; with alternation each
-    phase is solved, and reflection keeps a slot's parity for even n).
+    blade than slot n - 1 (``Problem.mirror``, applied by the exact search);
+    both keep |residual|, |couple| and every pair table (opposite and
+    neighbouring slots stay so; with alternation each phase is solved, and
+    reflection keeps a slot's parity for even n).
 
     References
     ----------

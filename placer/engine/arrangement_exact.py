@@ -166,7 +166,7 @@ def periodic_zero(values: Sequence[int], n: int) -> list[int] | None:
     return None
 
 
-def grid_zero(values: Sequence[int], n: int, node_budget: int = 20_000) -> list[int] | None:
+def grid_zero(values: Sequence[int], n: int, node_budget: int = 5_000) -> list[int] | None:
     """Values by slot forming an m1 × m2 addition grid (sum zero), or None.
 
     Tries every split n = m1·m2 with m1, m2 > 1 coprime and looks for

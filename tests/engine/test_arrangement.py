@@ -288,7 +288,8 @@ def test_zero_test_against_numpy():
         for _ in range(30):
             c = rng.integers(-3, 4, size=n)
             if rng.random() < 0.5:            # a sum of regular polygons: zero
-                primes = [d for d in range(2, n + 1) if n % d == 0 and exact.prime_power(d) == (d, 1)]
+                primes = [d for d in range(2, n + 1)
+                          if n % d == 0 and exact.prime_power(d) == (d, 1)]
                 c = np.zeros(n, dtype=np.int64)
                 for _ in range(3):
                     q = int(rng.choice(primes))
@@ -317,7 +318,8 @@ def test_itbp_zero_by_construction(n):
 
 def test_prime_power_multiplicities():
     # Enumeration: on 4 slots, 1,1,2,2 can cancel (pairs opposite), 1,1,1,2 cannot.
-    assert oracle_best([Blade(str(i), float(w)) for i, w in enumerate((1, 1, 2, 2))], Disc(4)) < 1e-12
+    pairs = [Blade(str(i), float(w)) for i, w in enumerate((1, 1, 2, 2))]
+    assert oracle_best(pairs, Disc(4)) < 1e-12
     assert exact.zero_possible([1, 1, 2, 2], 4) is True
     assert exact.zero_possible([1, 1, 1, 2], 4) is False
 
