@@ -18,7 +18,8 @@ and when the work budget runs out first that bound is a proven lower bound.
 
 References
 ----------
-[HorowitzSahni1974] meet in the middle; [FathiGinjupalli1993] the residual.
+[HorowitzSahni1974] meet in the middle; [Rearrangement] the bound;
+[FathiGinjupalli1993] the residual.
 """
 
 from __future__ import annotations
@@ -195,8 +196,7 @@ def rearrangement_bounds(frame: Frame, subsets: np.ndarray) -> np.ndarray:
 
     References
     ----------
-    Rearrangement inequality: Σ x_i·y_σ(i) is least when x ascending meets y
-    descending (Hardy, Littlewood and Pólya; from memory) [HorowitzSahni1974].
+    [Rearrangement]: Σ x_i·y_σ(i) is least when x ascending meets y descending.
     """
     w = frame.problem.weights
     u = np.exp(2j * np.pi * np.arange(DIRECTIONS) / DIRECTIONS)

@@ -14,7 +14,7 @@ and ``swap_lower_bound`` says how many swaps were ruled out.
 
 References
 ----------
-Cycle decomposition of permutations (textbook; from memory);
+[PermutationCycles] a permutation with c cycles is n - c transpositions;
 [LaporteMercure1988] interchanges.
 """
 
