@@ -156,6 +156,17 @@ class Disc:
     limits: Limits = field(default_factory=Limits)
 
     def __post_init__(self) -> None:
+        # Lists become tuples, so that a Disc stays immutable and hashable.
+        if self.angles_deg is not None:
+            object.__setattr__(self, "angles_deg", tuple(self.angles_deg))
+        try:
+            pinned = tuple(tuple(p) for p in self.pinned)
+        except TypeError:
+            pinned = ((),)
+        if any(len(p) != 2 for p in pinned):
+            raise InputError(f"pinned entries {self.pinned!r}", key="pinned",
+                             expected="(slot number, blade id) pairs")
+        object.__setattr__(self, "pinned", pinned)
         if isinstance(self.slot_count, bool) or not isinstance(self.slot_count, int) \
                 or self.slot_count < 2:
             raise InputError(f"slot count {self.slot_count!r}", key="slot_count",

@@ -43,6 +43,8 @@ def test_axial_moment_may_be_negative():
     ({"slot_count": 3, "pinned": ((4, "A"),)}, "pinned[A]"),
     ({"slot_count": 3, "pinned": ((1, "A"), (1, "B"))}, "pinned"),
     ({"slot_count": 3, "pinned": ((1, "A"), (2, "A"))}, "pinned"),
+    ({"slot_count": 3, "pinned": ((1,),)}, "pinned"),
+    ({"slot_count": 3, "pinned": (5,)}, "pinned"),
     ({"slot_count": 5, "limits": Limits(alternate_frequency=True)}, "limits.alternate_frequency"),
 ])
 def test_bad_disc(kwargs, key):
@@ -56,6 +58,12 @@ def test_bad_disc(kwargs, key):
 def test_bad_limits(kwargs):
     with pytest.raises(InputError):
         Limits(**kwargs)
+
+
+def test_lists_become_tuples():
+    disc = Disc(3, angles_deg=[0.0, 100.0, 200.0], pinned=[[2, "A"]])
+    assert disc.angles_deg == (0.0, 100.0, 200.0) and disc.pinned == ((2, "A"),)
+    assert hash(disc) == hash(Disc(3, angles_deg=(0.0, 100.0, 200.0), pinned=((2, "A"),)))
 
 
 def test_equal_spacing_by_default():
