@@ -15,8 +15,17 @@ from pathlib import Path
 
 from placer.errors import InputError, PlacerError, fill_options
 from placer.io.tables import json_text
-from placer.limits import (DEFAULT_SAMPLES, DEFAULT_SEED, DEFAULT_TIME_LIMIT_S, MAX_MAGNITUDE,
-                           MAX_PARTS_LIMIT, MAX_SAMPLES, MIN_MAGNITUDE, MIN_SAMPLES, MIN_WIDTH)
+from placer.limits import (
+    DEFAULT_SAMPLES,
+    DEFAULT_SEED,
+    DEFAULT_TIME_LIMIT_S,
+    MAX_MAGNITUDE,
+    MAX_PARTS_LIMIT,
+    MAX_SAMPLES,
+    MIN_MAGNITUDE,
+    MIN_SAMPLES,
+    MIN_WIDTH,
+)
 
 EXIT_OK, EXIT_OUTSIDE, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -283,7 +292,11 @@ def _catalogs(args: argparse.Namespace) -> int:
 
 def _tolerance(args: argparse.Namespace) -> int:
     from placer.io.jsonout import tolerance_dict
-    from placer.tolerance import allocate_to_planes, parse_grade, permissible_residual_gmm
+    from placer.tolerance import (
+        allocate_to_planes,
+        parse_grade,
+        permissible_residual_gmm,
+    )
     from placer.views.terminal.tolerance import tolerance_lines
 
     _positive(("mass_kg", args.mass_kg), ("rpm", args.rpm),

@@ -16,9 +16,9 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from placer.errors import InputError
 from placer.engine.arrays import PlaneArrays, part_of_row, placement_arrays
 from placer.engine.search import PlacementSearch, Selection
+from placer.errors import InputError
 from placer.influence import (
     Coefficients,
     StaticCouple,

@@ -4,10 +4,10 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from placer.catalog import Catalog
 from placer import validate
-from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry
+from placer.catalog import Catalog
 from placer.errors import InputError
+from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
 
 CORRECTION_BASES = ("further", "total")

@@ -9,9 +9,9 @@ import numpy as np
 from placer import validate
 from placer.catalog import Catalog
 from placer.errors import InputError
-from placer.limits import MAX_PARTS_LIMIT
 from placer.geometry import PlaneGeometry, polar
 from placer.job import Rotor
+from placer.limits import MAX_PARTS_LIMIT
 
 RUN_KINDS = ("reference", "trial", "check")
 FIELD_NORMS = {"max": "max", "rms": "euclidean"}

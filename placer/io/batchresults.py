@@ -75,8 +75,17 @@ from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any, TextIO
 
-from placer.batch import (BatchSummary, BatchTally, RotorOutcome, RotorReading, default_jobs,
-                          processes_used, reading_digest, solve_readings, usable_cores)
+from placer.batch import (
+    BatchSummary,
+    BatchTally,
+    RotorOutcome,
+    RotorReading,
+    default_jobs,
+    processes_used,
+    reading_digest,
+    solve_readings,
+    usable_cores,
+)
 from placer.errors import InputError
 from placer.geometry import angle_of_deg
 from placer.io.batchreadings import RowError, read_readings

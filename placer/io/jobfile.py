@@ -7,10 +7,24 @@ from pathlib import Path
 
 from placer.catalog import Catalog
 from placer.errors import JobError, ToleranceError
-from placer.geometry import ACCEPTS, ANGLE_SENSES, ROTATIONS, PlaneGeometry, equally_spaced_deg, polar
+from placer.geometry import (
+    ACCEPTS,
+    ANGLE_SENSES,
+    ROTATIONS,
+    PlaneGeometry,
+    equally_spaced_deg,
+    polar,
+)
 from placer.io.catalogfile import read_catalog, resolve_catalog
 from placer.io.tables import Table, read_toml
-from placer.job import CORRECTION_BASES, DEFAULT_ANGLE_SENSE, ExistingPart, Job, PlaneJob, Rotor
+from placer.job import (
+    CORRECTION_BASES,
+    DEFAULT_ANGLE_SENSE,
+    ExistingPart,
+    Job,
+    PlaneJob,
+    Rotor,
+)
 from placer.limits import (
     DEFAULT_MAX_PARTS,
     MAX_CAPACITY,
