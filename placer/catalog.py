@@ -1,9 +1,8 @@
-"""Stock parts: items and catalogues, and where bundled catalogues live."""
+"""Stock parts: items and catalogues."""
 
 from __future__ import annotations
 
 from dataclasses import dataclass
-from pathlib import Path
 
 from placer import validate
 from placer.errors import InputError
@@ -89,21 +88,3 @@ class Catalog:
             if item.id == item_id:
                 return index
         raise KeyError(item_id)
-
-
-def bundled_dir() -> Path:
-    """Folder of the bundled catalogue files, installed or in a source checkout."""
-    try:
-        from importlib.resources import files
-
-        folder = Path(str(files("placer.catalogs")))
-        if folder.is_dir():
-            return folder
-    except (ModuleNotFoundError, TypeError):
-        pass
-    return Path(__file__).resolve().parent.parent / "catalogs"
-
-
-def bundled_names() -> list[str]:
-    """Names of the bundled catalogues (file names without ``.toml``)."""
-    return sorted(p.stem for p in bundled_dir().glob("*.toml"))

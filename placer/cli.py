@@ -268,8 +268,7 @@ def _solve(args: argparse.Namespace) -> int:
 
 
 def _catalogs(args: argparse.Namespace) -> int:
-    from placer.catalog import bundled_names
-    from placer.io.catalogfile import read_catalog, resolve_catalog
+    from placer.io.catalogfile import bundled_names, read_catalog, resolve_catalog
     from placer.io.jsonout import catalog_dict, catalogs_list
     from placer.views.terminal.catalog import render_catalog, render_catalog_list
 

@@ -21,7 +21,7 @@ def test_wheel_finds_bundled_catalogues(tmp_path):
     assert "placer/catalogs/washers-steel.toml" in names
     site = tmp_path / "site"
     zipfile.ZipFile(wheel).extractall(site)
-    code = ("import placer.catalog as c, placer.io.catalogfile as f; "
+    code = ("import placer.io.catalogfile as c, placer.io.catalogfile as f; "
             "print(c.bundled_dir()); print(','.join(c.bundled_names())); "
             "print(f.load_bundled('washers-steel').items[1].id)")
     env = {k: v for k, v in os.environ.items() if k != "PYTHONPATH"}

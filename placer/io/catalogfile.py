@@ -18,9 +18,27 @@ from __future__ import annotations
 import difflib
 from pathlib import Path
 
-from placer.catalog import Catalog, Item, bundled_dir, bundled_names
+from placer.catalog import Catalog, Item
 from placer.errors import CatalogError
 from placer.io.tables import Table, read_toml
+
+
+def bundled_dir() -> Path:
+    """Folder of the bundled catalogue files, installed or in a source checkout."""
+    try:
+        from importlib.resources import files
+
+        folder = Path(str(files("placer.catalogs")))
+        if folder.is_dir():
+            return folder
+    except (ModuleNotFoundError, TypeError):
+        pass
+    return Path(__file__).resolve().parents[2] / "catalogs"
+
+
+def bundled_names() -> list[str]:
+    """Names of the bundled catalogues (file names without ``.toml``)."""
+    return sorted(p.stem for p in bundled_dir().glob("*.toml"))
 
 
 def read_catalog(path: Path) -> Catalog:
