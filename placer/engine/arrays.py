@@ -29,6 +29,21 @@ class PlaneArrays:
     ``row_position[r]`` is the position index (number - 1) that row ``r`` of
     ``effects`` acts at; ``row_existing[r]`` is the index into the plane's
     existing parts for a row that takes one off, else -1.
+
+    Parameters
+    ----------
+    effects : complex array (n_rows, n_columns, 1)
+        What one part of column k on row r changes in the residual [g·mm].
+    target : complex array (1,)
+        The residual with no parts: the correction still needed [g·mm].
+    capacity : int array (n_rows,)
+        Most parts on each row; 0 for a blocked position or a row with no room.
+    stock : int array (n_columns,)
+        Parts of each column on hand.
+    row_position : int array (n_rows,) or None
+        Position index of each row (see above).
+    row_existing : int array (n_rows,) or None
+        Existing-part index of each row that takes one off, else -1.
     """
 
     effects: np.ndarray
@@ -39,7 +54,24 @@ class PlaneArrays:
     row_existing: np.ndarray | None = None
 
     def row_of(self, position_index: int, hole: bool) -> int:
-        """The row that fits an added part (or drills a hole) at a position."""
+        """The row that fits an added part (or drills a hole) at a position.
+
+        A position with no drilling row (already drilled, or taking no
+        removal) has no row for a hole: numpy then raises a ValueError.
+
+        Parameters
+        ----------
+        position_index : int
+            The position's index (number - 1).
+        hole : bool
+            True for a removal item (a hole drilled), False for an added part.
+
+        Returns
+        -------
+        int
+            The position's own row for an added part, its drilling row for a
+            hole.
+        """
         if not hole:
             return position_index
         rows = np.nonzero((self.row_position == position_index) & (self.row_existing < 0))[0]
@@ -65,6 +97,29 @@ def placement_arrays(geometry: PlaneGeometry, catalog: Catalog,
     This is the one place where positions, items and parts on the rotor
     become arrays: jobs (:func:`plane_arrays`) and field visits
     (:mod:`placer.fieldplan`, parts fitted for a check run) both use it.
+
+    Parameters
+    ----------
+    geometry : PlaneGeometry
+        The plane's positions.
+    catalog : Catalog
+        The items that may be fitted (or drilled).
+    existing : sequence of ExistingPart
+        Parts already on the rotor in this plane.
+    max_parts : int
+        Longest plan; the stock of an item without a stock count.
+    target_gmm : complex
+        The residual with no parts: the correction still needed [g·mm].
+
+    Returns
+    -------
+    PlaneArrays
+        One channel; rows and columns as above.
+
+    References
+    ----------
+    Unbalance of a part U = m·e [BlochGeitner]; unbalances in one plane add
+    as vectors [StaticCouple].
     """
     items = catalog.items
     n_pos, n_items, n_old = geometry.n_positions, len(items), len(existing)
@@ -112,6 +167,26 @@ def part_of_row(geometry: PlaneGeometry, catalog: Catalog, existing: Sequence[Ex
     A row that takes off an existing part gives that part with action
     "remove"; any other row fits (or drills) the column's item at the row's
     position.
+
+    Parameters
+    ----------
+    geometry : PlaneGeometry
+        The plane's positions.
+    catalog : Catalog
+        The items, as given to :func:`placement_arrays`.
+    existing : sequence of ExistingPart
+        The parts already on the rotor, as given to :func:`placement_arrays`.
+    arrays : PlaneArrays
+        What :func:`placement_arrays` built from them.
+    row, column : int
+        The row and column of ``arrays.effects``.
+    count : int
+        How many parts.
+
+    Returns
+    -------
+    FittedPart
+        The parts at the row's position (number = index + 1).
     """
     j = int(arrays.row_position[row])
     if arrays.row_existing[row] >= 0:
@@ -124,7 +199,19 @@ def part_of_row(geometry: PlaneGeometry, catalog: Catalog, existing: Sequence[Ex
 
 
 def plane_arrays(plane: PlaneJob) -> PlaneArrays:
-    """A job's plane as arrays (see :func:`placement_arrays`), target the further correction."""
+    """A job's plane as arrays (see :func:`placement_arrays`), target the further correction.
+
+    Parameters
+    ----------
+    plane : PlaneJob
+        The plane; its target is :attr:`PlaneJob.further_correction_gmm` and its
+        ``max_parts`` stands for unlimited stock.
+
+    Returns
+    -------
+    PlaneArrays
+        The plane as arrays.
+    """
     return placement_arrays(plane.geometry, plane.catalog, plane.existing, plane.max_parts,
                             plane.further_correction_gmm)
 
@@ -134,6 +221,25 @@ def option_of(plane: PlaneJob, entry: Selection,
     """A search result in domain terms, its residual recomputed from the listed parts.
 
     Parts to remove come first (they are taken off before new ones go on).
+
+    Parameters
+    ----------
+    plane : PlaneJob
+        The plane the search solved.
+    entry : Selection
+        The search's answer, parts as (row, column, count) of the plane's arrays.
+    rows : PlaneArrays or None
+        The plane's arrays; built again from ``plane`` when None.
+
+    Returns
+    -------
+    PlanOption
+        The parts, the residual they leave and its angle, with the entry's
+        lower bound and proof flag.
+
+    References
+    ----------
+    Residual unbalance as the vector left after correction [ISO21940-11].
     """
     arrays = plane_arrays(plane) if rows is None else rows
     parts = tuple(sorted((part_of_row(plane.geometry, plane.catalog, plane.existing, arrays,

@@ -25,14 +25,57 @@ the best plan of fewer parts (measured: 8640 placements took 20 s to build)."""
 
 
 def is_proven(found: float, lower_bound: float) -> bool:
-    """True when ``found`` is within 0.5 % or 0.01 of the proven ``lower_bound``."""
+    """True when ``found`` is within 0.5 % or 0.01 of the proven ``lower_bound``.
+
+    Parameters
+    ----------
+    found : float
+        Residual of the plan found [g·mm, or the target's unit].
+    lower_bound : float
+        Proven least residual [as ``found``].
+
+    Returns
+    -------
+    bool
+        Whether ``found`` is at most the larger of ``lower_bound·(1 + REL_TOL)``
+        and ``lower_bound + ABS_TOL`` (1e-12 allowed for rounding).
+    """
     return found <= max(lower_bound * (1.0 + REL_TOL), lower_bound + ABS_TOL) + 1e-12
 
 
 def exact_front(arrays: PlaneArrays, max_parts: int,
                 time_limit_s: float = DEFAULT_TIME_LIMIT_S,
                 search: PlacementSearch | None = None) -> tuple[list[Selection], float, str]:
-    """The trade-off front of one plane, proven; CP-SAT takes what the search declines."""
+    """The trade-off front of one plane, proven; CP-SAT takes what the search declines.
+
+    A part count the search declines goes to :func:`placer.engine.model.min_residual`
+    (seeded with the plan of one part fewer), unless the plane has more than
+    :data:`MAX_MODEL_PLACEMENTS` placements; then it stays unproven.  Entry k
+    is then made no worse than entry k - 1, and proven only if both are.
+
+    Parameters
+    ----------
+    arrays : PlaneArrays
+        The plane as arrays.
+    max_parts : int
+        Longest plan.
+    time_limit_s : float
+        Time the search may spend, and again the model for each part count it
+        takes over [s].
+    search : PlacementSearch or None
+        A search already built on these arrays (a batch reuses it); built here
+        when None.
+
+    Returns
+    -------
+    entries : list of Selection
+        Entry k: the least residual with at most k parts, k = 0 .. max_parts.
+    elapsed_s : float
+        Wall-clock time taken [s].
+    method : str
+        "exact search", "exact search + CP-SAT" or "exact search (not proven
+        past its budget)".
+    """
     started = time.perf_counter()
     if search is None:
         search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, max_parts)
@@ -71,7 +114,19 @@ def exact_front(arrays: PlaneArrays, max_parts: int,
 
 
 def improving(entries: list[Selection]) -> list[Selection]:
-    """The entries k >= 1 that improve on k - 1 (the trade-off front as shown)."""
+    """The entries k >= 1 that improve on k - 1 (the trade-off front as shown).
+
+    Parameters
+    ----------
+    entries : list of Selection
+        A front from :func:`exact_front` (index k = at most k parts).
+
+    Returns
+    -------
+    list of Selection
+        The entries that use more parts than the one before and leave a
+        strictly smaller residual.
+    """
     out = []
     for previous, entry in zip(entries, entries[1:]):
         if entry.used_parts > previous.used_parts and entry.residual_norm < previous.residual_norm:
@@ -86,6 +141,18 @@ def choose(entries: list[Selection], tolerance_gmm: float | None) -> Selection:
     those, since entry k is the least with at most k parts; zero parts when
     the rotor is already within tolerance).  Without one, or when no entry
     is within it: the least residual with at most max_parts parts.
+
+    Parameters
+    ----------
+    entries : list of Selection
+        A front from :func:`exact_front`.
+    tolerance_gmm : float or None
+        Permissible residual of the plane [g·mm]; None when it has none.
+
+    Returns
+    -------
+    Selection
+        The entry chosen.
     """
     if tolerance_gmm is not None:
         for entry in entries:

@@ -56,6 +56,25 @@ class ModelPlane:
     ``stock_keys[k]`` names the drawer of item column k; columns of planes
     with the same key draw on the one stock given for it to
     :func:`solve_shared_stock`.  Columns past ``stock_keys`` are the plane's own.
+
+    Parameters
+    ----------
+    effects : complex array (n_rows, n_columns, n_channels)
+        What one part of column k on row r changes in the residual [g·mm].
+    target : complex array (n_channels,)
+        The residual with no parts [g·mm].
+    capacity : int array (n_rows,)
+        Most parts on each row.
+    stock : int array (n_columns,)
+        Parts of each column on hand (the plane's own limit).
+    max_parts : int
+        Longest plan.
+    tolerance : float or None
+        Permissible residual [g·mm]; None when the plane has none.
+    stock_keys : tuple of str
+        Drawer of each item column (:attr:`placer.catalog.Item.stock_key`).
+    hint : PartList
+        A plan to start from, as (row, column, count).
     """
 
     effects: np.ndarray
@@ -70,7 +89,22 @@ class ModelPlane:
 
 @dataclass(frozen=True)
 class ModelOutcome:
-    """Parts per plane, whether the solver proved them optimal, and bounds."""
+    """Parts per plane, whether the solver proved them optimal, and bounds.
+
+    Parameters
+    ----------
+    parts : tuple of PartList
+        The plan of each plane, as (row, column, count); the hints when the
+        solver found nothing.
+    proven : bool
+        Whether CP-SAT reported every stage OPTIMAL (for its scaled model).
+    lower_bounds : tuple of float
+        Per plane, a proven least residual [g·mm]; 0.0 where none is known
+        (always for shared stock).
+    status : str
+        CP-SAT's status name ("OPTIMAL", "FEASIBLE", "INFEASIBLE", "UNKNOWN",
+        "MODEL_INVALID").
+    """
 
     parts: tuple[PartList, ...]
     proven: bool
@@ -180,6 +214,23 @@ def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
     planes that are not within (or have no tolerance); then the fewest parts
     in all; then the least sum of squared residuals.  Residuals are each
     plane's own, scaled to its own size so that no plane dominates.
+
+    Parameters
+    ----------
+    planes : list of ModelPlane
+        The planes, each with its own capacity, stock and part limit.
+    shared_stock : dict of str to int
+        Drawer key -> parts on hand, shared by every column with that key.
+    time_limit_s : float
+        Time for all stages together, split evenly between them [s].
+
+    Returns
+    -------
+    ModelOutcome
+        The plans of the last stage solved.  When a later stage finds nothing
+        the earlier stage's plans stand (status "FEASIBLE", not proven); when
+        the first finds nothing, the hints are returned with the solver's
+        status.
     """
     built = _Built(planes, shared_stock)
     cp_model = built.cp_model
@@ -224,6 +275,23 @@ def min_residual(plane: ModelPlane, time_limit_s: float = DEFAULT_TIME_LIMIT_S) 
     The lower bound is the solver's bound on the scaled squared norm, turned
     back into g·mm with the rounding error taken off, so it holds for the
     true residual.
+
+    Parameters
+    ----------
+    plane : ModelPlane
+        The plane; its ``max_parts`` is the part count asked about.
+    time_limit_s : float
+        Time the solver may take [s].
+
+    Returns
+    -------
+    ModelOutcome
+        One plan and its lower bound; the hint, with bound 0.0 and not proven,
+        when the solver found nothing.
+
+    References
+    ----------
+    [CPSAT] in REFERENCES.md (the multiplication constraint for the squared norm).
     """
     built = _Built([plane], {})
     built.model.Minimize(built.squares[0])

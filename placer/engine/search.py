@@ -78,7 +78,24 @@ DENSE_CHUNK = 262_144
 
 @dataclass(frozen=True)
 class Selection:
-    """The best selection found with at most ``part_count`` parts."""
+    """The best selection found with at most ``part_count`` parts.
+
+    Parameters
+    ----------
+    part_count : int
+        Most parts allowed (k).
+    parts : PartList
+        The parts, as (row, column, count) of the effects array.
+    residual : complex array (n_channels,)
+        ``target + Σ count·effect`` [the target's unit: g·mm for a plane].
+    residual_norm : float
+        Its norm, the one the search minimises [as ``residual``].
+    lower_bound : float
+        Proven least residual norm with at most ``part_count`` parts [as
+        ``residual``]; 0.0 when none is known.
+    proven : bool
+        Whether ``residual_norm`` is proven least (within the proof tolerances).
+    """
 
     part_count: int
     parts: PartList
@@ -95,7 +112,18 @@ class Selection:
 
 @dataclass(frozen=True)
 class Front:
-    """Least residual for every part count 0 .. max_parts."""
+    """Least residual for every part count 0 .. max_parts.
+
+    Parameters
+    ----------
+    entries : tuple of Selection
+        Entry k: the least residual with at most k parts.
+    elapsed_s : float
+        Wall-clock time the search took [s].
+    method : str
+        "exact", or "exact+cp-sat" when a part count was declined (left
+        unproven for the integer model).
+    """
 
     entries: tuple[Selection, ...]
     elapsed_s: float
@@ -200,7 +228,23 @@ class PlacementSearch:
         """Least residual for each part count 0 .. max_parts for this ``target``.
 
         A part count whose search would run past ``budget_s`` seconds (from the
-        start of this call) is declined and left unproven.
+        start of this call), or whose heads would grow past the size budget, is
+        declined and left unproven (the best plan of fewer parts stands for it).
+
+        Parameters
+        ----------
+        target : complex array (n_channels,) or complex
+            The residual with no parts [g·mm for a plane, the reading's unit for
+            field balancing].
+        max_parts : int or None
+            Longest selection, at most the search's own; None for the search's own.
+        budget_s : float
+            Time the search may take [s].
+
+        Returns
+        -------
+        Front
+            Entries for k = 0 .. max_parts.
         """
         started = time.perf_counter()
         self._deadline = started + budget_s
@@ -439,7 +483,27 @@ def _as_real(values: np.ndarray) -> np.ndarray:
 
 def feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
               capacity: np.ndarray, stock: np.ndarray) -> np.ndarray:
-    """Which multisets of placements (one per row) respect capacity and stock."""
+    """Which multisets of placements (one per row) respect capacity and stock.
+
+    Parameters
+    ----------
+    rows : int array (n_rows, width)
+        Placement indices, one multiset per row.
+    pos_of : int array (n_placements,)
+        Position (row of the effects array) of each placement.
+    item_of : int array (n_placements,)
+        Item (column of the effects array) of each placement.
+    capacity : int array (n_positions,)
+        Most parts on each position.
+    stock : int array (n_items,)
+        Parts of each item on hand.
+
+    Returns
+    -------
+    bool array (n_rows,)
+        True where no position holds more parts than its capacity and no
+        item is used more often than its stock.
+    """
     width = rows.shape[1]
     ok = np.ones(len(rows), dtype=bool)
     if width <= 1:

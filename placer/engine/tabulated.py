@@ -31,8 +31,18 @@ class TabulatedSearch(PlacementSearch):
 
     Parameters
     ----------
-    effects, capacity, stock, max_parts, norm
-        As for :class:`placer.engine.search.PlacementSearch`.
+    effects : complex array (n_positions, n_items, n_channels)
+        Effect of one part of each item at each position, as for
+        :class:`placer.engine.search.PlacementSearch`.
+    capacity : int array (n_positions,)
+        Most parts on each position; 0 for a blocked position.
+    stock : int array (n_items,)
+        Parts of each item on hand.
+    max_parts : int
+        Longest selection considered.
+    norm : {"euclidean", "max"}
+        What is least, as for :class:`placer.engine.search.PlacementSearch`;
+        only "euclidean" is tabulated.
     tabulate_max : int
         Most selections tabulated (an upper bound that ignores capacity and
         stock decides); 0 turns the fast path off.
