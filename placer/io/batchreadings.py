@@ -74,7 +74,17 @@ JSON_INT_DIGITS = 30
 
 @dataclass(frozen=True)
 class RowError:
-    """A readings row that cannot be solved: its line, its serial if known, why."""
+    """A readings row that cannot be solved: its line, its serial if known, why.
+
+    Parameters
+    ----------
+    line : int
+        Line of the readings file (from 1; a CSV row's first line).
+    serial : str or None
+        The row's serial, when it is a valid one.
+    message : str
+        Why the row cannot be solved, for the errors file.
+    """
 
     line: int
     serial: str | None
@@ -85,6 +95,19 @@ def read_readings(path: Path, template: Job) -> list[RotorReading | RowError]:
     """Every row of a readings file, in order: a reading, or the reason it is bad.
 
     ``.csv`` and ``.jsonl`` files (see the module docstring).
+
+    Parameters
+    ----------
+    path : Path
+        The readings file.
+    template : Job
+        The batch's template: its planes' count, and the radius a
+        ``mass_g`` reading is taken at.
+
+    Returns
+    -------
+    list of RotorReading or RowError
+        One entry per non-blank row; a serial seen before makes a RowError.
 
     Raises
     ------

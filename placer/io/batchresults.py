@@ -96,7 +96,19 @@ from placer.limits import DEFAULT_TIME_LIMIT_S
 
 @dataclass(frozen=True)
 class BatchPaths:
-    """The four output files of a batch."""
+    """The four output files of a batch.
+
+    Parameters
+    ----------
+    results_csv : Path
+        ``PREFIX.csv``, one line per solved rotor.
+    results_jsonl : Path
+        ``PREFIX.jsonl``, one result record per solved rotor.
+    errors_csv : Path
+        ``PREFIX.errors.csv``, one line per bad row.
+    summary_json : Path
+        ``PREFIX.summary.json``, written at the end.
+    """
 
     results_csv: Path
     results_jsonl: Path
@@ -105,33 +117,101 @@ class BatchPaths:
 
     @classmethod
     def from_prefix(cls, prefix: Path) -> BatchPaths:
+        """The output files of a batch written under ``prefix``.
+
+        Parameters
+        ----------
+        prefix : Path
+            The output prefix; each file's suffix is appended to it.
+
+        Returns
+        -------
+        BatchPaths
+            ``PREFIX.csv``, ``PREFIX.jsonl``, ``PREFIX.errors.csv`` and
+            ``PREFIX.summary.json``.
+        """
         prefix = str(prefix)
         return cls(Path(prefix + ".csv"), Path(prefix + ".jsonl"), Path(prefix + ".errors.csv"),
                    Path(prefix + ".summary.json"))
 
     def all(self) -> tuple[Path, ...]:
+        """The four paths, in field order."""
         return (self.results_csv, self.results_jsonl, self.errors_csv, self.summary_json)
 
 
 def default_prefix(readings_path: Path) -> Path:
-    """The readings file's name with its suffix replaced by ``.results``."""
+    """The readings file's name with its suffix replaced by ``.results``.
+
+    Parameters
+    ----------
+    readings_path : Path
+        The readings file.
+
+    Returns
+    -------
+    Path
+        The output prefix, in the readings file's folder.
+    """
     readings_path = Path(readings_path)
     return readings_path.with_name(readings_path.stem + ".results")
 
 
 def read_template(path: Path):
     """Read a template job file: a job file whose planes need no correction
-    (:func:`placer.io.jobfile.read_job` with ``template=True``)."""
+    (:func:`placer.io.jobfile.read_job` with ``template=True``).
+
+    Parameters
+    ----------
+    path : Path
+        The template file.
+
+    Returns
+    -------
+    Job
+        The template; every plane's correction is zero ("batch template").
+
+    Raises
+    ------
+    JobError
+        For a missing, unreadable or bad template file.
+    """
     return read_job(path, template=True)
 
 
 def template_digest(path: Path) -> str:
-    """First 12 hex digits of the SHA-256 of the template file's bytes."""
+    """First 12 hex digits of the SHA-256 of the template file's bytes.
+
+    Parameters
+    ----------
+    path : Path
+        The template file.
+
+    Returns
+    -------
+    str
+        12 lowercase hex digits.
+
+    References
+    ----------
+    [FIPS180-4] (SHA-256).
+    """
     return hashlib.sha256(Path(path).read_bytes()).hexdigest()[:12]
 
 
 def parts_text(fitted: list[dict]) -> str:
-    """``position:item×count`` joined by ``;`` (empty for no parts); count < 0 to take off."""
+    """``position:item×count`` joined by ``;`` (empty for no parts); count < 0 to take off.
+
+    Parameters
+    ----------
+    fitted : list of dict
+        The plane's parts as in a result record (``position``, ``item``,
+        ``count``, ``action``).
+
+    Returns
+    -------
+    str
+        The parts as text, e.g. ``3:M10×2;7:M6×1``.
+    """
     return ";".join(f"{p['position']}:{p['item']}×{_signed(p)}" for p in fitted)
 
 
@@ -144,6 +224,18 @@ def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
 
     ``input`` is :func:`placer.batch.reading_digest` of the corrections the
     rotor was solved for; each plane repeats its correction as read.
+
+    Parameters
+    ----------
+    outcome : RotorOutcome
+        The rotor's plans.
+    digest : str
+        :func:`template_digest` of the template file.
+
+    Returns
+    -------
+    dict
+        The record, ready for :func:`placer.io.tables.json_text`.
     """
     planes = []
     for p in outcome.planes:
@@ -166,7 +258,19 @@ def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
 
 
 def csv_header(n_planes: int) -> list[str]:
-    """Columns of ``PREFIX.csv``."""
+    """Columns of ``PREFIX.csv``.
+
+    Parameters
+    ----------
+    n_planes : int
+        Planes of the template.
+
+    Returns
+    -------
+    list of str
+        ``serial``, three columns per plane (numbered from 1), then
+        ``within_tolerance``.
+    """
     names = ["serial"]
     for number in range(1, n_planes + 1):
         names += [f"{number}_parts", f"{number}_residual_gmm", f"{number}_within_tolerance"]
@@ -178,7 +282,18 @@ def _flag(value: bool | None) -> str:
 
 
 def csv_row(record: dict[str, Any]) -> list[str]:
-    """One line of ``PREFIX.csv`` from a result record (a residual of null left empty)."""
+    """One line of ``PREFIX.csv`` from a result record (a residual of null left empty).
+
+    Parameters
+    ----------
+    record : dict
+        A result record (:func:`outcome_record`, or read back from ``PREFIX.jsonl``).
+
+    Returns
+    -------
+    list of str
+        The cells, in the order of :func:`csv_header`.
+    """
     row = [record["serial"]]
     for plane in record["planes"]:
         residual = plane["residual_gmm"]
@@ -193,6 +308,22 @@ def read_done(path: Path, digest: str, n_planes: int | None = None
 
     A partial last line (a batch killed while writing it) is left out of
     both; :func:`cut_to` cuts it off the file once the batch goes on.
+
+    Parameters
+    ----------
+    path : Path
+        ``PREFIX.jsonl``.
+    digest : str
+        :func:`template_digest` of the template now given.
+    n_planes : int or None
+        Planes every record must have; None not to check.
+
+    Returns
+    -------
+    records : list of dict
+        The result records kept.
+    keep : int
+        Bytes of the file that hold them.
 
     Raises
     ------
@@ -245,7 +376,15 @@ def _check_record(record: Any, n_planes: int | None) -> None:
 
 
 def cut_to(path: Path, keep: int) -> None:
-    """Cut ``path`` to its first ``keep`` bytes (a no-op when it is that long)."""
+    """Cut ``path`` to its first ``keep`` bytes (a no-op when it is that long).
+
+    Parameters
+    ----------
+    path : Path
+        The file.
+    keep : int
+        Bytes to keep [bytes].
+    """
     if Path(path).stat().st_size != keep:
         with Path(path).open("r+b") as handle:
             handle.truncate(keep)
@@ -254,6 +393,15 @@ def cut_to(path: Path, keep: int) -> None:
 def check_unchanged(done: list[dict[str, Any]], rows: list[RotorReading | RowError],
                     results_path: Path) -> None:
     """Refuse to resume when a kept result's row is gone or its corrections changed.
+
+    Parameters
+    ----------
+    done : list of dict
+        The result records kept (:func:`read_done`).
+    rows : list of RotorReading or RowError
+        The rows of the readings file; the first row of each serial counts.
+    results_path : Path
+        ``PREFIX.jsonl``, for the message.
 
     Raises
     ------
@@ -328,6 +476,13 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
         Start method of the worker processes (see :func:`placer.batch.solve_readings`).
     note : callable, optional
         Called with a one-line note for the user (``--jobs`` capped).
+
+    Returns
+    -------
+    summary : BatchSummary
+        The batch's counts, also written to ``PREFIX.summary.json``.
+    paths : BatchPaths
+        The output files.
 
     Raises
     ------

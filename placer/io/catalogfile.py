@@ -42,7 +42,24 @@ def bundled_names() -> list[str]:
 
 
 def read_catalog(path: Path) -> Catalog:
-    """Read and check one catalogue file."""
+    """Read and check one catalogue file.
+
+    Parameters
+    ----------
+    path : Path
+        The catalogue file (TOML, see the module docstring).
+
+    Returns
+    -------
+    Catalog
+        Its items, each with the file's resolved path as ``source`` and the
+        catalogue's name.
+
+    Raises
+    ------
+    CatalogError
+        A missing or unreadable file, or a bad value (naming file and key).
+    """
     path = Path(path)
     root = Table(read_toml(path, CatalogError, "catalogue file"), str(path), "", CatalogError)
     root.allow_only(("name", "description", "items"))
@@ -88,7 +105,30 @@ def read_catalog(path: Path) -> Catalog:
 
 
 def resolve_catalog(reference: str, base_dir: Path, job_file: str, key: str) -> Path:
-    """A catalogue path relative to the job file, or the name of a bundled one."""
+    """A catalogue path relative to the job file, or the name of a bundled one.
+
+    Parameters
+    ----------
+    reference : str
+        What the job gives: a path, or a bundled catalogue's name.
+    base_dir : Path
+        Folder relative paths are taken from (the job file's).
+    job_file : str
+        The file that names the catalogue, for the message.
+    key : str
+        The key path that names it, for the message.
+
+    Returns
+    -------
+    Path
+        The catalogue file.
+
+    Raises
+    ------
+    CatalogError
+        When neither a file nor a bundled catalogue has that name; the
+        message names the closest bundled name.
+    """
     candidate = Path(reference)
     if not candidate.is_absolute():
         candidate = base_dir / candidate
@@ -108,5 +148,22 @@ def resolve_catalog(reference: str, base_dir: Path, job_file: str, key: str) -> 
 
 
 def load_bundled(name: str) -> Catalog:
-    """Read a bundled catalogue by name."""
+    """Read a bundled catalogue by name.
+
+    Parameters
+    ----------
+    name : str
+        The catalogue's name (its file name without ``.toml``); a path
+        relative to the working folder is also taken.
+
+    Returns
+    -------
+    Catalog
+        The catalogue.
+
+    Raises
+    ------
+    CatalogError
+        When there is no such catalogue, or it is bad.
+    """
     return read_catalog(resolve_catalog(name, Path.cwd(), "catalogue name", "name"))

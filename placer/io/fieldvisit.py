@@ -65,6 +65,13 @@ def solve_visit(session: Session, db: Path | None = None,
 def open_for_saving(result: FieldResult, db: Path | None = None) -> tuple[History, object]:
     """Check the visit's record and open the database, before anything is printed.
 
+    Parameters
+    ----------
+    result : FieldResult
+        The solved visit.
+    db : Path or None
+        The history database; None for :func:`placer.io.history.default_db_path`.
+
     Returns
     -------
     (History, record)

@@ -311,7 +311,18 @@ class History:
         return [MachineSummary(*row) for row in rows]
 
     def visits(self, machine_id: str) -> list[VisitSummary]:
-        """A machine's visits, oldest first (empty for an unknown machine)."""
+        """A machine's visits, oldest first (empty for an unknown machine).
+
+        Parameters
+        ----------
+        machine_id : str
+            The machine's tag.
+
+        Returns
+        -------
+        list of VisitSummary
+            One per visit, ordered by start and then by id.
+        """
         rows = self._conn.execute(
             "SELECT v.id, v.started_at, v.coefficient_source, v.condition, "
             "(SELECT COUNT(*) FROM runs AS r WHERE r.visit_id = v.id), v.result_json "
@@ -323,6 +334,16 @@ class History:
 
     def visit(self, visit_id: int) -> VisitRecord:
         """The full record of one visit, as it was saved.
+
+        Parameters
+        ----------
+        visit_id : int
+            The visit's id (as :meth:`save_visit` returned it).
+
+        Returns
+        -------
+        VisitRecord
+            The record, read back.
 
         Raises
         ------

@@ -81,7 +81,26 @@ def read_job(path: Path, *, template: bool = False) -> Job:
 
 
 def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
-    """The ``[rotor]`` table of a job or session file (``extra_keys``: a session's own)."""
+    """The ``[rotor]`` table of a job or session file (``extra_keys``: a session's own).
+
+    Parameters
+    ----------
+    t : Table
+        The ``[rotor]`` table.
+    extra_keys : tuple of str
+        Keys allowed besides :data:`ROTOR_KEYS`; the caller reads them.
+
+    Returns
+    -------
+    Rotor
+        The rotor; name "rotor" and angle sense "against rotation" unless given.
+
+    Raises
+    ------
+    InputError
+        Of the table's error class, naming the key: an unknown key, a grade
+        not in ISO 21940-11, or a bad value.
+    """
     t.allow_only(ROTOR_KEYS + extra_keys)
     grade = None
     if t.has("grade"):
@@ -181,6 +200,29 @@ def plane_geometry(t: Table, base_dir: Path,
 
     ``catalogs`` caches catalogues by resolved path, so that planes naming the
     same file share one Catalog (and its stock).
+
+    Parameters
+    ----------
+    t : Table
+        The plane's table (``[[planes]]``).
+    base_dir : Path
+        Folder that catalogue paths are relative to (the file's own).
+    catalogs : dict of Path to Catalog
+        Catalogues read so far, by resolved path; new ones are added.
+
+    Returns
+    -------
+    geometry : PlaneGeometry
+        The plane's positions.
+    catalog : Catalog
+        Its catalogue, or several merged into one.
+
+    Raises
+    ------
+    InputError
+        Of the table's error class, naming the key, for a bad value.
+    CatalogError
+        For a catalogue that is missing or bad.
     """
     name = t.text("name", default=t.path)
     angles = _angles(t)

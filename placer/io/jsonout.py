@@ -21,7 +21,19 @@ from placer.units import kg_mm2_from_gmm2
 
 
 def option_dict(option: PlanOption) -> dict[str, Any]:
-    """One plan: part count, residual and the parts (position numbers from 1)."""
+    """One plan: part count, residual and the parts (position numbers from 1).
+
+    Parameters
+    ----------
+    option : PlanOption
+        The plan.
+
+    Returns
+    -------
+    dict
+        Part count, residual [g·mm] and its angle [deg], lower bound, proof,
+        Monte Carlo figures (null when not rated) and the parts.
+    """
     return {
         "part_count": option.part_count,
         "residual_gmm": float(option.residual_gmm),
@@ -40,7 +52,19 @@ def option_dict(option: PlanOption) -> dict[str, Any]:
 
 
 def plane_dict(result: PlaneResult) -> dict[str, Any]:
-    """One plane's result."""
+    """One plane's result.
+
+    Parameters
+    ----------
+    result : PlaneResult
+        The plane's result.
+
+    Returns
+    -------
+    dict
+        Tolerance, required and further correction, existing parts, the
+        trade-off front ("pareto"), the chosen plan, notes, method and time.
+    """
     plane = result.plane
     chosen = option_dict(result.chosen)
     chosen["within_tolerance"] = result.within_tolerance
@@ -68,7 +92,18 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
 
 
 def job_dict(result: JobResult) -> dict[str, Any]:
-    """The whole JSON object for a job."""
+    """The whole JSON object for a job.
+
+    Parameters
+    ----------
+    result : JobResult
+        The solved job.
+
+    Returns
+    -------
+    dict
+        The object of ``placer solve --json``.
+    """
     rotor = result.job.rotor
     return {
         "job": result.job.source,
@@ -102,7 +137,19 @@ def _phasor_dict(value: complex) -> dict[str, float]:
 
 
 def field_dict(result: FieldResult) -> dict[str, Any]:
-    """The JSON object of ``placer field --json``."""
+    """The JSON object of ``placer field --json``.
+
+    Parameters
+    ----------
+    result : FieldResult
+        The solved visit.
+
+    Returns
+    -------
+    dict
+        Coefficients, vibration now, correction, plans and warnings; the
+        static and couple parts for two planes.
+    """
     s = result.session
     matrix = result.coefficients.matrix
     out: dict[str, Any] = {
@@ -142,7 +189,20 @@ def field_dict(result: FieldResult) -> dict[str, Any]:
 
 
 def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
-    """The JSON object of ``placer history MACHINE --visit N``."""
+    """The JSON object of ``placer history MACHINE --visit N``.
+
+    Parameters
+    ----------
+    visit_id : int
+        The visit's id.
+    record : VisitRecord
+        The visit as stored.
+
+    Returns
+    -------
+    dict
+        Everything stored about the visit; plane numbers from 1.
+    """
     def mass(m: MassRecord) -> dict[str, Any]:
         return {"plane": m.plane + 1, "plane_name": record.plane_names[m.plane],
                 "position": m.position, "angle_deg": m.angle_deg, "radius_mm": m.radius_mm,
@@ -170,19 +230,62 @@ def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
 
 
 def catalogs_list(names: Sequence[str], catalogs: Sequence[Catalog]) -> list[dict[str, Any]]:
-    """The JSON of ``placer catalogs --json``: each bundled catalogue's name, title, items."""
+    """The JSON of ``placer catalogs --json``: each bundled catalogue's name, title, items.
+
+    Parameters
+    ----------
+    names : sequence of str
+        The bundled catalogues' names.
+    catalogs : sequence of Catalog
+        The catalogues, in the same order.
+
+    Returns
+    -------
+    list of dict
+        Name, title and number of items of each.
+    """
     return [{"name": n, "title": c.name, "items": len(c.items)} for n, c in zip(names, catalogs)]
 
 
 def catalog_dict(catalog: Catalog) -> dict[str, Any]:
-    """The JSON of ``placer catalogs NAME --json``: the catalogue's items."""
+    """The JSON of ``placer catalogs NAME --json``: the catalogue's items.
+
+    Parameters
+    ----------
+    catalog : Catalog
+        The catalogue.
+
+    Returns
+    -------
+    dict
+        Its name and its items' ids, masses [g] and stock.
+    """
     return {"name": catalog.name, "items": [
         {"id": i.id, "mass_g": i.mass_g, "stock": i.stock} for i in catalog.items]}
 
 
 def tolerance_dict(grade_mm_s: float, mass_kg: float, service_rpm: float, u_per_gmm: float,
                    shares: Sequence[PlaneShare]) -> dict[str, Any]:
-    """The JSON of ``placer tolerance --json``: U_per and each plane's share."""
+    """The JSON of ``placer tolerance --json``: U_per and each plane's share.
+
+    Parameters
+    ----------
+    grade_mm_s : float
+        Balance quality grade G [mm/s].
+    mass_kg : float
+        Rotor mass [kg].
+    service_rpm : float
+        Maximum service speed [r/min].
+    u_per_gmm : float
+        Permissible residual unbalance of the rotor [g·mm].
+    shares : sequence of PlaneShare
+        Its shares per plane.
+
+    Returns
+    -------
+    dict
+        The inputs, U_per and the shares.
+    """
     return {"grade_mm_s": grade_mm_s, "mass_kg": mass_kg, "service_rpm": service_rpm,
             "permissible_gmm": u_per_gmm, "shares": [
                 {"plane": s.name, "share": s.share, "permissible_gmm": s.permissible_gmm}
@@ -190,12 +293,34 @@ def tolerance_dict(grade_mm_s: float, mass_kg: float, service_rpm: float, u_per_
 
 
 def machines_list(machines: Sequence[MachineSummary]) -> list[dict[str, Any]]:
-    """The JSON of ``placer machines --json``."""
+    """The JSON of ``placer machines --json``.
+
+    Parameters
+    ----------
+    machines : sequence of MachineSummary
+        The machines in the history.
+
+    Returns
+    -------
+    list of dict
+        Id, name, number of visits and last visit of each.
+    """
     return [{"id": m.id, "name": m.name, "visits": m.visits, "last_visit": m.last_visit}
             for m in machines]
 
 
 def visits_list(visits: Sequence[VisitSummary]) -> list[dict[str, Any]]:
-    """The JSON of ``placer history MACHINE --json``: one entry per visit."""
+    """The JSON of ``placer history MACHINE --json``: one entry per visit.
+
+    Parameters
+    ----------
+    visits : sequence of VisitSummary
+        A machine's visits.
+
+    Returns
+    -------
+    list of dict
+        Id, start, coefficient source, condition, runs and result of each.
+    """
     return [{"id": v.id, "started_at": v.started_at, "coefficient_source": v.coefficient_source,
              "condition": v.condition, "runs": v.runs, "result": v.result} for v in visits]

@@ -55,7 +55,25 @@ FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
 
 
 def read_session(path: Path) -> Session:
-    """Read and check a session file, with its catalogues."""
+    """Read and check a session file, with its catalogues.
+
+    Parameters
+    ----------
+    path : Path
+        The session file (TOML, see the module docstring).
+
+    Returns
+    -------
+    Session
+        The visit, readings converted to phasors in the rotor's angle sense.
+
+    Raises
+    ------
+    SessionError
+        Naming the file, the key and what was expected.
+    CatalogError
+        For a catalogue it names that is missing or bad.
+    """
     path = Path(path)
     file = str(path)
     root = Table(read_toml(path, SessionError, "session file"), file, "", SessionError)

@@ -34,6 +34,16 @@ def number_problem(value: float) -> str | None:
 
     Non-finite values and values outside the range of :mod:`placer.limits`
     are refused; the text completes "<key> is ...".
+
+    Parameters
+    ----------
+    value : float
+        The number.
+
+    Returns
+    -------
+    str or None
+        "<value> (expected ...)", or None for a usable number.
     """
     problem = range_problem(value)
     return None if problem is None else f"{problem[0]} (expected {problem[1]})"
@@ -41,7 +51,18 @@ def number_problem(value: float) -> str | None:
 
 def range_problem(value: float) -> tuple[str, str] | None:
     """(the value as shown, what was expected) when ``value`` is not finite or out of
-    the range of :mod:`placer.limits`; None when it can be used."""
+    the range of :mod:`placer.limits`; None when it can be used.
+
+    Parameters
+    ----------
+    value : float
+        The number.
+
+    Returns
+    -------
+    (str, str) or None
+        The value as text and what was expected; None for a usable number.
+    """
     if not math.isfinite(value):
         return f"{value}", "a finite number"
     size = abs(value)
@@ -56,6 +77,16 @@ def printable(text: str) -> str:
     An error line must stay one line: line and paragraph separators
     (``\\n``, ``\\r``, U+0085, U+2028, ...), other control and unassigned
     characters from a file are shown as ``\\u2028`` etc. (:meth:`str.isprintable`).
+
+    Parameters
+    ----------
+    text : str
+        Text from a file or an argument.
+
+    Returns
+    -------
+    str
+        The text, on one line.
     """
     if text.isprintable():
         return text
@@ -64,7 +95,18 @@ def printable(text: str) -> str:
 
 
 def whole_number_text(value: int) -> str:
-    """A whole number as text, shortened to its digit count when it is long."""
+    """A whole number as text, shortened to its digit count when it is long.
+
+    Parameters
+    ----------
+    value : int
+        The number.
+
+    Returns
+    -------
+    str
+        Its digits below 10**15 in size, else "a whole number of about N digits".
+    """
     if abs(value) < 10**15:
         return str(value)
     digits = int(abs(value).bit_length() * 0.30102999566398120) + 1
@@ -76,6 +118,18 @@ def json_text(value: Any, indent: int | None = None) -> str:
 
     :func:`json.dumps` writes them as ``NaN`` / ``Infinity``, which no JSON
     parser but Python's accepts.
+
+    Parameters
+    ----------
+    value : Any
+        Anything :func:`json.dumps` takes (dicts, lists, tuples, numbers, text).
+    indent : int or None
+        Indentation of nested values; None for one line.
+
+    Returns
+    -------
+    str
+        The JSON text, non-ASCII characters kept.
 
     References
     ----------
@@ -98,7 +152,32 @@ def _finite(value: Any) -> Any:
 
 
 def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
-    """Parse a TOML file; any failure becomes one ``error`` naming the file."""
+    """Parse a TOML file; any failure becomes one ``error`` naming the file.
+
+    Parameters
+    ----------
+    path : Path
+        The file.
+    error : type of InputError
+        The reader's error class (JobError, CatalogError, SessionError).
+    what : str
+        What the file is, for the message ("job file").
+
+    Returns
+    -------
+    dict
+        The parsed file.
+
+    Raises
+    ------
+    InputError
+        Of class ``error``: a missing, unreadable or non-UTF-8 file, bad
+        TOML, nesting too deep, or a whole number out of range (with its key).
+
+    References
+    ----------
+    [PythonDocs] (the 4300-digit limit on int/str conversion).
+    """
     try:
         text = path.read_bytes().decode("utf-8")
     except FileNotFoundError:
@@ -143,7 +222,24 @@ def _check_whole_numbers(data: dict[str, Any], file: str, error: type[InputError
 
 
 class Table:
-    """A TOML table with the file it came from and its key path."""
+    """A TOML table with the file it came from and its key path.
+
+    Parameters
+    ----------
+    data : Any
+        The parsed table; anything else is refused.
+    file : str
+        The file it came from.
+    path : str
+        Its key path in the file ("" for the root, ``planes[2]``).
+    error : type of InputError
+        The reader's error class, raised by every getter.
+
+    Raises
+    ------
+    InputError
+        Of class ``error``, when ``data`` is not a table.
+    """
 
     def __init__(self, data: Any, file: str, path: str, error: type[InputError]) -> None:
         self.file = file
@@ -154,17 +250,57 @@ class Table:
         self.data = data
 
     def key(self, name: str | None) -> str:
+        """The key path of ``name`` in this table.
+
+        Parameters
+        ----------
+        name : str or None
+            A key of the table; None for the table itself.
+
+        Returns
+        -------
+        str
+            ``path.name`` (just ``name`` at the root).
+        """
         if name is None:
             return self.path
         return f"{self.path}.{name}" if self.path else name
 
     def fail(self, name: str | None, detail: str, expected: str | None = None) -> InputError:
+        """The error for a bad value at ``name`` (to be raised by the caller).
+
+        Parameters
+        ----------
+        name : str or None
+            The key; None for the table itself.
+        detail : str
+            What is wrong ("is empty").
+        expected : str or None
+            What was expected.
+
+        Returns
+        -------
+        InputError
+            Of the reader's class, naming file and key path, every text made
+            printable.
+        """
         key = self.key(name)
         return self.error(printable(detail), file=self.file, key=printable(key) if key else None,
                           expected=None if expected is None else printable(expected))
 
     def allow_only(self, allowed: tuple[str, ...]) -> None:
-        """Reject keys that are not in ``allowed``, suggesting the closest one."""
+        """Reject keys that are not in ``allowed``, suggesting the closest one.
+
+        Parameters
+        ----------
+        allowed : tuple of str
+            The keys the table may have.
+
+        Raises
+        ------
+        InputError
+            At the first unknown key.
+        """
         for name in self.data:
             if name not in allowed:
                 close = difflib.get_close_matches(name, allowed, n=1)
@@ -173,9 +309,43 @@ class Table:
                 raise self.fail(name, "unknown key", hint)
 
     def has(self, name: str) -> bool:
+        """Whether the table has the key ``name``.
+
+        Parameters
+        ----------
+        name : str
+            The key.
+
+        Returns
+        -------
+        bool
+            True when it is present.
+        """
         return name in self.data
 
     def text(self, name: str, default: str | None = None, required: bool = False) -> str | None:
+        """The text at ``name``.
+
+        Parameters
+        ----------
+        name : str
+            The key.
+        default : str or None
+            What a missing key gives.
+        required : bool
+            Refuse a missing key.
+
+        Returns
+        -------
+        str or None
+            The text, or ``default``.
+
+        Raises
+        ------
+        InputError
+            A missing required key, a value that is not text, or text with
+            control characters other than new lines and tabs.
+        """
         if name not in self.data:
             if required:
                 raise self.fail(name, "missing", "a text value")
@@ -191,6 +361,29 @@ class Table:
 
     def number(self, name: str, default: float | None = None, required: bool = False,
                positive: bool = False, non_negative: bool = False) -> float | None:
+        """The number at ``name``, as a float.
+
+        Parameters
+        ----------
+        name : str
+            The key.
+        default : float or None
+            What a missing key gives.
+        required : bool
+            Refuse a missing key.
+        positive, non_negative : bool
+            Also refuse zero and below, or below zero.
+
+        Returns
+        -------
+        float or None
+            The number, or ``default``.
+
+        Raises
+        ------
+        InputError
+            A missing required key, or a value :meth:`check_number` refuses.
+        """
         if name not in self.data:
             if required:
                 raise self.fail(name, "missing", "a number")
@@ -199,6 +392,29 @@ class Table:
 
     def check_number(self, name: str, value: Any, positive: bool = False,
                      non_negative: bool = False) -> float:
+        """``value`` (found at ``name``) as a float in placer's range.
+
+        Parameters
+        ----------
+        name : str
+            The key it was found at, for the message.
+        value : Any
+            The value.
+        positive, non_negative : bool
+            Also refuse zero and below, or below zero.
+
+        Returns
+        -------
+        float
+            The number.
+
+        Raises
+        ------
+        InputError
+            A value that is not a number (a bool is not one), not finite, or
+            outside the range of :mod:`placer.limits`, or that breaks
+            ``positive`` or ``non_negative``.
+        """
         if isinstance(value, bool) or not isinstance(value, (int, float)):
             raise self.fail(name, f"is {_kind(value)}", "a number")
         if isinstance(value, int) and abs(value) > MAX_WHOLE:
@@ -215,6 +431,29 @@ class Table:
 
     def integer(self, name: str, default: int | None = None, required: bool = False,
                 minimum: int | None = None, maximum: int | None = None) -> int | None:
+        """The whole number at ``name``.
+
+        Parameters
+        ----------
+        name : str
+            The key.
+        default : int or None
+            What a missing key gives.
+        required : bool
+            Refuse a missing key.
+        minimum, maximum : int or None
+            Least and greatest value allowed, both included; None for no bound.
+
+        Returns
+        -------
+        int or None
+            The number, or ``default``.
+
+        Raises
+        ------
+        InputError
+            A missing required key, or a value :meth:`check_integer` refuses.
+        """
         if name not in self.data:
             if required:
                 raise self.fail(name, "missing", "a whole number")
@@ -223,6 +462,28 @@ class Table:
 
     def check_integer(self, name: str, value: Any, minimum: int | None = None,
                       maximum: int | None = None) -> int:
+        """``value`` (found at ``name``) as a whole number within bounds.
+
+        Parameters
+        ----------
+        name : str
+            The key it was found at, for the message.
+        value : Any
+            The value.
+        minimum, maximum : int or None
+            Least and greatest value allowed, both included; None for no bound.
+
+        Returns
+        -------
+        int
+            The number.
+
+        Raises
+        ------
+        InputError
+            A value that is not an ``int`` (a bool is not one), larger than
+            :data:`placer.limits.MAX_WHOLE` in size, or outside the bounds.
+        """
         if isinstance(value, bool) or not isinstance(value, int):
             raise self.fail(name, f"is {_kind(value)}", "a whole number")
         if abs(value) > MAX_WHOLE:
@@ -235,6 +496,25 @@ class Table:
         return value
 
     def sub(self, name: str, required: bool = False) -> Table | None:
+        """The table at ``name``.
+
+        Parameters
+        ----------
+        name : str
+            The key.
+        required : bool
+            Refuse a missing key.
+
+        Returns
+        -------
+        Table or None
+            The sub-table, with its key path; None when missing.
+
+        Raises
+        ------
+        InputError
+            A missing required key, or a value that is not a table.
+        """
         if name not in self.data:
             if required:
                 raise self.fail(name, "missing", "a table")
@@ -242,6 +522,25 @@ class Table:
         return Table(self.data[name], self.file, self.key(name), self.error)
 
     def array(self, name: str, required: bool = False) -> list | None:
+        """The list at ``name``.
+
+        Parameters
+        ----------
+        name : str
+            The key.
+        required : bool
+            Refuse a missing key.
+
+        Returns
+        -------
+        list or None
+            The list as parsed; None when missing.
+
+        Raises
+        ------
+        InputError
+            A missing required key, or a value that is not a list.
+        """
         if name not in self.data:
             if required:
                 raise self.fail(name, "missing", "a list [ ... ]")
@@ -252,6 +551,27 @@ class Table:
         return value
 
     def tables(self, name: str, required: bool = False) -> list[Table]:
+        """The array of tables at ``name`` (``[[name]]``).
+
+        Parameters
+        ----------
+        name : str
+            The key.
+        required : bool
+            Refuse a missing key or an empty list.
+
+        Returns
+        -------
+        list of Table
+            One per entry, key paths ``name[1]``, ``name[2]``, ...; empty when
+            missing.
+
+        Raises
+        ------
+        InputError
+            A missing or empty required list, a value that is not a list, or
+            an entry that is not a table.
+        """
         values = self.array(name, required=required) or []
         if required and not values:
             raise self.fail(name, "is empty", f"at least one [[{name}]] table")
