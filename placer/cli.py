@@ -448,7 +448,19 @@ HANDLERS = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance, "fi
 
 
 def main(argv: list[str] | None = None) -> int:
-    """Run the command line; returns the exit code."""
+    """Run the command line; returns the exit code.
+
+    Parameters
+    ----------
+    argv : list of str or None
+        The arguments after the program name; None for ``sys.argv[1:]``.
+
+    Returns
+    -------
+    int
+        0 within tolerance, 1 a plane (or rotor) outside it, 2 bad input or no
+        command, 130 interrupted.
+    """
     parser = _parser()
     try:
         args = parser.parse_args(argv)

@@ -54,11 +54,35 @@ def action_word(part: FittedPart, emphasise: bool = False) -> str:
 
 
 def cautions_for(drilling: bool = False, trial_runs: bool = False) -> tuple[str, ...]:
-    """The cautions of one sheet: the trial-run caution first, the drilling one last."""
+    """The cautions of one sheet: the trial-run caution first, the drilling one last.
+
+    Parameters
+    ----------
+    drilling : bool
+        The plan drills a hole (adds :data:`DRILL_CAUTION`).
+    trial_runs : bool
+        The visit had trial runs (adds :data:`TRIAL_CAUTION`).
+
+    Returns
+    -------
+    tuple of str
+        The cautions, in the order printed.
+    """
     return (((TRIAL_CAUTION,) if trial_runs else ()) + CAUTIONS
             + ((DRILL_CAUTION,) if drilling else ()))
 
 
 def drills(parts) -> bool:
-    """True when the parts include a hole to drill."""
+    """True when the parts include a hole to drill.
+
+    Parameters
+    ----------
+    parts : iterable of FittedPart
+        The parts of a plan.
+
+    Returns
+    -------
+    bool
+        Whether any part's verb is "drill".
+    """
     return any(p.verb == "drill" for p in parts)

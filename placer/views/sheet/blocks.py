@@ -32,7 +32,26 @@ from placer.views.wording import action_word, drills
 
 
 def draw_header(page: Page, result: JobResult, index: int, heading: str, when: date) -> float:
-    """Title, the job's facts in columns as wide as they need, tolerance per plane."""
+    """Title, the job's facts in columns as wide as they need, tolerance per plane.
+
+    Parameters
+    ----------
+    page : Page
+        The page (or a dry run).
+    result : JobResult
+        The solved job.
+    index : int
+        Number of this page's plane (from 1).
+    heading : str
+        The title (the rotor's name).
+    when : date
+        The date printed.
+
+    Returns
+    -------
+    float
+        The y below the header [in].
+    """
     rotor = result.job.rotor
     left, right = MARGIN_IN, PAGE_IN[0] - MARGIN_IN
     width = right - left
@@ -77,7 +96,24 @@ def draw_header(page: Page, result: JobResult, index: int, heading: str, when: d
 
 
 def plane_band(page: Page, plane: PlaneResult, index: int, y: float) -> float:
-    """A black band with the plane's name; its facts beside it, or on lines below."""
+    """A black band with the plane's name; its facts beside it, or on lines below.
+
+    Parameters
+    ----------
+    page : Page
+        The page (or a dry run).
+    plane : PlaneResult
+        The solved plane.
+    index : int
+        Its number (from 1).
+    y : float
+        Top of the band [in].
+
+    Returns
+    -------
+    float
+        The y below the band [in].
+    """
     geometry = plane.plane.geometry
     left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
     title = f"PLANE {index}:  {geometry.name.upper()}"
@@ -145,7 +181,26 @@ KEY_ROW_IN = 0.215
 
 def draw_key(page: Page, x: float, y: float, w: float, drawing: PlaneDrawing,
          row_in: float = KEY_ROW_IN) -> float:
-    """The symbols drawn on this plane, each beside its meaning; returns the y below."""
+    """The symbols drawn on this plane, each beside its meaning; returns the y below.
+
+    Parameters
+    ----------
+    page : Page
+        The page (or a dry run).
+    x, y : float
+        Top-left corner [in].
+    w : float
+        Width available [in].
+    drawing : PlaneDrawing
+        What was drawn on the face (its ``kinds``).
+    row_in : float
+        Least height of a row [in].
+
+    Returns
+    -------
+    float
+        The y below the key [in].
+    """
     from matplotlib.patches import Circle, FancyArrowPatch
 
     page.text(x, y, "KEY", 8, weight="bold")
@@ -187,6 +242,26 @@ def draw_key(page: Page, x: float, y: float, w: float, drawing: PlaneDrawing,
 
 def result_box(page: Page, x: float, y: float, w: float, plane: PlaneResult,
                 facts: PlaneFacts) -> float:
+    """Required correction, residual and tolerance, then the verdict in a box.
+
+    Parameters
+    ----------
+    page : Page
+        The page (or a dry run).
+    x, y : float
+        Top-left corner [in].
+    w : float
+        Width available [in].
+    plane : PlaneResult
+        The solved plane.
+    facts : PlaneFacts
+        Its facts (:func:`placer.views.sheet.facts.plane_facts`).
+
+    Returns
+    -------
+    float
+        The y below the box [in].
+    """
     chosen = plane.chosen
     page.text(x, y, "RESULT", 8, weight="bold")
     y += 0.22
@@ -232,7 +307,26 @@ def result_box(page: Page, x: float, y: float, w: float, plane: PlaneResult,
 
 def work_tables(page: Page, x: float, y: float, w: float, plane: PlaneResult,
                   facts: PlaneFacts) -> float:
-    """The work in the order to do it: remove, then drill, then fit; what stays on."""
+    """The work in the order to do it: remove, then drill, then fit; what stays on.
+
+    Parameters
+    ----------
+    page : Page
+        The page (or a dry run).
+    x, y : float
+        Top-left corner [in].
+    w : float
+        Width available [in].
+    plane : PlaneResult
+        The solved plane.
+    facts : PlaneFacts
+        Its facts; the parts left on.
+
+    Returns
+    -------
+    float
+        The y below the tables [in].
+    """
     parts = sorted(plane.chosen.parts, key=lambda p: (
         ["REMOVE", "DRILL", "FIT"].index(action_word(p).upper()), p.position, p.item))
     if parts:
@@ -265,6 +359,26 @@ def work_tables(page: Page, x: float, y: float, w: float, plane: PlaneResult,
 
 def trade_off_table(page: Page, x: float, y: float, w: float, plane: PlaneResult,
                  facts: PlaneFacts) -> float:
+    """Parts against residual (with the Monte Carlo figures when rated), and its note.
+
+    Parameters
+    ----------
+    page : Page
+        The page (or a dry run).
+    x, y : float
+        Top-left corner [in].
+    w : float
+        Width available [in].
+    plane : PlaneResult
+        The solved plane; its :attr:`~placer.plan.PlaneResult.trade_off` rows.
+    facts : PlaneFacts
+        Its facts, for the zero threshold.
+
+    Returns
+    -------
+    float
+        The y below the table and its note [in].
+    """
     rows_of = plane.trade_off
     rated = any(o.chance_within is not None for o in rows_of)
     page.text(x, y, "TRADE-OFF: PARTS AGAINST RESIDUAL", 8.5, weight="bold")

@@ -60,7 +60,25 @@ def _cautions_top(drilling: bool) -> float:
 
 def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
               job_name: str, drilling: bool) -> None:
-    """The safety box (the shared cautions), the sign-off line and the footer."""
+    """The safety box (the shared cautions), the sign-off line and the footer.
+
+    Parameters
+    ----------
+    page : Page
+        The page.
+    top : float
+        Top of the safety box [in from the top of the page].
+    when : date
+        The date in the footer.
+    index : int
+        Number of this sheet (from 1).
+    total : int
+        Sheets in all.
+    job_name : str
+        The job file's name, for the footer.
+    drilling : bool
+        The plan drills a hole (adds the drilling caution).
+    """
     left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
     bottom = PAGE_IN[1] - FOOTER_IN
     wrapped = _caution_lines(drilling)
@@ -116,6 +134,26 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     default), so that ``drawing.ax.transData`` gives the pixels of a PNG
     written from it at that resolution.  The drawing shrinks when the tables
     below it would otherwise run into the safety box.
+
+    Parameters
+    ----------
+    result : JobResult
+        The solved job.
+    index : int
+        The plane (from 1).
+    title : str or None
+        Heading of the page; None for the rotor's name.
+    when : date or None
+        Date printed; None for today.
+    dpi : float
+        Resolution of the figure [dots per inch].
+
+    Returns
+    -------
+    figure : matplotlib.figure.Figure
+        The page.
+    drawing : PlaneDrawing
+        Where things were drawn on the rotor face.
     """
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
@@ -182,6 +220,11 @@ def write_sheet(result: JobResult, path: Path, *, title: str | None = None,
         Date printed on the sheet (default: today).
     force : bool
         Overwrite files that exist.
+
+    Returns
+    -------
+    list of SheetPage
+        One per plane, with the file it is in.
 
     Raises
     ------

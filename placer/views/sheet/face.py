@@ -220,6 +220,11 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW
         Width of the drawing on the page [in]; spacing of the labels follows it.
     rotation : str, optional
         The job's ``rotor.rotation`` ("clockwise", "counterclockwise", None).
+
+    Returns
+    -------
+    PlaneDrawing
+        Where each position, symbol and arrow was drawn [data units].
     """
     geometry = result.plane.geometry
     facts = plane_facts(result)
@@ -417,6 +422,26 @@ def draw_numbers(ax, room: Room, labels: list[tuple[str, list[int], bool]], radi
 
     On a large plane the numbers that must show (used, blocked) push the
     regular ones aside, and any number moved off its marker gets a leader.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        The axes drawn into.
+    room : Room
+        What is taken on the drawing; the numbers are added to it.
+    labels : list of (str, list of int, bool)
+        (text, positions it numbers, must show) for each number.
+    radius : list of float
+        Radius of each position [data units], index = number - 1.
+    page_deg : list of float
+        Page angle of each position [deg], index = number - 1.
+    symbols : dict
+        Position number -> its symbols (:func:`symbols_by_position`); the
+        numbers of those positions are bold.
+    number_pt : float
+        Font size of the numbers [pt].
+    unit_in : float
+        Inches per data unit [in].
     """
     outer, inner = [], []
     for text, members, must in labels:

@@ -23,7 +23,19 @@ as given, the further correction, the tolerance) counts as zero on the sheet."""
 
 @dataclass(frozen=True)
 class StayingPart:
-    """Parts already on the rotor that the plan leaves on: ``count`` of ``item`` [g each]."""
+    """Parts already on the rotor that the plan leaves on: ``count`` of ``item`` [g each].
+
+    Parameters
+    ----------
+    position : int
+        Position number (from 1).
+    item : str
+        Catalogue item id.
+    mass_g : float
+        Mass of one part [g].
+    count : int
+        Parts left on.
+    """
 
     position: int
     item: str
@@ -40,6 +52,19 @@ class PlaneFacts:
     gives it (the total without the existing parts when ``basis`` is
     "total"); ``basis`` is "none" when the plane carries no parts.
     ``zero_gmm`` is the magnitude at or below which a vector counts as zero.
+
+    Parameters
+    ----------
+    further_gmm : complex
+        Correction still needed with the existing parts on [g·mm].
+    given_gmm : complex
+        Correction as the job gives it [g·mm].
+    basis : {"none", "further", "total"}
+        How the job gave the correction; "none" without existing parts.
+    zero_gmm : float
+        Magnitude at or below which a vector counts as zero [g·mm].
+    staying : tuple of StayingPart
+        Existing parts the plan leaves on.
     """
 
     further_gmm: complex
@@ -49,7 +74,18 @@ class PlaneFacts:
     staying: tuple[StayingPart, ...]
 
     def negligible(self, magnitude_gmm: float) -> bool:
-        """True for a magnitude [g·mm] that counts as zero on this plane."""
+        """True for a magnitude [g·mm] that counts as zero on this plane.
+
+        Parameters
+        ----------
+        magnitude_gmm : float
+            The magnitude [g·mm].
+
+        Returns
+        -------
+        bool
+            Whether it is at most :attr:`zero_gmm`.
+        """
         return magnitude_gmm <= self.zero_gmm
 
     @property
@@ -59,7 +95,19 @@ class PlaneFacts:
 
 
 def plane_facts(plane: PlaneResult) -> PlaneFacts:
-    """What one page shows of ``plane`` beside its plan (see :class:`PlaneFacts`)."""
+    """What one page shows of ``plane`` beside its plan (see :class:`PlaneFacts`).
+
+    Parameters
+    ----------
+    plane : PlaneResult
+        The solved plane.
+
+    Returns
+    -------
+    PlaneFacts
+        Further and given correction, basis, the zero threshold (``ZERO_SHARE``
+        of the largest of those and the tolerance) and the parts left on.
+    """
     job = plane.plane
     further = complex(job.further_correction_gmm)
     given = complex(job.correction_gmm)
@@ -82,7 +130,20 @@ def plane_facts(plane: PlaneResult) -> PlaneFacts:
 
 
 def fmt_gmm(value: float) -> str:
-    """A magnitude for the sheet: one decimal from 10 up, else three significant digits."""
+    """A magnitude for the sheet: one decimal from 10 up, else three significant digits.
+
+    Below 10, trailing zeros are dropped down to one decimal ("5.0", "0.125").
+
+    Parameters
+    ----------
+    value : float
+        The magnitude [g·mm, or g].
+
+    Returns
+    -------
+    str
+        The text; thousands separated by a space ("1 707.3"); "0" for zero.
+    """
     if value == 0 or not math.isfinite(value):
         return "0" if value == 0 else str(value)
     if abs(value) >= 10:
@@ -96,7 +157,20 @@ def fmt_gmm(value: float) -> str:
 
 
 def fmt_vector(vector: complex, facts: PlaneFacts) -> str:
-    """"X g·mm at Y°", or "≈ 0 g·mm" when it counts as zero."""
+    """"X g·mm at Y°", or "≈ 0 g·mm" when it counts as zero.
+
+    Parameters
+    ----------
+    vector : complex
+        A correction or residual [g·mm].
+    facts : PlaneFacts
+        The plane's facts, for the zero threshold.
+
+    Returns
+    -------
+    str
+        The vector as text.
+    """
     if facts.negligible(abs(vector)):
         return "≈ 0 g·mm"
     return f"{fmt_gmm(abs(vector))} g·mm at {angle_of_deg(vector):.1f}°"
@@ -114,6 +188,40 @@ class PlaneDrawing:
     are the arrows as (tail, tip), None when not drawn.  ``kinds`` are the
     symbols drawn, in the order the key lists them.  ``ax`` is the matplotlib
     Axes (``ax.transData`` turns data units into pixels of the page).
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        The axes drawn into.
+    counterclockwise : bool
+        Whether job angles grow counterclockwise on the page.
+    rotation_clockwise : bool or None
+        Way of the rotation arrow; None when not drawn.
+    position_xy : dict of int to (float, float)
+        Position number -> its marker [data units].
+    fit_xy : dict of int to (float, float)
+        Positions with a part to fit or a hole to drill -> symbol [data units].
+    remove_xy : dict of int to (float, float)
+        Positions with a part to take off -> symbol [data units].
+    blocked_xy : dict of int to (float, float)
+        Blocked positions -> marker [data units].
+    correction_tip_xy : (float, float)
+        Tip of the required arrow [data units]; the centre when it is zero.
+    residual_tip_xy : (float, float)
+        Tip of the residual to scale [data units]; the centre when it is zero.
+    drill_xy : dict of int to (float, float)
+        Positions with a hole to drill -> symbol [data units].
+    stay_xy : dict of int to (float, float)
+        Positions with existing parts left on -> symbol [data units].
+    required_xy : ((float, float), (float, float)) or None
+        The required arrow as (tail, tip) [data units].
+    residual_xy : ((float, float), (float, float)) or None
+        The residual arrow as drawn (enlarged when short) [data units].
+    kinds : tuple of str
+        The symbols drawn, in key order.
+    accepts_all : str
+        What every open position takes when they all take the same ("both",
+        "add" or "remove"); "" when they differ.
     """
 
     ax: Any
@@ -137,7 +245,17 @@ class PlaneDrawing:
 
 @dataclass(frozen=True)
 class SheetPage:
-    """One page written: the file it is in, its plane (1-based) and its drawing."""
+    """One page written: the file it is in, its plane (1-based) and its drawing.
+
+    Parameters
+    ----------
+    path : Path
+        The file.
+    plane : int
+        Plane number (from 1).
+    drawing : PlaneDrawing
+        Where things were drawn on it.
+    """
 
     path: Path
     plane: int
@@ -145,11 +263,36 @@ class SheetPage:
 
 
 def tolerance_text(plane: PlaneResult) -> str:
+    """The plane's tolerance for the sheet: "X g·mm", or "none given".
+
+    Parameters
+    ----------
+    plane : PlaneResult
+        The solved plane.
+
+    Returns
+    -------
+    str
+        The text.
+    """
     return "none given" if plane.tolerance_gmm is None else f"{fmt_gmm(plane.tolerance_gmm)} g·mm"
 
 
 def basis_lines(plane: PlaneResult, facts: PlaneFacts) -> list[str]:
-    """How the job gave the correction, and what the plan answers."""
+    """How the job gave the correction, and what the plan answers.
+
+    Parameters
+    ----------
+    plane : PlaneResult
+        The solved plane.
+    facts : PlaneFacts
+        Its facts (:func:`plane_facts`).
+
+    Returns
+    -------
+    list of str
+        One or two lines for the plane band.
+    """
     if facts.basis == "none":
         return [plane.plane.given_as]
     if facts.basis == "further":
@@ -158,7 +301,24 @@ def basis_lines(plane: PlaneResult, facts: PlaneFacts) -> list[str]:
 
 
 def basis_sentence(plane: PlaneResult, facts: PlaneFacts) -> str | None:
-    """For a correction given without the existing parts: total − existing = further."""
+    """For a correction given without the existing parts: total − existing = further.
+
+    Parameters
+    ----------
+    plane : PlaneResult
+        The solved plane.
+    facts : PlaneFacts
+        Its facts (:func:`plane_facts`).
+
+    Returns
+    -------
+    str or None
+        The sentence; None unless the basis is "total".
+
+    References
+    ----------
+    Unbalances in one plane add as vectors [StaticCouple].
+    """
     if facts.basis != "total":
         return None
     return (f"Required correction: total {fmt_vector(facts.given_gmm, facts)} as the job "

@@ -34,6 +34,20 @@ def require_matplotlib() -> None:
 def sheet_paths(path: Path, n_planes: int, *, force: bool = False) -> list[Path]:
     """The files ``write_sheet`` writes for a job with ``n_planes`` planes.
 
+    Parameters
+    ----------
+    path : Path
+        The sheet file asked for (``.pdf``, ``.png`` or ``.svg``).
+    n_planes : int
+        Planes of the job.
+    force : bool
+        Allow files that exist to be overwritten.
+
+    Returns
+    -------
+    list of Path
+        ``path`` for a PDF or one plane; else ``NAME-1.png``, ``NAME-2.png``, ...
+
     Raises
     ------
     InputError

@@ -13,7 +13,24 @@ from placer.views.sheet.typeset import INK
 
 
 def draw_arc(ax, radius: float, start_deg: float, end_deg: float, **style) -> list:
-    """An arrow along a circle from ``start_deg`` to ``end_deg`` (page angles); its points."""
+    """An arrow along a circle from ``start_deg`` to ``end_deg`` (page angles); its points.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes or None
+        The axes drawn into; None only to get the points.
+    radius : float
+        Radius of the arc [data units].
+    start_deg, end_deg : float
+        Page angles of its tail and its head [deg].
+    **style
+        Further arrow properties for matplotlib (lw, linestyle, zorder, ...).
+
+    Returns
+    -------
+    list of (float, float)
+        41 points along the arc [data units].
+    """
     from matplotlib.patches import FancyArrowPatch
     from matplotlib.path import Path as MPath
 
@@ -26,6 +43,17 @@ def draw_arc(ax, radius: float, start_deg: float, end_deg: float, **style) -> li
 
 
 def draw_vector(ax, start: tuple[float, float], tip: tuple[float, float], solid: bool) -> None:
+    """A straight arrow from ``start`` to ``tip``: heavy and solid, or light and dashed.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        The axes drawn into.
+    start, tip : (float, float)
+        Tail and head [data units].
+    solid : bool
+        The required arrow (solid) or the residual (dashed).
+    """
     from matplotlib.patches import FancyArrowPatch
 
     style = dict(arrowstyle="-|>", mutation_scale=16, lw=2.4, color=INK, zorder=4) if solid \
@@ -39,7 +67,20 @@ PART_VERBS = {"fit": "", "drill": "DRILL", "remove": "REMOVE", "stay": "stays:"}
 
 
 def part_label(stack: list[tuple[str, str, int]], split: bool) -> str:
-    """The label of the symbols on one position; ``split`` puts each verb on its own line."""
+    """The label of the symbols on one position; ``split`` puts each verb on its own line.
+
+    Parameters
+    ----------
+    stack : list of (str, str, int)
+        (kind, item, count) of each symbol (:func:`symbols_by_position`).
+    split : bool
+        Put each verb on a line of its own, above its item.
+
+    Returns
+    -------
+    str
+        One line per symbol: "DRILL D6 ×1", "M10 ×2".
+    """
     lines = []
     for kind, item, count in stack:
         verb = PART_VERBS[kind]
@@ -49,7 +90,20 @@ def part_label(stack: list[tuple[str, str, int]], split: bool) -> str:
 
 
 def symbols_by_position(plane: PlaneResult, facts: PlaneFacts) -> dict[int, list[tuple[str, str, int]]]:
-    """Per position, (kind, item, count) of each symbol, in the order they stack inward."""
+    """Per position, (kind, item, count) of each symbol, in the order they stack inward.
+
+    Parameters
+    ----------
+    plane : PlaneResult
+        The solved plane; its chosen plan's parts.
+    facts : PlaneFacts
+        Its facts; the existing parts left on.
+
+    Returns
+    -------
+    dict of int to list of (str, str, int)
+        Position number -> symbols ("fit", "drill", "remove", "stay"), in that order.
+    """
     order = {"fit": 0, "drill": 1, "remove": 2, "stay": 3}
     out: dict[int, list[tuple[str, str, int]]] = {}
     for p in plane.chosen.parts:
@@ -64,7 +118,19 @@ def symbols_by_position(plane: PlaneResult, facts: PlaneFacts) -> dict[int, list
 
 def draw_symbol(ax, kind: str, x: float, y: float, size: float) -> None:
     """Fit: solid disc.  Drill: open disc with centre lines.  Remove: open disc crossed
-    out.  Stay: hatched disc."""
+    out.  Stay: hatched disc.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        The axes drawn into.
+    kind : {"fit", "drill", "remove", "stay"}
+        The symbol.
+    x, y : float
+        Its centre [data units].
+    size : float
+        Its radius [data units].
+    """
     from matplotlib.patches import Circle
 
     if kind == "fit":
@@ -89,6 +155,19 @@ POSITION_MARKERS = {"both": "o", "add": "^", "remove": "v"}
 
 
 def position_marker(ax, x: float, y: float, kind: str, size_pt: float) -> None:
+    """A position's marker: open with a centre dot by what it takes, or a crossed square.
+
+    Parameters
+    ----------
+    ax : matplotlib.axes.Axes
+        The axes drawn into.
+    x, y : float
+        The position [data units].
+    kind : {"both", "add", "remove", "blocked"}
+        What the position takes (:data:`POSITION_MARKERS`), or blocked.
+    size_pt : float
+        Marker size [pt].
+    """
     if kind == "blocked":
         ax.plot([x], [y], marker="s", ms=size_pt * 1.15, mfc="white", mec=INK, mew=1.0,
                 zorder=3)

@@ -15,7 +15,13 @@ MARGIN_IN = 0.55
 
 
 class Page:
-    """Drawing on one page in inches from its top-left corner."""
+    """Drawing on one page in inches from its top-left corner.
+
+    Parameters
+    ----------
+    fig : matplotlib.figure.Figure or None
+        The page's figure (A4); None for a dry run that only measures.
+    """
 
     def __init__(self, fig) -> None:
         """``fig`` None: a dry run that only measures (every drawing call does nothing)."""
@@ -29,6 +35,19 @@ class Page:
             self.ax = ax
 
     def text(self, x: float, y: float, s: str, size: float = 8.0, **kw) -> None:
+        """Text at (x, y), its top there unless ``va`` says otherwise.
+
+        Parameters
+        ----------
+        x, y : float
+            Anchor from the page's top-left corner [in].
+        s : str
+            The text.
+        size : float
+            Font size [pt].
+        **kw
+            Further text properties for matplotlib (ha, va, weight, ...).
+        """
         if self.ax is None:
             return
         kw.setdefault("va", "top")
@@ -36,12 +55,38 @@ class Page:
 
     def rule(self, y: float, x0: float = MARGIN_IN, x1: float | None = None,
              lw: float = 0.6, **kw) -> None:
+        """A horizontal line across the page at ``y``.
+
+        Parameters
+        ----------
+        y : float
+            Height from the top [in].
+        x0 : float
+            Left end [in].
+        x1 : float or None
+            Right end [in]; None for the right margin.
+        lw : float
+            Line width [pt].
+        **kw
+            Further line properties for matplotlib (color defaults to ink).
+        """
         if self.ax is None:
             return
         x1 = PAGE_IN[0] - MARGIN_IN if x1 is None else x1
         self.ax.plot([x0, x1], [y, y], color=kw.pop("color", INK), lw=lw, **kw)
 
     def box(self, x: float, y: float, w: float, h: float, **kw) -> None:
+        """A rectangle, unfilled and inked unless ``kw`` says otherwise.
+
+        Parameters
+        ----------
+        x, y : float
+            Its top-left corner [in].
+        w, h : float
+            Width and height [in].
+        **kw
+            Further patch properties for matplotlib.
+        """
         if self.ax is None:
             return
         from matplotlib.patches import Rectangle
@@ -51,11 +96,26 @@ class Page:
         self.ax.add_patch(Rectangle((x, y), w, h, **kw))
 
     def mark(self, x: float, y: float, **kw) -> None:
+        """A single marker at (x, y).
+
+        Parameters
+        ----------
+        x, y : float
+            Where [in].
+        **kw
+            Marker properties for matplotlib (marker, ms, mfc, ...).
+        """
         if self.ax is not None:
             self.ax.plot([x], [y], **kw)
 
     def patch(self, make) -> None:
-        """Add the patch ``make()`` returns (in page inches)."""
+        """Add the patch ``make()`` returns (in page inches).
+
+        Parameters
+        ----------
+        make : callable
+            Builds the matplotlib patch; not called on a dry run.
+        """
         if self.ax is not None:
             self.ax.add_patch(make())
 
@@ -67,6 +127,28 @@ class Page:
         ``columns`` are (heading, "l" or "r"); each column is as wide as its
         widest cell, measured, and the type shrinks (to 6.5 pt) until the
         table fits.
+
+        Parameters
+        ----------
+        x, y : float
+            Top-left corner [in].
+        columns : list of (str, str)
+            (heading, "l" or "r" alignment) per column.
+        rows : list of list of str
+            The cells, row by row; an empty cell is left blank.
+        width_in : float
+            Widest the table may be [in].
+        bold : set of int
+            Indices of rows set in bold.
+        ticks : bool
+            Put a tick box before each row.
+        size : float
+            Font size to start from [pt].
+
+        Returns
+        -------
+        float
+            The y below the table [in].
         """
         tick_in = 0.28 if ticks else 0.0
         while True:
@@ -103,19 +185,70 @@ class Page:
 
     def paragraph(self, x: float, y: float, text: str, width_in: float, size: float = 7.5,
                   **kw) -> float:
-        """Text wrapped to ``width_in`` (measured word by word); returns the y below it."""
+        """Text wrapped to ``width_in`` (measured word by word); returns the y below it.
+
+        Parameters
+        ----------
+        x, y : float
+            Top-left corner [in].
+        text : str
+            The text.
+        width_in : float
+            Widest a line may be [in].
+        size : float
+            Font size [pt].
+        **kw
+            Further text properties for matplotlib (weight="bold" is measured).
+
+        Returns
+        -------
+        float
+            The y below the paragraph [in].
+        """
         lines = wrap_words(text, width_in, size, kw.get("weight") == "bold")
         self.text(x, y, "\n".join(lines), size, linespacing=1.3, **kw)
         return y + lines_in(len(lines), size) + 0.03
 
 
 def lines_in(count: int, size: float, linespacing: float = 1.3) -> float:
-    """Height [in] matplotlib gives ``count`` lines of text at ``size`` [pt]."""
+    """Height [in] matplotlib gives ``count`` lines of text at ``size`` [pt].
+
+    Parameters
+    ----------
+    count : int
+        Lines.
+    size : float
+        Font size [pt].
+    linespacing : float
+        Line height as a multiple of the font size.
+
+    Returns
+    -------
+    float
+        The height [in].
+    """
     return count * linespacing * size / 72
 
 
 def wrap_words(text: str, width_in: float, size: float, bold: bool = False) -> list[str]:
-    """Words of ``text`` in lines no wider than ``width_in`` [in]."""
+    """Words of ``text`` in lines no wider than ``width_in`` [in].
+
+    Parameters
+    ----------
+    text : str
+        The text; split at white space.
+    width_in : float
+        Widest a line may be [in]; a longer word stands on a line alone.
+    size : float
+        Font size [pt].
+    bold : bool
+        Bold type.
+
+    Returns
+    -------
+    list of str
+        The lines; ``[""]`` for no words.
+    """
     lines: list[str] = []
     for word in text.split():
         if lines and text_width_in(f"{lines[-1]} {word}", size, bold) <= width_in:
@@ -127,7 +260,22 @@ def wrap_words(text: str, width_in: float, size: float, bold: bool = False) -> l
 
 @functools.lru_cache(maxsize=8192)
 def text_width_in(text: str, size: float, bold: bool = False) -> float:
-    """Width of one line of text on the page [in] (the default font, measured by matplotlib)."""
+    """Width of one line of text on the page [in] (the default font, measured by matplotlib).
+
+    Parameters
+    ----------
+    text : str
+        One line.
+    size : float
+        Font size [pt].
+    bold : bool
+        Bold type.
+
+    Returns
+    -------
+    float
+        The width [in].
+    """
     from matplotlib.font_manager import FontProperties
 
     prop = FontProperties(weight="bold" if bold else "normal", size=size)
@@ -143,7 +291,24 @@ def text_to_path():  # noqa: N802 - one shared measurer
 
 
 def join_lines(pieces: list[str], sep: str, width_in: float, size: float) -> list[str]:
-    """Pieces joined by ``sep`` in lines no wider than ``width_in``, never split inside one."""
+    """Pieces joined by ``sep`` in lines no wider than ``width_in``, never split inside one.
+
+    Parameters
+    ----------
+    pieces : list of str
+        The pieces.
+    sep : str
+        What joins two pieces on one line.
+    width_in : float
+        Widest a line may be [in]; a longer piece stands on a line alone.
+    size : float
+        Font size [pt].
+
+    Returns
+    -------
+    list of str
+        The lines.
+    """
     lines: list[str] = []
     for piece in pieces:
         if lines and text_width_in(lines[-1] + sep + piece, size) <= width_in:
@@ -154,7 +319,25 @@ def join_lines(pieces: list[str], sep: str, width_in: float, size: float) -> lis
 
 
 def fit_title(title: str, width_in: float) -> tuple[list[str], float]:
-    """The rotor's name on one line at 15 pt down to 11 pt, else wrapped (at most 3 lines)."""
+    """The rotor's name on one line at 15 pt down to 11 pt, else wrapped (at most 3 lines).
+
+    Wrapped, it takes two lines at 12 pt down to 10 pt, else up to three at
+    10 pt, the third cut short with " …".
+
+    Parameters
+    ----------
+    title : str
+        The rotor's name.
+    width_in : float
+        Width available [in].
+
+    Returns
+    -------
+    lines : list of str
+        The title's lines.
+    size : float
+        Font size [pt].
+    """
     for size in (15.0, 14.0, 13.0, 12.0, 11.0):
         if text_width_in(title, size, True) <= width_in:
             return [title], size
@@ -172,7 +355,22 @@ def fit_title(title: str, width_in: float) -> tuple[list[str], float]:
 
 
 def wrap_chars(text: str, width_in: float, size: float) -> list[str]:
-    """A word too long for one line, cut into lines no wider than ``width_in``."""
+    """A word too long for one line, cut into lines no wider than ``width_in``.
+
+    Parameters
+    ----------
+    text : str
+        The word.
+    width_in : float
+        Widest a line may be [in].
+    size : float
+        Font size [pt].
+
+    Returns
+    -------
+    list of str
+        The pieces, at least one character each.
+    """
     lines = [""]
     for ch in text:
         if lines[-1] and text_width_in(lines[-1] + ch, size) > width_in:

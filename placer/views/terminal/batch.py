@@ -16,7 +16,20 @@ PLAIN_PROGRESS_EVERY_S = 10.0
 
 
 def summary_line(summary: BatchSummary, paths: BatchPaths) -> str:
-    """The summary as one line."""
+    """The summary as one line.
+
+    Parameters
+    ----------
+    summary : BatchSummary
+        The batch's counts.
+    paths : BatchPaths
+        Its output files.
+
+    Returns
+    -------
+    str
+        The line, without a newline.
+    """
     share = "-" if summary.share_within is None else f"{summary.share_within:.1%}"
     parts = ", ".join(f"{p.item}×{p.count}" for p in summary.parts_used) or "none"
     return (f"placer batch: {summary.rows_read} rows, {summary.solved} solved "
@@ -27,7 +40,17 @@ def summary_line(summary: BatchSummary, paths: BatchPaths) -> str:
 
 
 def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> None:
-    """Print the summary: a table on a terminal, one line otherwise."""
+    """Print the summary: a table on a terminal, one line otherwise.
+
+    Parameters
+    ----------
+    summary : BatchSummary
+        The batch's counts.
+    paths : BatchPaths
+        Its output files.
+    stream : text stream
+        Where to print.
+    """
     if not stream.isatty():
         print(summary_line(summary, paths), file=stream)
         return

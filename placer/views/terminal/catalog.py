@@ -11,7 +11,17 @@ from placer.catalog import Catalog
 
 
 def render_catalog_list(names: list[str], catalogs: list[Catalog], console: Console) -> None:
-    """The bundled catalogues, one line each."""
+    """The bundled catalogues, one line each.
+
+    Parameters
+    ----------
+    names : list of str
+        The bundled catalogues' names.
+    catalogs : list of Catalog
+        The catalogues, in the same order.
+    console : Console
+        The rich console to print on.
+    """
     table = Table(title="Bundled catalogues", box=box.SIMPLE, title_justify="left")
     table.add_column("Name")
     table.add_column("Title")
@@ -25,7 +35,15 @@ def render_catalog_list(names: list[str], catalogs: list[Catalog], console: Cons
 
 
 def render_catalog(catalog: Catalog, console: Console) -> None:
-    """One catalogue's items, then its description."""
+    """One catalogue's items, then its description.
+
+    Parameters
+    ----------
+    catalog : Catalog
+        The catalogue.
+    console : Console
+        The rich console to print on.
+    """
     table = Table(title=catalog.name, box=box.SIMPLE, title_justify="left")
     table.add_column("Id")
     table.add_column("Mass g", justify="right")

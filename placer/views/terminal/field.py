@@ -15,7 +15,18 @@ from placer.views.wording import action_word, cautions_for
 
 
 def amp(value: complex) -> str:
-    """A reading or coefficient as amplitude∠angle."""
+    """A reading or coefficient as amplitude∠angle.
+
+    Parameters
+    ----------
+    value : complex
+        The reading or coefficient.
+
+    Returns
+    -------
+    str
+        Amplitude with two decimals, angle [deg] in whole degrees: ``1.25∠40°``.
+    """
     return f"{abs(value):.2f}∠{angle_of_deg(value):.0f}°"
 
 
@@ -88,7 +99,15 @@ def _front_table(result: FieldResult) -> Table:
 
 
 def render_field(result: FieldResult, console: Console) -> None:
-    """Print the field sheet of a solved visit."""
+    """Print the field sheet of a solved visit.
+
+    Parameters
+    ----------
+    result : FieldResult
+        The solved visit.
+    console : Console
+        The rich console to print on.
+    """
     s = result.session
     unit = f"{s.unit} {s.measure}"
     head = Text()

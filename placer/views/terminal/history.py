@@ -31,7 +31,17 @@ def _mass_text(mass: MassRecord, plane_names: tuple[str, ...]) -> str:
 
 
 def render_visit(visit_id: int, record: VisitRecord, console: Console) -> None:
-    """Print one stored visit: runs with readings as read, coefficients, plan, result."""
+    """Print one stored visit: runs with readings as read, coefficients, plan, result.
+
+    Parameters
+    ----------
+    visit_id : int
+        The visit's id.
+    record : VisitRecord
+        The visit as stored.
+    console : Console
+        The rich console to print on.
+    """
     unit = f"{record.unit} {record.measure}"
     head = Text()
     head.append(f"{record.machine_name} [{record.machine_id}]\n", style="bold")
@@ -83,7 +93,17 @@ def render_visit(visit_id: int, record: VisitRecord, console: Console) -> None:
 
 
 def render_machines(machines: Sequence[MachineSummary], db_label: str, console: Console) -> None:
-    """The machines of a history database, one row each (``placer machines``)."""
+    """The machines of a history database, one row each (``placer machines``).
+
+    Parameters
+    ----------
+    machines : sequence of MachineSummary
+        The machines.
+    db_label : str
+        The database, as named in the title.
+    console : Console
+        The rich console to print on.
+    """
     table = Table(title=f"Machines in {db_label}", title_justify="left")
     for column in ("Id", "Name", "Visits", "Last visit"):
         table.add_column(column)
@@ -94,7 +114,17 @@ def render_machines(machines: Sequence[MachineSummary], db_label: str, console: 
 
 
 def render_visits(machine_id: str, visits: Sequence[VisitSummary], console: Console) -> None:
-    """A machine's visits, one row each (``placer history MACHINE``)."""
+    """A machine's visits, one row each (``placer history MACHINE``).
+
+    Parameters
+    ----------
+    machine_id : str
+        The machine's tag.
+    visits : sequence of VisitSummary
+        Its visits.
+    console : Console
+        The rich console to print on.
+    """
     table = Table(title=f"Visits of {machine_id} (times in UTC; 'placer history "
                         f"{machine_id} --visit N' shows one in full)", title_justify="left",
                   box=box.SIMPLE_HEAD, pad_edge=False)

@@ -146,7 +146,15 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
 
 
 def render_job(result: JobResult, console: Console) -> None:
-    """Print the fitting sheet of a solved job."""
+    """Print the fitting sheet of a solved job.
+
+    Parameters
+    ----------
+    result : JobResult
+        The solved job.
+    console : Console
+        The rich console to print on.
+    """
     console.print(_header(result))
     for i, plane in enumerate(result.planes, start=1):
         share = None
