@@ -101,6 +101,16 @@ def reading_digest(corrections_gmm: Iterable[complex]) -> str:
     compares it with the one stored in each result to find rows changed
     since.
 
+    Parameters
+    ----------
+    corrections_gmm : iterable of complex
+        The rotor's required corrections, plane by plane [g·mm].
+
+    Returns
+    -------
+    str
+        16 lowercase hex digits.
+
     References
     ----------
     FIPS 180-4 (SHA-256); Python ``float.__repr__``, shortest repr that
@@ -117,6 +127,23 @@ class PlaneOutcome:
     ``tolerance_gmm`` is None when the template gives no tolerance for the
     plane; ``within_tolerance`` is then None too.  ``correction_gmm`` is the
     rotor's required correction for the plane, as read [g·mm].
+
+    Parameters
+    ----------
+    plane : int
+        Plane number (from 1), in template order.
+    name : str
+        The plane's name.
+    catalog : str
+        Name of the plane's catalogue.
+    option : PlanOption
+        The plan chosen.
+    tolerance_gmm : float or None
+        The plane's permissible residual [g·mm].
+    within_tolerance : bool or None
+        Whether the plan is within it.
+    correction_gmm : complex
+        The rotor's required correction for the plane [g·mm].
     """
 
     plane: int
@@ -135,7 +162,21 @@ class PlaneOutcome:
 
 @dataclass(frozen=True)
 class RotorOutcome:
-    """The plans for one rotor, plane by plane."""
+    """The plans for one rotor, plane by plane.
+
+    Parameters
+    ----------
+    line : int
+        Line of the readings file the rotor came from.
+    serial : str
+        The rotor's serial number.
+    planes : tuple of PlaneOutcome
+        Each plane's plan, in template order.
+    solved_together : bool
+        Whether the rotor was solved whole, its planes sharing stock.
+    stock_short : tuple of str
+        Ids of items its plans still overdraw (no plan within the stock found).
+    """
 
     line: int
     serial: str
@@ -208,7 +249,24 @@ class BatchSolver:
                 search.front(np.array([2.5 * complex(search.mag.max())]))
 
     def solve(self, reading: RotorReading) -> RotorOutcome:
-        """The chosen plan of every plane for one rotor's corrections."""
+        """The chosen plan of every plane for one rotor's corrections.
+
+        Parameters
+        ----------
+        reading : RotorReading
+            The rotor: its serial and one correction per template plane.
+
+        Returns
+        -------
+        RotorOutcome
+            The plans, solved together when planes sharing a drawer overdraw it.
+
+        Raises
+        ------
+        ValueError
+            When the reading has another number of corrections than the
+            template has planes.
+        """
         if len(reading.corrections_gmm) != self.n_planes:
             raise ValueError(f"rotor {reading.serial} has {len(reading.corrections_gmm)} "
                              f"corrections for {self.n_planes} planes")
@@ -306,7 +364,21 @@ def default_jobs() -> int:
 
 
 def processes_used(jobs: int, rows: int) -> int:
-    """Processes :func:`solve_readings` solves ``rows`` rotors in with ``jobs`` asked."""
+    """Processes :func:`solve_readings` solves ``rows`` rotors in with ``jobs`` asked.
+
+    Parameters
+    ----------
+    jobs : int
+        Processes asked for.
+    rows : int
+        Rotors to solve.
+
+    Returns
+    -------
+    int
+        1 for ``jobs`` of 1 or less, else ``jobs`` but no more than ``rows``
+        (at least 1).
+    """
     return 1 if jobs <= 1 else max(1, min(jobs, rows))
 
 
@@ -334,6 +406,11 @@ def solve_readings(template: Job, readings: Iterable[RotorReading], jobs: int | 
         Called once, before the first outcome, when what every rotor shares
         is built (the searches and their tables; with worker processes that
         are not forked, when the workers are started, as each builds its own).
+
+    Yields
+    ------
+    RotorOutcome
+        One per rotor, in input order.
 
     Raises
     ------
@@ -383,7 +460,17 @@ def solve_readings(template: Job, readings: Iterable[RotorReading], jobs: int | 
 # ---------------------------------------------------------------------- summary
 @dataclass(frozen=True)
 class PartsUsed:
-    """How many parts of one catalogue item the batch fitted."""
+    """How many parts of one catalogue item the batch fitted.
+
+    Parameters
+    ----------
+    catalog : str
+        The item's catalogue (its own, where a plane merges several).
+    item : str
+        The item's id.
+    count : int
+        Parts fitted over the batch.
+    """
 
     catalog: str
     item: str
@@ -399,6 +486,31 @@ class BatchSummary:
     ``share_within`` is ``within / (within + outside)``, None when no rotor
     has a tolerance.  ``parts_used`` is summed over every solved rotor
     (parts fitted; parts a plan takes off are not counted).
+
+    Parameters
+    ----------
+    rows_read : int
+        Rows of the readings file read.
+    solved : int
+        Rotors with a result in the output.
+    already_done : int
+        Rotors a resumed batch found done and skipped.
+    errors : int
+        Rows in error.
+    within : int
+        Rotors within tolerance in every plane that has one.
+    outside : int
+        Rotors outside tolerance in some plane, or short of stock.
+    no_tolerance : int
+        Rotors with no tolerance in any plane.
+    share_within : float or None
+        ``within / (within + outside)`` [1].
+    parts_used : tuple of PartsUsed
+        Parts fitted per item, in catalogue order.
+    elapsed_s : float
+        Wall-clock time of the batch [s].
+    jobs : int
+        Processes used.
     """
 
     rows_read: int
@@ -424,6 +536,12 @@ class BatchTally:
 
     ``template``, when given, lists the parts used in catalogue order
     (others follow by name).
+
+    Parameters
+    ----------
+    template : Job or None
+        The batch's template, for the order of the items and for the drawer
+        each plane's item draws on.
     """
 
     def __init__(self, template: Job | None = None) -> None:
@@ -444,7 +562,15 @@ class BatchTally:
 
     def add(self, within_tolerance: bool | None,
             parts: Iterable[tuple[str, str, int]]) -> None:
-        """Count one rotor: its overall flag and its (catalogue, item, count) parts."""
+        """Count one rotor: its overall flag and its (catalogue, item, count) parts.
+
+        Parameters
+        ----------
+        within_tolerance : bool or None
+            The rotor's flag (:attr:`RotorOutcome.within_tolerance`).
+        parts : iterable of (str, str, int)
+            (plane's catalogue name, item id, count) of every part fitted.
+        """
         self.solved += 1
         if within_tolerance is None:
             self.no_tolerance += 1
@@ -457,14 +583,39 @@ class BatchTally:
             self.parts[key] = self.parts.get(key, 0) + int(count)
 
     def add_outcome(self, outcome: RotorOutcome) -> None:
-        """Count one solved rotor."""
+        """Count one solved rotor.
+
+        Parameters
+        ----------
+        outcome : RotorOutcome
+            The rotor's plans; parts taken off are not counted.
+        """
         self.add(outcome.within_tolerance,
                  [(p.catalog, part.item, part.count) for p in outcome.planes
                   for part in p.option.parts if part.action == "fit"])
 
     def summary(self, rows_read: int, already_done: int, errors: int, elapsed_s: float,
                 jobs: int) -> BatchSummary:
-        """The summary of everything counted so far."""
+        """The summary of everything counted so far.
+
+        Parameters
+        ----------
+        rows_read : int
+            Rows of the readings file read.
+        already_done : int
+            Rotors a resumed batch found done.
+        errors : int
+            Rows in error.
+        elapsed_s : float
+            Wall-clock time of the batch [s].
+        jobs : int
+            Processes used.
+
+        Returns
+        -------
+        BatchSummary
+            The counts and the parts used.
+        """
         judged = self.within + self.outside
         last = len(self._order)
         keys = sorted(self.parts, key=lambda key: (self._order.get(key, last), key))

@@ -69,6 +69,18 @@ class Catalog:
 
     ``source`` identifies the catalogue file (or the files of a merged
     catalogue); stock is shared per item (:attr:`Item.stock_key`).
+
+    Parameters
+    ----------
+    name : str
+        The catalogue's name.
+    items : tuple of Item
+        Its stock sizes, at least one, each id once; an item's index in this
+        tuple is how plans and existing parts refer to it.
+    source : str
+        The catalogue file (or files) it was read from.
+    description : str
+        Free text.
     """
 
     name: str
@@ -84,6 +96,23 @@ class Catalog:
             raise InputError("has an item id twice", key="items", expected="each id once")
 
     def item_index(self, item_id: str) -> int:
+        """Index in :attr:`items` of the item labelled ``item_id``.
+
+        Parameters
+        ----------
+        item_id : str
+            The item's label (:attr:`Item.id`).
+
+        Returns
+        -------
+        int
+            Its index, from 0.
+
+        Raises
+        ------
+        KeyError
+            When no item has that label.
+        """
         for index, item in enumerate(self.items):
             if item.id == item_id:
                 return index

@@ -46,6 +46,20 @@ class FieldOption:
     "remove" is one fitted for a check run, to be taken off.  ``predicted``
     is the vibration at each sensor once the plan is carried out [session
     unit and measure]; ``objective`` its largest or root-sum-square value.
+
+    Parameters
+    ----------
+    part_count : int
+        Most parts allowed for this plan.
+    parts : tuple of (int, FittedPart)
+        (plane index, parts) pairs, parts to take off first.
+    predicted : complex array (n_channels,)
+        Vibration predicted at each sensor [session unit and measure].
+    objective : float
+        Its weighted largest or root-sum-square value (:func:`objective_of`)
+        [session unit and measure].
+    proven : bool
+        Whether the search proved it least for ``part_count`` parts.
     """
 
     part_count: int
@@ -62,7 +76,39 @@ class FieldOption:
 
 @dataclass(frozen=True)
 class FieldResult:
-    """Everything a visit needs to print, store and fit."""
+    """Everything a visit needs to print, store and fit.
+
+    Parameters
+    ----------
+    session : Session
+        The visit.
+    coefficients : Coefficients
+        The influence coefficients used, with their warnings.
+    coefficient_source : str
+        Where they came from: the stored visit's label, or "N trial run(s) of
+        this visit".
+    vibration_now : complex array (n_channels,)
+        The vibration the plan starts from [session unit and measure]: the
+        last check run, or the reference run (with the trial weights left on,
+        predicted).
+    basis : str
+        Which of those it is, in words.
+    correction_gmm : complex array (n_planes,)
+        The continuous least-squares correction [g·mm].
+    static_couple : StaticCouple or None
+        Its static and couple parts (two planes only).
+    front : tuple of FieldOption
+        Coupled plans, each with more parts and less predicted vibration
+        than the one before, the plan of no parts first.
+    chosen : FieldOption
+        The plan to fit.
+    rounded : FieldOption
+        Each plane's correction rounded to stock on its own, for comparison.
+    warnings : tuple of str
+        Sentences for the technician.
+    fitted : tuple of PlacedMass
+        Parts fitted for the check runs, which a plan may take off.
+    """
 
     session: Session
     coefficients: Coefficients
@@ -78,7 +124,18 @@ class FieldResult:
     fitted: tuple[PlacedMass, ...] = ()
 
     def best_with_at_most(self, parts: int) -> FieldOption:
-        """The coupled plan with the least predicted vibration using at most ``parts`` parts."""
+        """The coupled plan with the least predicted vibration using at most ``parts`` parts.
+
+        Parameters
+        ----------
+        parts : int
+            Most parts (fitted plus taken off).
+
+        Returns
+        -------
+        FieldOption
+            The last plan of :attr:`front` within that many parts.
+        """
         return [o for o in self.front if o.used_parts <= parts][-1]
 
     @property
@@ -97,7 +154,24 @@ class FieldResult:
 
 
 def objective_of(values: np.ndarray, weights: np.ndarray, norm: str) -> float:
-    """The session's measure of a vibration vector: largest or root-sum-square, weighted."""
+    """The session's measure of a vibration vector: largest or root-sum-square, weighted.
+
+    The same as :func:`placer.residual.objective_of`.
+
+    Parameters
+    ----------
+    values : complex array (n_channels,)
+        Vibration at each sensor [session unit and measure].
+    weights : float array (n_channels,)
+        Each sensor's weight; the amplitudes are scaled by its square root.
+    norm : {"max", "rms"}
+        Largest weighted amplitude, or root of the sum of their squares.
+
+    Returns
+    -------
+    float
+        The objective [session unit and measure, weighted].
+    """
     scaled = np.sqrt(weights) * np.abs(values)
     return float(scaled.max() if norm == "max" else np.linalg.norm(scaled))
 
@@ -112,6 +186,19 @@ class PlaneBlock:
     column k is the search's column ``columns[k]``: one column per drawer
     (catalogue file and item, so planes sharing a catalogue share its stock),
     and one of its own for each part on the rotor.
+
+    Parameters
+    ----------
+    plane : int
+        Index of the plane in the session.
+    arrays : PlaneArrays
+        The plane's own arrays (target zero).
+    first_row : int
+        The search row of the plane's row 0.
+    columns : int array (n_plane_columns,)
+        Search column of each of the plane's columns.
+    existing : tuple of ExistingPart
+        Parts fitted for check runs on this plane, as parts on the rotor.
     """
 
     plane: int
@@ -121,7 +208,22 @@ class PlaneBlock:
     existing: tuple[ExistingPart, ...]
 
     def part(self, session: Session, row: int, column: int, count: int) -> FittedPart:
-        """The part that ``count`` on search row ``row``, search column ``column`` stands for."""
+        """The part that ``count`` on search row ``row``, search column ``column`` stands for.
+
+        Parameters
+        ----------
+        session : Session
+            The visit the search was built for.
+        row, column : int
+            Row and column of the coupled search's effects.
+        count : int
+            How many parts.
+
+        Returns
+        -------
+        FittedPart
+            The parts, on this block's plane.
+        """
         plane = session.planes[self.plane]
         local = int(np.nonzero(self.columns == column)[0][0])
         return part_of_row(plane.geometry, plane.catalog, self.existing, self.arrays,
@@ -143,6 +245,7 @@ def field_search(session: Session, matrix: np.ndarray,
     Parameters
     ----------
     session : Session
+        The visit: planes, sensors and their weights, norm and part limit.
     matrix : complex (channels, planes)
         Influence coefficients [reading per g·mm].
     fitted : tuple of PlacedMass
@@ -254,6 +357,7 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     Parameters
     ----------
     session : Session
+        The visit.
     stored : StoredCoefficients, optional
         Coefficients of an earlier visit (``coefficients = "stored"``); they
         are brought to this session's unit, measure and angle sense.
@@ -261,6 +365,12 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
         Budget of the coupled search [s]; part counts it cannot finish in
         time keep the best plan with fewer parts, marked not proven.  The
         per-plane rounded plan for comparison gets the same budget.
+
+    Returns
+    -------
+    FieldResult
+        Coefficients, correction, coupled front, chosen and rounded plans,
+        warnings.
 
     Raises
     ------

@@ -70,7 +70,20 @@ class PlaneGeometry:
                 validate.one_of(kind, f"accepts[{i}]", ACCEPTS)
 
     def takes(self, number: int, removal: bool) -> bool:
-        """Whether position ``number`` takes a removal (or an added part)."""
+        """Whether position ``number`` takes a removal (or an added part).
+
+        Parameters
+        ----------
+        number : int
+            Position number (from 1).
+        removal : bool
+            True to ask about a removal, False about an added part.
+
+        Returns
+        -------
+        bool
+            Whether the position accepts that kind of correction.
+        """
         kind = self.accepts[number - 1] if self.accepts else "both"
         return kind == "both" or kind == ("remove" if removal else "add")
 
@@ -92,7 +105,20 @@ class PlaneGeometry:
 
 
 def equally_spaced_deg(count: int, start_deg: float = 0.0) -> tuple[float, ...]:
-    """Angles of ``count`` equally spaced positions, position 1 at ``start_deg`` [deg]."""
+    """Angles of ``count`` equally spaced positions, position 1 at ``start_deg`` [deg].
+
+    Parameters
+    ----------
+    count : int
+        Number of positions.
+    start_deg : float
+        Angle of position 1 [deg].
+
+    Returns
+    -------
+    tuple of float
+        The angles [deg], each in [0, 360).
+    """
     return tuple((start_deg + 360.0 * i / count) % 360.0 for i in range(count))
 
 
@@ -115,7 +141,18 @@ def polar(magnitude: float, angle_deg: float) -> complex:
 
 
 def angle_of_deg(vector: complex) -> float:
-    """Angle of a complex vector in [0, 360) degrees (0 for the zero vector)."""
+    """Angle of a complex vector in [0, 360) degrees (0 for the zero vector).
+
+    Parameters
+    ----------
+    vector : complex
+        The vector.
+
+    Returns
+    -------
+    float
+        Its angle [deg], in [0, 360).
+    """
     if vector == 0:
         return 0.0
     return math.degrees(cmath.phase(vector)) % 360.0

@@ -282,6 +282,7 @@ def residual_gmm(correction_gmm: complex, parts: Sequence[PartTriple],
     correction_gmm : complex
         Required correction [g·mm].
     parts : sequence of (position_index, item_index, count)
+        The parts fitted: position index (number - 1), item index, how many.
     position_angles_deg, radii_mm : sequence of float
         Angle [deg] and radius [mm] of every position.
     item_masses_g : sequence of float

@@ -60,6 +60,15 @@ class Coefficients:
     scaled by the square root of its channel's weight (the matrix the
     weighted least-squares correction solves with, see
     :func:`condition_number`); ``warnings`` are sentences for the user.
+
+    Parameters
+    ----------
+    matrix : complex array (n_channels, n_planes)
+        The influence coefficients A [reading unit and measure per g·mm].
+    condition : float
+        Condition number of the weighted matrix [1]; infinite for an empty one.
+    warnings : tuple of str
+        Sentences for the user (untrusted trial runs, ill-conditioning).
     """
 
     matrix: np.ndarray
@@ -69,6 +78,18 @@ class Coefficients:
 
 def condition_number(matrix: np.ndarray, channel_weights: np.ndarray | None = None) -> float:
     """2-norm condition number of D^½·A, D the channel weights (1 when None).
+
+    Parameters
+    ----------
+    matrix : complex array (n_channels, n_planes)
+        The influence coefficients A.
+    channel_weights : float array (n_channels,) or None
+        The channels' weights; None for 1 each.
+
+    Returns
+    -------
+    float
+        The condition number [1]; infinite for an empty matrix.
 
     References
     ----------
@@ -89,6 +110,27 @@ def checked_coefficients(matrix: np.ndarray, plane_names: list[str],
     """Coefficients with their condition number and the ill-conditioning warning.
 
     Used for coefficients from this visit's trial runs and for stored ones alike.
+
+    Parameters
+    ----------
+    matrix : complex array (n_channels, n_planes)
+        The influence coefficients A [reading unit and measure per g·mm].
+    plane_names : list of str
+        The planes' names, for the warning.
+    channel_weights : float array (n_channels,) or None
+        The channels' weights; None for 1 each.
+    warnings : tuple or list of str
+        Warnings found so far; the ill-conditioning warning is added after them.
+
+    Returns
+    -------
+    Coefficients
+        The matrix, its condition number and the warnings.
+
+    References
+    ----------
+    Condition number of a least-squares problem [GolubVanLoan]; the
+    threshold :data:`ILL_CONDITIONED` is placer's own.
     """
     condition = condition_number(matrix, channel_weights)
     out = list(warnings)
@@ -176,6 +218,11 @@ def trial_run_warnings(baselines: np.ndarray, readings: np.ndarray,
     baseline_names : list of str, optional
         Name of each run's baseline run, for the message.
 
+    Returns
+    -------
+    list of str
+        One sentence per untrusted trial run (runs counted from 1).
+
     References
     ----------
     30 % in amplitude or 30° in phase: [TrialRunRule], common practice (20-25 %
@@ -209,6 +256,24 @@ def least_squares_correction(matrix: np.ndarray, vibration: np.ndarray,
 
     W = -(Aᴴ D A)⁻¹ Aᴴ D V (weighted least squares; Goodman 1964, from memory),
     computed stably by lstsq on the weighted rows.
+
+    Parameters
+    ----------
+    matrix : complex array (n_channels, n_planes)
+        The influence coefficients A [reading unit and measure per g·mm].
+    vibration : complex array (n_channels,)
+        The vibration V to cancel [reading unit and measure].
+    channel_weights : float array (n_channels,) or None
+        The channels' weights D; None for 1 each.
+
+    Returns
+    -------
+    complex array (n_planes,)
+        The correction w per plane [g·mm], at the angle where mass is added.
+
+    References
+    ----------
+    [Goodman1964] (from memory); [InfluenceCoefficients].
     """
     if channel_weights is None:
         channel_weights = np.ones(matrix.shape[0])
@@ -223,6 +288,32 @@ def trial_mass_g(rotor_mass_kg: float, service_rpm: float, radius_mm: float,
 
     m_t·r·ω² = share·M·g  ->  m_t = share·M·g/(r·ω²)   ([TrialMassRule]: from memory,
     widely quoted).
+
+    Parameters
+    ----------
+    rotor_mass_kg : float
+        Mass of the rotor M [kg].
+    service_rpm : float
+        Speed of the runs [r/min].
+    radius_mm : float
+        Radius at which the trial mass goes [mm].
+    force_share : float
+        The trial mass's centrifugal force as a share of the rotor's weight [1].
+
+    Returns
+    -------
+    float
+        The trial mass [g].
+
+    Raises
+    ------
+    ValueError
+        A mass, speed or radius that is not a finite number above zero (the
+        message names the mass ``mass_kg``).
+
+    References
+    ----------
+    [TrialMassRule] in REFERENCES.md.
     """
     for name, value in (("mass_kg", rotor_mass_kg), ("service_rpm", service_rpm),
                         ("radius_mm", radius_mm)):
@@ -239,6 +330,21 @@ class StaticCouple:
 
     ``static_gmm`` = W1 + W2; ``couple_gmm`` = (W1 - W2)/2, fitted as +couple
     in plane 1 and -couple in plane 2; ``couple_moment_gmm2`` = |couple|·d.
+
+    Parameters
+    ----------
+    static_gmm : complex
+        Static part U_s [g·mm].
+    couple_gmm : complex
+        Couple part U_c [g·mm], +U_c in plane 1 and -U_c in plane 2.
+    couple_moment_gmm2 : float or None
+        Couple moment |U_c|·d [g·mm²]; None when the plane separation d is not known.
+    couple_negligible : bool
+        Whether 2·|U_c| < 0.1·|U_s| (:data:`COUPLE_NEGLIGIBLE_SHARE`).
+
+    References
+    ----------
+    [StaticCouple] in REFERENCES.md.
     """
 
     static_gmm: complex
@@ -257,6 +363,23 @@ def static_couple(w1_gmm: complex, w2_gmm: complex,
     """Static and couple parts: U_s = U1 + U2, U_c = (U1 - U2)/2 (statics).
 
     Back: U1 = U_s/2 + U_c, U2 = U_s/2 - U_c ([StaticCouple]).
+
+    Parameters
+    ----------
+    w1_gmm, w2_gmm : complex
+        Correction (or unbalance) in plane 1 and plane 2 [g·mm].
+    separation_mm : float or None
+        Distance between the planes [mm], for the couple moment; None if not known.
+
+    Returns
+    -------
+    StaticCouple
+        The static and couple parts, the moment and whether the couple is
+        negligible.
+
+    References
+    ----------
+    [StaticCouple] in REFERENCES.md.
     """
     static = w1_gmm + w2_gmm
     couple = (w1_gmm - w2_gmm) / 2.0
@@ -274,6 +397,27 @@ class StoredCoefficients:
     clockwise or counterclockwise); ``service_rpm`` the speed of that
     visit's runs [r/min] (None when it was not stored); ``label`` says which
     visit they came from.
+
+    Parameters
+    ----------
+    matrix : complex array (n_channels, n_planes)
+        The coefficients [``unit`` ``measure`` per g·mm].
+    unit : str
+        Canonical amplitude unit they were measured in.
+    measure : str
+        Amplitude measure: "peak", "peak-to-peak" or "rms".
+    angle_sense : str
+        Sense the phases and weight angles were counted in.
+    rotation : str or None
+        Sense of rotation of that visit; None when not stored.
+    service_rpm : float or None
+        Speed of that visit's runs [r/min]; None when not stored.
+    channel_names : tuple of str
+        The sensors of that visit, in row order.
+    plane_names : tuple of str
+        The planes of that visit, in column order.
+    label : str
+        Which visit they came from, for messages.
     """
 
     matrix: np.ndarray
@@ -302,10 +446,13 @@ def adapt_stored(stored: StoredCoefficients, unit: str, measure: str, angle_sens
     Parameters
     ----------
     stored : StoredCoefficients
+        The coefficients of the earlier visit.
     unit, measure : str
         This visit's amplitude unit and measure.
-    angle_sense, rotation : str, str or None
-        This visit's angle sense, and its sense of rotation.
+    angle_sense : str
+        This visit's angle sense.
+    rotation : str or None
+        This visit's sense of rotation.
     service_rpm : float or None
         This visit's speed [r/min].
 
@@ -317,8 +464,8 @@ def adapt_stored(stored: StoredCoefficients, unit: str, measure: str, angle_sens
     Raises
     ------
     CoefficientMismatch
-        Displacement against velocity, another speed, or an angle sense
-        that cannot be related to the stored one.
+        Displacement against velocity, no speed for this visit, another
+        speed, or an angle sense that cannot be related to the stored one.
 
     References
     ----------

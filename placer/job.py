@@ -27,6 +27,28 @@ class Rotor:
     ``rotation`` is how the rotor turns seen from the side the technician
     works on ("clockwise" or "counterclockwise"; None when the job does not
     say), so that a drawing of that face can show it.
+
+    Parameters
+    ----------
+    name : str
+        The rotor's name.
+    mass_kg : float or None
+        Rotor mass [kg].
+    service_rpm : float or None
+        Maximum service speed [r/min].
+    grade_mm_s : float or None
+        Balance quality grade G [mm/s].
+    com_distances_mm : tuple of float or None
+        Distance from the centre of mass to each plane [mm], in plane order.
+    angle_sense : str
+        How angles are counted from the reference mark (one of
+        :data:`placer.geometry.ANGLE_SENSES`).
+    correction_basis : {"further", "total"}
+        Whether the corrections were measured with the existing parts on.
+    placement_error_deg : float
+        How far a part may be fitted from its angle [deg], either side.
+    rotation : str or None
+        "clockwise" or "counterclockwise", seen from the working side.
     """
 
     name: str
@@ -54,7 +76,17 @@ class Rotor:
 
 @dataclass(frozen=True)
 class ExistingPart:
-    """A part already on the rotor: ``count`` of catalogue item ``item`` on ``position``."""
+    """A part already on the rotor: ``count`` of catalogue item ``item`` on ``position``.
+
+    Parameters
+    ----------
+    position : int
+        Position number (from 1).
+    item : int
+        Index of the item in the plane's catalogue (from 0).
+    count : int
+        How many parts.
+    """
 
     position: int
     item: int
@@ -75,6 +107,25 @@ class PlaneJob:
     job stated it, for the sheet.  ``existing`` are parts already on the
     rotor; with the rotor's ``correction_basis`` "further" the correction was
     measured with them on, with "total" it is for the rotor without them.
+
+    Parameters
+    ----------
+    geometry : PlaneGeometry
+        The plane's positions.
+    catalog : Catalog
+        The parts that may be fitted.
+    correction_gmm : complex
+        Required correction [g·mm], at the angle where mass must be added.
+    given_as : str
+        How the job stated it, for the sheet.
+    tolerance_gmm : float or None
+        The plane's own permissible residual [g·mm]; None for its share of U_per.
+    max_parts : int
+        Longest plan.
+    existing : tuple of ExistingPart
+        Parts already on the rotor.
+    correction_basis : {"further", "total"}
+        Whether the correction was measured with the existing parts on.
     """
 
     geometry: PlaneGeometry
@@ -118,7 +169,17 @@ class PlaneJob:
 
 @dataclass(frozen=True)
 class Job:
-    """Everything one ``placer solve`` run works on."""
+    """Everything one ``placer solve`` run works on.
+
+    Parameters
+    ----------
+    rotor : Rotor
+        The rotor as a whole.
+    planes : tuple of PlaneJob
+        Its correction planes, at least one.
+    source : str
+        The job file, or "(built in Python)".
+    """
 
     rotor: Rotor
     planes: tuple[PlaneJob, ...]

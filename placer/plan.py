@@ -16,6 +16,23 @@ class FittedPart:
     is "fit" for a part to add, "remove" for a part already on the rotor to
     take off (its ``mass_g`` is the part's own mass, positive for an added
     weight, negative for a drilled hole).
+
+    Parameters
+    ----------
+    position : int
+        Position number on the rotor (from 1).
+    angle_deg : float
+        The position's angle [deg], in the job's angle sense.
+    radius_mm : float
+        The position's radius [mm].
+    item : str
+        Catalogue item id.
+    mass_g : float
+        Mass of one part [g]; negative for a hole.
+    count : int
+        How many parts.
+    action : {"fit", "remove"}
+        Fit (or drill) the parts, or take parts on the rotor off.
     """
 
     position: int
@@ -48,6 +65,26 @@ class PlanOption:
     ``residual_angle_deg`` is the angle of that vector, where a further
     part would have to go.  ``lower_bound_gmm`` is the proven least
     residual with at most ``part_count`` parts.
+
+    Parameters
+    ----------
+    part_count : int
+        Parts used (fitted plus removed).
+    parts : tuple of FittedPart
+        The parts, those to remove first.
+    residual_gmm : float
+        Residual left [g·mm].
+    residual_angle_deg : float
+        Angle of the residual vector [deg].
+    lower_bound_gmm : float
+        Proven least residual with at most ``part_count`` parts [g·mm].
+    proven : bool
+        Whether ``residual_gmm`` is proven least for its part count.
+    chance_within : float or None
+        Chance of staying within tolerance once fitted [1] (Monte Carlo);
+        None when not rated.
+    residual_p95_gmm : float or None
+        95th percentile of the fitted residual [g·mm]; None when not rated.
     """
 
     part_count: int
@@ -67,7 +104,32 @@ class PlanOption:
 
 @dataclass(frozen=True)
 class PlaneResult:
-    """The outcome for one correction plane."""
+    """The outcome for one correction plane.
+
+    Parameters
+    ----------
+    plane : PlaneJob
+        The plane as the job gave it.
+    tolerance_gmm : float or None
+        Its permissible residual [g·mm]; None when it has none.
+    tolerance_source : str
+        Where the tolerance came from, for the sheet.
+    front : tuple of PlanOption
+        The trade-off front: plans with more parts and less residual than the
+        one before, the plan of no parts left out.
+    chosen : PlanOption
+        The plan to fit.
+    within_tolerance : bool or None
+        Whether the chosen plan is within the tolerance; None without one.
+    optimal : bool
+        Whether every part count was proven.
+    notes : tuple of str
+        Sentences for the technician.
+    elapsed_s : float
+        Time the engine took [s].
+    method : str
+        How the front was found ("exact search", "exact search + CP-SAT", ...).
+    """
 
     plane: PlaneJob
     tolerance_gmm: float | None
@@ -106,7 +168,23 @@ class PlaneResult:
 
 @dataclass(frozen=True)
 class JobResult:
-    """The outcome for a whole job."""
+    """The outcome for a whole job.
+
+    Parameters
+    ----------
+    job : Job
+        The job solved.
+    planes : tuple of PlaneResult
+        Each plane's result, in the job's order.
+    permissible_gmm : float or None
+        U_per of the whole rotor [g·mm]; None without grade, mass and speed.
+    shares : tuple of PlaneShare or None
+        U_per shared between the planes.
+    notes : tuple of str
+        Notes on the whole job (tolerance, shared stock).
+    stock_short : tuple of str
+        Ids of items the plans still overdraw (no plan within the stock found).
+    """
 
     job: Job
     planes: tuple[PlaneResult, ...]

@@ -46,7 +46,19 @@ ROTOR_SENSES = ("against rotation", "with rotation")
 
 
 def canonical_unit(unit: str) -> str | None:
-    """The unit's canonical spelling, or None if placer does not know it."""
+    """The unit's canonical spelling, or None if placer does not know it.
+
+    Parameters
+    ----------
+    unit : str
+        An amplitude unit as written ("µm", "mils", "ips", ...); surrounding
+        spaces are ignored.
+
+    Returns
+    -------
+    str or None
+        A key of :data:`AMPLITUDE_UNITS` ("um", "mils", "mm/s", "in/s").
+    """
     unit = unit.strip()
     unit = UNIT_ALIASES.get(unit, unit)
     return unit if unit in AMPLITUDE_UNITS else None
@@ -58,6 +70,32 @@ def convert_amplitude(value: float, unit: str, measure: str, to_unit: str,
 
     Displacement and velocity convert only with the speed of a 1× sinusoid:
     velocity = ω·displacement (ω in rad/s).
+
+    Parameters
+    ----------
+    value : float
+        The amplitude [``unit``, ``measure``].
+    unit, to_unit : str
+        Canonical amplitude units (keys of :data:`AMPLITUDE_UNITS`), from and to.
+    measure, to_measure : str
+        Amplitude measures ("peak", "peak-to-peak", "rms"), from and to.
+    speed_rpm : float or None
+        Speed of the once-per-revolution sinusoid [r/min]; needed only between
+        displacement and velocity.
+
+    Returns
+    -------
+    float
+        The amplitude [``to_unit``, ``to_measure``].
+
+    Raises
+    ------
+    ValueError
+        Displacement to velocity (or back) without a speed.
+
+    References
+    ----------
+    Sinusoid identities and the inch [NISTHB44] (module docstring).
     """
     quantity, factor = AMPLITUDE_UNITS[unit]
     to_quantity, to_factor = AMPLITUDE_UNITS[to_unit]
@@ -80,12 +118,28 @@ def phase_in_rotor_sense(phase_deg: float, phase_sense: str, rotor_sense: str,
     phase_deg : float
         The phase as read [deg].
     phase_sense : {"lag", "lead"}
+        How the instrument counts the phase: lag counts against rotation,
+        lead with rotation.
     rotor_sense : str
         The job's angle sense: "against rotation", "with rotation",
         "clockwise" or "counterclockwise" (seen from the working side).
     rotation : {"clockwise", "counterclockwise"} or None
         Sense of rotation seen from the same side; needed only when the
         rotor's angles are clockwise or counterclockwise.
+
+    Returns
+    -------
+    float
+        The phase as an angle in the rotor's sense [deg], in [0, 360).
+
+    Raises
+    ------
+    ValueError
+        Angles counted clockwise or counterclockwise without a ``rotation``.
+
+    References
+    ----------
+    Weight angles and phase counted in one sense [InfluenceCoefficients].
     """
     against = phase_deg if phase_sense == "lag" else -phase_deg
     sense = sense_against_rotation(rotor_sense, rotation)
@@ -97,7 +151,18 @@ def phase_in_rotor_sense(phase_deg: float, phase_sense: str, rotor_sense: str,
 
 
 def quantity_of(unit: str) -> str:
-    """"displacement" or "velocity": what a (canonical) amplitude unit measures."""
+    """"displacement" or "velocity": what a (canonical) amplitude unit measures.
+
+    Parameters
+    ----------
+    unit : str
+        A canonical amplitude unit (a key of :data:`AMPLITUDE_UNITS`).
+
+    Returns
+    -------
+    str
+        "displacement" or "velocity".
+    """
     return AMPLITUDE_UNITS[unit][0]
 
 
@@ -105,6 +170,23 @@ def amplitude_scale(unit: str, measure: str, to_unit: str, to_measure: str) -> f
     """Factor that turns an amplitude (or a coefficient) in one unit and measure into another.
 
     Both units must measure the same quantity (displacement or velocity).
+
+    Parameters
+    ----------
+    unit, to_unit : str
+        Canonical amplitude units, from and to.
+    measure, to_measure : str
+        Amplitude measures ("peak", "peak-to-peak", "rms"), from and to.
+
+    Returns
+    -------
+    float
+        The factor [``to_unit`` per ``unit``].
+
+    Raises
+    ------
+    ValueError
+        A displacement unit against a velocity unit.
 
     References
     ----------
@@ -124,6 +206,12 @@ def sense_against_rotation(angle_sense: str, rotation: str | None) -> str | None
         "against rotation", "with rotation", "clockwise" or "counterclockwise".
     rotation : {"clockwise", "counterclockwise"} or None
         Sense of rotation seen from the same side as the angles.
+
+    Returns
+    -------
+    str or None
+        "against rotation" or "with rotation"; None for clockwise or
+        counterclockwise angles without a rotation.
     """
     if angle_sense in ROTOR_SENSES:
         return angle_sense

@@ -30,6 +30,27 @@ class MassRecord:
     ``mass_g`` of one item [g], ``count`` items (negative in a planned trim:
     parts to take off); ``role`` one of
     :data:`MASS_ROLES`; ``removed_after`` whether it came off after its run.
+
+    Parameters
+    ----------
+    plane : int
+        Index of the plane (from 0).
+    position : int or None
+        Position number (from 1), or None for a mass placed by angle.
+    angle_deg : float
+        Angle [deg] in the rotor's angle sense.
+    radius_mm : float
+        Radius [mm].
+    mass_g : float
+        Mass of one item [g].
+    item : str or None
+        Catalogue item id; None for a trial weight.
+    count : int
+        Items; negative in a planned trim for parts to take off.
+    role : str
+        One of :data:`MASS_ROLES`.
+    removed_after : bool
+        Whether it came off after its run.
     """
 
     plane: int
@@ -46,7 +67,21 @@ class MassRecord:
 @dataclass(frozen=True)
 class RunRecord:
     """One run: ``readings`` (amplitude, phase_deg) per channel as read, and
-    ``phasors`` the same readings converted to the session's convention."""
+    ``phasors`` the same readings converted to the session's convention.
+
+    Parameters
+    ----------
+    name : str
+        The run's name.
+    kind : str
+        "reference", "trial" or "check".
+    readings : tuple of (float, float)
+        (amplitude [unit and measure], phase [deg] as read) per channel.
+    phasors : tuple of complex
+        The same readings as complex numbers, phases in the rotor's angle sense.
+    masses : tuple of MassRecord
+        Masses fitted for the run.
+    """
 
     name: str
     kind: str
@@ -67,6 +102,45 @@ class VisitRecord:
     of rotation ("clockwise", "counterclockwise"), None when not known.
     Phasors and coefficients are in ``unit`` and ``measure``.  Equality
     compares the coefficient arrays element by element.
+
+    Parameters
+    ----------
+    machine_id : str
+        The machine's tag.
+    machine_name : str
+        Its name.
+    started_at : str
+        When the visit took place, ISO 8601.
+    session_file : str
+        The session file it was read from.
+    unit : str
+        Amplitude unit of the phasors and coefficients.
+    measure : str
+        Amplitude measure: "peak", "peak-to-peak" or "rms".
+    phase_sense : str
+        "lag" or "lead", as the instrument counted.
+    angle_sense : str
+        Sense the angles and phasors are counted in.
+    channel_names : tuple of str
+        The sensors, in reading order.
+    plane_names : tuple of str
+        The planes, in order.
+    runs : tuple of RunRecord
+        The runs.
+    coefficients : complex array (n_channels, n_planes) or None
+        Influence coefficients [unit and measure per g·mm], stored read-only.
+    condition : float or None
+        Their condition number [1].
+    coefficient_source : str
+        Where they came from.
+    planned : tuple of MassRecord
+        The plan chosen (role "planned").
+    result : dict
+        A JSON-serialisable summary of the outcome.
+    service_rpm : float or None
+        Speed of the runs [r/min].
+    rotation : str or None
+        Sense of rotation.
     """
 
     machine_id: str
@@ -112,7 +186,19 @@ class VisitRecord:
 
 @dataclass(frozen=True)
 class MachineSummary:
-    """A machine in the history: its number of visits and the last one's start."""
+    """A machine in the history: its number of visits and the last one's start.
+
+    Parameters
+    ----------
+    id : str
+        The machine's tag.
+    name : str
+        Its name.
+    visits : int
+        Visits stored.
+    last_visit : str or None
+        Start of the latest visit, ISO 8601; None when there is none.
+    """
 
     id: str
     name: str
@@ -122,7 +208,25 @@ class MachineSummary:
 
 @dataclass(frozen=True)
 class VisitSummary:
-    """One line of a machine's history."""
+    """One line of a machine's history.
+
+    Parameters
+    ----------
+    id : int
+        The visit's number in the database.
+    started_at : str
+        When it took place, ISO 8601.
+    coefficient_source : str
+        Where its coefficients came from.
+    condition : float or None
+        Their condition number [1].
+    runs : int
+        Runs stored.
+    planned : tuple of MassRecord
+        The plan chosen.
+    result : dict
+        The stored summary of the outcome.
+    """
 
     id: int
     started_at: str
@@ -138,6 +242,16 @@ def utc_label(started_at: str) -> str:
 
     Times with an offset are shown in UTC; a time without one (written by
     hand into a file) is shown as stored, without a zone.
+
+    Parameters
+    ----------
+    started_at : str
+        ISO 8601 text, as stored.
+
+    Returns
+    -------
+    str
+        The label; the text itself when it is not ISO 8601.
     """
     try:
         when = datetime.fromisoformat(started_at)
@@ -152,6 +266,11 @@ def utc_label(started_at: str) -> str:
 
 def check_record(record: VisitRecord) -> None:
     """Refuse a record the schema cannot hold faithfully (before any writing).
+
+    Parameters
+    ----------
+    record : VisitRecord
+        The record to be written.
 
     Raises
     ------
@@ -215,6 +334,18 @@ def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRec
     ``started_at``, else now (UTC).  Readings and coefficients are kept in the
     session's unit and measure, with its angle sense, sense of rotation and
     speed, so that a later visit can convert them or refuse them.
+
+    Parameters
+    ----------
+    result : FieldResult
+        The solved visit.
+    started_at : str or None
+        When the visit started, ISO 8601, used when the session gives no date.
+
+    Returns
+    -------
+    VisitRecord
+        The record, its plan's parts to take off with negative counts.
     """
     s = result.session
     runs = []

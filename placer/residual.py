@@ -23,6 +23,16 @@ def part_gmm(part: FittedPart) -> complex:
 
     A part removed counts with a minus sign (it takes its correction away).
 
+    Parameters
+    ----------
+    part : FittedPart
+        The parts (count of one item on one position).
+
+    Returns
+    -------
+    complex
+        Their correction [g·mm], at the angle where mass is added.
+
     References
     ----------
     Unbalance of a part U = m·e [BlochGeitner]; unbalances add as vectors
@@ -32,7 +42,22 @@ def part_gmm(part: FittedPart) -> complex:
 
 
 def fitted_gmm(parts: Iterable[FittedPart]) -> complex:
-    """Sum of what the parts correct [g·mm] (see :func:`part_gmm`)."""
+    """Sum of what the parts correct [g·mm] (see :func:`part_gmm`).
+
+    Parameters
+    ----------
+    parts : iterable of FittedPart
+        The parts fitted (and removed).
+
+    Returns
+    -------
+    complex
+        The summed correction [g·mm].
+
+    References
+    ----------
+    Unbalances in one plane add as vectors [StaticCouple].
+    """
     return sum((part_gmm(part) for part in parts), 0j)
 
 

@@ -27,7 +27,17 @@ from placer.plan import FittedPart
 
 @dataclass(frozen=True)
 class Robustness:
-    """Chance within tolerance and the 95th percentile of the residual [g·mm]."""
+    """Chance within tolerance and the 95th percentile of the residual [g·mm].
+
+    Parameters
+    ----------
+    chance_within : float
+        Share of the draws whose residual is within tolerance [1].
+    residual_p95_gmm : float
+        95th percentile of the residual over the draws [g·mm].
+    samples : int
+        Number of draws.
+    """
 
     chance_within: float
     residual_p95_gmm: float
@@ -38,7 +48,34 @@ def residual_samples_gmm(correction_gmm: complex, parts: tuple[FittedPart, ...],
                          mass_tolerance_g: dict[str, float], placement_error_deg: float,
                          samples: int = DEFAULT_SAMPLES,
                          seed: int = DEFAULT_SEED) -> np.ndarray:
-    """Residual magnitude of ``samples`` fitted outcomes of one plan [g·mm]."""
+    """Residual magnitude of ``samples`` fitted outcomes of one plan [g·mm].
+
+    Parameters
+    ----------
+    correction_gmm : complex
+        Required correction [g·mm].
+    parts : tuple of FittedPart
+        The plan; parts to take off come off exactly.
+    mass_tolerance_g : dict of str to float
+        Item id -> how far one part's mass may be from nominal [g], either
+        side; items not in it are exact.
+    placement_error_deg : float
+        How far a part may be fitted from its angle [deg], either side.
+    samples : int
+        Number of draws.
+    seed : int
+        Seed of the random generator.
+
+    Returns
+    -------
+    float array (samples,)
+        The residual of each draw [g·mm].
+
+    References
+    ----------
+    [RubinsteinKroese] (Monte Carlo, from memory); unbalances add as vectors
+    [StaticCouple].
+    """
     rng = np.random.default_rng(seed)
     total = np.full(samples, complex(correction_gmm))
     for part in parts:
@@ -58,7 +95,34 @@ def residual_samples_gmm(correction_gmm: complex, parts: tuple[FittedPart, ...],
 def robustness(correction_gmm: complex, parts: tuple[FittedPart, ...], tolerance_gmm: float,
                mass_tolerance_g: dict[str, float], placement_error_deg: float,
                samples: int = DEFAULT_SAMPLES, seed: int = DEFAULT_SEED) -> Robustness:
-    """The chance a plan stays within ``tolerance_gmm`` once fitted, and its p95 residual."""
+    """The chance a plan stays within ``tolerance_gmm`` once fitted, and its p95 residual.
+
+    Parameters
+    ----------
+    correction_gmm : complex
+        Required correction [g·mm].
+    parts : tuple of FittedPart
+        The plan.
+    tolerance_gmm : float
+        Permissible residual of the plane [g·mm].
+    mass_tolerance_g : dict of str to float
+        Item id -> mass tolerance of one part [g], either side.
+    placement_error_deg : float
+        Angle error of fitting [deg], either side.
+    samples : int
+        Number of draws.
+    seed : int
+        Seed of the random generator.
+
+    Returns
+    -------
+    Robustness
+        Share of draws within tolerance, their 95th percentile, the draws.
+
+    References
+    ----------
+    [RubinsteinKroese], ch. 4 (a probability as the share of draws; from memory).
+    """
     values = residual_samples_gmm(correction_gmm, parts, mass_tolerance_g, placement_error_deg,
                                   samples, seed)
     return Robustness(float(np.mean(values <= tolerance_gmm)),

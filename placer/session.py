@@ -21,7 +21,16 @@ of the sum of squares over sensors."""
 
 @dataclass(frozen=True)
 class Channel:
-    """One sensor (or one sensor at one speed), with its weight in the fit."""
+    """One sensor (or one sensor at one speed), with its weight in the fit.
+
+    Parameters
+    ----------
+    name : str
+        The sensor's name ("DE horizontal").
+    weight : float
+        Its weight in the least-squares fit and in the objective (amplitudes
+        are scaled by its square root).
+    """
 
     name: str
     weight: float = 1.0
@@ -29,7 +38,15 @@ class Channel:
 
 @dataclass(frozen=True)
 class FieldPlane:
-    """A correction plane of the machine: its positions and its catalogue."""
+    """A correction plane of the machine: its positions and its catalogue.
+
+    Parameters
+    ----------
+    geometry : PlaneGeometry
+        Its positions.
+    catalog : Catalog
+        The parts that may be fitted on it.
+    """
 
     geometry: PlaneGeometry
     catalog: Catalog
@@ -40,6 +57,23 @@ class PlacedMass:
     """A mass on a plane, as fitted: trial weight or part of a plan.
 
     ``position`` is the position number when it was fitted on one.
+
+    Parameters
+    ----------
+    plane : int
+        Index of the plane in the session (from 0).
+    mass_g : float
+        Mass of one part [g].
+    angle_deg : float
+        Where it was fitted [deg], in the rotor's angle sense.
+    radius_mm : float
+        Radius at which it acts [mm].
+    position : int or None
+        Position number (from 1); None for a trial weight placed by angle.
+    item : str or None
+        Catalogue item id of a part of a plan; None for a trial weight.
+    count : int
+        How many such parts.
     """
 
     plane: int
@@ -63,6 +97,22 @@ class Run:
     measure (as read: peak, peak-to-peak or rms) with phases in the rotor's
     angle sense.  ``added`` are the masses fitted for this run;
     ``removed_after`` says whether they came off before the next run.
+
+    Parameters
+    ----------
+    name : str
+        The run's name.
+    kind : {"reference", "trial", "check"}
+        What the run was for.
+    readings : complex array (n_channels,)
+        The readings [session unit and measure], phases in the rotor's angle sense.
+    raw : tuple of (float, float)
+        The readings as read: (amplitude [session unit and measure], phase
+        [deg] in the instrument's sense), one pair per sensor.
+    added : tuple of PlacedMass
+        Trial weights (trial runs) or parts of a plan (check runs) fitted for it.
+    removed_after : bool
+        Whether ``added`` came off after the run.
     """
 
     name: str
@@ -75,7 +125,48 @@ class Run:
 
 @dataclass(frozen=True)
 class Session:
-    """Everything one ``placer field`` run works on."""
+    """Everything one ``placer field`` run works on.
+
+    Parameters
+    ----------
+    machine_id : str
+        The machine's tag ("WM-0417"), the key of its history.
+    machine_name : str
+        Its name, free text.
+    rotor : Rotor
+        The rotor: angle sense, rotation, speed, tolerance inputs.
+    plane_separation_mm : float or None
+        Distance between the two correction planes [mm], for the couple moment.
+    unit : str
+        Amplitude unit of the readings (a key of
+        :data:`placer.readings.AMPLITUDE_UNITS`).
+    measure : str
+        Amplitude measure: "peak", "peak-to-peak" or "rms".
+    phase_sense : {"lag", "lead"}
+        How the instrument counted the phase.
+    channels : tuple of Channel
+        The sensors, in the order of every run's readings.
+    planes : tuple of FieldPlane
+        The correction planes.
+    runs : tuple of Run
+        The runs, the reference run first.
+    norm : {"max", "rms"}
+        What the plan makes least: the largest weighted reading, or the root
+        of the sum of their squares (:data:`FIELD_NORMS`).
+    max_parts : int
+        Longest plan.
+    coefficients : {"runs", "stored"}
+        Where the influence coefficients come from: this visit's trial runs,
+        or the machine's history.
+    source : str
+        The session file.
+    vibration_limit : float or None
+        Vibration to reach [session unit and measure]: the fewest parts
+        predicted at or below it are chosen; None for the least vibration.
+    visit_date : str or None
+        Date (or UTC date and time) of the visit, ISO 8601; None for when
+        placer is run.
+    """
 
     machine_id: str
     machine_name: str

@@ -41,7 +41,35 @@ def _reach_note(plane: PlaneJob, arrays: PlaneArrays) -> str | None:
 
 def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S,
               errors: FittingErrors | None = None) -> JobResult:
-    """Solve every plane of ``job`` and choose a plan for each."""
+    """Solve every plane of ``job`` and choose a plan for each.
+
+    Each plane gets its tolerance, its proven trade-off front and the fewest
+    parts within tolerance (or the least residual); planes that overdraw a
+    shared drawer are then planned together.
+
+    Parameters
+    ----------
+    job : Job
+        The job.
+    time_limit_s : float
+        Time the engine may spend on each plane (and on each planning of
+        planes together) [s].
+    errors : FittingErrors or None
+        How fitting errors are rated (Monte Carlo) and whether they pick the
+        plan; None for the defaults.
+
+    Returns
+    -------
+    JobResult
+        The planes' results, the job's permissible residual, its shares and notes.
+
+    Raises
+    ------
+    ToleranceError
+        From :func:`placer.tolerance.job_tolerances`: distances from the
+        centre of mass that cannot share U_per (other than two planes, or
+        both zero).
+    """
     tolerances = job_tolerances(job)
     results = []
     arrays_of = []
@@ -68,6 +96,15 @@ class FittingErrors:
 
     ``min_chance``: choose the fewest parts whose chance of staying within
     tolerance is at least this (None: choose by residual alone).
+
+    Parameters
+    ----------
+    samples : int
+        Monte Carlo draws per plan.
+    seed : int
+        Seed of the draws.
+    min_chance : float or None
+        Least chance of staying within tolerance [1], or None.
     """
 
     samples: int = DEFAULT_SAMPLES
@@ -126,7 +163,20 @@ def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, met
 
 
 def fitting_errors_given(plane: PlaneJob, placement_error_deg: float) -> bool:
-    """True when a part may be fitted off its nominal mass or angle."""
+    """True when a part may be fitted off its nominal mass or angle.
+
+    Parameters
+    ----------
+    plane : PlaneJob
+        The plane; its items' mass tolerances count.
+    placement_error_deg : float
+        The job's angle error of fitting [deg].
+
+    Returns
+    -------
+    bool
+        Whether the error or any item's mass tolerance is above zero.
+    """
     return placement_error_deg > 0 or any(item.mass_tolerance_g > 0
                                           for item in plane.catalog.items)
 
@@ -144,6 +194,21 @@ def equal_mass_variants(plane: PlaneJob, option: PlanOption,
     They leave the same residual; their mass tolerances may differ, so the
     Monte Carlo can tell them apart.  Parts taken off are what is on the
     rotor and are not swapped.  Stock is respected; at most ``limit`` plans.
+
+    Parameters
+    ----------
+    plane : PlaneJob
+        The plane, for its catalogue.
+    option : PlanOption
+        The plan.
+    limit : int
+        Most combinations tried.
+
+    Returns
+    -------
+    list of PlanOption
+        The variants within stock (items in catalogue order), or ``[option]``
+        when none is.
     """
     items = plane.catalog.items
     choices = []

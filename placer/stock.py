@@ -26,6 +26,16 @@ def shared_stock_groups(planes: Sequence[PlaneJob]) -> list[list[int]]:
     Two planes are linked when both may use one item (same catalogue file,
     same id) whose stock is limited; links are followed through, so a
     group is every plane that one drawer's shortage can touch.
+
+    Parameters
+    ----------
+    planes : sequence of PlaneJob
+        The job's planes.
+
+    Returns
+    -------
+    list of list of int
+        Groups of two or more plane indices, each sorted, the groups sorted.
     """
     users: dict[str, set[int]] = {}
     for i, plane in enumerate(planes):
@@ -44,7 +54,21 @@ def shared_stock_groups(planes: Sequence[PlaneJob]) -> list[list[int]]:
 
 def overdrawn_items(planes: Sequence[PlaneJob],
                     parts_of: Sequence[Sequence[FittedPart]]) -> list[Item]:
-    """Items whose parts to fit, over all ``planes`` together, exceed their stock."""
+    """Items whose parts to fit, over all ``planes`` together, exceed their stock.
+
+    Parameters
+    ----------
+    planes : sequence of PlaneJob
+        The planes, for their catalogues.
+    parts_of : sequence of sequence of FittedPart
+        Each plane's plan, in the order of ``planes``; parts to remove do not
+        draw on stock.
+
+    Returns
+    -------
+    list of Item
+        One item per overdrawn drawer (catalogue file and id).
+    """
     used: dict[str, int] = {}
     seen: dict[str, Item] = {}
     for plane, parts in zip(planes, parts_of):
@@ -64,6 +88,26 @@ def share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArray
 
     Returns the results, notes, and the ids of items still overdrawn (when
     CP-SAT found no plan within the shared stock in the time limit).
+
+    Parameters
+    ----------
+    job : Job
+        The job.
+    results : list of PlaneResult
+        Each plane's result planned on its own; replaced in place where re-planned.
+    arrays_of : list of PlaneArrays
+        Each plane's arrays.
+    time_limit_s : float
+        Time the integer model may take for each group of planes [s].
+
+    Returns
+    -------
+    results : list of PlaneResult
+        The results, re-planned planes with their new plans.
+    notes : list of str
+        One note per group re-planned or left short.
+    short : tuple of str
+        Ids of the items still overdrawn, sorted.
     """
     notes: list[str] = []
     short_left: list[str] = []
@@ -105,6 +149,26 @@ def share_stock(job: Job, results: list[PlaneResult], arrays_of: list[PlaneArray
 
 def rechosen(result: PlaneResult, arrays: PlaneArrays, parts: PartList,
               proven: bool) -> PlaneResult:
+    """``result`` with the plan chosen together with other planes under shared stock.
+
+    Parameters
+    ----------
+    result : PlaneResult
+        The plane's result planned on its own.
+    arrays : PlaneArrays
+        The plane's arrays.
+    parts : PartList
+        The plan from the integer model, as (row, column, count).
+    proven : bool
+        Whether the model proved the joint plans optimal.
+
+    Returns
+    -------
+    PlaneResult
+        The new chosen plan (bounded below by the plane's own front), whether
+        it is within tolerance, optimal only if it was and the plan is proven,
+        and a note.
+    """
     residual = residual_of(arrays.target, arrays.effects, parts)
     count = sum(c for _, _, c in parts)
     # The plane's own least residual with at most this many parts bounds it below.

@@ -29,6 +29,12 @@ def number(value: Any, key: str, *, positive: bool = False, non_negative: bool =
         Also refuse zero and below, or below zero.
     allow_none : bool
         Let None through (an optional field).
+
+    Raises
+    ------
+    InputError
+        When the value is not a number (a bool is not one), is not finite, is
+        larger than 1e12 in size, or breaks ``positive`` or ``non_negative``.
     """
     if value is None and allow_none:
         return
@@ -43,13 +49,43 @@ def number(value: Any, key: str, *, positive: bool = False, non_negative: bool =
 
 
 def numbers(values: Iterable[Any], key: str, **rules: bool) -> None:
-    """:func:`number` for every value of a sequence (``key[1]``, ``key[2]``, ...)."""
+    """:func:`number` for every value of a sequence (``key[1]``, ``key[2]``, ...).
+
+    Parameters
+    ----------
+    values : iterable
+        The values.
+    key : str
+        The field they are; value i is named ``key[i]``, counted from 1.
+    **rules : bool
+        ``positive``, ``non_negative`` or ``allow_none``, as for :func:`number`.
+
+    Raises
+    ------
+    InputError
+        At the first value :func:`number` refuses.
+    """
     for i, value in enumerate(values, start=1):
         number(value, f"{key}[{i}]", **rules)
 
 
 def whole(value: Any, key: str, minimum: int | None = None, maximum: int | None = None) -> None:
-    """Refuse a value that is not a whole number within ``minimum`` .. ``maximum``."""
+    """Refuse a value that is not a whole number within ``minimum`` .. ``maximum``.
+
+    Parameters
+    ----------
+    value : Any
+        The value; it must be an ``int`` (not a bool).
+    key : str
+        The field it is, for the message.
+    minimum, maximum : int or None
+        Least and greatest value allowed, both included; None for no bound.
+
+    Raises
+    ------
+    InputError
+        When the value is not an ``int``, or is outside the bounds.
+    """
     if isinstance(value, bool) or not isinstance(value, int):
         raise InputError(f"is {value!r}", key=key, expected="a whole number")
     if minimum is not None and value < minimum:
@@ -59,7 +95,22 @@ def whole(value: Any, key: str, minimum: int | None = None, maximum: int | None 
 
 
 def one_of(value: Any, key: str, choices: Iterable[Any]) -> None:
-    """Refuse a value that is not one of ``choices``."""
+    """Refuse a value that is not one of ``choices``.
+
+    Parameters
+    ----------
+    value : Any
+        The value.
+    key : str
+        The field it is, for the message.
+    choices : iterable
+        The values allowed; the message lists them.
+
+    Raises
+    ------
+    InputError
+        When the value is not among ``choices``.
+    """
     choices = tuple(choices)
     if value not in choices:
         raise InputError(f"is {value!r}", key=key,
@@ -67,7 +118,24 @@ def one_of(value: Any, key: str, choices: Iterable[Any]) -> None:
 
 
 def same_length(values: Iterable[Any], count: int, key: str, what: str) -> None:
-    """Refuse a sequence that does not have ``count`` entries (one per ``what``)."""
+    """Refuse a sequence that does not have ``count`` entries (one per ``what``).
+
+    Parameters
+    ----------
+    values : iterable
+        The sequence.
+    count : int
+        How many entries it must have.
+    key : str
+        The field it is, for the message.
+    what : str
+        What each entry stands for ("position", "plane"), for the message.
+
+    Raises
+    ------
+    InputError
+        When the sequence has another number of entries.
+    """
     n = len(tuple(values))
     if n != count:
         raise InputError(f"has {n} entries for {count} {what}s", key=key,
