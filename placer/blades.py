@@ -318,7 +318,18 @@ class ArrangementResult:
             raise ValueError("lower bound above the residual")
 
     def blade_in(self, slot: int) -> str:
-        """The id of the blade in slot ``slot`` (numbered from 1)."""
+        """The id of the blade in slot ``slot`` (numbered from 1).
+
+        Parameters
+        ----------
+        slot : int
+            Slot number, from 1.
+
+        Returns
+        -------
+        str
+            The blade's id.
+        """
         return self.blade_ids[slot - 1]
 
     def slot_of(self) -> Mapping[str, int]:

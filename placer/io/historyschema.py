@@ -43,7 +43,13 @@ identities: peak-to-peak = 2·peak, rms = peak/√2)."""
 def migrate_1_to_2(conn: sqlite3.Connection) -> None:
     """Version 1 -> 2: visits get service_rpm and rotation (NULL: not known);
     phasors, coefficients and the result's vibration figures go from peak to
-    the visit's own measure."""
+    the visit's own measure.
+
+    Parameters
+    ----------
+    conn : sqlite3.Connection
+        The open database, inside the opening transaction.
+    """
     conn.execute("ALTER TABLE visits ADD COLUMN service_rpm REAL")
     conn.execute("ALTER TABLE visits ADD COLUMN rotation TEXT")
     for measure, factor in _V1_PEAK_PER_MEASURE.items():

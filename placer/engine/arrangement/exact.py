@@ -85,6 +85,18 @@ def reduce_mod_cyclotomic(coeffs: Sequence[int], n: int) -> list[int]:
     Two integer sums over the n-th roots of unity are equal exactly when
     their reductions are equal.
 
+    Parameters
+    ----------
+    coeffs : sequence of int
+        Coefficients of P, lowest degree first [scaled g·mm].
+    n : int
+        Order of the roots of unity (number of equally spaced slots) [-].
+
+    Returns
+    -------
+    list of int
+        The remainder's φ(n) coefficients, lowest degree first.
+
     References
     ----------
     [RootsOfUnity].
@@ -119,7 +131,18 @@ def is_zero_sum(coeffs: Sequence[int], n: int) -> bool:
 
 
 def prime_power(n: int) -> tuple[int, int] | None:
-    """(p, k) with n = p^k for a prime p, or None."""
+    """(p, k) with n = p^k for a prime p, or None.
+
+    Parameters
+    ----------
+    n : int
+        A whole number, 2 or more [-].
+
+    Returns
+    -------
+    (int, int) or None
+        The prime and its power; None when n has two prime factors or more.
+    """
     for p in range(2, n + 1):
         if n % p == 0:
             k, rest = 0, n
@@ -136,6 +159,18 @@ def zero_possible(values: Sequence[int], n: int) -> bool | None:
     Decided exactly for n a prime power p^k (every value occurs a multiple of
     p times); None (not decided here) for other n.
 
+    Parameters
+    ----------
+    values : sequence of int
+        The integer weights [scaled g·mm].
+    n : int
+        Number of equally spaced slots [-].
+
+    Returns
+    -------
+    bool or None
+        Whether a zero arrangement exists; None when n is not a prime power.
+
     References
     ----------
     [RootsOfUnity]: Φ_{p^k}(x) = Φ_p(x^{p^{k-1}}).
@@ -151,6 +186,19 @@ def periodic_zero(values: Sequence[int], n: int) -> list[int] | None:
 
     Possible when every value occurs a multiple of p times: each value fills
     whole regular p-gons.
+
+    Parameters
+    ----------
+    values : sequence of int
+        The integer weights [scaled g·mm].
+    n : int
+        Number of equally spaced slots [-].
+
+    Returns
+    -------
+    list of int or None
+        The value in each slot j = 0 .. n - 1, for the smallest such prime p;
+        None when no prime dividing n divides every value's count.
 
     References
     ----------
@@ -235,7 +283,18 @@ def _primes_dividing(n: int) -> list[int]:
 
 
 def totient(n: int) -> int:
-    """Euler's φ(n): the degree of Φ_n."""
+    """Euler's φ(n): the degree of Φ_n.
+
+    Parameters
+    ----------
+    n : int
+        A whole number, 1 or more [-].
+
+    Returns
+    -------
+    int
+        φ(n), the count of 1 ≤ k ≤ n with gcd(k, n) = 1.
+    """
     return len(cyclotomic(n)) - 1
 
 

@@ -32,7 +32,20 @@ CPSAT_DETERMINISTIC_S = 20.0
 
 
 def random_start(problem: Problem, rng: np.random.Generator) -> np.ndarray:
-    """The pinned blades in place, the others in a seeded random order."""
+    """The pinned blades in place, the others in a seeded random order.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    rng : numpy.random.Generator
+        The seeded generator drawn from.
+
+    Returns
+    -------
+    numpy.ndarray
+        The blade in each engine slot.
+    """
     arr = problem.pinned.copy()
     free = problem.free_slots
     arr[free] = rng.permutation(problem.free_blades)
@@ -73,6 +86,26 @@ def _violation_after_swaps(problem: Problem, arr: np.ndarray, free: np.ndarray) 
 
 def descend(problem: Problem, arr: np.ndarray, budget: int) -> tuple[np.ndarray, int]:
     """Best-swap descent on (broken tables, couple excess, residual); returns (arr, work).
+
+    Each step takes the swap of two open slots' blades that most improves
+    the three keys compared in that order; it stops when none improves or
+    the work is spent.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    arr : numpy.ndarray
+        The arrangement to start from (engine slots); not changed.
+    budget : int
+        Most swaps scored [-].
+
+    Returns
+    -------
+    arr : numpy.ndarray
+        The arrangement reached.
+    work : int
+        Swaps scored [-].
 
     References
     ----------
@@ -162,6 +195,18 @@ def feasible_start(problem: Problem, seed: int) -> np.ndarray | None | bool:
     Returns the arrangement, False when CP-SAT proves there is none, or None
     when it finds none within its deterministic time.  The couple limit is
     left to the descent.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem: its pins and pair tables.
+    seed : int
+        CP-SAT's random seed [-].
+
+    Returns
+    -------
+    numpy.ndarray or bool or None
+        The blade in each engine slot; False or None as above.
 
     References
     ----------

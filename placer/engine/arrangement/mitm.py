@@ -55,20 +55,60 @@ checked candidate by candidate, about 8 times slower than sums alone)."""
 
 @lru_cache(maxsize=None)
 def perm_table(k: int) -> np.ndarray:
-    """Every permutation of range(k), one per row (itertools order)."""
+    """Every permutation of range(k), one per row (itertools order).
+
+    Parameters
+    ----------
+    k : int
+        Length [-]; 0 gives one empty row.
+
+    Returns
+    -------
+    numpy.ndarray
+        Shape (k!, k).
+    """
     if k == 0:
         return np.zeros((1, 0), dtype=np.int64)
     return np.array(list(itertools.permutations(range(k))), dtype=np.int64)
 
 
 def half_cost(m: int, a: int, mirrored: bool = False) -> int:
-    """Half-arrangements kept for m open slots split a | m - a (A halved by the mirror rule)."""
+    """Half-arrangements kept for m open slots split a | m - a (A halved by the mirror rule).
+
+    Parameters
+    ----------
+    m : int
+        Open slots [-].
+    a : int
+        Slots in half A [-].
+    mirrored : bool
+        Whether the mirror rule halves half A's permutations.
+
+    Returns
+    -------
+    int
+        C(m, a) blade sets times (a! [halved] + (m - a)!) half-arrangements.
+    """
     keep_a = math.factorial(a) // (2 if mirrored and a >= 2 else 1)
     return math.comb(m, a) * (keep_a + math.factorial(m - a))
 
 
 def best_split(m: int, mirrored: bool = False) -> int | None:
-    """Size of half A that enumerates least, or None if a half would pass MAX_HALF."""
+    """Size of half A that enumerates least, or None if a half would pass MAX_HALF.
+
+    Parameters
+    ----------
+    m : int
+        Open slots [-].
+    mirrored : bool
+        Whether the mirror rule halves half A's permutations.
+
+    Returns
+    -------
+    int or None
+        The size of half A (the smaller on a tie); None also when half A's
+        blade sets would pass MAX_SUBSETS.
+    """
     sizes = [a for a in range(0, m + 1) if a <= MAX_HALF and m - a <= MAX_HALF]
     if not sizes:
         return None
@@ -78,7 +118,36 @@ def best_split(m: int, mirrored: bool = False) -> int | None:
 
 @dataclass
 class Frame:
-    """An arrangement with some slots open, seen from the halves A and B."""
+    """An arrangement with some slots open, seen from the halves A and B.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    base : numpy.ndarray
+        The blade in each engine slot, -1 in the open slots.
+    a_slots : numpy.ndarray
+        Engine slots of half A.
+    b_slots : numpy.ndarray
+        Engine slots of half B.
+    pool : numpy.ndarray
+        The blades not in ``base``, to fill the open slots.
+    target : complex
+        Static unbalance of the disc and the filled slots [g·mm].
+    couple_target : complex
+        Couple of the disc and the filled slots [g·mm²].
+    allowed : dict
+        Half ("A", "B") -> boolean table [open slot of the half, blade]: the
+        blades the pair tables with filled slots allow there.
+    inner : dict
+        Half -> list of (i, k, table): pair tables within the half, by position.
+    cross : list
+        (i in A, k in B, table) pair tables across the halves.
+    order_pair : dict
+        Half -> (i, k): the mirror rule blade(i) < blade(k) within that half.
+    tables : dict
+        Cache of permutation and slot tables, built on first use.
+    """
 
     problem: Problem
     base: np.ndarray
@@ -105,7 +174,18 @@ class Frame:
         return 1 if self.unlimited else CONSTRAINED_UNIT
 
     def limited(self, half: str) -> bool:
-        """Whether a limit or pin restricts the arrangements of one half."""
+        """Whether a limit or pin restricts the arrangements of one half.
+
+        Parameters
+        ----------
+        half : {"A", "B"}
+            The half.
+
+        Returns
+        -------
+        bool
+            True when a pair table within the half, or with a filled slot, applies.
+        """
         return bool(self.inner[half]) or not self.allowed[half].all()
 
     def perms(self, half: str) -> np.ndarray:
@@ -113,6 +193,16 @@ class Frame:
 
         Blades of a half are always listed in increasing order, so the mirror
         rule blade(u) < blade(v) is perm[u] < perm[v], the same for every set.
+
+        Parameters
+        ----------
+        half : {"A", "B"}
+            The half.
+
+        Returns
+        -------
+        numpy.ndarray
+            One permutation of the half's positions per row (cached).
         """
         key = ("perms", half)
         if key not in self.tables:
@@ -125,7 +215,20 @@ class Frame:
         return self.tables[key]
 
     def slot_sums(self, half: str, weights: np.ndarray) -> np.ndarray:
-        """Sum of every arrangement in ``perms(half)`` of blades with ``weights``."""
+        """Sum of every arrangement in ``perms(half)`` of blades with ``weights``.
+
+        Parameters
+        ----------
+        half : {"A", "B"}
+            The half.
+        weights : numpy.ndarray
+            Moment weights of the half's blades, in increasing blade order [g·mm].
+
+        Returns
+        -------
+        numpy.ndarray
+            Complex Σ w·z of each arrangement [g·mm].
+        """
         if half not in self.tables:
             slots = self.a_slots if half == "A" else self.b_slots
             inverse = np.argsort(self.perms(half), axis=1)
@@ -145,6 +248,29 @@ def make_frame(problem: Problem, base: np.ndarray, a_slots: np.ndarray,
     blades allowed in the open slot; tables within a half are checked on
     its rows; tables across the halves on the candidate pairs.  With
     ``mirror``, the problem's mirror rule (both its slots open) is applied.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    base : numpy.ndarray
+        An arrangement (or the pins, -1 where free) in engine slots; not changed.
+    a_slots : numpy.ndarray
+        Engine slots of half A.
+    b_slots : numpy.ndarray
+        Engine slots of half B.
+    mirror : bool
+        Apply the problem's mirror rule.
+
+    Returns
+    -------
+    Frame
+        The frame, its target the disc and the filled slots.
+
+    Raises
+    ------
+    ValueError
+        With ``mirror``, when a slot of the mirror rule is not open.
     """
     n = problem.n
     base = base.copy()
@@ -194,12 +320,43 @@ def make_frame(problem: Problem, base: np.ndarray, a_slots: np.ndarray,
 
 
 def half_rows(frame: Frame, half: str, blades: np.ndarray) -> np.ndarray:
-    """Every arrangement of ``blades`` on one half that keeps the half's own limits."""
+    """Every arrangement of ``blades`` on one half that keeps the half's own limits.
+
+    Parameters
+    ----------
+    frame : Frame
+        The frame.
+    half : {"A", "B"}
+        The half.
+    blades : numpy.ndarray
+        The half's blades, in increasing order.
+
+    Returns
+    -------
+    numpy.ndarray
+        One row of blades (by the half's slots) per arrangement kept.
+    """
     return blades[frame.perms(half)][_kept(frame, half, blades)]
 
 
 def rearrangement_bounds(frame: Frame, subsets: np.ndarray) -> np.ndarray:
     """Lower bound on the residual for each blade set of half A (rows of ``subsets``).
+
+    For each of :data:`DIRECTIONS` unit directions u, the least projection
+    Re(ū·(t + Σ w·z)) pairs each half's weights ascending with its slots'
+    projections descending; the largest over u bounds |residual| below.
+
+    Parameters
+    ----------
+    frame : Frame
+        The frame (target, pool and halves).
+    subsets : numpy.ndarray
+        One blade set of half A per row; half B takes the rest of the pool.
+
+    Returns
+    -------
+    numpy.ndarray
+        The bound of each set [g·mm], at least 0.
 
     References
     ----------
@@ -223,7 +380,21 @@ def rearrangement_bounds(frame: Frame, subsets: np.ndarray) -> np.ndarray:
 
 @dataclass
 class Outcome:
-    """What one search over a frame found."""
+    """What one search over a frame found.
+
+    Parameters
+    ----------
+    value : float
+        Least residual found, or the incumbent when nothing beat it [g·mm].
+    arr : numpy.ndarray or None
+        Its arrangement (engine slots); None when nothing beat the incumbent.
+    lower_bound : float
+        Proven least residual of the frame [g·mm]; 0 for a sample.
+    complete : bool
+        Whether every blade set was searched or bounded out.
+    work : int
+        Work units spent [-].
+    """
 
     value: float
     arr: np.ndarray | None
@@ -267,7 +438,24 @@ def search_frame(frame: Frame, incumbent: float, budget: int, seed: int) -> Outc
 
 
 def search_sample(frame: Frame, incumbent: float, count: int, seed: int) -> Outcome:
-    """Like search_frame over ``count`` seeded random blade sets of half A: no bound, no proof."""
+    """Like search_frame over ``count`` seeded random blade sets of half A: no bound, no proof.
+
+    Parameters
+    ----------
+    frame : Frame
+        The open slots and the fixed part.
+    incumbent : float
+        Residual to beat [g·mm].
+    count : int
+        Blade sets tried [-].
+    seed : int
+        Seed of the choice of sets [-].
+
+    Returns
+    -------
+    Outcome
+        The best found; lower bound 0, not complete.
+    """
     rng = np.random.default_rng(seed)
     a = len(frame.a_slots)
     best, best_arr = incumbent, None

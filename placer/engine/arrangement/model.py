@@ -118,17 +118,58 @@ class Problem:
                 and bool(np.all(self.pinned < 0)))
 
     def residual(self, arr: np.ndarray) -> complex:
-        """Static unbalance of arrangement ``arr`` [g·mm]."""
+        """Static unbalance of arrangement ``arr`` [g·mm].
+
+        Parameters
+        ----------
+        arr : numpy.ndarray
+            The blade in each engine slot.
+
+        Returns
+        -------
+        complex
+            The disc's unbalance plus Σ w·z [g·mm].
+
+        References
+        ----------
+        [FathiGinjupalli1993] the residual Σ w·e^{iθ}.
+        """
         return self.offset + complex(np.sum(self.weights[arr] * self.z))
 
     def couple(self, arr: np.ndarray) -> complex | None:
-        """Couple of arrangement ``arr`` [g·mm²], None without axial moments."""
+        """Couple of arrangement ``arr`` [g·mm²], None without axial moments.
+
+        Parameters
+        ----------
+        arr : numpy.ndarray
+            The blade in each engine slot.
+
+        Returns
+        -------
+        complex or None
+            The disc's couple plus Σ axial·z [g·mm²].
+
+        References
+        ----------
+        [StaticCouple] (couple unbalance).
+        """
         if self.axial is None:
             return None
         return self.couple_offset + complex(np.sum(self.axial[arr] * self.z))
 
     def feasible(self, arr: np.ndarray) -> bool:
-        """Whether ``arr`` keeps the pinned blades and every limit."""
+        """Whether ``arr`` keeps the pinned blades and every limit.
+
+        Parameters
+        ----------
+        arr : numpy.ndarray
+            The blade in each engine slot.
+
+        Returns
+        -------
+        bool
+            True when every pin, pair table and the couple limit hold.
+        """
         fixed = self.pinned >= 0
         if np.any(arr[fixed] != self.pinned[fixed]):
             return False
@@ -137,13 +178,36 @@ class Problem:
         return self.couple_ok(self.couple(arr))
 
     def couple_ok(self, couple: complex | None) -> bool:
-        """Whether a couple [g·mm²] is within the couple limit."""
+        """Whether a couple [g·mm²] is within the couple limit.
+
+        Parameters
+        ----------
+        couple : complex or None
+            The couple [g·mm²]; None (no axial moments) always passes.
+
+        Returns
+        -------
+        bool
+            True without a limit, or when |couple| is within it (with
+            :data:`LIMIT_SLACK`).
+        """
         if self.couple_limit is None or couple is None:
             return True
         return abs(couple) <= self.couple_limit * (1 + LIMIT_SLACK) + LIMIT_SLACK
 
     def violations(self, arr: np.ndarray) -> int:
-        """How many pair tables ``arr`` breaks (pinned slots and couple aside)."""
+        """How many pair tables ``arr`` breaks (pinned slots and couple aside).
+
+        Parameters
+        ----------
+        arr : numpy.ndarray
+            The blade in each engine slot.
+
+        Returns
+        -------
+        int
+            The number of slot pairs whose table refuses their two blades.
+        """
         return sum(int(not ok[arr[u], arr[v]]) for (u, v), ok in self.edges.items())
 
 
@@ -243,7 +307,18 @@ def opposite_pairs(theta_deg: np.ndarray) -> list[tuple[int, int]]:
 
 
 def neighbour_pairs(n: int) -> list[tuple[int, int]]:
-    """Pairs of neighbouring slots in engine order, round the disc."""
+    """Pairs of neighbouring slots in engine order, round the disc.
+
+    Parameters
+    ----------
+    n : int
+        Number of slots [-].
+
+    Returns
+    -------
+    list of (int, int)
+        (u, v) with u < v, sorted; one pair for two slots.
+    """
     if n == 2:
         return [(0, 1)]
     return sorted((min(j, (j + 1) % n), max(j, (j + 1) % n)) for j in range(n))

@@ -37,7 +37,24 @@ CHUNK = 20_000
 
 @lru_cache(maxsize=None)
 def changes(s: int, k: int) -> np.ndarray:
-    """Permutations of range(s) with no fixed point and s - k cycles (k swaps)."""
+    """Permutations of range(s) with no fixed point and s - k cycles (k swaps).
+
+    Parameters
+    ----------
+    s : int
+        Slots moved [-].
+    k : int
+        Swaps [-].
+
+    Returns
+    -------
+    numpy.ndarray
+        One permutation per row (itertools order), shape (count, s).
+
+    References
+    ----------
+    [PermutationCycles] s - k cycles are k transpositions.
+    """
     rows = [p for p in itertools.permutations(range(s))
             if all(p[i] != i for i in range(s)) and _cycles(p) == s - k]
     return np.array(rows, dtype=np.int64).reshape(len(rows), s)
@@ -57,7 +74,24 @@ def _cycles(perm: Sequence[int]) -> int:
 
 
 def swaps_between(arr: np.ndarray, target: np.ndarray) -> list[tuple[int, int]]:
-    """Slot pairs (engine slots) whose swaps, in order, turn ``arr`` into ``target``."""
+    """Slot pairs (engine slots) whose swaps, in order, turn ``arr`` into ``target``.
+
+    Parameters
+    ----------
+    arr : numpy.ndarray
+        The blade in each engine slot now; not changed.
+    target : numpy.ndarray
+        The blade in each engine slot wanted (the same blades).
+
+    Returns
+    -------
+    list of (int, int)
+        The swaps, slot by slot from the first; the fewest possible.
+
+    References
+    ----------
+    [PermutationCycles].
+    """
     arr = arr.copy()
     where = {int(b): j for j, b in enumerate(arr)}
     out = []
@@ -71,13 +105,45 @@ def swaps_between(arr: np.ndarray, target: np.ndarray) -> list[tuple[int, int]]:
 
 
 def depth_cost(m: int, k: int) -> int:
-    """Changes of exactly k swaps among m open slots."""
+    """Changes of exactly k swaps among m open slots.
+
+    Parameters
+    ----------
+    m : int
+        Open slots [-].
+    k : int
+        Swaps [-].
+
+    Returns
+    -------
+    int
+        Σ over s = k + 1 .. min(2k, m) of C(m, s) times the permutations of
+        :func:`changes` (s, k).
+    """
     return sum(math.comb(m, s) * len(changes(s, k)) for s in range(k + 1, min(2 * k, m) + 1))
 
 
 def best_at_depth(problem: Problem, arr: np.ndarray, k: int,
                   tolerance: float) -> tuple[float, np.ndarray] | None:
-    """Least residual within ``tolerance`` and the limits after exactly k swaps, or None."""
+    """Least residual within ``tolerance`` and the limits after exactly k swaps, or None.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    arr : numpy.ndarray
+        The blade in each engine slot now.
+    k : int
+        Swaps [-]; 0 tests ``arr`` itself.
+    tolerance : float
+        Permissible static residual [g·mm].
+
+    Returns
+    -------
+    (float, numpy.ndarray) or None
+        The residual [g·mm] and the arrangement; None when no change of k
+        swaps is within the tolerance and the limits.
+    """
     free = problem.free_slots
     base = problem.residual(arr)
     if k == 0:
@@ -106,7 +172,29 @@ def best_at_depth(problem: Problem, arr: np.ndarray, k: int,
 
 
 def greedy(problem: Problem, arr: np.ndarray, tolerance: float) -> np.ndarray | None:
-    """Best single swaps, one after another, until within tolerance (or no swap helps)."""
+    """Best single swaps, one after another, until within tolerance (or no swap helps).
+
+    Each step takes the swap with the fewest broken pair tables, then the
+    least residual; at most n steps.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    arr : numpy.ndarray
+        The blade in each engine slot now.
+    tolerance : float
+        Permissible static residual [g·mm].
+
+    Returns
+    -------
+    numpy.ndarray or None
+        An arrangement within the tolerance and the limits, or None.
+
+    References
+    ----------
+    [LaporteMercure1988] interchanges.
+    """
     for _ in range(problem.n):
         if abs(problem.residual(arr)) <= tolerance and problem.feasible(arr):
             return arr

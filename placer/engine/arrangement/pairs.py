@@ -33,6 +33,19 @@ def row_sums(values: np.ndarray, z: np.ndarray) -> np.ndarray:
     Neither ``@`` nor BLAS: on a shared 2-core machine OpenBLAS's threads made
     these small products up to 40 times slower, and a float table times a
     complex vector takes numpy's slow path.
+
+    Parameters
+    ----------
+    values : numpy.ndarray
+        Real table, one row per half-arrangement, one column per slot
+        [g·mm, or g·mm² for axial moments].
+    z : numpy.ndarray
+        Unit vector of each column's slot [-].
+
+    Returns
+    -------
+    numpy.ndarray
+        The complex sum of each row [as ``values``].
     """
     out = np.zeros(values.shape[0], dtype=complex)
     for t in range(values.shape[1]):
@@ -49,6 +62,21 @@ def window_pair(queries: np.ndarray, points: np.ndarray, best: float):
     Of equally near pairs the least (i, k) is taken, so the answer does not
     depend on how a sort orders equal keys.  False when the windows hold more
     than WINDOW_CAP pairs.
+
+    Parameters
+    ----------
+    queries : numpy.ndarray
+        Complex points of one set [g·mm].
+    points : numpy.ndarray
+        Complex points of the other set [g·mm].
+    best : float
+        Distance to beat [g·mm], finite.
+
+    Returns
+    -------
+    (float, int, int) or None or False
+        The distance [g·mm] and the indices (i in ``queries``, k in
+        ``points``); None when no pair is nearer than ``best``; False as above.
     """
     flip = len(queries) < len(points)
     small, large = (queries, points) if flip else (points, queries)
@@ -89,7 +117,21 @@ NO_CHECK = NoCheck()
 
 
 class PairCheck:
-    """The limits that span the halves, checked on index pairs (i in A, k in B)."""
+    """The limits that span the halves, checked on index pairs (i in A, k in B).
+
+    Called with index arrays ``i`` (rows of A) and ``k`` (rows of B), it
+    returns which pairs keep the pair tables across the halves and the
+    couple limit.
+
+    Parameters
+    ----------
+    frame : Frame
+        The frame: its pair tables across the halves, couple target and problem.
+    rows_a : numpy.ndarray
+        Half A's arrangements, one row of blades per arrangement.
+    rows_b : numpy.ndarray
+        Half B's arrangements, likewise.
+    """
 
     def __init__(self, frame, rows_a: np.ndarray, rows_b: np.ndarray) -> None:
         self.frame, self.rows_a, self.rows_b = frame, rows_a, rows_b
@@ -112,6 +154,24 @@ class PairCheck:
 
 
 def dense_pair(sum_a, sum_b, check: PairCheck, best: float):
+    """The least |sum_a[i] + sum_b[k]| over every pair that passes ``check``, by a full scan.
+
+    Parameters
+    ----------
+    sum_a : numpy.ndarray
+        Complex sums of half A, the fixed part included [g·mm].
+    sum_b : numpy.ndarray
+        Complex sums of half B [g·mm].
+    check : PairCheck
+        The limits across the halves (inactive: every pair passes).
+    best : float
+        Residual to beat [g·mm].
+
+    Returns
+    -------
+    (float, int, int) or None
+        The residual [g·mm] and the indices (i, k); None when no pair beats ``best``.
+    """
     dist = np.abs(sum_a[:, None] + sum_b[None, :])
     if check.active:
         ia, kb = np.indices(dist.shape)
@@ -123,6 +183,27 @@ def dense_pair(sum_a, sum_b, check: PairCheck, best: float):
 
 
 def tree_pair(sum_a, sum_b, check: PairCheck, best: float):
+    """The least |sum_a[i] + sum_b[k]| over every pair that passes ``check``, by a k-d tree.
+
+    Exact: the nearest few of B to each -sum_a[i] are fetched, and a row
+    whose few all break a limit gets every point of B within ``best``.
+
+    Parameters
+    ----------
+    sum_a : numpy.ndarray
+        Complex sums of half A, the fixed part included [g·mm].
+    sum_b : numpy.ndarray
+        Complex sums of half B [g·mm].
+    check : PairCheck or NoCheck
+        The limits across the halves (inactive: every pair passes).
+    best : float
+        Residual to beat [g·mm]; inf when none is known.
+
+    Returns
+    -------
+    (float, int, int) or None
+        The residual [g·mm] and the indices (i, k); None when no pair beats ``best``.
+    """
     tree = cKDTree(np.column_stack((sum_b.real, sum_b.imag)))
     queries = np.column_stack((-sum_a.real, -sum_a.imag))
     k = NEIGHBOURS if check.active else 1

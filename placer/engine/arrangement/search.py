@@ -71,7 +71,25 @@ NOISE_REL = 1e-13
 
 @dataclass
 class Solved:
-    """One problem's answer, in engine slots."""
+    """One problem's answer, in engine slots.
+
+    Parameters
+    ----------
+    arr : numpy.ndarray or None
+        The blade in each engine slot; None when none was found.
+    value : float
+        Its static residual [g·mm] (inf when none).
+    lower_bound : float
+        Proven least residual of the problem [g·mm].
+    proven : bool
+        Whether ``value`` is proven least.
+    zero_shown : bool
+        Whether the residual was shown exactly zero.
+    method : str
+        How it was found, in a few words.
+    work : int
+        Work units spent [-].
+    """
 
     arr: np.ndarray | None
     value: float
@@ -131,7 +149,33 @@ def arrange(blades: Iterable[Blade], disc: Disc, *, work_budget: int = DEFAULT_W
 
 def to_result(blades: tuple[Blade, ...], problems: list[Problem], answers: list[Solved],
               swaps=None, swap_lower_bound=None) -> ArrangementResult:
-    """The best of the answers (one per alternation phase) as an ArrangementResult."""
+    """The best of the answers (one per alternation phase) as an ArrangementResult.
+
+    Parameters
+    ----------
+    blades : tuple of Blade
+        The blades, in the order given.
+    problems : list of Problem
+        The problems (one per alternation phase).
+    answers : list of Solved
+        Each problem's answer, in the same order.
+    swaps : tuple of (int, int) or None
+        For the fewest-swaps search: the swaps, as slot numbers.
+    swap_lower_bound : int or None
+        For the fewest-swaps search: no fewer swaps reach the tolerance.
+
+    Returns
+    -------
+    ArrangementResult
+        The least residual's arrangement by user slot; proven only if every
+        answer is, its lower bound the least of theirs.
+
+    Raises
+    ------
+    InputError
+        When no answer has an arrangement (the limits cannot be kept, or none
+        was found within the work budget).
+    """
     found = [i for i, a in enumerate(answers) if a.arr is not None]
     if not found:
         proven = all(a.proven for a in answers)
@@ -161,12 +205,35 @@ def to_result(blades: tuple[Blade, ...], problems: list[Problem], answers: list[
 
 
 def exact_applies(problem: Problem) -> bool:
-    """Whether residuals can be tested for an exact zero (integer arithmetic)."""
+    """Whether residuals can be tested for an exact zero (integer arithmetic).
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+
+    Returns
+    -------
+    bool
+        True for equally spaced slots, decimal weights and no disc unbalance.
+    """
     return problem.equal_spacing and problem.int_weights is not None and problem.offset == 0
 
 
 def shown_zero(problem: Problem, arr: np.ndarray) -> bool:
     """Whether the residual of ``arr`` is exactly zero, by the cyclotomic test.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    arr : numpy.ndarray
+        The blade in each engine slot.
+
+    Returns
+    -------
+    bool
+        False also when the test does not apply (:func:`exact_applies`).
 
     References
     ----------
@@ -179,7 +246,34 @@ def shown_zero(problem: Problem, arr: np.ndarray) -> bool:
 
 
 def solve(problem: Problem, budget: int, seed: int, stop_gmm: float = 0.0) -> Solved:
-    """The best arrangement of one problem within ``budget`` work units."""
+    """The best arrangement of one problem within ``budget`` work units.
+
+    Zero by construction when it applies; else an incumbent from swap
+    descent, then meet in the middle over all open slots when that fits the
+    budget (or nothing else was found), else windows; the lower bound is the
+    search's, raised to the field-norm bound, and an exact zero is tested.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    budget : int
+        Most work units [-].
+    seed : int
+        Seed of every random choice [-].
+    stop_gmm : float
+        The windows stop once the residual is at most this [g·mm].
+
+    Returns
+    -------
+    Solved
+        The answer; ``arr`` None when the limits cannot be kept or no
+        feasible start was found.
+
+    References
+    ----------
+    [HorowitzSahni1974], [RootsOfUnity] (module docstring).
+    """
     built = construct_zero(problem, seed)
     if built is not None:
         return Solved(built, abs(problem.residual(built)), 0.0, True, True,
@@ -221,6 +315,16 @@ def exact_frame(problem: Problem):
     that its two slots share half A) and a split by diameters (slots sorted by
     angle modulo 180°, so that opposite slots share a half); the one with fewer
     pair tables across the halves is taken, as those are checked pair by pair.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem (symmetry reduced or not).
+
+    Returns
+    -------
+    Frame or None
+        The frame of the pins with every free slot open.
     """
     free = problem.free_slots
     a = best_split(len(free), mirrored=problem.mirror is not None)
@@ -236,7 +340,18 @@ def exact_frame(problem: Problem):
 
 
 def frame_cost(frame) -> int:
-    """Work units of a complete meet in the middle over ``frame`` (before pruning)."""
+    """Work units of a complete meet in the middle over ``frame`` (before pruning).
+
+    Parameters
+    ----------
+    frame : Frame
+        The frame.
+
+    Returns
+    -------
+    int
+        Blade sets of half A times the half-arrangements per set, times the unit.
+    """
     sets = math.comb(len(frame.pool), len(frame.a_slots))
     return sets * (len(frame.perms("A")) + len(frame.perms("B"))) * frame.unit
 
@@ -250,6 +365,17 @@ def symmetry_reduced(problem: Problem) -> Problem:
     both keep |residual|, |couple| and every pair table (opposite and
     neighbouring slots stay so; with alternation each phase is solved, and
     reflection keeps a slot's parity for even n).
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+
+    Returns
+    -------
+    Problem
+        The reduced problem, or ``problem`` itself when it is not symmetric
+        or has fewer than 3 slots.
 
     References
     ----------
@@ -267,6 +393,24 @@ def incumbent(problem: Problem, budget: int, seed: int):
 
     ``arr`` is None when none is feasible and False when CP-SAT proves that no
     arrangement keeps the pair tables.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+    budget : int
+        Work units for the descents [-], shared among :data:`STARTS` starts.
+    seed : int
+        Seed of the starts and of CP-SAT [-].
+
+    Returns
+    -------
+    arr : numpy.ndarray or None or bool
+        The arrangement, None or False as above.
+    value : float
+        Its residual [g·mm] (inf when none).
+    work : int
+        Work units spent [-].
     """
     rng = np.random.default_rng(seed)
     best, best_value, work = None, math.inf, 0
@@ -288,7 +432,22 @@ def incumbent(problem: Problem, budget: int, seed: int):
 
 
 def root_bound(problem: Problem) -> float:
-    """Rearrangement bound over all open slots and blades at once [g·mm]."""
+    """Rearrangement bound over all open slots and blades at once [g·mm].
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+
+    Returns
+    -------
+    float
+        A lower bound on the residual of every arrangement [g·mm].
+
+    References
+    ----------
+    [Rearrangement] (see :func:`placer.engine.arrangement.mitm.rearrangement_bounds`).
+    """
     free = problem.free_slots
     frame = make_frame(problem, problem.pinned, free, free[:0])
     return float(rearrangement_bounds(frame, problem.free_blades[None, :])[0])
@@ -296,6 +455,17 @@ def root_bound(problem: Problem) -> float:
 
 def norm_bound(problem: Problem) -> float:
     """The field-norm bound [g·mm] when zero is impossible, else 0.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem.
+
+    Returns
+    -------
+    float
+        The bound [g·mm]; 0 unless the exact test applies and n is a prime
+        power that no zero arrangement exists for.
 
     References
     ----------
@@ -312,7 +482,25 @@ def norm_bound(problem: Problem) -> float:
 
 
 def construct_zero(problem: Problem, seed: int) -> np.ndarray | None:
-    """A zero arrangement built from polygons or a grid that keeps the limits, or None."""
+    """A zero arrangement built from polygons or a grid that keeps the limits, or None.
+
+    Parameters
+    ----------
+    problem : Problem
+        The problem; only without pins and when :func:`exact_applies`.
+    seed : int
+        Unused (the construction is deterministic) [-].
+
+    Returns
+    -------
+    numpy.ndarray or None
+        The blade in each engine slot, its residual exactly zero; None when
+        neither construction applies or keeps the limits.
+
+    References
+    ----------
+    [RootsOfUnity] (regular polygons and addition grids sum to zero).
+    """
     if not exact_applies(problem) or np.any(problem.pinned >= 0):
         return None
     values = problem.int_weights
