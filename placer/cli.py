@@ -9,16 +9,20 @@ expected.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import math
+import signal
 import sys
 from pathlib import Path
 
-from placer.errors import InputError, PlacerError, fill_options
+from placer.errors import InputError, LimitReached, PlacerError, fill_options
 from placer.io.tables import json_text
 from placer.limits import (
+    DEFAULT_EFFORT,
     DEFAULT_SAMPLES,
     DEFAULT_SEED,
     DEFAULT_TIME_LIMIT_S,
+    MAX_EFFORT,
     MAX_MAGNITUDE,
     MAX_PARTS_LIMIT,
     MAX_SAMPLES,
@@ -27,10 +31,11 @@ from placer.limits import (
     MIN_WIDTH,
 )
 
-EXIT_OK, EXIT_OUTSIDE, EXIT_BAD_INPUT = 0, 1, 2
+EXIT_OK, EXIT_OUTSIDE, EXIT_BAD_INPUT, EXIT_LIMIT = 0, 1, 2, 3
 
 FLAGS = {
-    "time_limit_s": "--time-limit", "width": "--width", "min_chance": "--min-chance",
+    "time_limit_s": "--time-limit", "effort": "--effort", "aim_share": "--aim-share",
+    "parts": "--parts", "width": "--width", "min_chance": "--min-chance",
     "samples": "--samples", "seed": "--seed", "max_parts": "--max-parts", "sheet": "--sheet",
     "force": "--force", "out": "--out", "resume": "--resume", "jobs": "--jobs", "db": "--db",
     "save": "--save", "mass_kg": "--mass-kg", "rpm": "--rpm", "radius_mm": "--radius-mm",
@@ -67,11 +72,13 @@ def _parser() -> argparse.ArgumentParser:
     solve.add_argument("job", metavar="JOB", help="job file (TOML), see examples/")
     solve.add_argument("--json", action="store_true",
                        help="print one JSON object instead of the sheet")
-    solve.add_argument("--time-limit", type=float, default=DEFAULT_TIME_LIMIT_S,
-                       metavar="SECONDS",
-                       help="time the exact search may take per plane before it hands a part "
-                            "count to the CP-SAT model, and the model's time for that count; "
-                            "counts not proven in time are marked (default 10)")
+    _engine_options(solve, DEFAULT_TIME_LIMIT_S)
+    solve.add_argument("--aim-share", type=float, default=None, metavar="S",
+                       help="share of each plane's tolerance the plan aims at, e.g. 0.7 "
+                            "(default: the job's aim_share, else 0.7)")
+    solve.add_argument("--parts", type=int, default=None, metavar="N",
+                       help="print and draw the plan of N parts on every plane instead of "
+                            "the one chosen")
     solve.add_argument("--width", type=int, default=None, metavar="COLUMNS",
                        help="width of the sheet in columns (default: the terminal's, "
                             "80 when not a terminal)")
@@ -120,10 +127,7 @@ def _parser() -> argparse.ArgumentParser:
                                   "database (one line on stderr; nothing saved).")
     field.add_argument("session", metavar="SESSION", help="session file (TOML), see examples/")
     field.add_argument("--json", action="store_true", help="print one JSON object")
-    field.add_argument("--time-limit", type=float, default=DEFAULT_TIME_LIMIT_S,
-                       metavar="SECONDS",
-                       help="time the coupled search may take; part counts not finished "
-                            "in time are marked not proven (default 10)")
+    _engine_options(field, DEFAULT_TIME_LIMIT_S)
     field.add_argument("--norm", choices=("max", "rms"),
                        help="least largest reading (max) or least root-sum-square over "
                             "sensors (rms); overrides the session's [solve] norm")
@@ -186,10 +190,23 @@ def _parser() -> argparse.ArgumentParser:
                        help="keep the rotors already in PREFIX.jsonl and solve the rest "
                             "(refused when a kept rotor's readings changed since)")
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
-    batch.add_argument("--time-limit", type=float, default=DEFAULT_TIME_LIMIT_S,
-                       metavar="SECONDS",
-                       help="most time the CP-SAT model may take for one decision (default 10)")
+    _engine_options(batch, None)
     return parser
+
+
+def _engine_options(command: argparse.ArgumentParser, time_limit_s: float | None) -> None:
+    """--effort (what is proven; counted, so every run gives the same answer) and
+    --time-limit (when the whole command stops, printing nothing as final)."""
+    command.add_argument("--effort", type=float, default=DEFAULT_EFFORT, metavar="X",
+                         help="how hard the exact search works before it leaves a part count "
+                              "unproven, as a multiple of the default (work is counted, not "
+                              f"timed: the same input gives the same answer; default "
+                              f"{DEFAULT_EFFORT:g})")
+    default = ("no limit" if time_limit_s is None else f"{time_limit_s:g} s")
+    command.add_argument("--time-limit", type=float, default=time_limit_s, metavar="SECONDS",
+                         help="stop the whole command after this long, with a message and "
+                              "exit code 3, printing nothing as final; it never changes a "
+                              f"result (default {default})")
 
 
 
@@ -199,6 +216,17 @@ def _check(args: argparse.Namespace) -> None:
     if time_limit is not None and not (math.isfinite(time_limit) and time_limit > 0):
         raise InputError(f"is {time_limit:g}", option="time_limit_s",
                          expected="a number of seconds above zero")
+    effort = getattr(args, "effort", None)
+    if effort is not None and not (math.isfinite(effort) and 0 < effort <= MAX_EFFORT):
+        raise InputError(f"is {effort:g}", option="effort",
+                         expected=f"a multiple above 0 and at most {MAX_EFFORT:g}")
+    share = getattr(args, "aim_share", None)
+    if share is not None and not (math.isfinite(share) and 0 < share <= 1):
+        raise InputError(f"is {share:g}", option="aim_share",
+                         expected="a share of the tolerance above 0 and at most 1")
+    parts = getattr(args, "parts", None)
+    if parts is not None and not 0 <= parts <= MAX_PARTS_LIMIT:
+        raise InputError(f"is {parts}", option="parts", expected=f"0 to {MAX_PARTS_LIMIT}")
     width = getattr(args, "width", None)
     if width is not None and width < MIN_WIDTH:
         raise InputError(f"is {width}", option="width", expected=f"at least {MIN_WIDTH} columns")
@@ -222,6 +250,32 @@ def _positive(*pairs: tuple[str, float]) -> None:
         if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
             raise InputError(f"is {value:g}", option=name,
                              expected="a number above zero, between 1e-12 and 1e12")
+
+
+@contextlib.contextmanager
+def _deadline(seconds: float | None, what: str):
+    """Stop the block with :class:`LimitReached` after ``seconds`` of wall-clock time.
+
+    The limit never decides a result: what is proven is decided by the
+    counted effort.  It only ends a run that takes too long, before anything
+    is printed as final.
+    """
+    if seconds is None or not hasattr(signal, "setitimer"):
+        yield
+        return
+
+    def stop(signum, frame):
+        raise LimitReached(f"the time limit of {seconds:g} s was reached {what}",
+                           option="time_limit_s", expected="a larger {opt:time_limit_s}, or "
+                           "a smaller {opt:effort}")
+
+    previous = signal.signal(signal.SIGALRM, stop)
+    signal.setitimer(signal.ITIMER_REAL, seconds)
+    try:
+        yield
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, previous)
 
 
 def _console(width: int | None = None):
@@ -249,7 +303,9 @@ def _solve(args: argparse.Namespace) -> int:
         require_matplotlib()
         sheet_paths(Path(args.sheet), len(job.planes), force=args.force)
     errors = FittingErrors(samples=args.samples, seed=args.seed, min_chance=args.min_chance)
-    result = solve_job(job, time_limit_s=args.time_limit, errors=errors)
+    with _deadline(args.time_limit, "before the plans were final; nothing is printed"):
+        result = solve_job(job, effort=args.effort, errors=errors, aim_share=args.aim_share,
+                           parts=args.parts)
     if args.json:
         from placer.io.jsonout import job_dict
 
@@ -328,7 +384,8 @@ def _field(args: argparse.Namespace) -> int:
     if args.max_parts is not None:
         session = replace(session, max_parts=args.max_parts)
     path = _db(args)
-    result = solve_visit(session, path, time_limit_s=args.time_limit)
+    with _deadline(args.time_limit, "before the plan was final; nothing is printed or saved"):
+        result = solve_visit(session, path, effort=args.effort)
     db = record = None
     if args.save:
         # Opened before anything is printed: a file that is not a history is refused here.
@@ -431,11 +488,13 @@ def _batch(args: argparse.Namespace) -> int:
     from placer.io.batchresults import run_batch
     from placer.views.terminal.batch import progress_display, render_summary
 
-    with progress_display(sys.stderr) as progress:
+    with progress_display(sys.stderr) as progress, _deadline(
+            args.time_limit, "; the rotors solved so far are in the results, and "
+            "--resume carries on"):
         summary, paths = run_batch(Path(args.template), Path(args.readings),
                                    Path(args.out) if args.out else None, jobs=args.jobs,
                                    resume=args.resume, force=args.force,
-                                   time_limit_s=args.time_limit, progress=progress,
+                                   effort=args.effort, progress=progress,
                                    note=lambda text: print(fill_options(text, FLAGS),
                                                            file=sys.stderr))
     render_summary(summary, paths, sys.stdout)
@@ -459,7 +518,8 @@ def main(argv: list[str] | None = None) -> int:
     -------
     int
         0 within tolerance, 1 a plane (or rotor) outside it, 2 bad input or no
-        command, 130 interrupted.
+        command, 3 stopped at the time limit (nothing printed as final), 130
+        interrupted.
     """
     parser = _parser()
     try:
@@ -472,6 +532,9 @@ def main(argv: list[str] | None = None) -> int:
     try:
         _check(args)
         return HANDLERS[args.command](args)
+    except LimitReached as exc:
+        print(f"placer: stopped: {exc.one_line(FLAGS)}", file=sys.stderr)
+        return EXIT_LIMIT
     except PlacerError as exc:
         print(f"placer: error: {exc.one_line(FLAGS)}", file=sys.stderr)
         return EXIT_BAD_INPUT

@@ -106,5 +106,9 @@ class CoefficientMismatch(InputError):
     """Stored coefficients that cannot serve this visit; ``key`` and ``expected`` say why."""
 
 
+class LimitReached(PlacerError):
+    """A command stopped at a limit of time or size before its result was final."""
+
+
 class HistoryError(PlacerError):
     """The history database cannot be opened, read or written."""

@@ -30,8 +30,9 @@ from placer.influence import (
     static_couple,
 )
 from placer.job import ExistingPart
-from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.limits import DEFAULT_EFFORT, DEFAULT_WORK
 from placer.plan import FittedPart
+from placer.residual import objective_of
 from placer.session import FIELD_NORMS, PlacedMass, Session
 
 __all__ = ["FieldOption", "FieldResult", "PlaneBlock", "field_search", "objective_of",
@@ -151,29 +152,6 @@ class FieldResult:
         """
         limit = self.session.vibration_limit
         return None if limit is None else self.chosen.objective <= limit
-
-
-def objective_of(values: np.ndarray, weights: np.ndarray, norm: str) -> float:
-    """The session's measure of a vibration vector: largest or root-sum-square, weighted.
-
-    The same as :func:`placer.residual.objective_of`.
-
-    Parameters
-    ----------
-    values : complex array (n_channels,)
-        Vibration at each sensor [session unit and measure].
-    weights : float array (n_channels,)
-        Each sensor's weight; the amplitudes are scaled by its square root.
-    norm : {"max", "rms"}
-        Largest weighted amplitude, or root of the sum of their squares.
-
-    Returns
-    -------
-    float
-        The objective [session unit and measure, weighted].
-    """
-    scaled = np.sqrt(weights) * np.abs(values)
-    return float(scaled.max() if norm == "max" else np.linalg.norm(scaled))
 
 
 @dataclass(frozen=True)
@@ -351,7 +329,7 @@ def _coefficients(session: Session, stored: StoredCoefficients | None
 
 
 def solve_session(session: Session, stored: StoredCoefficients | None = None,
-                  time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> FieldResult:
+                  effort: float = DEFAULT_EFFORT) -> FieldResult:
     """Coefficients, continuous correction and the coupled discrete plan of a visit.
 
     Parameters
@@ -361,10 +339,11 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     stored : StoredCoefficients, optional
         Coefficients of an earlier visit (``coefficients = "stored"``); they
         are brought to this session's unit, measure and angle sense.
-    time_limit_s : float
-        Budget of the coupled search [s]; part counts it cannot finish in
-        time keep the best plan with fewer parts, marked not proven.  The
-        per-plane rounded plan for comparison gets the same budget.
+    effort : float
+        Multiple of the default work budget of the coupled search (counted,
+        not timed); part counts it cannot finish keep the best plan with
+        fewer parts, marked not proven.  The per-plane rounded plan for
+        comparison gets the same budget.
 
     Returns
     -------
@@ -403,9 +382,9 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
         sc = static_couple(correction[0], correction[1], session.plane_separation_mm)
     fitted = session.fitted_parts() if checks else ()
     search, blocks = field_search(session, matrix, fitted)
-    front = search.front(np.sqrt(weights) * now, budget_s=time_limit_s)
+    front = search.front(np.sqrt(weights) * now, work=int(DEFAULT_WORK * effort))
     options = [_option(session, e, blocks, matrix, now) for e in front.entries]
-    rounded = _rounded_plan(session, correction, matrix, now, fitted, time_limit_s)
+    rounded = _rounded_plan(session, correction, matrix, now, fitted, effort)
     # The rounded plan is a coupled plan too: where the search ran out of time it may be
     # the better one found.  A count proven by the search is never beaten by it.
     options = [replace(rounded, part_count=o.part_count, proven=False)
@@ -417,7 +396,7 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     unproven = [o.part_count for o in options if not o.proven]
     if unproven:
         warnings.append(f"the coupled search did not finish {min(unproven)} to "
-                        f"{max(unproven)} parts within the time limit ({time_limit_s:g} s): "
+                        f"{max(unproven)} parts within the effort given ({effort:g}): "
                         "those plans are the best found, not proven")
     if sc is not None and sc.couple_negligible:
         warnings.append("the couple part is negligible (under 10 % of the static part, "
@@ -431,7 +410,7 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
 
 def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
                   now: np.ndarray, fitted: tuple[PlacedMass, ...] = (),
-                  time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> FieldOption:
+                  effort: float = DEFAULT_EFFORT) -> FieldOption:
     """Each plane's continuous correction rounded on its own (exactly), then predicted.
 
     Each plane gets an equal share of max_parts (at least one) and its own
@@ -447,7 +426,7 @@ def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
         arrays = placement_arrays(plane.geometry, plane.catalog, existing, share, correction[p])
         search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, share)
         best = search.front(arrays.target,
-                            budget_s=time_limit_s / len(session.planes)).entries[-1]
+                            work=int(DEFAULT_WORK * effort / len(session.planes))).entries[-1]
         proven &= best.proven
         parts += [(p, part_of_row(plane.geometry, plane.catalog, existing, arrays, r, k, c))
                   for r, k, c in best.parts]

@@ -43,12 +43,13 @@ class Rotor:
     angle_sense : str
         How angles are counted from the reference mark (one of
         :data:`placer.geometry.ANGLE_SENSES`).
-    correction_basis : {"further", "total"}
-        Whether the corrections were measured with the existing parts on.
     placement_error_deg : float
         How far a part may be fitted from its angle [deg], either side.
     rotation : str or None
         "clockwise" or "counterclockwise", seen from the working side.
+    aim_share : float or None
+        Share of each plane's tolerance its plan aims at [1] (None: placer's
+        default; a plane may give its own).
     """
 
     name: str
@@ -57,18 +58,18 @@ class Rotor:
     grade_mm_s: float | None = None
     com_distances_mm: tuple[float, ...] | None = None
     angle_sense: str = DEFAULT_ANGLE_SENSE
-    correction_basis: str = "further"
     placement_error_deg: float = 0.0
     rotation: str | None = None
+    aim_share: float | None = None
 
     def __post_init__(self) -> None:
+        validate.share(self.aim_share, "aim_share")
         validate.number(self.mass_kg, "mass_kg", positive=True, allow_none=True)
         validate.number(self.service_rpm, "service_rpm", positive=True, allow_none=True)
         validate.number(self.grade_mm_s, "grade_mm_s", positive=True, allow_none=True)
         if self.com_distances_mm is not None:
             validate.numbers(self.com_distances_mm, "com_distances_mm", non_negative=True)
         validate.one_of(self.angle_sense, "angle_sense", ANGLE_SENSES)
-        validate.one_of(self.correction_basis, "correction_basis", CORRECTION_BASES)
         validate.number(self.placement_error_deg, "placement_error_deg", non_negative=True)
         if self.rotation is not None:
             validate.one_of(self.rotation, "rotation", ROTATIONS)
@@ -126,6 +127,9 @@ class PlaneJob:
         Parts already on the rotor.
     correction_basis : {"further", "total"}
         Whether the correction was measured with the existing parts on.
+    aim_share : float or None
+        Share of the plane's tolerance its plan aims at [1] (None: the
+        rotor's, else placer's default).
     """
 
     geometry: PlaneGeometry
@@ -136,8 +140,10 @@ class PlaneJob:
     max_parts: int = DEFAULT_MAX_PARTS
     existing: tuple[ExistingPart, ...] = ()
     correction_basis: str = "further"
+    aim_share: float | None = None
 
     def __post_init__(self) -> None:
+        validate.share(self.aim_share, "aim_share")
         z = complex(self.correction_gmm)
         validate.number(z.real, "correction_gmm")
         validate.number(z.imag, "correction_gmm")

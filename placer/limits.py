@@ -32,9 +32,36 @@ MAX_POSITIONS = 3600
 MAX_CAPACITY = 12
 """Most parts stacked on one position."""
 
-DEFAULT_TIME_LIMIT_S = 10.0
-"""Time the engine may spend on one plane (or the coupled field search) before it
-leaves part counts unproven [s]."""
+DEFAULT_TIME_LIMIT_S = 300.0
+"""Wall-clock time a ``placer solve`` or ``placer field`` run may take before it stops
+with a message and prints nothing as final [s].  It never decides a result: what is
+proven is decided by the counted effort (:data:`DEFAULT_EFFORT`)."""
+MAX_EFFORT = 1000.0
+"""Largest effort an option may ask for."""
+
+DEFAULT_WORK = 1_000_000_000
+"""Work the exact search may do for one part count of one plane (candidate residuals
+evaluated and head rows grown) before it declines the count; counted, never timed, so
+that the same input gives the same answer on any machine and load."""
+
+DEFAULT_MODEL_EFFORT = 5.0
+"""Deterministic time the CP-SAT model may spend on one decision (its own unit, about a
+second of one core; counted by the solver, not timed), at effort 1."""
+
+DEFAULT_EFFORT = 1.0
+"""How hard the engine works before it leaves a part count unproven: the work budget
+and the model's deterministic time are this multiple of their defaults."""
+
+DEFAULT_AIM_SHARE = 0.7
+"""Share of a plane's tolerance its plan aims at, leaving the rest for the errors of
+fitting and measuring (see DEVELOPERS.md, "The aim"; [ISO21940-14], the share from
+memory)."""
+NO_TOLERANCE_AIM_SHARE = 0.05
+"""Without a tolerance, the aim: this share of the correction still needed (placer's
+rule)."""
+PAYOFF_SHARE = 0.05
+"""Without a tolerance, one more part pays off while it removes at least this share of the
+correction still needed (placer's rule)."""
 
 DEFAULT_SAMPLES = 4000
 """Monte Carlo draws per plan when fitting errors are rated."""

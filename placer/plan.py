@@ -57,6 +57,12 @@ class FittedPart:
         return self.count if self.action == "fit" else -self.count
 
 
+LEAST_RESIDUAL = "least residual"
+"""A plan that is the least residual with its number of parts."""
+LIGHTEST = "least mass within the aim"
+"""A plan that is the least added mass with its number of parts within the aim."""
+
+
 @dataclass(frozen=True)
 class PlanOption:
     """One plan: the parts, and the residual they leave.
@@ -85,6 +91,9 @@ class PlanOption:
         None when not rated.
     residual_p95_gmm : float or None
         95th percentile of the fitted residual [g·mm]; None when not rated.
+    kind : str
+        :data:`LEAST_RESIDUAL` for the least residual with that many parts, or
+        :data:`LIGHTEST` for the least added mass within the plane's aim.
     """
 
     part_count: int
@@ -95,11 +104,18 @@ class PlanOption:
     proven: bool
     chance_within: float | None = None
     residual_p95_gmm: float | None = None
+    kind: str = "least residual"
 
     @property
     def used_parts(self) -> int:
         """Operations: parts fitted plus parts removed."""
         return sum(p.count for p in self.parts)
+
+    @property
+    def mass_g(self) -> float:
+        """Added mass [g]: every part by the magnitude of its mass (a hole drilled or a
+        part taken off counts as what it moves)."""
+        return float(sum(abs(p.mass_g) * p.count for p in self.parts))
 
 
 @dataclass(frozen=True)
@@ -129,6 +145,15 @@ class PlaneResult:
         Time the engine took [s].
     method : str
         How the front was found ("exact search", "exact search + CP-SAT", ...).
+    aim_gmm : float or None
+        The residual the plan aims at [g·mm] (see :mod:`placer.choice`).
+    aim_text : str
+        The aim as the sheet says it.
+    rule : str
+        Why the chosen plan was chosen, as the sheet says it.
+    lighter : tuple of PlanOption
+        Per part count, the least added mass within the aim where it is not
+        the least-residual plan.
     """
 
     plane: PlaneJob
@@ -141,6 +166,15 @@ class PlaneResult:
     notes: tuple[str, ...]
     elapsed_s: float
     method: str
+    aim_gmm: float | None = None
+    aim_text: str = ""
+    rule: str = ""
+    lighter: tuple[PlanOption, ...] = ()
+
+    @property
+    def within_aim(self) -> bool | None:
+        """Whether the chosen plan reaches the aim (None without one)."""
+        return None if self.aim_gmm is None else self.chosen.residual_gmm <= self.aim_gmm
 
     @property
     def name(self) -> str:
@@ -154,15 +188,16 @@ class PlaneResult:
     def trade_off(self) -> tuple[PlanOption, ...]:
         """The rows of the trade-off table: parts against residual, fewest first.
 
-        The front, with the plan of no parts first when that is the choice,
-        and the chosen plan added where it is not on the front (chosen with
-        other planes under shared stock).
+        Per part count the least residual, then the least added mass within
+        the aim where it is another plan; the plan of no parts first when that
+        is the choice, and the chosen plan added where it is not among them
+        (chosen with other planes under shared stock, or asked for).
         """
         rows = [self.chosen] if self.chosen.used_parts == 0 else []
-        rows += list(self.front)
+        rows += list(self.front) + list(self.lighter)
         if self.chosen.used_parts and all(o.parts != self.chosen.parts for o in rows):
             rows.append(self.chosen)
-            rows.sort(key=lambda o: (o.used_parts, o.residual_gmm))
+        rows.sort(key=lambda o: (o.used_parts, o.kind != LEAST_RESIDUAL, o.mass_g))
         return tuple(rows)
 
 

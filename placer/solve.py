@@ -1,4 +1,5 @@
-"""Solving a whole job: tolerance per plane, exact fronts, chosen plans, shared stock.
+"""Solving a whole job: tolerance and aim per plane, the exact front, the plan to fit,
+shared stock, and the chance a plan survives fitting errors.
 
 Pure: takes a :class:`placer.job.Job`, returns a :class:`placer.plan.JobResult`.
 """
@@ -6,18 +7,112 @@ Pure: takes a :class:`placer.job.Job`, returns a :class:`placer.plan.JobResult`.
 from __future__ import annotations
 
 import itertools
+import time
 from dataclasses import dataclass, replace
 
 import numpy as np
 
-from placer.engine.arrays import PlaneArrays, option_of, plane_arrays
-from placer.engine.front import choose, exact_front, improving
+from placer.choice import Choice, aim_of
+from placer.engine.arrays import PlaneArrays, option_of
 from placer.job import Job, PlaneJob
-from placer.limits import DEFAULT_SAMPLES, DEFAULT_SEED, DEFAULT_TIME_LIMIT_S
-from placer.plan import JobResult, PlaneResult, PlanOption
+from placer.limits import (
+    DEFAULT_AIM_SHARE,
+    DEFAULT_EFFORT,
+    DEFAULT_SAMPLES,
+    DEFAULT_SEED,
+)
+from placer.plan import LIGHTEST, JobResult, PlaneResult, PlanOption
 from placer.robust import robustness
-from placer.stock import share_stock
+from placer.stock import PlanePlanner, share_stock
 from placer.tolerance import job_tolerances
+
+
+@dataclass(frozen=True)
+class FittingErrors:
+    """How the Monte Carlo of fitting errors runs, and whether it picks the plan.
+
+    Parameters
+    ----------
+    samples : int
+        Draws per plan.
+    seed : int
+        Seed of the draws, so that runs repeat.
+    min_chance : float or None
+        Choose the fewest parts whose chance of staying within tolerance is
+        at least this [1] (None: choose by the aim and the mass).
+    """
+
+    samples: int = DEFAULT_SAMPLES
+    seed: int = DEFAULT_SEED
+    min_chance: float | None = None
+
+
+def aim_share_of(job: Job, plane: PlaneJob, aim_share: float | None) -> tuple[float, str]:
+    """The aim's share of the tolerance for a plane, and where it came from.
+
+    Parameters
+    ----------
+    job : Job
+        The job (its rotor may set ``aim_share`` for every plane).
+    plane : PlaneJob
+        The plane (its own ``aim_share`` comes before the rotor's).
+    aim_share : float or None
+        A share given for the whole run (it comes first) [1].
+    """
+    if aim_share is not None:
+        return aim_share, "as asked for this run"
+    if plane.aim_share is not None:
+        return plane.aim_share, "the plane's aim_share"
+    if job.rotor.aim_share is not None:
+        return job.rotor.aim_share, "the job's aim_share"
+    return DEFAULT_AIM_SHARE, "placer's default"
+
+
+def solve_job(job: Job, effort: float = DEFAULT_EFFORT, errors: FittingErrors | None = None,
+              *, aim_share: float | None = None, parts: int | None = None) -> JobResult:
+    """Solve every plane of ``job`` and choose the plan to fit for each.
+
+    Parameters
+    ----------
+    job : Job
+        The rotor and its planes.
+    effort : float
+        Multiple of the engine's default work budget (deterministic: the
+        same input and effort give the same answer on any machine).
+    errors : FittingErrors, optional
+        How fitting errors are rated (Monte Carlo) and whether they choose.
+    aim_share : float, optional
+        The aim's share of every plane's tolerance, for this run [1].
+    parts : int, optional
+        Choose the plan of this many parts on every plane instead.
+
+    Returns
+    -------
+    JobResult
+    """
+    errors = errors or FittingErrors()
+    tolerances = job_tolerances(job)
+    planners, choices, elapsed = [], [], []
+    for plane, own in zip(job.planes, tolerances.planes):
+        started = time.perf_counter()
+        share, source = aim_share_of(job, plane, aim_share)
+        aim = aim_of(own.tolerance_gmm, abs(plane.further_correction_gmm), share, source)
+        planner = PlanePlanner.of(plane, own.tolerance_gmm, aim, effort, parts)
+        planners.append(planner)
+        choices.append(planner.choice())
+        elapsed.append(time.perf_counter() - started)
+    choices, together, notes, short = share_stock(planners, choices, effort)
+    results = []
+    for index, (planner, own) in enumerate(zip(planners, tolerances.planes)):
+        plane_notes = [n for n in (_reach_note(planner.plane, planner.arrays),) if n]
+        if index in together:
+            plane_notes.append("plan chosen together with the other planes that share its "
+                               "stock")
+        results.append(_plane_result(planner, choices[index], own.source, plane_notes,
+                                     elapsed[index], errors, job.rotor.placement_error_deg))
+    return JobResult(job=job, planes=tuple(results), permissible_gmm=tolerances.permissible_gmm,
+                     shares=tolerances.shares, notes=tolerances.notes + tuple(notes),
+                     stock_short=short)
 
 
 def _reach_note(plane: PlaneJob, arrays: PlaneArrays) -> str | None:
@@ -39,77 +134,55 @@ def _reach_note(plane: PlaneJob, arrays: PlaneArrays) -> str | None:
     return None
 
 
-def solve_job(job: Job, time_limit_s: float = DEFAULT_TIME_LIMIT_S,
-              errors: FittingErrors | None = None) -> JobResult:
-    """Solve every plane of ``job`` and choose a plan for each.
+def _plane_result(planner: PlanePlanner, choice: Choice, source: str, notes: list[str],
+                  elapsed_s: float, errors: FittingErrors,
+                  placement_error_deg: float) -> PlaneResult:
+    """A plane's choice in domain terms, rated for fitting errors when they are given."""
+    plane, arrays, tolerance = planner.plane, planner.arrays, planner.tolerance_gmm
+    option = option_of(plane, choice.chosen, arrays)
+    if any(choice.chosen.parts == s.parts for s in choice.lighter):
+        option = replace(option, kind=LIGHTEST)
+    zero = option_of(plane, choice.front[0], arrays)
+    front = [option_of(plane, e, arrays) for e in choice.improving]
+    lighter = [replace(option_of(plane, e, arrays), kind=LIGHTEST) for e in choice.lighter]
+    rule = choice.rule
+    if tolerance is None and errors.min_chance is not None:
+        notes = notes + ["a least chance of staying within tolerance needs a tolerance; "
+                         "this plane has none, so the plan is chosen without it"]
+    rated = tolerance is not None and (errors.min_chance is not None or
+                                       fitting_errors_given(plane, placement_error_deg))
+    if rated:
+        def rate(o: PlanOption) -> PlanOption:
+            return _with_robustness(plane, o, tolerance, errors, placement_error_deg)
 
-    Each plane gets its tolerance, its proven trade-off front and the fewest
-    parts within tolerance (or the least residual); planes that overdraw a
-    shared drawer are then planned together.
+        # Items of equal nominal mass: the plan whose parts keep it within tolerance more often.
+        def best_variant(o: PlanOption) -> PlanOption:
+            return max(map(rate, equal_mass_variants(plane, o)), key=lambda v: v.chance_within)
 
-    Parameters
-    ----------
-    job : Job
-        The job.
-    time_limit_s : float
-        Time the engine may spend on each plane (and on each planning of
-        planes together) [s].
-    errors : FittingErrors or None
-        How fitting errors are rated (Monte Carlo) and whether they pick the
-        plan; None for the defaults.
-
-    Returns
-    -------
-    JobResult
-        The planes' results, the job's permissible residual, its shares and notes.
-
-    Raises
-    ------
-    ToleranceError
-        From :func:`placer.tolerance.job_tolerances`: distances from the
-        centre of mass that cannot share U_per (other than two planes, or
-        both zero).
-    """
-    tolerances = job_tolerances(job)
-    results = []
-    arrays_of = []
-    for plane, own in zip(job.planes, tolerances.planes):
-        arrays = plane_arrays(plane)
-        arrays_of.append(arrays)
-        tolerance, source = own.tolerance_gmm, own.source
-        entries, elapsed, method = exact_front(arrays, plane.max_parts, time_limit_s)
-        chosen = choose(entries, tolerance)
-        notes = [n for n in (_reach_note(plane, arrays),) if n]
-        results.append(_plane_result(plane, tolerance, source, entries, chosen, notes,
-                                     elapsed, method, errors=errors or FittingErrors(),
-                                     placement_error_deg=job.rotor.placement_error_deg,
-                                     rows=arrays))
-    results, stock_notes, short = share_stock(job, results, arrays_of, time_limit_s)
-    return JobResult(job=job, planes=tuple(results), permissible_gmm=tolerances.permissible_gmm,
-                     shares=tolerances.shares, notes=tolerances.notes + tuple(stock_notes),
-                     stock_short=short)
-
-
-@dataclass(frozen=True)
-class FittingErrors:
-    """How the Monte Carlo of fitting errors runs, and whether it picks the plan.
-
-    ``min_chance``: choose the fewest parts whose chance of staying within
-    tolerance is at least this (None: choose by residual alone).
-
-    Parameters
-    ----------
-    samples : int
-        Monte Carlo draws per plan.
-    seed : int
-        Seed of the draws.
-    min_chance : float or None
-        Least chance of staying within tolerance [1], or None.
-    """
-
-    samples: int = DEFAULT_SAMPLES
-    seed: int = DEFAULT_SEED
-    min_chance: float | None = None
+        front, lighter = [best_variant(o) for o in front], [best_variant(o) for o in lighter]
+        zero = rate(zero)
+        candidates = [zero] + front + lighter
+        option = next((o for o in candidates if o.parts == option.parts
+                       or _same_places(o, option)), rate(option))
+        if errors.min_chance is not None:
+            ranked = sorted(candidates, key=lambda o: (o.used_parts, o.mass_g, o.residual_gmm))
+            pick = [o for o in ranked if o.chance_within >= errors.min_chance]
+            if pick:
+                option = pick[0]
+                rule = (f"the fewest parts with at least a {errors.min_chance:.0%} chance of "
+                        "staying within tolerance, then the least added mass")
+            else:
+                option = max(candidates, key=lambda o: (o.chance_within, -o.residual_gmm))
+                notes = notes + [f"no plan reaches a {errors.min_chance:.0%} chance of "
+                                 "staying within tolerance; the plan with the best "
+                                 f"chance ({option.chance_within:.0%}) is shown"]
+    within = None if tolerance is None else bool(option.residual_gmm <= tolerance)
+    return PlaneResult(
+        plane=plane, tolerance_gmm=tolerance, tolerance_source=source,
+        front=tuple(front), chosen=option, within_tolerance=within, optimal=choice.proven,
+        notes=tuple(notes), elapsed_s=elapsed_s, method=choice.method,
+        aim_gmm=planner.aim.radius_gmm, aim_text=planner.aim.text, rule=rule,
+        lighter=tuple(lighter))
 
 
 def _with_robustness(plane: PlaneJob, option: PlanOption, tolerance: float,
@@ -120,62 +193,15 @@ def _with_robustness(plane: PlaneJob, option: PlanOption, tolerance: float,
     return replace(option, chance_within=r.chance_within, residual_p95_gmm=r.residual_p95_gmm)
 
 
-def _plane_result(plane, tolerance, source, entries, chosen, notes, elapsed, method,
-                  optimal=None, errors: FittingErrors | None = None,
-                  placement_error_deg: float = 0.0,
-                  rows: PlaneArrays | None = None) -> PlaneResult:
-    rows = plane_arrays(plane) if rows is None else rows
-    option = option_of(plane, chosen, rows)
-    zero = option_of(plane, entries[0], rows)
-    front = [option_of(plane, e, rows) for e in improving(entries)]
-    errors = errors or FittingErrors()
-    if tolerance is None and errors.min_chance is not None:
-        notes = list(notes) + ["a least chance of staying within tolerance needs a tolerance; "
-                               "this plane has none, so the plan is chosen by residual alone"]
-    rated = tolerance is not None and (errors.min_chance is not None or
-                                       fitting_errors_given(plane, placement_error_deg))
-    if rated:
-        rate = lambda o: _with_robustness(plane, o, tolerance, errors,  # noqa: E731
-                                          placement_error_deg)
-        # Equal residuals: the plan whose parts keep it within tolerance more often.
-        front = [max(map(rate, equal_mass_variants(plane, o)),
-                     key=lambda v: v.chance_within) for o in front]
-        zero = rate(zero)
-        option = next((o for o in [zero] + front if o.parts == option.parts
-                       or _same_places(o, option)), rate(option))
-        if errors.min_chance is not None:
-            pick = [o for o in [zero] + front if o.chance_within >= errors.min_chance]
-            if pick:
-                option = pick[0]
-                notes = list(notes) + [f"chosen by the chance of staying within tolerance "
-                                       f"(at least {errors.min_chance:.0%})"]
-            else:
-                option = max([zero] + front, key=lambda o: (o.chance_within, -o.residual_gmm))
-                notes = list(notes) + [f"no plan reaches a {errors.min_chance:.0%} chance of "
-                                       "staying within tolerance; the plan with the best "
-                                       f"chance ({option.chance_within:.0%}) is shown"]
-    within = None if tolerance is None else bool(option.residual_gmm <= tolerance)
-    return PlaneResult(
-        plane=plane, tolerance_gmm=tolerance, tolerance_source=source,
-        front=tuple(front), chosen=option, within_tolerance=within,
-        optimal=all(e.proven for e in entries) if optimal is None else optimal,
-        notes=tuple(notes), elapsed_s=elapsed, method=method)
-
-
 def fitting_errors_given(plane: PlaneJob, placement_error_deg: float) -> bool:
     """True when a part may be fitted off its nominal mass or angle.
 
     Parameters
     ----------
     plane : PlaneJob
-        The plane; its items' mass tolerances count.
+        The plane (its items' mass tolerances).
     placement_error_deg : float
-        The job's angle error of fitting [deg].
-
-    Returns
-    -------
-    bool
-        Whether the error or any item's mass tolerance is above zero.
+        How far off its angle a part may sit [deg].
     """
     return placement_error_deg > 0 or any(item.mass_tolerance_g > 0
                                           for item in plane.catalog.items)
@@ -183,7 +209,9 @@ def fitting_errors_given(plane: PlaneJob, placement_error_deg: float) -> bool:
 
 def _same_places(a: PlanOption, b: PlanOption) -> bool:
     """Same part count on the same positions (items may differ, masses equal)."""
-    key = lambda o: sorted((p.position, p.action, p.mass_g, p.count) for p in o.parts)  # noqa
+    def key(o: PlanOption) -> list:
+        return sorted((p.position, p.action, p.mass_g, p.count) for p in o.parts)
+
     return key(a) == key(b)
 
 
@@ -198,17 +226,11 @@ def equal_mass_variants(plane: PlaneJob, option: PlanOption,
     Parameters
     ----------
     plane : PlaneJob
-        The plane, for its catalogue.
+        The plane (its catalogue and stock).
     option : PlanOption
         The plan.
     limit : int
-        Most combinations tried.
-
-    Returns
-    -------
-    list of PlanOption
-        The variants within stock (items in catalogue order), or ``[option]``
-        when none is.
+        Most variants returned.
     """
     items = plane.catalog.items
     choices = []

@@ -94,6 +94,23 @@ def whole(value: Any, key: str, minimum: int | None = None, maximum: int | None 
         raise InputError(f"is {value}", key=key, expected=f"a whole number of at most {maximum}")
 
 
+def share(value: Any, key: str) -> None:
+    """Refuse a share that is not above 0 and at most 1 (None lets it through).
+
+    Parameters
+    ----------
+    value : Any
+        The share [1].
+    key : str
+        The field it is, for the message.
+    """
+    if value is None:
+        return
+    number(value, key)
+    if not 0 < value <= 1:
+        raise InputError(f"is {value!r}", key=key, expected="a share above 0 and at most 1")
+
+
 def one_of(value: Any, key: str, choices: Iterable[Any]) -> None:
     """Refuse a value that is not one of ``choices``.
 

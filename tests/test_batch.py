@@ -24,7 +24,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from oracle import brute_front
+from oracle import brute_front, brute_lightest
 
 from placer.batch import BatchSolver, RotorReading, solve_readings
 from placer.errors import InputError
@@ -181,17 +181,30 @@ def test_small_plane_against_brute_force(tmp_path):
     effects = -(80.0 * np.array([2.0, 3.5, 7.0])[None, :]
                 * np.exp(1j * angles)[:, None])[:, :, None]
     capacity, stock = np.full(6, 2), np.array([2, 3, 1])
+    masses = [[2.0, 3.5, 7.0]] * 6
     rng = np.random.default_rng(11)
     for line in range(40):
         target = complex(*rng.normal(0.0, 500.0, 2))
-        outcome = solver.solve(RotorReading(line, f"S{line}", (target,)))
+        outcome, _ = solver.solve(RotorReading(line, f"S{line}", (target,)))
         front = brute_front(effects, np.array([target]), capacity, stock, 3)
-        within = [k for k, value in enumerate(front) if value <= 60.0]
-        k = within[0] if within else 3
         plane = outcome.planes[0]
-        assert plane.residual_gmm == pytest.approx(front[k], abs=1e-9)
-        assert plane.option.used_parts <= k
-        assert plane.within_tolerance == bool(within)
+        # The rule of placer.choice: aim at 70 % of the tolerance (placer's default), the
+        # fewest parts that reach it, then the least added mass; else the same within the
+        # tolerance; else the least residual.
+        for radius in (0.7 * 60.0, 60.0):
+            reach = next((k for k, value in enumerate(front) if value <= radius), None)
+            if reach is not None:
+                break
+        if reach is None:
+            assert plane.residual_gmm == pytest.approx(front[3], abs=1e-9)
+            assert plane.within_tolerance is False
+            continue
+        mass, value = (brute_lightest(effects, np.array([target]), capacity, stock, masses,
+                                      reach, radius) if reach else (0.0, front[0]))
+        assert plane.option.used_parts == reach
+        assert plane.option.mass_g == pytest.approx(mass, abs=1e-9)
+        assert plane.residual_gmm == pytest.approx(value, abs=1e-9)
+        assert plane.within_tolerance is True
 
 
 def test_shared_stock_within_a_rotor_solved_together(tmp_path):
@@ -610,13 +623,13 @@ def test_no_plane_arrays_per_rotor(monkeypatch, quick_files):
     def rebuilt(plane):
         raise AssertionError("plane_arrays called for a rotor")
 
-    monkeypatch.setattr(placer.batch, "plane_arrays", rebuilt)
+    monkeypatch.setattr(placer.batch.solver, "plane_arrays", rebuilt)
     monkeypatch.setattr("placer.engine.arrays.plane_arrays", rebuilt)
     for i, (serial, planes) in enumerate(random_rows(12)):
         reading = RotorReading(i + 2, serial, tuple(
             complex(g * math.cos(math.radians(a)), g * math.sin(math.radians(a)))
             for g, a in planes))
-        outcome = solver.solve(reading)
+        outcome, _ = solver.solve(reading)
         assert [p.correction_gmm for p in outcome.planes] == list(reading.corrections_gmm)
 
 

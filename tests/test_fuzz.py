@@ -286,7 +286,7 @@ def corpus_kind(name: str, raw: bytes) -> str:
 
 def run_kind(capsys, folder: Path, kind: str, raw: bytes) -> tuple[int, str, Path, str]:
     """Write ``raw`` as a file of ``kind`` in ``folder`` and run placer on it."""
-    out = ["--out", folder / "out", "--force", "--jobs", "1", "--time-limit", "0.5"]
+    out = ["--out", folder / "out", "--force", "--jobs", "1", "--effort", "0.001"]
     if kind in ("csv", "jsonl"):
         (folder / "t.toml").write_text(ROWS_TEMPLATE, encoding="utf-8")
         path = folder / f"rows.{kind}"
@@ -303,15 +303,15 @@ def run_kind(capsys, folder: Path, kind: str, raw: bytes) -> tuple[int, str, Pat
         path.write_bytes(raw)
         (folder / "job.toml").write_text(CATALOGUE_JOB, encoding="utf-8")
         return _with_path(*run_cli(capsys, ["solve", folder / "job.toml", "--json",
-                                            "--time-limit", "0.5"]), path)
+                                            "--effort", "0.001"]), path)
     path = folder / f"{kind}.toml"
     path.write_bytes(raw)
     if kind == "session":
         # --max-parts 3: the reader is the target; the plan search of 4 parts takes seconds.
         return _with_path(*run_cli(capsys, ["field", path, "--json", "--max-parts", "3",
-                                            "--time-limit", "0.5",
+                                            "--effort", "0.001",
                                             "--db", folder / "none.sqlite"]), path)
-    return _with_path(*run_cli(capsys, ["solve", path, "--json", "--time-limit", "0.5",
+    return _with_path(*run_cli(capsys, ["solve", path, "--json", "--effort", "0.001",
                                         "--samples", "100"]), path)
 
 

@@ -11,8 +11,9 @@ import pytest
 from oracle import brute_front, ring_effects
 
 import placer.engine.search
+from placer.choice import aim_of, choose_plan
 from placer.engine.arrays import PlaneArrays
-from placer.engine.front import choose, exact_front
+from placer.engine.front import exact_front
 from placer.io.jobfile import read_job
 from placer.residual import residual_vector_gmm
 from placer.solve import solve_job
@@ -107,13 +108,17 @@ def test_stock_is_shared_per_catalogue_file_across_merged_catalogues(tmp_path):
 def test_already_within_tolerance_needs_no_parts():
     entries_effects = ring_effects(6, [1.0], 100.0)
     arrays = PlaneArrays(entries_effects[:, :, None], np.array([30.0 + 0j]), np.ones(6, int),
-                         np.array([4]))
-    entries, _, _ = exact_front(arrays, 3)
-    assert choose(entries, 40.0).parts == ()
-    # Without a tolerance: the least residual with at most 3 parts, by enumeration.
-    least = brute_front(entries_effects, np.array([30.0 + 0j]), np.ones(6, int), np.array([4]),
-                        3)[3]
-    assert choose(entries, None).residual_norm == pytest.approx(least, abs=1e-9)
+                         np.array([4]), masses=np.ones((6, 1)))
+    # 30 g·mm left, tolerance 50, aim 35 (70 %): nothing to fit.
+    choice = choose_plan(arrays, 3, 50.0, aim_of(50.0, 30.0, 0.7, "test"))
+    assert choice.chosen.parts == ()
+    # Tolerance 40, aim 28: no plan reaches 28 (by enumeration: 100 g·mm parts against
+    # 30 g·mm), so the fewest parts within the tolerance: none, 30 <= 40.
+    front = brute_front(entries_effects, np.array([30.0 + 0j]), np.ones(6, int),
+                        np.array([4]), 3)
+    assert min(front) > 28.0
+    choice = choose_plan(arrays, 3, 40.0, aim_of(40.0, 30.0, 0.7, "test"))
+    assert choice.chosen.parts == () and "no plan reaches the aim" in choice.rule
 
 
 def test_unreachable_correction_is_solved_and_flagged(tmp_path):
@@ -134,7 +139,7 @@ def test_cp_sat_takes_over_when_tables_are_over_budget(monkeypatch):
     effects = ring_effects(5, [1.5, 4.0], 100.0)
     target = np.array([620.0 * cmath.exp(1j * 0.7)])
     arrays = PlaneArrays(effects[:, :, None], target, np.full(5, 2), np.array([3, 3]))
-    entries, _, method = exact_front(arrays, 3, time_limit_s=20.0)
+    entries, _, method = exact_front(arrays, 3, effort=4.0)
     assert "CP-SAT" in method
     expected = brute_front(effects, target, np.full(5, 2), np.array([3, 3]), 3)
     # Oracle: exhaustive enumeration. A proven entry is within the proof tolerance

@@ -158,14 +158,21 @@ def test_choose_by_chance_of_staying_within_tolerance(tmp_path):
     plane = ("correction = { gmm = 850.0, angle_deg = 20.0 }\ntolerance_gmm = 80.0\n"
              "max_parts = 4\ncapacity = 2")
     path = job(tmp_path, plane, "placement_error_deg = 3.0", pct=3.0)
-    plain = solve_job(read_job(path)).planes[0]
-    picky = solve_job(read_job(path), errors=FittingErrors(min_chance=0.9)).planes[0]
+    # Aiming at the tolerance itself (aim share 1): the fewest parts within it.
+    plain = solve_job(read_job(path), aim_share=1.0).planes[0]
+    picky = solve_job(read_job(path), errors=FittingErrors(min_chance=0.9),
+                      aim_share=1.0).planes[0]
     assert plain.chosen.chance_within < 0.9
     assert picky.chosen.chance_within >= 0.9
     assert picky.chosen.used_parts > plain.chosen.used_parts
     # The fewest parts that reach the level: no plan with fewer parts does.
     assert all(o.chance_within < 0.9 for o in picky.front
                if o.used_parts < picky.chosen.used_parts)
+    # The default aim (70 % of the tolerance) leaves room for the fitting errors: it takes
+    # the 4th part on its own (regression pin).
+    aimed = solve_job(read_job(path)).planes[0]
+    assert aimed.chosen.used_parts == picky.chosen.used_parts
+    assert aimed.chosen.chance_within >= 0.9
 
 
 # --------------------------------------------------------------------------

@@ -44,6 +44,9 @@ class PlaneArrays:
         Position index of each row (see above).
     row_existing : int array (n_rows,) or None
         Existing-part index of each row that takes one off, else -1.
+    masses : float array (n_rows, n_columns) or None
+        What one part of a column on a row adds to the plan's mass [g]: the
+        part's own mass, by its magnitude for a hole or a part taken off.
     """
 
     effects: np.ndarray
@@ -52,6 +55,7 @@ class PlaneArrays:
     stock: np.ndarray
     row_position: np.ndarray | None = None
     row_existing: np.ndarray | None = None
+    masses: np.ndarray | None = None
 
     def row_of(self, position_index: int, hole: bool) -> int:
         """The row that fits an added part (or drills a hole) at a position.
@@ -156,8 +160,10 @@ def placement_arrays(geometry: PlaneGeometry, catalog: Catalog,
             capacity[old.position - 1] = max(0, capacity[old.position - 1] - old.count)
     stock = np.array([max_parts if item.stock is None else item.stock for item in items]
                      + [old.count for old in existing], dtype=np.int64)
+    column_mass = np.abs(np.concatenate([masses, [items[o.item].mass_g for o in existing]]))
     return PlaneArrays(effects, np.array([complex(target_gmm)]), capacity, stock,
-                       row_position, row_existing)
+                       row_position, row_existing,
+                       np.broadcast_to(column_mass, (n_rows, n_items + n_old)).copy())
 
 
 def part_of_row(geometry: PlaneGeometry, catalog: Catalog, existing: Sequence[ExistingPart],

@@ -8,14 +8,13 @@ whether the count is proven.
 
 from __future__ import annotations
 
-import time
 from dataclasses import replace
 
 import numpy as np
 
 from placer.engine.arrays import PlaneArrays
 from placer.engine.search import ABS_TOL, REL_TOL, PlacementSearch, Selection
-from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.limits import DEFAULT_EFFORT, DEFAULT_WORK
 from placer.residual import residual_of
 
 MAX_MODEL_PLACEMENTS = 6000
@@ -43,10 +42,10 @@ def is_proven(found: float, lower_bound: float) -> bool:
     return found <= max(lower_bound * (1.0 + REL_TOL), lower_bound + ABS_TOL) + 1e-12
 
 
-def exact_front(arrays: PlaneArrays, max_parts: int,
-                time_limit_s: float = DEFAULT_TIME_LIMIT_S,
-                search: PlacementSearch | None = None) -> tuple[list[Selection], float, str]:
-    """The trade-off front of one plane, proven; CP-SAT takes what the search declines.
+def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFFORT,
+                search: PlacementSearch | None = None,
+                stock: np.ndarray | None = None) -> tuple[list[Selection], int, str]:
+    """The front of one plane, proven; CP-SAT takes what the search declines.
 
     A part count the search declines goes to :func:`placer.engine.model.min_residual`
     (seeded with the plan of one part fewer), unless the plane has more than
@@ -56,30 +55,30 @@ def exact_front(arrays: PlaneArrays, max_parts: int,
     Parameters
     ----------
     arrays : PlaneArrays
-        The plane as arrays.
+        The plane (see :func:`placer.engine.arrays.placement_arrays`).
     max_parts : int
         Longest plan.
-    time_limit_s : float
-        Time the search may spend, and again the model for each part count it
-        takes over [s].
-    search : PlacementSearch or None
-        A search already built on these arrays (a batch reuses it); built here
-        when None.
+    effort : float
+        Multiple of the default work budget and model time (deterministic).
+    search : PlacementSearch, optional
+        A search built once for these arrays (batches); default a new one.
+    stock : int array, optional
+        Parts of each column on hand for this plane (default the arrays').
 
     Returns
     -------
     entries : list of Selection
         Entry k: the least residual with at most k parts, k = 0 .. max_parts.
-    elapsed_s : float
-        Wall-clock time taken [s].
+    work : int
+        Work the search counted.
     method : str
         "exact search", "exact search + CP-SAT" or "exact search (not proven
         past its budget)".
     """
-    started = time.perf_counter()
     if search is None:
-        search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, max_parts)
-    front = search.front(arrays.target, budget_s=time_limit_s)
+        search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, max_parts,
+                                 masses=arrays.masses)
+    front = search.front(arrays.target, stock=stock, work=int(DEFAULT_WORK * effort))
     entries = list(front.entries)
     method = "exact search"
     for k, entry in enumerate(entries):
@@ -93,7 +92,8 @@ def exact_front(arrays: PlaneArrays, max_parts: int,
         method = "exact search + CP-SAT"
         previous = entries[k - 1]
         outcome = min_residual(ModelPlane(arrays.effects, arrays.target, arrays.capacity,
-                                          arrays.stock, k, hint=previous.parts), time_limit_s)
+                                          arrays.stock if stock is None else stock, k,
+                                          hint=previous.parts), effort)
         parts = outcome.parts[0]
         residual = residual_of(arrays.target, arrays.effects, parts)
         norm = float(np.linalg.norm(residual))
@@ -110,11 +110,16 @@ def exact_front(arrays: PlaneArrays, max_parts: int,
             entry = replace(before, part_count=k)
         entries[k] = replace(entry, proven=entry.proven and before.proven,
                              lower_bound=min(entry.lower_bound, before.lower_bound))
-    return entries, time.perf_counter() - started, method
+    return entries, front.work, method
 
 
 def improving(entries: list[Selection]) -> list[Selection]:
-    """The entries k >= 1 that improve on k - 1 (the trade-off front as shown).
+    """The entries k >= 1 that improve on fewer parts (the trade-off front as shown).
+
+    An entry improves when it uses more parts than the last entry shown and
+    leaves a residual smaller by more than the proof tolerance (0.5 % or
+    0.01 of the target's unit, :func:`is_proven`): a smaller residual within
+    that tolerance is no better than proven.
 
     Parameters
     ----------
@@ -124,38 +129,13 @@ def improving(entries: list[Selection]) -> list[Selection]:
     Returns
     -------
     list of Selection
-        The entries that use more parts than the one before and leave a
-        strictly smaller residual.
+        The entries that improve, fewest parts first.
     """
-    out = []
-    for previous, entry in zip(entries, entries[1:]):
-        if entry.used_parts > previous.used_parts and entry.residual_norm < previous.residual_norm:
+    out: list[Selection] = []
+    shown = entries[0] if entries else None
+    for entry in entries[1:]:
+        if entry.used_parts > shown.used_parts and not is_proven(shown.residual_norm,
+                                                                 entry.residual_norm):
             out.append(entry)
+            shown = entry
     return out
-
-
-def choose(entries: list[Selection], tolerance_gmm: float | None) -> Selection:
-    """The plan to fit from the front ``entries`` (index k = at most k parts).
-
-    With a tolerance: the fewest parts within it (the least residual among
-    those, since entry k is the least with at most k parts; zero parts when
-    the rotor is already within tolerance).  Without one, or when no entry
-    is within it: the least residual with at most max_parts parts.
-
-    Parameters
-    ----------
-    entries : list of Selection
-        A front from :func:`exact_front`.
-    tolerance_gmm : float or None
-        Permissible residual of the plane [g·mm]; None when it has none.
-
-    Returns
-    -------
-    Selection
-        The entry chosen.
-    """
-    if tolerance_gmm is not None:
-        for entry in entries:
-            if entry.residual_norm <= tolerance_gmm:
-                return entry
-    return entries[-1]

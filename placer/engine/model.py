@@ -31,7 +31,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from placer.engine.search import PartList
-from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.limits import DEFAULT_EFFORT, DEFAULT_MODEL_EFFORT
 
 _SCALE_UNITS = 1.0e6
 """Integer units the largest effect or target is scaled to (at most; see `_scale_units`)."""
@@ -191,10 +191,13 @@ class _Built:
         for key, terms in shared_terms.items():
             self.model.Add(sum(terms) <= int(shared_stock[key]))
 
-    def solve(self, time_limit_s: float):
+    def solve(self, effort: float):
         solver = self.cp_model.CpSolver()
-        solver.parameters.max_time_in_seconds = max(0.05, time_limit_s)
-        solver.parameters.num_workers = 2
+        # One worker, a fixed seed and a deterministic time limit: the same model gives the
+        # same answer on any machine and load ([CPSAT]).
+        solver.parameters.max_deterministic_time = max(0.05, DEFAULT_MODEL_EFFORT * effort)
+        solver.parameters.num_workers = 1
+        solver.parameters.random_seed = 0
         status = solver.Solve(self.model)
         return solver, status
 
@@ -207,7 +210,7 @@ class _Built:
 
 
 def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
-                       time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> ModelOutcome:
+                       effort: float = DEFAULT_EFFORT) -> ModelOutcome:
     """All planes at once under shared stock, lexicographically.
 
     First the most planes within tolerance; then the least residual of the
@@ -221,8 +224,9 @@ def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
         The planes, each with its own capacity, stock and part limit.
     shared_stock : dict of str to int
         Drawer key -> parts on hand, shared by every column with that key.
-    time_limit_s : float
-        Time for all stages together, split evenly between them [s].
+    effort : float
+        Multiple of the model's default deterministic time for all stages
+        together, split evenly between them.
 
     Returns
     -------
@@ -248,7 +252,7 @@ def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
             built.model.Maximize(objective)
         else:
             built.model.Minimize(objective)
-        solver, status = built.solve(time_limit_s / len(stages))
+        solver, status = built.solve(effort / len(stages))
         if status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
             if found is not None:          # an earlier stage's plans stand, unproven
                 return ModelOutcome(found, False, tuple(0.0 for _ in planes), "FEASIBLE")
@@ -269,7 +273,7 @@ def solve_shared_stock(planes: list[ModelPlane], shared_stock: dict[str, int],
                         solver.StatusName(status))
 
 
-def min_residual(plane: ModelPlane, time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> ModelOutcome:
+def min_residual(plane: ModelPlane, effort: float = DEFAULT_EFFORT) -> ModelOutcome:
     """Least residual of one plane with at most ``plane.max_parts`` parts.
 
     The lower bound is the solver's bound on the scaled squared norm, turned
@@ -280,8 +284,8 @@ def min_residual(plane: ModelPlane, time_limit_s: float = DEFAULT_TIME_LIMIT_S) 
     ----------
     plane : ModelPlane
         The plane; its ``max_parts`` is the part count asked about.
-    time_limit_s : float
-        Time the solver may take [s].
+    effort : float
+        Multiple of the model's default deterministic time.
 
     Returns
     -------
@@ -295,7 +299,7 @@ def min_residual(plane: ModelPlane, time_limit_s: float = DEFAULT_TIME_LIMIT_S) 
     """
     built = _Built([plane], {})
     built.model.Minimize(built.squares[0])
-    solver, status = built.solve(time_limit_s)
+    solver, status = built.solve(effort)
     cp_model = built.cp_model
     if status not in (cp_model.OPTIMAL, cp_model.FEASIBLE):
         return ModelOutcome((plane.hint,), False, (0.0,), solver.StatusName(status))

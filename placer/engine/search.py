@@ -29,8 +29,15 @@ How the search proves its answer (Notes)
   looked up exactly (nearest feasible pair; when the nearest few pairs all
   clash with the head on a position or an item, the pair table is scanned in
   full for that head), so the result is the proven optimum.
-* Above a size budget the search gives up on a part count and leaves it to
-  the CP-SAT model (:mod:`placer.engine.model`), which reports its own proof status.
+* The least added mass within a residual radius (:meth:`PlacementSearch.lightest`)
+  uses the same heads and pairs, with the mass of the lightest parts left as
+  the bound (a head of mass w can only be completed to less than the
+  incumbent W if ``w + (k - j) * w_min < W``) and the radius as the
+  geometric bound.
+* Work is counted (candidate residuals evaluated, head rows grown), never
+  timed: a part count whose search would pass the work budget is declined and
+  left to the CP-SAT model (:mod:`placer.engine.model`), which reports its own
+  proof status.  The same input gives the same answer on any machine and load.
 
 References
 ----------
@@ -41,12 +48,11 @@ knapsack problem", J. ACM 21 (1974) 277-292; from memory).
 
 from __future__ import annotations
 
-import time
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.limits import DEFAULT_WORK
 from placer.residual import residual_of
 
 NORMS = ("euclidean", "max")
@@ -95,6 +101,8 @@ class Selection:
         ``residual``]; 0.0 when none is known.
     proven : bool
         Whether ``residual_norm`` is proven least (within the proof tolerances).
+    mass : float
+        Added mass of the parts [g] (:attr:`PlacementSearch.mass` of each).
     """
 
     part_count: int
@@ -103,6 +111,7 @@ class Selection:
     residual_norm: float
     lower_bound: float
     proven: bool
+    mass: float = 0.0
 
     @property
     def used_parts(self) -> int:
@@ -118,15 +127,15 @@ class Front:
     ----------
     entries : tuple of Selection
         Entry k: the least residual with at most k parts.
-    elapsed_s : float
-        Wall-clock time the search took [s].
+    work : int
+        Work the search counted (candidate residuals evaluated).
     method : str
         "exact", or "exact+cp-sat" when a part count was declined (left
         unproven for the integer model).
     """
 
     entries: tuple[Selection, ...]
-    elapsed_s: float
+    work: int
     method: str
 
     @property
@@ -157,10 +166,15 @@ class PlacementSearch:
         bounds hold; the k-d tree works in Euclidean distance, which bounds
         the largest magnitude from above and from below by a factor
         sqrt(n_channels), and candidates are re-scored exactly.
+    masses : float array (n_positions, n_items), optional
+        What one part adds to a plan's total mass [g], zero or more (a part
+        taken off or a hole drilled counts by its magnitude); default the
+        norm of its effect.  Used by :meth:`lightest`.
     """
 
     def __init__(self, effects: np.ndarray, capacity: np.ndarray, stock: np.ndarray,
-                 max_parts: int, norm: str = "euclidean") -> None:
+                 max_parts: int, norm: str = "euclidean",
+                 masses: np.ndarray | None = None) -> None:
         effects = np.asarray(effects, dtype=complex)
         if effects.ndim == 2:
             effects = effects[:, :, None]
@@ -184,13 +198,18 @@ class PlacementSearch:
         self.item_of = item[order]
         self.eff = eff[order]
         self.mag = size[order]
+        weights = (np.linalg.norm(effects, axis=2) if masses is None
+                   else np.abs(np.asarray(masses, dtype=float)))
+        self.mass = weights[self.pos_of, self.item_of]
         self.n = len(self.pos_of)
         self.eff_real = _as_real(self.eff)
         self._pairs: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
         self._tail_rows: tuple[np.ndarray, np.ndarray] | None = None
         self._tree = None
         self.pair_table_too_large = self.n * (self.n + 1) // 2 > MAX_PAIRS
-        self._deadline = float("inf")
+        self._stock = self.stock
+        self._work = 0
+        self._work_limit = DEFAULT_WORK
 
     # ----------------------------------------------------------------- tables
     def _pair_table(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -223,31 +242,30 @@ class PlacementSearch:
         return (*self._tail_table(), self._tree)
 
     # ----------------------------------------------------------------- search
-    def front(self, target: np.ndarray, max_parts: int | None = None,
-              budget_s: float = DEFAULT_TIME_LIMIT_S) -> Front:
+    def front(self, target: np.ndarray, max_parts: int | None = None, *,
+              stock: np.ndarray | None = None, work: int = DEFAULT_WORK) -> Front:
         """Least residual for each part count 0 .. max_parts for this ``target``.
-
-        A part count whose search would run past ``budget_s`` seconds (from the
-        start of this call), or whose heads would grow past the size budget, is
-        declined and left unproven (the best plan of fewer parts stands for it).
 
         Parameters
         ----------
-        target : complex array (n_channels,) or complex
-            The residual with no parts [g·mm for a plane, the reading's unit for
-            field balancing].
-        max_parts : int or None
-            Longest selection, at most the search's own; None for the search's own.
-        budget_s : float
-            Time the search may take [s].
+        target : complex array (n_channels,)
+            The residual with no parts [as the effects].
+        max_parts : int, optional
+            Longest selection (default the search's own).
+        stock : int array (n_items,), optional
+            Parts of each item on hand for this query, at most the search's
+            own stock (default that stock): planes that share a drawer are
+            planned with what the others leave.
+        work : int
+            Work budget of each part count (candidate residuals evaluated);
+            a count that would pass it is declined and left unproven.
 
         Returns
         -------
         Front
             Entries for k = 0 .. max_parts.
         """
-        started = time.perf_counter()
-        self._deadline = started + budget_s
+        self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
         target = np.atleast_1d(np.asarray(target, dtype=complex))
         t_real = _as_real(target[None, :])[0]
@@ -255,6 +273,7 @@ class PlacementSearch:
         best_norm = float(self._norm(t_real[None, :])[0])
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
         method = "exact"
+        total = 0
         # Nothing can beat an exact zero; stop there (relative to the problem's size, so
         # that tiny rotors are solved as carefully as large ones).
         exact_zero = 1e-12 * max(best_norm, float(self.mag.max(initial=0.0)))
@@ -262,7 +281,9 @@ class PlacementSearch:
             if best_norm <= exact_zero or self.n == 0:
                 entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, True))
                 continue
+            self._work = 0
             found = self._best_with(k, t_real, best_norm)
+            total += self._work
             if found is None:
                 method = "exact+cp-sat"
                 entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, False))
@@ -273,26 +294,215 @@ class PlacementSearch:
                 best_norm = value
             # Every k-part selection was examined: best_norm is the least residual.
             entries.append(self._selection(k, target, best_rows[-1], best_norm, best_norm, True))
-        return Front(tuple(entries), time.perf_counter() - started, method)
+        return Front(tuple(entries), total, method)
+
+    def lightest(self, target: np.ndarray, parts: int, radius: float, *,
+                 stock: np.ndarray | None = None, work: int = DEFAULT_WORK,
+                 known: PartList | None = None) -> Selection | None:
+        """The least added mass with exactly ``parts`` parts and a residual within ``radius``.
+
+        Ties in mass go to the least residual.  Exact: every selection of
+        ``parts`` parts that could be lighter than the best found and reach
+        the radius is examined (see the module notes), unless the work
+        budget runs out first; the result is then the lightest found, not
+        proven.
+
+        Parameters
+        ----------
+        target : complex array (n_channels,)
+            The residual with no parts [as the effects].
+        parts : int
+            Number of parts (operations) in the plan.
+        radius : float
+            Largest residual allowed [as the effects].
+        stock : int array (n_items,), optional
+            Parts of each item on hand for this query (see :meth:`front`).
+        work : int
+            Work budget (candidate residuals evaluated).
+        known : tuple of (position, item, count), optional
+            A plan of ``parts`` parts within the radius known beforehand (the
+            least residual one): the search starts from its mass.
+
+        Returns
+        -------
+        Selection or None
+            The plan (``mass`` its added mass [g], ``proven`` whether the
+            search finished), or None when no plan of ``parts`` parts reaches
+            the radius (proven: the search finished) or none was found.
+        """
+        self._begin(stock, work)
+        target = np.atleast_1d(np.asarray(target, dtype=complex))
+        t_real = _as_real(target[None, :])[0]
+        k = int(parts)
+        # Sums in another order differ in the last bits: a plan exactly at the radius counts.
+        size = max(float(self._norm(t_real[None, :])[0]), float(self.mag.max(initial=0.0)))
+        radius = float(radius) * (1.0 + 1e-12) + 1e-12 * size
+        best_row, best_mass, best_value = None, np.inf, np.inf
+        if known is not None:
+            best_row = self.rows_of(known)
+            best_mass = float(self.mass[best_row].sum())
+            best_value = float(self._norm((t_real + self.eff_real[best_row].sum(axis=0))[None, :])[0])
+        if k == 0:
+            value = float(self._norm(t_real[None, :])[0])
+            if value > radius:
+                return None
+            return self._selection(0, target, np.zeros(0, dtype=np.int64), value, value, True)
+        finished = True
+        if self.n:
+            found = self._lightest_with(k, t_real, radius, best_mass, best_value)
+            if found is None:
+                finished = False
+            elif found[0] is not None:
+                best_row, best_mass, best_value = found
+        if best_row is None:
+            return None
+        return self._selection(k, target, best_row, best_value, best_value, finished)
+
+    def _begin(self, stock: np.ndarray | None, work: int) -> None:
+        """Set the stock and the work budget of one query."""
+        self._stock = self.stock if stock is None else np.minimum(
+            np.asarray(stock, dtype=np.int64), self.stock)
+        self._work, self._work_limit = 0, int(work)
+
+    def _spend(self, amount: int) -> bool:
+        """Count ``amount`` work; True when the budget is passed."""
+        self._work += int(amount)
+        return self._work > self._work_limit
+
+    def _in_stock(self) -> np.ndarray:
+        """Which placements the query's stock allows at all."""
+        return self._stock[self.item_of] > 0
+
+    @property
+    def work_done(self) -> int:
+        """Work counted by the last query (candidate residuals evaluated)."""
+        return self._work
+
+    def rows_of(self, parts: PartList) -> np.ndarray:
+        """Placement indices of a (position, item, count) part list.
+
+        Parameters
+        ----------
+        parts : tuple of (position, item, count)
+            The parts (position and item as indices of the effects array).
+        """
+        index = {(int(p), int(i)): r for r, (p, i) in enumerate(zip(self.pos_of, self.item_of))}
+        return np.array([index[(p, i)] for p, i, c in parts for _ in range(c)], dtype=np.int64)
 
     def _best_with(self, k: int, t_real: np.ndarray, bound: float):
         """Best selection of exactly k parts below ``bound``; None if over budget."""
         if k == 1:
-            values = self._norm(t_real + self.eff_real)
+            values = np.where(self._in_stock(), self._norm(t_real + self.eff_real), np.inf)
+            self._spend(self.n)
             i = int(np.argmin(values))
-            return np.array([i]), float(values[i])
+            return (np.array([i]), float(values[i])) if np.isfinite(values[i]) else (None, np.inf)
         if k == 2 and not self.pair_table_too_large:
             a, b, sums = self._pair_table()
             if len(a) == 0:
                 return None, np.inf
             values = self._norm(t_real + sums)
+            if self._spend(len(a)):
+                return None
+            ok = feasible(np.stack([a, b], axis=1), self.pos_of, self.item_of, self.capacity,
+                          self._stock)
+            values = np.where(ok, values, np.inf)
             i = int(np.argmin(values))
-            return np.array([a[i], b[i]]), float(values[i])
+            return ((np.array([a[i], b[i]]), float(values[i])) if np.isfinite(values[i])
+                    else (None, np.inf))
         width = 1 if self.pair_table_too_large else 2
         heads, head_sums = self._heads(k - width, k, t_real, bound)
         if heads is None:
             return None
         return self._complete(heads, head_sums, t_real, bound)
+
+    def _lightest_with(self, k: int, t_real: np.ndarray, radius: float, best_mass: float,
+                       best_value: float):
+        """Lightest selection of exactly k parts within ``radius``, lighter than
+        ``best_mass`` (ties: a smaller residual than ``best_value``); (rows, mass, value),
+        (None, ...) when there is none, None when over budget."""
+        if k <= 2 or self.pair_table_too_large and k == 1:
+            if k == 1:
+                rows = np.arange(self.n)[:, None]
+                sums = self.eff_real
+            elif not self.pair_table_too_large:
+                a, b, sums = self._pair_table()
+                rows = np.stack([a, b], axis=1)
+            else:
+                rows, sums = self._heads_mass(2, 2, t_real, radius, best_mass)
+                if rows is None:
+                    return None
+            return self._lightest_rows(rows, sums, t_real, radius, best_mass, best_value)
+        width = 1 if self.pair_table_too_large else 2
+        heads, head_sums = self._heads_mass(k - width, k, t_real, radius, best_mass)
+        if heads is None:
+            return None
+        cols, sums = self._tail_table()
+        if len(cols) == 0 or len(heads) == 0:
+            return None, np.inf, np.inf
+        head_mass = self.mass[heads].sum(axis=1)
+        order = np.lexsort((np.arange(len(heads)), head_mass))
+        heads, head_sums, head_mass = heads[order], head_sums[order], head_mass[order]
+        tail_mass = self.mass[cols].sum(axis=1)
+        by_mass = np.argsort(tail_mass, kind="stable")
+        cols, sums, tail_mass = cols[by_mass], sums[by_mass], tail_mass[by_mass]
+        best_row = None
+        for h, hs, hm in zip(heads, head_sums, head_mass):
+            room = best_mass - hm
+            if room < tail_mass[0] - 1e-12:
+                break                                    # heads come lightest first
+            stop = int(np.searchsorted(tail_mass, room, side="right"))
+            if self._spend(stop):
+                return None
+            values = self._norm(t_real + hs + sums[:stop])
+            hit = np.nonzero(values <= radius)[0]
+            if len(hit) == 0:
+                continue
+            masses = hm + tail_mass[hit]
+            pick = np.lexsort((values[hit], masses))
+            combos = np.concatenate([np.repeat(h[None, :], len(hit), axis=0), cols[hit]], axis=1)
+            ok = feasible(combos[pick], self.pos_of, self.item_of, self.capacity, self._stock)
+            if not ok.any():
+                continue
+            first = pick[int(np.argmax(ok))]
+            mass, value = float(masses[first]), float(values[hit[first]])
+            if mass < best_mass - 1e-12 or (mass <= best_mass + 1e-12 and value < best_value):
+                best_row, best_mass, best_value = combos[first], mass, value
+        return best_row, best_mass, best_value
+
+    def _lightest_rows(self, rows: np.ndarray, sums: np.ndarray, t_real: np.ndarray,
+                       radius: float, best_mass: float, best_value: float):
+        """The lightest feasible row of a table within ``radius`` (see `_lightest_with`)."""
+        if len(rows) == 0:
+            return None, np.inf, np.inf
+        if self._spend(len(rows)):
+            return None
+        values = self._norm(t_real + sums)
+        masses = self.mass[rows].sum(axis=1)
+        ok = (values <= radius) & feasible(rows, self.pos_of, self.item_of, self.capacity,
+                                           self._stock)
+        if rows.shape[1] == 1:
+            ok &= self._in_stock()[rows[:, 0]]
+        better = ok & ((masses < best_mass - 1e-12)
+                       | ((masses <= best_mass + 1e-12) & (values < best_value)))
+        if not better.any():
+            return None, np.inf, np.inf
+        cand = np.nonzero(better)[0]
+        first = cand[np.lexsort((values[cand], masses[cand]))[0]]
+        return rows[first], float(masses[first]), float(values[first])
+
+    def _heads_mass(self, size: int, k: int, t_real: np.ndarray, radius: float,
+                    best_mass: float):
+        """Every feasible head of ``size`` parts that could still give a plan of k parts
+        within ``radius`` lighter than ``best_mass``; (None, None) over budget."""
+        w_min = float(self.mass[self._in_stock()].min(initial=np.inf))
+
+        def keep(rows: np.ndarray, sums: np.ndarray) -> np.ndarray:
+            left = k - rows.shape[1]
+            return ((self._head_bound(sums, rows, k, t_real) <= radius)
+                    & (self.mass[rows].sum(axis=1) + left * w_min < best_mass + 1e-12))
+
+        rows = np.arange(self.n, dtype=np.int64)[:, None]
+        return self._grow(rows, self.eff_real, size, keep)
 
     def _heads(self, size: int, k: int, t_real: np.ndarray, bound: float):
         """All feasible heads of ``size`` parts that pass the remaining-part bound."""
@@ -302,26 +512,36 @@ class PlacementSearch:
         else:
             a, b, sums = self._pair_table()
             rows = np.stack([a, b], axis=1)
-        keep = self._head_bound(sums, rows, k, t_real) < bound
-        rows, sums = rows[keep], sums[keep]
+        return self._grow(rows, sums, size,
+                          lambda r, s: self._head_bound(s, r, k, t_real) < bound)
+
+    def _grow(self, rows: np.ndarray, sums: np.ndarray, size: int, keep):
+        """Heads grown to ``size`` parts, a placement at or after the last one at a time;
+        every head kept obeys capacity, the query's stock and ``keep(rows, sums)``.
+        (None, None) past the work budget or :data:`MAX_HEAD_ROWS`."""
+        ok = keep(rows, sums) & self._in_stock()[rows].all(axis=1)
+        ok &= feasible(rows, self.pos_of, self.item_of, self.capacity, self._stock)
+        rows, sums = rows[ok], sums[ok]
+        step = max(1, CHUNK_ROWS // max(1, self.n))
         for _ in range(rows.shape[1], size):
             new_rows, new_sums = [], []
-            for start in range(0, len(rows), max(1, CHUNK_ROWS // max(1, self.n))):
-                r = rows[start:start + max(1, CHUNK_ROWS // max(1, self.n))]
+            for start in range(0, len(rows), step):
+                r = rows[start:start + step]
                 s = sums[start:start + len(r)]
-                last = r[:, -1]
-                cand = np.arange(self.n)[None, :] >= last[:, None]
-                ri, ci = np.nonzero(cand)
+                ri, ci = np.nonzero(np.arange(self.n)[None, :] >= r[:, -1][:, None])
+                if self._spend(len(ri)):
+                    return None, None
                 grown = np.concatenate([r[ri], ci[:, None]], axis=1)
                 grown_sums = s[ri] + self.eff_real[ci]
-                ok = feasible(grown, self.pos_of, self.item_of, self.capacity, self.stock)
-                ok &= self._head_bound(grown_sums, grown, k, t_real) < bound
+                ok = feasible(grown, self.pos_of, self.item_of, self.capacity, self._stock)
+                ok &= self._in_stock()[ci] & keep(grown, grown_sums)
                 new_rows.append(grown[ok])
                 new_sums.append(grown_sums[ok])
-                if sum(len(x) for x in new_rows) > MAX_HEAD_ROWS or self._late():
+                if sum(len(x) for x in new_rows) > MAX_HEAD_ROWS:
                     return None, None
-            rows = np.concatenate(new_rows) if new_rows else np.zeros((0, rows.shape[1] + 1), np.int64)
-            sums = np.concatenate(new_sums) if new_sums else np.zeros((0, t_real.size))
+            rows = (np.concatenate(new_rows) if new_rows
+                    else np.zeros((0, rows.shape[1] + 1), np.int64))
+            sums = np.concatenate(new_sums) if new_sums else np.zeros((0, sums.shape[1]))
         return rows, sums
 
     def _complete(self, heads: np.ndarray, head_sums: np.ndarray, t_real: np.ndarray,
@@ -341,8 +561,6 @@ class PlacementSearch:
         best_row, best_value = None, bound
         start = 0
         while start < len(heads):
-            if self._late():
-                return None
             stop = start + CHUNK_ROWS
             live = priority[start:stop] < best_value
             h, hs = heads[start:stop][live], head_sums[start:stop][live]
@@ -351,12 +569,16 @@ class PlacementSearch:
                 if len(h) == 0:
                     break
                 if n_neigh is None:
+                    if self._spend(len(h) * len(cols)):
+                        return None
                     for row, head_sum in zip(h, hs):
                         row_best = self._scan_row(row, t_real + head_sum, best_value)
                         if row_best is not None and row_best[1] < best_value:
                             best_row, best_value = row_best
                     break
                 n_neigh = min(n_neigh, len(cols))
+                if self._spend(len(h) * n_neigh * 8):
+                    return None
                 # Threads pay off only on large batches of lookups.
                 dist, idx = tree.query(-(t_real + hs), k=n_neigh,
                                        distance_upper_bound=best_value * self.widen,
@@ -368,7 +590,7 @@ class PlacementSearch:
                 combos = np.concatenate([np.repeat(h, n_neigh, axis=0),
                                          cols[safe.ravel()]], axis=1)
                 ok = feasible(combos, self.pos_of, self.item_of, self.capacity,
-                               self.stock).reshape(len(h), n_neigh) & finite
+                               self._stock).reshape(len(h), n_neigh) & finite
                 if self.norm == "euclidean":
                     value = dist
                 else:
@@ -409,6 +631,8 @@ class PlacementSearch:
             stop = start + step
             live = priority[start:stop] < best_value
             h, hs = heads[start:stop][live], head_sums[start:stop][live]
+            if self._spend(len(h) * len(cols)):
+                return None
             total = (t_real + hs)[:, None, :] + sums[None, :, :]
             values = self._norm(total.reshape(-1, total.shape[2])).reshape(len(h), len(cols))
             hi, ci = np.nonzero(values < best_value)
@@ -419,7 +643,7 @@ class PlacementSearch:
             while begin < len(order):
                 batch = order[begin:begin + size]
                 combos = np.concatenate([h[hi[batch]], cols[ci[batch]]], axis=1)
-                ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
+                ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self._stock)
                 if ok.any():
                     first = batch[int(np.argmax(ok))]
                     best_row = combos[int(np.argmax(ok))]
@@ -441,14 +665,11 @@ class PlacementSearch:
         candidates = candidates[np.argsort(value[candidates], kind="stable")]
         combos = np.concatenate([np.repeat(row[None, :], len(candidates), axis=0),
                                  cols[candidates]], axis=1)
-        ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self.stock)
+        ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self._stock)
         if not ok.any():
             return None
         j = candidates[int(np.argmax(ok))]
         return np.concatenate([row, cols[j]]), float(value[j])
-
-    def _late(self) -> bool:
-        return time.perf_counter() > self._deadline
 
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
@@ -473,7 +694,8 @@ class PlacementSearch:
         parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
         residual = residual_of(target, self.effects, parts)
         value = float(self._norm(_as_real(residual[None, :]))[0])
-        return Selection(k, parts, residual, value, float(lower), proven)
+        mass = float(self.mass[np.asarray(row, dtype=np.int64)].sum()) if len(row) else 0.0
+        return Selection(k, parts, residual, value, float(lower), proven, mass)
 
 
 def _as_real(values: np.ndarray) -> np.ndarray:

@@ -46,12 +46,15 @@ class TabulatedSearch(PlacementSearch):
     tabulate_max : int
         Most selections tabulated (an upper bound that ignores capacity and
         stock decides); 0 turns the fast path off.
+    masses : float array (n_positions, n_items), optional
+        What one part adds to a plan's mass [g] (see the base class).
     """
 
     def __init__(self, effects: np.ndarray, capacity: np.ndarray, stock: np.ndarray,
                  max_parts: int, norm: str = "euclidean",
-                 tabulate_max: int = TABULATE_MAX_SELECTIONS) -> None:
-        super().__init__(effects, capacity, stock, max_parts, norm)
+                 tabulate_max: int = TABULATE_MAX_SELECTIONS,
+                 masses: np.ndarray | None = None) -> None:
+        super().__init__(effects, capacity, stock, max_parts, norm, masses)
         self.tabulated = (self.n_channels == 1 and self.norm == "euclidean" and self.n > 0
                           and _selection_count_bound(self.n, self.max_parts) <= tabulate_max)
         self._levels: list[tuple[np.ndarray, object]] | None = None
@@ -76,8 +79,12 @@ class TabulatedSearch(PlacementSearch):
         return self._levels
 
     def _best_with(self, k: int, t_real: np.ndarray, bound: float):
-        """Best selection of exactly k parts: (placement rows, residual), by table lookup."""
-        if not self.tabulated:
+        """Best selection of exactly k parts: (placement rows, residual), by table lookup.
+
+        The tables hold the selections of the full stock: a query with less
+        stock is searched as usual.
+        """
+        if not self.tabulated or not np.array_equal(self._stock, self.stock):
             return super()._best_with(k, t_real, bound)
         rows, tree = self._tabulated_levels()[k - 1]
         if tree is None:

@@ -91,7 +91,7 @@ from placer.geometry import angle_of_deg
 from placer.io.batchreadings import RowError, read_readings
 from placer.io.jobfile import read_job
 from placer.io.tables import json_text, printable
-from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.limits import DEFAULT_EFFORT
 
 
 @dataclass(frozen=True)
@@ -237,24 +237,32 @@ def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
     dict
         The record, ready for :func:`placer.io.tables.json_text`.
     """
-    planes = []
-    for p in outcome.planes:
-        fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
-                   "mass_g": f.mass_g, "count": f.count,
-                   "action": f.verb} for f in p.option.parts]
-        planes.append({"plane": p.plane, "name": p.name, "catalog": p.catalog,
-                       "correction_gmm": abs(p.correction_gmm),
-                       "correction_angle_deg": angle_of_deg(p.correction_gmm),
-                       "parts": parts_text(fitted), "fitted": fitted,
-                       "part_count": p.option.used_parts, "residual_gmm": p.option.residual_gmm,
-                       "residual_angle_deg": p.option.residual_angle_deg,
-                       "tolerance_gmm": p.tolerance_gmm,
-                       "within_tolerance": p.within_tolerance})
-    return {"serial": outcome.serial, "line": outcome.line, "template": digest,
-            "input": reading_digest(p.correction_gmm for p in outcome.planes),
-            "within_tolerance": outcome.within_tolerance,
-            "solved_together": outcome.solved_together,
-            "stock_short": list(outcome.stock_short), "planes": planes}
+    record = {"serial": outcome.serial, "line": outcome.line, "template": digest,
+              "input": reading_digest(p.correction_gmm for p in outcome.planes),
+              "within_tolerance": outcome.within_tolerance,
+              "solved_together": outcome.solved_together,
+              "stock_short": list(outcome.stock_short),
+              "planes": [_plane_record(p) for p in outcome.planes]}
+    if outcome.drawer_left:
+        record["drawer_left"] = [{"catalog": c, "item": i, "count": n}
+                                 for c, i, n in outcome.drawer_left]
+        record["full_drawer"] = (None if outcome.full_drawer is None
+                                 else [_plane_record(p) for p in outcome.full_drawer])
+    return record
+
+
+def _plane_record(p) -> dict[str, Any]:
+    """One plane's plan in a rotor's record."""
+    fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
+               "mass_g": f.mass_g, "count": f.count, "action": f.verb} for f in p.option.parts]
+    return {"plane": p.plane, "name": p.name, "catalog": p.catalog,
+            "correction_gmm": abs(p.correction_gmm),
+            "correction_angle_deg": angle_of_deg(p.correction_gmm),
+            "parts": parts_text(fitted), "fitted": fitted,
+            "part_count": p.option.used_parts, "mass_g": p.option.mass_g,
+            "residual_gmm": p.option.residual_gmm,
+            "residual_angle_deg": p.option.residual_angle_deg,
+            "tolerance_gmm": p.tolerance_gmm, "within_tolerance": p.within_tolerance}
 
 
 def csv_header(n_planes: int) -> list[str]:
@@ -426,6 +434,27 @@ def check_unchanged(done: list[dict[str, Any]], rows: list[RotorReading | RowErr
                              key=f"line {number}", expected=again)
 
 
+def drawer_use(template, done: list[dict[str, Any]]) -> dict[str, int]:
+    """Parts the kept rotors took from each drawer (by stock key), for a resumed batch.
+
+    Parameters
+    ----------
+    template : Job
+        The batch's template (its planes' catalogues name the drawers).
+    done : list of dict
+        The kept rotors' records.
+    """
+    used: dict[str, int] = {}
+    for record in done:
+        for plane in record["planes"]:
+            items = {item.id: item for item in template.planes[plane["plane"] - 1].catalog.items}
+            for part in plane["fitted"]:
+                item = items.get(part["item"])
+                if part["action"] != "remove" and item is not None and item.stock is not None:
+                    used[item.stock_key] = used.get(item.stock_key, 0) + int(part["count"])
+    return used
+
+
 def _record_parts(record: dict[str, Any]) -> list[tuple[str, str, int]]:
     return [(plane["catalog"], part["item"], part["count"])
             for plane in record["planes"] for part in plane["fitted"]
@@ -446,7 +475,7 @@ starts (so that a rate counts from then), then after each rotor."""
 
 def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = None,
               jobs: int | None = None, resume: bool = False, force: bool = False,
-              time_limit_s: float = DEFAULT_TIME_LIMIT_S,
+              effort: float = DEFAULT_EFFORT,
               progress: ProgressCallback | None = None,
               start_method: str | None = None,
               note: Callable[[str], None] | None = None) -> tuple[BatchSummary, BatchPaths]:
@@ -468,8 +497,8 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
         Keep the rotors already in ``PREFIX.jsonl`` and solve the rest /
         overwrite existing outputs.  Without either, existing outputs are an
         error.
-    time_limit_s : float
-        CP-SAT time limit per decision, if needed [s].
+    effort : float
+        Multiple of the engine's default work budget (deterministic).
     progress : callable, optional
         See :data:`ProgressCallback`.
     start_method : str, optional
@@ -527,7 +556,9 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
     paths.summary_json.unlink(missing_ok=True)
     tally = BatchTally(template)
     for record in done:
-        tally.add(record["within_tolerance"], _record_parts(record))
+        tally.add(record["within_tolerance"], _record_parts(record), record["serial"],
+                  [(d["catalog"], d["item"], d["count"]) for d in record.get("drawer_left", [])],
+                  bool(record.get("full_drawer")))
     done_serials = {record["serial"] for record in done}
     errors = [row for row in rows if isinstance(row, RowError)]
     todo = [row for row in rows
@@ -548,7 +579,8 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
         for record in done:
             writer.writerow(csv_row(record))
         results_csv.flush()
-        outcomes = solve_readings(template, todo, jobs, time_limit_s, start_method=start_method,
+        outcomes = solve_readings(template, todo, jobs, effort, start_method=start_method,
+                                  used=drawer_use(template, done),
                                   on_ready=ready)
         for count, outcome in enumerate(outcomes, start=1):
             record = outcome_record(outcome, digest)

@@ -11,13 +11,13 @@ from pathlib import Path
 from placer.errors import InputError
 from placer.fieldplan import FieldResult, solve_session
 from placer.io.history import History, default_db_path
-from placer.limits import DEFAULT_TIME_LIMIT_S
+from placer.limits import DEFAULT_EFFORT
 from placer.records import check_record, visit_record
 from placer.session import Session
 
 
 def solve_visit(session: Session, db: Path | None = None,
-                time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> FieldResult:
+                effort: float = DEFAULT_EFFORT) -> FieldResult:
     """Solve a field visit, looking up stored coefficients when the session asks for them.
 
     Parameters
@@ -28,8 +28,8 @@ def solve_visit(session: Session, db: Path | None = None,
         The history database (default :func:`placer.io.history.default_db_path`).
         Only read, and only when the session says ``coefficients = "stored"``:
         the newest visit of the machine with the same sensor and plane names.
-    time_limit_s : float
-        Time the coupled search may take [s].
+    effort : float
+        Multiple of the default work budget of the coupled search.
 
     Returns
     -------
@@ -59,7 +59,7 @@ def solve_visit(session: Session, db: Path | None = None,
                              "these sensors and planes (names in order)", file=session.source,
                              key="solve.coefficients", expected="coefficients = \"runs\" and "
                              "trial runs, or a visit saved with {opt:save}")
-    return solve_session(session, stored, time_limit_s=time_limit_s)
+    return solve_session(session, stored, effort=effort)
 
 
 def open_for_saving(result: FieldResult, db: Path | None = None) -> tuple[History, object]:

@@ -34,10 +34,12 @@ from placer.limits import (
 from placer.tolerance import parse_grade
 
 ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense",
-              "correction_basis", "placement_error_deg", "rotation")
+              "placement_error_deg", "rotation")
+JOB_ROTOR_KEYS = ROTOR_KEYS + ("correction_basis", "aim_share")
+"""Keys of a job file's [rotor] (a session's takes ROTOR_KEYS and its own)."""
 PLANE_KEYS = ("name", "radius_mm", "radii_mm", "positions", "start_deg", "angles_deg", "blocked",
-              "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "max_parts",
-              "accepts", "add_only", "remove_only", "existing")
+              "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "aim_share",
+              "max_parts", "accepts", "add_only", "remove_only", "existing")
 VECTOR_KEYS = ("mass_g", "gmm", "angle_deg")
 
 
@@ -69,11 +71,17 @@ def read_job(path: Path, *, template: bool = False) -> Job:
     root = Table(read_toml(path, JobError, "template file" if template else "job file"), file,
                  "", JobError)
     root.allow_only(("rotor", "planes"))
-    rotor = rotor_of(root.sub("rotor", required=True))
+    rotor_table = root.sub("rotor", required=True)
+    rotor = rotor_of(rotor_table, JOB_ROTOR_KEYS[len(ROTOR_KEYS):])
+    basis = rotor_table.text("correction_basis", default="further")
+    if basis not in CORRECTION_BASES:
+        raise rotor_table.fail("correction_basis", f"is '{basis}'",
+                               "further (measured with the existing parts on) or total "
+                               "(without them)")
     catalogs: dict[Path, Catalog] = {}
     planes = []
     for table in root.tables("planes", required=True):
-        planes.append(_plane(table, path.parent, catalogs, rotor.correction_basis, template))
+        planes.append(_plane(table, path.parent, catalogs, basis, template))
     if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(planes):
         raise JobError(f"gives {len(rotor.com_distances_mm)} distances for {len(planes)} planes",
                        file=file, key="rotor.com_distances_mm", expected="one distance per plane")
@@ -123,12 +131,8 @@ def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
     if rotation is not None and rotation not in ROTATIONS:
         raise t.fail("rotation", f"is '{rotation}'",
                      "clockwise or counterclockwise, seen from the side you work on")
-    basis = t.text("correction_basis", default="further")
-    if basis not in CORRECTION_BASES:
-        raise t.fail("correction_basis", f"is '{basis}'",
-                     "further (measured with the existing parts on) or total (without them)")
     return Rotor(
-        correction_basis=basis,
+        aim_share=_share(t, "aim_share"),
         placement_error_deg=t.number("placement_error_deg", default=0.0, non_negative=True),
         name=t.text("name", default="rotor"),
         mass_kg=t.number("mass_kg", positive=True),
@@ -160,7 +164,17 @@ def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog],
                             maximum=MAX_PARTS_LIMIT),
         existing=_existing(t, geometry, catalog),
         correction_basis=basis,
+        aim_share=_share(t, "aim_share"),
     )
+
+
+def _share(t: Table, name: str) -> float | None:
+    """A share above 0 and at most 1 (None when the key is not given)."""
+    value = t.number(name)
+    if value is not None and not 0 < value <= 1:
+        raise t.fail(name, f"is {value:g}", "a share of the tolerance above 0 and at most 1, "
+                     "such as 0.7")
+    return value
 
 
 def _existing(t: Table, geometry: PlaneGeometry, catalog: Catalog) -> tuple[ExistingPart, ...]:

@@ -8,7 +8,7 @@ from typing import Any
 from placer.catalog import Catalog
 from placer.fieldplan import FieldOption, FieldResult
 from placer.geometry import angle_of_deg
-from placer.plan import JobResult, PlaneResult, PlanOption
+from placer.plan import LIGHTEST, JobResult, PlaneResult, PlanOption
 from placer.records import (
     MachineSummary,
     MassRecord,
@@ -42,6 +42,8 @@ def option_dict(option: PlanOption) -> dict[str, Any]:
         "proven": option.proven,
         "chance_within": option.chance_within,
         "residual_p95_gmm": option.residual_p95_gmm,
+        "mass_g": option.mass_g,
+        "least": "mass" if option.kind == LIGHTEST else "residual",
         "parts": [
             {"position": p.position, "angle_deg": float(p.angle_deg),
              "radius_mm": p.radius_mm, "item": p.item, "mass_g": p.mass_g, "count": p.count,
@@ -68,6 +70,8 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
     plane = result.plane
     chosen = option_dict(result.chosen)
     chosen["within_tolerance"] = result.within_tolerance
+    chosen["within_aim"] = result.within_aim
+    chosen["rule"] = result.rule
     return {
         "name": result.name,
         "optimal": result.optimal,
@@ -84,6 +88,9 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
                       "count": e.count} for e in plane.existing],
         "catalog": plane.catalog.name,
         "pareto": [option_dict(o) for o in result.front],
+        "lightest_within_aim": [option_dict(o) for o in result.lighter],
+        "aim_gmm": None if result.aim_gmm is None else float(result.aim_gmm),
+        "aim": result.aim_text,
         "chosen": chosen,
         "notes": list(result.notes),
         "method": result.method,

@@ -51,7 +51,7 @@ from placer.session import (
 )
 
 FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
-    "correction", "unbalance", "tolerance_gmm", "max_parts", "existing"))
+    "correction", "unbalance", "tolerance_gmm", "aim_share", "max_parts", "existing"))
 
 
 def read_session(path: Path) -> Session:

@@ -12,7 +12,7 @@ and the machine maker's instructions come first.
 
 from __future__ import annotations
 
-from placer.plan import FittedPart
+from placer.plan import LIGHTEST, FittedPart, PlaneResult, PlanOption
 
 CAUTIONS = (
     "Lock out and tag out the machine before fitting or removing any part; "
@@ -86,3 +86,32 @@ def drills(parts) -> bool:
         Whether any part's verb is "drill".
     """
     return any(p.verb == "drill" for p in parts)
+
+
+def plan_kind(option: PlanOption) -> str:
+    """Which plan a trade-off row is: the least "residual", or the least "mass" in the aim.
+
+    Parameters
+    ----------
+    option : PlanOption
+        The row's plan.
+    """
+    return "mass" if option.kind == LIGHTEST else "residual"
+
+
+def verdict_word(plane: PlaneResult, option: PlanOption) -> str:
+    """A trade-off row against the plane's aim and tolerance: "in aim", "within",
+    "outside", or "-" when the plane has no tolerance.
+
+    Parameters
+    ----------
+    plane : PlaneResult
+        The plane (its aim and tolerance).
+    option : PlanOption
+        The row's plan.
+    """
+    if plane.tolerance_gmm is None:
+        return "-"
+    if plane.aim_gmm is not None and option.residual_gmm <= plane.aim_gmm:
+        return "in aim"
+    return "within" if option.residual_gmm <= plane.tolerance_gmm else "outside"

@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import cmath
-import contextlib
 import math
 
 import numpy as np
@@ -11,23 +10,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from oracle import brute_front, ring_effects
+from search_modes import completion
 
-import placer.engine.search
 from placer.engine.search import PlacementSearch, residual_of
-
-
-@contextlib.contextmanager
-def completion(mode: str):
-    """Force how heads are completed: "dense" numpy scan or "tree" (scipy k-d tree)."""
-    saved = placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT
-    if mode == "tree":
-        placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT = -1, -1
-    else:
-        placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT = 10**12, 10**12
-    try:
-        yield
-    finally:
-        placer.engine.search.DENSE_TAIL, placer.engine.search.DENSE_LIMIT = saved
 
 
 def check_against_oracle(effects, target, capacity, stock, max_parts, norm="euclidean"):

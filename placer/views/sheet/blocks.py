@@ -28,7 +28,7 @@ from placer.views.sheet.typeset import (
     wrap_chars,
     wrap_words,
 )
-from placer.views.wording import action_word, drills
+from placer.views.wording import action_word, drills, plan_kind, verdict_word
 
 
 def draw_header(page: Page, result: JobResult, index: int, heading: str, when: date) -> float:
@@ -180,7 +180,7 @@ KEY_ROW_IN = 0.215
 
 
 def draw_key(page: Page, x: float, y: float, w: float, drawing: PlaneDrawing,
-         row_in: float = KEY_ROW_IN) -> float:
+             row_in: float = KEY_ROW_IN, columns: int = 1) -> float:
     """The symbols drawn on this plane, each beside its meaning; returns the y below.
 
     Parameters
@@ -195,18 +195,30 @@ def draw_key(page: Page, x: float, y: float, w: float, drawing: PlaneDrawing,
         What was drawn on the face (its ``kinds``).
     row_in : float
         Least height of a row [in].
+    columns : int
+        Columns the rows are set in, side by side, ``w / columns`` wide each.
 
     Returns
     -------
     float
         The y below the key [in].
     """
+    page.text(x, y, "KEY", 8, weight="bold")
+    rows = _key_rows(drawing)
+    per = -(-len(rows) // columns)
+    width = w / columns
+    return max([y + 0.22] + [_key_column(page, x + c * width, y + 0.22, width,
+                                         rows[c * per:(c + 1) * per], row_in)
+                             for c in range(columns)])
+
+
+def _key_column(page: Page, x: float, y: float, w: float, rows: list[tuple[str, str]],
+                row_in: float) -> float:
+    """One column of the key; returns the y below it."""
     from matplotlib.patches import Circle, FancyArrowPatch
 
-    page.text(x, y, "KEY", 8, weight="bold")
-    y += 0.22
     sx = x + 0.14
-    for kind, text in _key_rows(drawing):
+    for kind, text in rows:
         cy = y + 0.06
         if kind.startswith("pos_"):
             marker = POSITION_MARKERS[kind[4:]]
@@ -271,9 +283,9 @@ def result_box(page: Page, x: float, y: float, w: float, plane: PlaneResult,
                 f"{fmt_gmm(chosen.residual_gmm)} g·mm at {chosen.residual_angle_deg:.1f}°")
     lines += [("Residual", residual),
               ("Tolerance", "none given" if plane.tolerance_gmm is None
-               else f"{fmt_gmm(plane.tolerance_gmm)} g·mm")]
-    if plane.tolerance_gmm is not None:
-        lines.append(("", plane.tolerance_source))
+               else f"{fmt_gmm(plane.tolerance_gmm)} g·mm, {plane.tolerance_source}")]
+    if plane.aim_gmm is not None:
+        lines.append(("Aim", f"{fmt_gmm(plane.aim_gmm)} g·mm, {plane.aim_text}"))
     for label, value in lines:
         page.text(x, y, label, 7.5, weight="bold")
         y = page.paragraph(x + 0.68, y, value, w - 0.68, 7.5) + 0.02
@@ -382,7 +394,8 @@ def trade_off_table(page: Page, x: float, y: float, w: float, plane: PlaneResult
     rows_of = plane.trade_off
     rated = any(o.chance_within is not None for o in rows_of)
     page.text(x, y, "TRADE-OFF: PARTS AGAINST RESIDUAL", 8.5, weight="bold")
-    columns = [("Parts", "r"), ("Residual", "r"), ("% req.", "r"), ("Verdict", "l")]
+    columns = [("Parts", "r"), ("Residual", "r"), ("% req.", "r"), ("Mass g", "r"),
+               ("Least", "l"), ("Verdict", "l")]
     if rated:
         columns += [("Chance", "r"), ("95 %", "r")]
     columns.append(("", "l"))
@@ -395,8 +408,7 @@ def trade_off_table(page: Page, x: float, y: float, w: float, plane: PlaneResult
             fmt_gmm(option.residual_gmm)
         row = [str(option.used_parts), f"{residual}{star}",
                "" if facts.negligible(required) else f"{option.residual_gmm / required:.0%}",
-               "-" if plane.tolerance_gmm is None else
-               "within" if option.residual_gmm <= plane.tolerance_gmm else "outside"]
+               f"{option.mass_g:.4g}", plan_kind(option), verdict_word(plane, option)]
         if rated:
             row.append("-" if option.chance_within is None else f"{option.chance_within:.0%}")
             row.append("-" if option.residual_p95_gmm is None
@@ -407,9 +419,10 @@ def trade_off_table(page: Page, x: float, y: float, w: float, plane: PlaneResult
             bold.add(i)
         rows.append(row)
     y = page.table(x, y + 0.22, columns, rows, w, bold=bold)
-    note = "Parts: parts fitted plus parts removed. Residuals in g·mm. ◀ the plan on this sheet."
+    note = ("Parts: fitted plus removed. Residual in g·mm. Least: residual for that many "
+            "parts, or mass within the aim. ◀ this sheet's plan.")
     if unproven:
-        note += " * not proven optimal in the time limit."
+        note += " * not proven optimal with the effort given."
     if rated:
         note += (" Chance: share of simulated fits (part masses within their tolerance, angles "
                  "within the job's placement error) that stay within tolerance; 95 %: the "

@@ -179,9 +179,18 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
         key_end = draw_key(on, side_x, top + 0.1, side_w, drawing, row_in)
         return result_box(on, side_x, key_end + 0.12, side_w, plane, facts)
 
-    row_in = next((r for r in (KEY_ROW_IN, 0.19, 0.17) if side(Page(None), r) - top <= room),
-                  0.16)
-    side_end = side(page, row_in)
+    row_in = next((r for r in (KEY_ROW_IN, 0.19, 0.17, 0.16)
+                   if side(Page(None), r) - top <= room), None)
+    # When the key and the result do not fit beside the drawing, the key goes under the
+    # drawing in two columns and the drawing shrinks to make room for it.
+    key_below = row_in is None
+    if key_below:
+        row_in = 0.17
+        key_h = draw_key(Page(None), MARGIN_IN, 0.0, DRAW_IN, drawing, row_in, columns=2)
+        side_end = result_box(page, side_x, top + 0.1, side_w, plane, facts)
+    else:
+        key_h = 0.0
+        side_end = side(page, row_in)
     width = DRAW_IN
 
     def height(w: float) -> float:
@@ -189,15 +198,19 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
         return w * (y1 - y0) / (x1 - x0)
 
     draw_h = height(width)
-    if draw_h > max(room, side_end - top) + 1e-6:
-        width = max(3.2, width * max(room, side_end - top) / draw_h)
+    fit_h = room - key_h if key_below else max(room, side_end - top)
+    if draw_h > fit_h + 1e-6:
+        width = max(3.2, width * fit_h / draw_h)
         ax.cla()
         drawing = draw_plane(ax, plane, sense, width, rotation)
         draw_h = height(width)
     left = MARGIN_IN + (DRAW_IN - width) / 2
     ax.set_position((left / PAGE_IN[0], 1 - (top + draw_h) / PAGE_IN[1],
                      width / PAGE_IN[0], draw_h / PAGE_IN[1]))
-    end = _lower(page, max(top + draw_h, side_end) + 0.06, result, plane, facts)
+    below = top + draw_h
+    if key_below:
+        below = draw_key(page, MARGIN_IN, below + 0.04, DRAW_IN, drawing, row_in, columns=2)
+    end = _lower(page, max(below, side_end) + 0.06, result, plane, facts)
     draw_cautions(page, max(end + 0.08, _cautions_top(drilling)), when, index, len(result.planes),
               Path(result.job.source).name, drilling)
     return fig, drawing

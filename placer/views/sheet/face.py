@@ -306,10 +306,11 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW
         for depth, (kind, _, _) in enumerate(stack):
             x, y = xy(r - 0.16 * depth, a)
             draw_symbol(ax, kind, x, y, size)
-            {"fit": fit_xy, "drill": drill_xy, "remove": remove_xy, "stay": stay_xy}[kind][
-                number] = (x, y)
+            # The outermost symbol of each kind marks the position.
+            {"fit": fit_xy, "drill": drill_xy, "remove": remove_xy, "stay": stay_xy}[
+                kind].setdefault(number, (x, y))
             if kind == "drill":
-                fit_xy[number] = (x, y)
+                fit_xy.setdefault(number, (x, y))
             if kind not in kinds:
                 kinds.append(kind)
             room.take((x - size, y - size, x + size, y + size))

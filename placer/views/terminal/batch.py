@@ -32,6 +32,11 @@ def summary_line(summary: BatchSummary, paths: BatchPaths) -> str:
     """
     share = "-" if summary.share_within is None else f"{summary.share_within:.1%}"
     parts = ", ".join(f"{p.item}×{p.count}" for p in summary.parts_used) or "none"
+    if summary.drawers_left:
+        parts += "; left in the drawers: " + ", ".join(
+            f"{p.item}×{p.count}" for p in summary.drawers_left)
+    if summary.short_from is not None:
+        parts += f"; from {summary.short_from} on, planned without an empty drawer"
     return (f"placer batch: {summary.rows_read} rows, {summary.solved} solved "
             f"({summary.already_done} already done), {summary.errors} errors, "
             f"{share} within tolerance ({summary.outside} outside); parts used: {parts}; "
@@ -65,14 +70,22 @@ def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> 
              ("within tolerance", f"{share} ({summary.within} in, {summary.outside} outside, "
                                   f"{summary.no_tolerance} without a tolerance)"),
              ("time", f"{summary.elapsed_s:.1f} s with {summary.jobs} process(es)"),
+             *((("drawers short from", f"{summary.short_from} on (see full_drawer in the "
+                 "results)"),) if summary.short_from is not None else ()),
              ("results", f"{paths.results_csv}, {paths.results_jsonl}")]
     for label, value in lines:
         console.print(f"{label:>17}: {value}")
     table = RichTable(title="Parts used (to reorder)", title_justify="left")
     for column in ("Catalogue", "Item", "Count"):
         table.add_column(column, justify="right" if column == "Count" else "left")
+    left = {(p.catalog, p.item): p.count for p in summary.drawers_left}
+    if left:
+        table.add_column("Left", justify="right")
     for part in summary.parts_used:
-        table.add_row(part.catalog, part.item, str(part.count))
+        cells = [part.catalog, part.item, str(part.count)]
+        if left:
+            cells.append(str(left.get((part.catalog, part.item), "-")))
+        table.add_row(*cells)
     console.print(table)
 
 

@@ -11,7 +11,13 @@ from rich.text import Text
 from placer.geometry import angle_of_deg
 from placer.plan import JobResult, PlaneResult
 from placer.tolerance import PlaneShare
-from placer.views.wording import action_word, cautions_for, drills
+from placer.views.wording import (
+    action_word,
+    cautions_for,
+    drills,
+    plan_kind,
+    verdict_word,
+)
 
 
 def _verdict(within: bool | None) -> Text:
@@ -60,11 +66,13 @@ def _parts_table(result: PlaneResult) -> Table:
 
 
 def _front_table(result: PlaneResult) -> Table:
-    table = Table(title="Trade-off: parts against residual", title_justify="left",
-                  box=box.SIMPLE, show_edge=False, pad_edge=False)
+    table = Table(title="Trade-off: parts against residual (g·mm) and added mass (g)",
+                  title_justify="left", box=box.SIMPLE, show_edge=False, pad_edge=False)
     table.add_column("Parts", justify="right")
-    table.add_column("Residual g·mm", justify="right")
-    table.add_column("of required", justify="right")
+    table.add_column("Residual", justify="right")
+    table.add_column("% req.", justify="right")
+    table.add_column("Mass", justify="right")
+    table.add_column("Least")
     table.add_column("Verdict")
     rows = result.trade_off
     robust = any(o.chance_within is not None for o in rows)
@@ -75,13 +83,12 @@ def _front_table(result: PlaneResult) -> Table:
     required = result.required_gmm
     for option in rows:
         share = "" if required == 0 else f"{option.residual_gmm / required:.1%}"
-        if result.tolerance_gmm is None:
-            verdict = "-"
-        else:
-            verdict = "within" if option.residual_gmm <= result.tolerance_gmm else "outside"
         mark = "<- chosen" if option.parts == result.chosen.parts else ""
+        if robust and mark:
+            mark = "<-"
         proof = "" if option.proven else " (not proven)"
-        cells = [str(option.used_parts), f"{option.residual_gmm:.2f}{proof}", share, verdict]
+        cells = [str(option.used_parts), f"{option.residual_gmm:.2f}{proof}", share,
+                 f"{option.mass_g:.4g}", plan_kind(option), verdict_word(result, option)]
         if robust:
             cells += ["-" if option.chance_within is None else f"{option.chance_within:.0%}",
                       "-" if option.residual_p95_gmm is None else f"{option.residual_p95_gmm:.1f}"]
@@ -134,9 +141,15 @@ def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None) -> P
         elif share is not None:
             res.append(f" (the grade's share would be {share.permissible_gmm:.2f} g·mm)")
         res.append("\n")
+    else:
+        res.append("No tolerance given for this plane.\n", style="bold")
+    if result.aim_gmm is not None:
+        res.append(f"Aim {result.aim_gmm:.2f} g·mm ({result.aim_text})\n")
+    res.append(f"Chosen: {result.rule}; {result.chosen.mass_g:.4g} g added.\n")
     res.append_text(_verdict(result.within_tolerance))
     if not result.optimal:
-        res.append("\nNot every plan below was proven optimal in the time limit.", style="yellow")
+        res.append("\nNot every plan below was proven optimal with the effort given.",
+                   style="yellow")
     body.append(res)
     body.append(_front_table(result))
     for note in result.notes:

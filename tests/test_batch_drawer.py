@@ -1,0 +1,123 @@
+"""A production line draws its drawers down rotor by rotor, in input order.
+
+Each rotor is planned with what the rotors before it left.  Checked against the job
+pipeline (``placer solve`` on a job file holding the rotor's correction, with the
+catalogue's stock set by hand to what is left), against one process versus two, and
+against an interrupted batch carried on with ``--resume``.  Invented data: a 12-hole hub
+and a drawer of 2 heavy washers that the line uses up.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from placer.batch import RotorReading, solve_readings
+from placer.geometry import polar
+from placer.io.batchresults import cut_to, read_template, run_batch
+from placer.io.jobfile import read_job
+from placer.solve import solve_job
+
+DRAWER = """name = "line drawer"
+[[items]]
+id = "H"
+mass_g = 9.0
+stock = {heavy}
+[[items]]
+id = "M"
+mass_g = 4.0
+[[items]]
+id = "S"
+mass_g = 1.5
+"""
+
+TEMPLATE = """[rotor]
+name = "line hub"
+[[planes]]
+name = "hub"
+radius_mm = 150.0
+positions = 12
+capacity = 2
+catalog = "drawer.toml"
+max_parts = 3
+tolerance_gmm = 120.0
+"""
+
+ROWS = [("R1", 14.0, 30.0), ("R2", 13.0, 200.0), ("R3", 12.5, 95.0), ("R4", 15.0, 310.0),
+        ("R5", 11.0, 150.0), ("R6", 13.5, 20.0)]
+"""Serial, correction [g at 150 mm], angle [deg]: each rotor wants a 9 g washer."""
+
+
+def write(folder: Path, heavy: int = 2) -> tuple[Path, Path]:
+    (folder / "drawer.toml").write_text(DRAWER.format(heavy=heavy), encoding="utf-8")
+    (folder / "hub.toml").write_text(TEMPLATE, encoding="utf-8")
+    (folder / "rows.csv").write_text(
+        "serial,1_mass_g,1_angle_deg\n" + "".join(f"{s},{m},{a}\n" for s, m, a in ROWS),
+        encoding="utf-8")
+    return folder / "hub.toml", folder / "rows.csv"
+
+
+def plans(outcomes) -> list[list[tuple]]:
+    return [[(p.position, p.item, p.count) for p in o.planes[0].option.parts]
+            for o in outcomes]
+
+
+def test_each_rotor_gets_what_the_rotors_before_it_left(tmp_path):
+    template_path, _ = write(tmp_path)
+    template = read_template(template_path)
+    readings = [RotorReading(i + 2, s, (polar(m * 150.0, a),)) for i, (s, m, a) in
+                enumerate(ROWS)]
+    outcomes = list(solve_readings(template, readings, jobs=1))
+    left = 2
+    changed_from = None
+    for outcome, (serial, mass, angle) in zip(outcomes, ROWS):
+        # The job pipeline with the catalogue's stock set by hand to what is left.
+        (tmp_path / "drawer.toml").write_text(DRAWER.format(heavy=left), encoding="utf-8")
+        (tmp_path / "job.toml").write_text(TEMPLATE + f"correction = {{ mass_g = {mass}, "
+                                           f"angle_deg = {angle} }}\n", encoding="utf-8")
+        expected = solve_job(read_job(tmp_path / "job.toml")).planes[0].chosen
+        got = outcome.planes[0].option
+        assert [(p.position, p.item, p.count) for p in got.parts] == \
+            [(p.position, p.item, p.count) for p in expected.parts], serial
+        heavy = sum(p.count for p in got.parts if p.item == "H")
+        left -= heavy
+        assert left >= 0
+        assert dict(((c, i), n) for c, i, n in outcome.drawer_left)[("line drawer", "H")] == left
+        if outcome.full_drawer is not None and changed_from is None:
+            changed_from = serial
+    # The drawer of 2 heavy washers runs out: later rotors are planned without it, and
+    # say what a full drawer would have given.
+    assert left == 0 and changed_from is not None
+    first = [s for s, *_ in ROWS].index(changed_from)
+    assert all(o.full_drawer is None for o in outcomes[:first])
+    full = outcomes[first].full_drawer[0].option
+    assert any(p.item == "H" for p in full.parts)
+    assert not any(p.item == "H" for p in outcomes[first].planes[0].option.parts)
+
+
+def test_two_processes_give_what_one_gives(tmp_path):
+    template_path, _ = write(tmp_path)
+    template = read_template(template_path)
+    readings = [RotorReading(i + 2, s, (polar(m * 150.0, a),)) for i, (s, m, a) in
+                enumerate(ROWS)]
+    one = list(solve_readings(template, readings, jobs=1))
+    two = list(solve_readings(template, readings, jobs=2, chunk_rows=1))
+    assert plans(one) == plans(two)
+    assert [o.drawer_left for o in one] == [o.drawer_left for o in two]
+    assert [o.full_drawer is None for o in one] == [o.full_drawer is None for o in two]
+
+
+def test_resume_keeps_the_drawer_where_it_was(tmp_path):
+    template, readings = write(tmp_path)
+    whole, paths = run_batch(template, readings, tmp_path / "whole", jobs=1)
+    expected = [json.loads(line) for line in paths.results_jsonl.read_text().splitlines()]
+    assert whole.short_from is not None
+    assert [(p.item, p.count) for p in whole.drawers_left] == [("H", 0)]
+    # Interrupted after three rotors (their lines kept), then carried on.
+    _, part = run_batch(template, readings, tmp_path / "part", jobs=1)
+    cut_to(part.results_jsonl, 3)
+    summary, part = run_batch(template, readings, tmp_path / "part", jobs=1, resume=True)
+    again = [json.loads(line) for line in part.results_jsonl.read_text().splitlines()]
+    assert again == expected
+    assert summary.short_from == whole.short_from
+    assert summary.drawers_left == whole.drawers_left
