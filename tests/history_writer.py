@@ -21,7 +21,7 @@ from pathlib import Path
 
 import numpy as np
 
-from placer.geometry import polar
+from placer.geometry import PlaneGeometry, equally_spaced_deg, polar
 from placer.io.history import History
 from placer.records import MassRecord, RunRecord, VisitRecord
 
@@ -109,11 +109,19 @@ def make_visit(machine_id: str = "WM-EF-07",
                MassRecord(n_planes - 1, 2, 45.0, 212.5, 2.5, "WB-2.5", 3, "planned", False))
     result = {"vibration_before": 7.31, "vibration_after": 0.42, "within_limit": True,
               "warnings": ["trial run 2 changed outboard H by 24 %"], "limit": None}
+    names = tuple(f"plane {k + 1}" for k in range(n_planes))
+    geometries = tuple(PlaneGeometry(name, equally_spaced_deg(8), (212.5,) * 8,
+                                     frozenset({3}) if k else frozenset(), 2)
+                       for k, name in enumerate(names))
+    setup = {"rotor_name": "exhaust fan 7 impeller", "norm": "max", "vibration_limit": 1.5,
+             "plane_separation_mm": 380.0, "residual_checks": []}
     return VisitRecord(machine_id, machine_name, started_at, "wrenmoor-ef07.toml", "mm/s",
-                       "rms", "lag", "with rotation", tuple(channel_names),
-                       tuple(f"plane {k + 1}" for k in range(n_planes)), tuple(runs), matrix,
-                       condition, "runs" if coefficients else "none", planned, result,
-                       service_rpm=1475.0 if coefficients else None)
+                       "rms", "lag", "with rotation", tuple(channel_names), names, tuple(runs),
+                       matrix, condition, "runs" if coefficients else "none", planned, result,
+                       service_rpm=1475.0 if coefficients else None,
+                       channel_weights=tuple(1.0 + k for k in range(n_channels)),
+                       plane_geometries=geometries,
+                       catalog_names=("washers-steel",) * n_planes, setup=setup)
 
 
 def main(db: str, marker: str, pause_at: str, n_runs: str) -> None:
