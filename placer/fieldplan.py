@@ -243,8 +243,9 @@ def _data_checks(session: Session, coefficients: Coefficients, stored: bool,
         session.runs, len(session.planes), [c.name for c in session.channels],
         session.rotor.mass_kg, session.rotor.service_rpm)
     checks = [trial_check(v) for v in verdicts]
-    checks.append(conditioning_check(coefficients.condition,
-                                     [p.geometry.name for p in session.planes]))
+    if len(session.planes) > 1:
+        checks.append(conditioning_check(coefficients.condition,
+                                         [p.geometry.name for p in session.planes]))
     return verdicts, tuple(checks)
 
 

@@ -21,7 +21,7 @@ import numpy as np
 
 from placer.fourrun import FourRunSolution, four_run_checks, solve_four_run
 from placer.geometry import PlaneGeometry
-from placer.influence import StaticCouple, static_couple
+from placer.influence import StaticCouple, least_squares_correction, static_couple
 from placer.plan import FittedPart
 from placer.records import MassRecord, VisitRecord, utc_label
 from placer.residualcheck import ResidualCheck, ResidualCheckResult, residual_check
@@ -373,7 +373,7 @@ def _checks(record: VisitRecord, four_run: FourRunSolution | None
     verdicts = judge_runs(as_runs(record), len(record.plane_names), record.channel_names,
                           setup.get("mass_kg"), record.service_rpm) if trials else ()
     checks = [trial_check(v) for v in verdicts]
-    if record.condition is not None:
+    if record.condition is not None and len(record.plane_names) > 1:
         checks.append(conditioning_check(record.condition, record.plane_names))
     return verdicts, tuple(checks)
 
@@ -426,8 +426,13 @@ def visit_report(record: VisitRecord) -> VisitReport:
                 1j * math.radians(part.angle_deg))
         predicted = now + record.coefficients @ added
     stored = record.result.get("correction_gmm") or []
-    corrections = [complex(re, im) for re, im in stored] if len(stored) == len(
-        record.plane_names) else [0j] * len(record.plane_names)
+    if len(stored) == len(record.plane_names):
+        corrections = [complex(re, im) for re, im in stored]
+    elif record.coefficients is not None:
+        corrections = list(least_squares_correction(record.coefficients, now,
+                                                    np.array(weights, dtype=float)))
+    else:
+        corrections = [0j] * len(record.plane_names)
     after = on_rotor_after(record)
     planes = []
     for p, name in enumerate(record.plane_names):
