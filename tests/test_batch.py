@@ -603,7 +603,7 @@ def test_outputs_are_strict_json_even_for_a_non_finite_value():
 
     text = json_text({"residual_gmm": float("inf"), "x": [float("nan"), -0.0, 1.5]})
     assert strict_json(text) == {"residual_gmm": None, "x": [None, -0.0, 1.5]}
-    from placer.io.batchresults import csv_row
+    from placer.io.batchrecords import csv_row
 
     assert csv_row({"serial": "S", "within_tolerance": None, "planes": [
         {"parts": "", "residual_gmm": None, "within_tolerance": None}]}) == ["S"] + [""] * 4
