@@ -30,8 +30,6 @@ from placer.job import Job
 __all__ = [
     "BALANCE_QUALITY_GRADES_MM_S",
     "SHARE_LIMITS",
-    "OZ_IN_TO_GMM",
-    "LB_TO_KG",
     "PlaneShare",
     "PlaneTolerance",
     "JobTolerances",
@@ -78,18 +76,6 @@ When the lever rule gives a plane less than 0.3 * U_per or more than
 are FROM MEMORY of the allocation rule for two reference planes in
 ISO 21940-11; they have not been checked against the standard's text.
 """
-
-OZ_IN_TO_GMM: float = 720.078
-"""Gram-millimetres in one ounce-inch [g*mm / (oz*in)].
-
-1 oz * in = 28.349523125 g * 25.4 mm = 720.0779 g*mm; the value 720.078 is
-the one printed in the Energy-Tech magazine article comparing API 617,
-MIL-STD-167 and ISO 1940-1 ([EnergyTech] in REFERENCES.md).
-"""
-
-LB_TO_KG: float = 0.45359237
-"""Kilograms in one avoirdupois pound [kg/lb]; exact by definition."""
-
 
 @dataclass(frozen=True)
 class PlaneShare:
@@ -455,7 +441,8 @@ def api_617_limit_gmm(journal_load_kg: float, max_continuous_rpm: float) -> floa
 
     Examples
     --------
-    >>> round(api_617_limit_gmm(500 * LB_TO_KG, 15000.0) / OZ_IN_TO_GMM, 2)
+    >>> from placer.units import GMM_PER_OZ_IN, KG_PER_LB
+    >>> round(api_617_limit_gmm(500 * KG_PER_LB, 15000.0) / GMM_PER_OZ_IN, 2)
     0.13
     """
     load_kg = _positive_finite(journal_load_kg, "journal_load_kg", "kg")
