@@ -522,9 +522,11 @@ def job_tolerances(job: Job) -> JobTolerances:
         notes = ("grade, mass_kg and service_rpm are all needed for a tolerance from the "
                  "balance quality grade; planes use tolerance_gmm only",)
     planes = []
-    for index, own in enumerate(p.tolerance_gmm for p in job.planes):
+    for index, plane in enumerate(job.planes):
+        own = plane.tolerance_gmm
         if own is not None:
-            planes.append(PlaneTolerance(own, "job file (tolerance_gmm)"))
+            given = plane.tolerance_given_as or "tolerance_gmm"
+            planes.append(PlaneTolerance(own, f"job file ({given})"))
         elif shares is not None:
             planes.append(PlaneTolerance(shares[index].permissible_gmm,
                                          f"{shares[index].share:.0%} of U_per from the grade"))

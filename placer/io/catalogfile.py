@@ -32,16 +32,39 @@ ITEM_KEYS = ("id", *(quantity_key("mass", u) for u in MASS_UNITS), "stock", "des
 
 
 def bundled_dir() -> Path:
-    """Folder of the bundled catalogue files, installed or in a source checkout."""
+    """Folder of the bundled catalogue files: a source checkout's own, else the installed ones."""
+    return package_data_dir("catalogs")
+
+
+def package_data_dir(name: str) -> Path:
+    """A folder of files shipped with placer (``catalogs``, ``examples``).
+
+    In a source checkout (a ``pyproject.toml`` beside the ``placer`` package)
+    its own folder, so that another install of placer on the path does not
+    lend its files; otherwise the installed package ``placer.<name>``.
+
+    Parameters
+    ----------
+    name : str
+        The folder: "catalogs" or "examples".
+
+    Returns
+    -------
+    Path
+        The folder.
+    """
+    checkout = Path(__file__).resolve().parents[2]
+    if (checkout / "pyproject.toml").is_file() and (checkout / name).is_dir():
+        return checkout / name
     try:
         from importlib.resources import files
 
-        folder = Path(str(files("placer.catalogs")))
+        folder = Path(str(files(f"placer.{name}")))
         if folder.is_dir():
             return folder
     except (ModuleNotFoundError, TypeError):
         pass
-    return Path(__file__).resolve().parents[2] / "catalogs"
+    return checkout / name
 
 
 def bundled_names() -> list[str]:

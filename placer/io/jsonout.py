@@ -17,7 +17,7 @@ from placer.records import (
     utc_label,
 )
 from placer.tolerance import PlaneShare
-from placer.units import kg_mm2_from_gmm2
+from placer.units import kg_mm2_from_gmm2, mass_at_radius_g
 
 
 def option_dict(option: PlanOption) -> dict[str, Any]:
@@ -272,7 +272,8 @@ def catalog_dict(catalog: Catalog) -> dict[str, Any]:
 
 
 def tolerance_dict(grade_mm_s: float, mass_kg: float, service_rpm: float, u_per_gmm: float,
-                   shares: Sequence[PlaneShare]) -> dict[str, Any]:
+                   shares: Sequence[PlaneShare],
+                   radius_mm: float | None = None) -> dict[str, Any]:
     """The JSON of ``placer tolerance --json``: U_per and each plane's share.
 
     Parameters
@@ -287,16 +288,24 @@ def tolerance_dict(grade_mm_s: float, mass_kg: float, service_rpm: float, u_per_
         Permissible residual unbalance of the rotor [g·mm].
     shares : sequence of PlaneShare
         Its shares per plane.
+    radius_mm : float or None
+        A correction radius [mm]: each share also as the mass at it
+        (``mass_at_radius_g``); None to leave that out.
 
     Returns
     -------
     dict
         The inputs, U_per and the shares.
     """
-    return {"grade_mm_s": grade_mm_s, "mass_kg": mass_kg, "service_rpm": service_rpm,
-            "permissible_gmm": u_per_gmm, "shares": [
-                {"plane": s.name, "share": s.share, "permissible_gmm": s.permissible_gmm}
-                for s in shares]}
+    out = {"grade_mm_s": grade_mm_s, "mass_kg": mass_kg, "service_rpm": service_rpm,
+           "permissible_gmm": u_per_gmm, "shares": [
+               {"plane": s.name, "share": s.share, "permissible_gmm": s.permissible_gmm}
+               for s in shares]}
+    if radius_mm is not None:
+        out["radius_mm"] = radius_mm
+        for entry, share in zip(out["shares"], shares):
+            entry["mass_at_radius_g"] = mass_at_radius_g(share.permissible_gmm, radius_mm)
+    return out
 
 
 def machines_list(machines: Sequence[MachineSummary]) -> list[dict[str, Any]]:
