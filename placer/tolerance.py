@@ -519,8 +519,8 @@ def job_tolerances(job: Job) -> JobTolerances:
         shares = tuple(allocate_to_planes(u_per, [p.geometry.name for p in job.planes],
                                           rotor.com_distances_mm))
     elif any(given):
-        notes = ("grade, mass_kg and service_rpm are all needed for a tolerance from the "
-                 "balance quality grade; planes use tolerance_gmm only",)
+        notes = ("grade, the rotor's mass and service_rpm are all needed for a tolerance from "
+                 "the balance quality grade; planes use their own tolerance only",)
     planes = []
     for index, plane in enumerate(job.planes):
         own = plane.tolerance_gmm

@@ -32,8 +32,9 @@ OUTSIDE_ADVICE = (
     "trim with what it shows.")
 """What to do when no plan reaches the tolerance (common practice, no source)."""
 
-AS_LEFT_LINES = ("Residual measured after fitting", "Checked on the balancing machine by")
-"""The "as left" lines of the printed sheet, filled in by hand after the check run."""
+AS_LEFT_LINES = ("Residual measured after fitting",)
+"""The "as left" line of the printed sheet, filled in by hand after the check run (the
+sign-off below it names who checked)."""
 
 
 def work_columns(units: UnitSystem) -> tuple[str, ...]:
@@ -68,8 +69,25 @@ def trade_off_columns(units: UnitSystem, rated: bool) -> tuple[str, ...]:
     tuple of str
         The headings, without the column that marks the chosen plan.
     """
-    return (("Parts", f"Residual {units.unbalance_unit}", "% req.", f"Mass {units.mass_unit}",
-             "Least", "Verdict") + (("Chance", "95 %") if rated else ()))
+    return (("Parts", "Residual", "% req.", "Mass", "Least", "Verdict")
+            + (("Chance", "95 %") if rated else ()))
+
+
+def trade_off_title(units: UnitSystem) -> str:
+    """The title of the trade-off table, with the units of its residual and mass columns.
+
+    Parameters
+    ----------
+    units : UnitSystem
+        The job's units.
+
+    Returns
+    -------
+    str
+        The title, as the terminal prints it (the sheet in capitals, units as they are).
+    """
+    return (f"Trade-off: parts against residual ({units.unbalance_unit}) and added mass "
+            f"({units.mass_unit})")
 
 
 def header_facts(job: Job) -> list[tuple[str, str]]:

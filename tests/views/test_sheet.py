@@ -739,7 +739,8 @@ def test_cli_without_matplotlib(tmp_path, capsys, monkeypatch):
                         lambda name, *a: None if name == "matplotlib" else real(name, *a))
     assert main(["solve", str(SUPPLY_FAN), "--sheet", str(tmp_path / "s.pdf")]) == 2
     assert capsys.readouterr().err == (
-        "placer: error: --sheet needs matplotlib: pip install 'placer[sheet]'\n")
+        "placer: error: --sheet needs matplotlib, which placer installs with it; it is "
+        "missing here: pip install matplotlib\n")
     assert not (tmp_path / "s.pdf").exists()
 
 

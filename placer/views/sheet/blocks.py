@@ -416,12 +416,13 @@ def work_tables(page: Page, x: float, y: float, w: float, plane: PlaneResult,
         page.text(x, y, heading, 8.5, weight="bold")
         notes = [part_note(p, plane.plane.catalog) for p in parts]
         headings = work_columns(units)
-        aligns = ("l", "r", "r", "l", "r", "r", "r", "w")
-        columns = list(zip(headings, aligns))[:8 if any(notes) else 7]
+        columns = list(zip(headings[:7], ("l", "r", "r", "l", "r", "r", "r")))
         rows = [[action_word(p).upper(), str(p.position), f"{p.angle_deg:.1f}", p.item,
-                 str(p.count), part_mass(p, units), part_unbalance(p, units)]
-                + ([note] if any(notes) else []) for p, note in zip(parts, notes)]
-        y = page.table(x, y + 0.22, columns, rows, w, ticks=not outside)
+                 str(p.count), part_mass(p, units), part_unbalance(p, units)] for p in parts]
+        # The fixing (or the hole's dimensions) under each part: the terminal's last column.
+        notes = [f"{'Hole' if p.verb == 'drill' else 'Fixing'}: {note}" if note else ""
+                 for p, note in zip(parts, notes)]
+        y = page.table(x, y + 0.22, columns, rows, w, ticks=not outside, notes=notes)
         if drills(parts):
             y = page.paragraph(x, y, "DRILL: a hole; its mass, negative, is the metal it "
                                "takes out.", w, 7)
@@ -487,8 +488,9 @@ def trade_off_table(page: Page, x: float, y: float, w: float, plane: PlaneResult
             bold.add(i)
         rows.append(row)
     y = page.table(x, y + 0.22, columns, rows, w, bold=bold)
-    note = ("Parts: fitted plus removed. Least: residual for that many parts, or mass within "
-            "the aim. ◀ this sheet's plan.")
+    note = (f"Residual in {units.unbalance_unit}, added mass in {units.mass_unit}. Parts: "
+            "fitted plus removed. Least: residual for that many parts, or mass within the aim. "
+            "◀ this sheet's plan.")
     if unproven:
         note += " * not proven optimal with the effort given."
     if rated:

@@ -40,7 +40,7 @@ from placer.views.wording import (
     at_radius,
     cautions_for,
     drills,
-    part_note,
+    plane_radius_mm,
     unbalance_text,
     units_of,
 )
@@ -61,7 +61,7 @@ def _caution_height(drilling: bool) -> float:
     return sum(lines_in(len(w), CAUTION_PT) + 0.04 for w in _caution_lines(drilling)) + 0.30
 
 
-AS_LEFT_IN = 0.62
+AS_LEFT_IN = 0.34
 """Height of the "as left" lines above the sign-off [in]."""
 
 
@@ -77,20 +77,16 @@ def _as_left(page: Page, y: float, plane: PlaneResult, result: JobResult) -> Non
     units = units_of(result.job)
     page.text(left, y, "AS LEFT", 8, weight="bold")
     tolerance = ("" if plane.tolerance_gmm is None else
-                 f"   (tolerance {unbalance_text(plane.tolerance_gmm, units)} = "
-                 f"{at_radius(plane.tolerance_gmm, plane.plane.geometry, units)})")
+                 f"(tolerance {at_radius(plane.tolerance_gmm, plane.plane.geometry, units)})")
     label = f"{AS_LEFT_LINES[0]}:"
     page.text(left + 0.7, y, label, 7.5, va="top")
     x = left + 0.7 + text_width_in(label, 7.5) + 0.08
-    for blank, unit in ((0.8, units.mass_unit), (0.55, "°")):
+    radius = units.length_text(plane_radius_mm(plane.plane.geometry))
+    for blank, words in ((0.7, f"{units.mass_unit} at r {radius}, at"), (0.5, "°")):
         page.rule(y + 0.14, x, x + blank, lw=0.6)
-        page.text(x + blank + 0.04, y, unit + (" at" if unit != "°" else ""), 7.5)
-        x += blank + 0.04 + text_width_in(unit + " at", 7.5) + 0.06
+        page.text(x + blank + 0.04, y, words, 7.5)
+        x += blank + 0.04 + text_width_in(words, 7.5) + 0.1
     page.text(x, y, tolerance.strip(), 7, color=GREY)
-    label = f"{AS_LEFT_LINES[1]}:"
-    page.text(left + 0.7, y + 0.26, label, 7.5)
-    x = left + 0.7 + text_width_in(label, 7.5) + 0.08
-    page.rule(y + 0.40, x, left + width, lw=0.6)
 
 
 def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
@@ -164,16 +160,11 @@ def _lower(page: Page, y: float, result: JobResult, plane: PlaneResult,
     y = page.paragraph(MARGIN_IN, y, text, width, 7, style="italic",
                        weight="bold" if back else "normal") + 0.1
     page.rule(y - 0.04, lw=0.4, color=GREY)
-    if any(part_note(p, plane.plane.catalog) for p in plane.chosen.parts):
-        # Fixing notes need the width: the work, then the trade-off below it.
-        y = work_tables(page, MARGIN_IN, y + 0.04, width, plane, facts, job)
-        y = trade_off_table(page, MARGIN_IN, y + 0.02, width, plane, facts, job)
-    else:
-        half = width / 2 - 0.1
-        y_left = work_tables(page, MARGIN_IN, y + 0.04, half, plane, facts, job)
-        y_right = trade_off_table(page, MARGIN_IN + width / 2 + 0.1, y + 0.04, half, plane,
-                                  facts, job)
-        y = max(y_left, y_right)
+    half = width / 2 - 0.1
+    y_left = work_tables(page, MARGIN_IN, y + 0.04, half, plane, facts, job)
+    y_right = trade_off_table(page, MARGIN_IN + width / 2 + 0.1, y + 0.04, half, plane,
+                              facts, job)
+    y = max(y_left, y_right)
     notes = list(plane.notes) + list(result.notes)
     if not plane.optimal:
         notes.append("Not every plan in the trade-off was proven optimal with the effort given.")

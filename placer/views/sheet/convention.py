@@ -176,7 +176,7 @@ def convention_text(angle_sense: str, rotation: str | None = None, back: bool = 
     """
     on_page = ("counterclockwise" if angles_counterclockwise(angle_sense, rotation, back)
                else "clockwise")
-    mark = mark or "the reference mark"
+    mark = f"the {mark}" if mark else "the reference mark"
     where = f"the {seen_from}" if seen_from else "the working side"
     text = f"Drawn as seen from {where}, {mark} at the top"
     if back:

@@ -121,20 +121,21 @@ class Page:
 
     def table(self, x: float, y: float, columns: list[tuple[str, str]],
               rows: list[list[str]], width_in: float, bold: set[int] = frozenset(),
-              ticks: bool = False, size: float = 8.0) -> float:
+              ticks: bool = False, size: float = 8.0,
+              notes: list[str] | None = None) -> float:
         """A table no wider than ``width_in``; returns the y below it.
 
-        ``columns`` are (heading, "l", "r" or "w"); each column is as wide as
-        its widest cell, measured, and the type shrinks (to 6.5 pt) until the
-        table fits.  A "w" column (the last) takes the width left and wraps
-        its cells on words, making its rows taller.
+        ``columns`` are (heading, "l" or "r"); each column is as wide as its
+        widest cell, measured, and the type shrinks (to 6.5 pt) until the
+        table fits.  A row's note (``notes``) is set under it in italics,
+        wrapped to the table's width.
 
         Parameters
         ----------
         x, y : float
             Top-left corner [in].
         columns : list of (str, str)
-            (heading, "l", "r" or "w" alignment) per column.
+            (heading, "l" or "r" alignment) per column.
         rows : list of list of str
             The cells, row by row; an empty cell is left blank.
         width_in : float
@@ -145,6 +146,8 @@ class Page:
             Put a tick box before each row.
         size : float
             Font size to start from [pt].
+        notes : list of str or None
+            A note under each row ("" for none).
 
         Returns
         -------
@@ -152,46 +155,41 @@ class Page:
             The y below the table [in].
         """
         tick_in = 0.28 if ticks else 0.0
-        wrap = [k for k, (_, align) in enumerate(columns) if align == "w"]
         while True:
             widths = []
             for k, (head, _) in enumerate(columns):
                 cells = [text_width_in(r[k], size, i in bold) for i, r in enumerate(rows) if r[k]]
                 widths.append(max([text_width_in(head, size - 1, True)] + cells) + 0.10)
-            if wrap:
-                fixed = tick_in + sum(w for k, w in enumerate(widths) if k not in wrap)
-                widths[wrap[0]] = min(widths[wrap[0]], max(1.0, width_in - fixed))
-            if tick_in + sum(widths) <= width_in + 1e-9 or size <= 6.5:
+            if tick_in + sum(widths) <= width_in or size <= 6.5:
                 break
             size -= 0.5
-        line_h = size * 1.3 / 72
+        row_h = size * 1.75 / 72
         width = tick_in + sum(widths)
         edges = [x + tick_in]
         for w in widths:
             edges.append(edges[-1] + w)
         for k, (head, align) in enumerate(columns):
-            tx = edges[k + 1] - 0.05 if align == "r" else edges[k] + 0.05
-            self.text(tx, y, head, size - 1, weight="bold", ha="right" if align == "r" else "left")
-        y += size * 1.75 / 72
+            tx = edges[k] + 0.05 if align == "l" else edges[k + 1] - 0.05
+            self.text(tx, y, head, size - 1, weight="bold", ha="left" if align == "l" else "right")
+        y += row_h
         self.rule(y - 0.04, x, x + width, lw=0.9)
         for i, row in enumerate(rows):
-            cells = [wrap_words(cell, widths[k] - 0.10, size, i in bold)
-                     if k in wrap and cell else [cell] for k, cell in enumerate(row)]
-            extra = (max(len(c) for c in cells) - 1) * line_h
-            row_h = size * 1.75 / 72 + extra
-            cy = y + size * 1.75 / 72 / 2 - 0.02
+            cy = y + row_h / 2 - 0.02
             if ticks:
                 self.mark(x + 0.1, cy, marker="s", ms=7.5, mfc="white", mec=INK, mew=0.9)
-            for k, (lines, (_, align)) in enumerate(zip(cells, columns)):
-                if not lines[0]:
+            for k, (cell, (_, align)) in enumerate(zip(row, columns)):
+                if not cell:
                     continue
-                tx = edges[k + 1] - 0.05 if align == "r" else edges[k] + 0.05
-                top = cy if len(lines) == 1 else cy - size * 0.62 / 72
-                self.text(tx, top, "\n".join(lines), size,
-                          va="center" if len(lines) == 1 else "top",
-                          ha="right" if align == "r" else "left", linespacing=1.3,
+                tx = edges[k] + 0.05 if align == "l" else edges[k + 1] - 0.05
+                self.text(tx, cy, cell, size, va="center", ha="left" if align == "l" else "right",
                           weight="bold" if i in bold else "normal")
             y += row_h
+            note = notes[i] if notes else ""
+            if note:
+                lines = wrap_words(note, x + width - edges[0] - 0.1, size - 1)
+                self.text(edges[0] + 0.05, y - 0.05, "\n".join(lines), size - 1,
+                          style="italic", linespacing=1.2)
+                y += lines_in(len(lines), size - 1, 1.2) + 0.02
             self.rule(y - 0.02, x, x + width, lw=0.3, color=GREY)
         return y + 0.04
 

@@ -33,6 +33,7 @@ from placer.views.wording import (
     part_unbalance,
     plan_kind,
     trade_off_columns,
+    trade_off_title,
     units_of,
     unbalance_text,
     verdict_word,
@@ -68,7 +69,7 @@ def _header(result: JobResult, units: UnitSystem) -> Panel:
     if result.permissible_gmm is not None:
         lines.append(f"Permissible residual U_per {unbalance_text(result.permissible_gmm, units)}"
                      " (ISO 21940-11)\n")
-    mark = rotor.reference_mark or "the reference mark"
+    mark = f"the {rotor.reference_mark}" if rotor.reference_mark else "the reference mark"
     lines.append(f"Angles: degrees from {mark}, counted {rotor.angle_sense}; "
                  "position numbers as marked on the rotor.")
     return Panel(lines, title="placer fitting sheet", title_align="left", box=box.HEAVY)
@@ -92,8 +93,8 @@ def _parts_table(result: PlaneResult, units: UnitSystem) -> Table:
 def _front_table(result: PlaneResult, units: UnitSystem) -> Table:
     rows = result.trade_off
     robust = any(o.chance_within is not None for o in rows)
-    table = Table(title="Trade-off: parts against residual and added mass",
-                  title_justify="left", box=box.SIMPLE, show_edge=False, pad_edge=False)
+    table = Table(title=trade_off_title(units), title_justify="left", box=box.SIMPLE,
+                  show_edge=False, pad_edge=False, padding=(0, 1, 0, 0))
     for heading in trade_off_columns(units, robust):
         table.add_column(heading, justify="left" if heading in ("Least", "Verdict")
                          else "right")
