@@ -69,6 +69,13 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
     """
     plane = result.plane
     chosen = option_dict(result.chosen)
+    for part, fitted in zip(chosen["parts"], result.chosen.parts):
+        try:
+            item = plane.catalog.items[plane.catalog.item_index(fitted.item)]
+            part["fixing"] = item.fixing
+        except KeyError:
+            part["fixing"] = ""
+    radius_mm = max(plane.geometry.radii_mm)
     chosen["within_tolerance"] = result.within_tolerance
     chosen["within_aim"] = result.within_aim
     chosen["rule"] = result.rule
@@ -95,6 +102,11 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
         "notes": list(result.notes),
         "method": result.method,
         "elapsed_s": float(result.elapsed_s),
+        "worked_from": plane.worked_from,
+        "radius_mm": radius_mm,
+        "residual_mass_g": mass_at_radius_g(float(result.chosen.residual_gmm), radius_mm),
+        "tolerance_mass_g": None if result.tolerance_gmm is None
+        else mass_at_radius_g(float(result.tolerance_gmm), radius_mm),
     }
 
 
@@ -112,10 +124,16 @@ def job_dict(result: JobResult) -> dict[str, Any]:
         The object of ``placer solve --json``.
     """
     rotor = result.job.rotor
+    papers = result.job.paperwork
     return {
         "job": result.job.source,
         "rotor": {"name": rotor.name, "mass_kg": rotor.mass_kg, "service_rpm": rotor.service_rpm,
-                  "grade_mm_s": rotor.grade_mm_s},
+                  "grade_mm_s": rotor.grade_mm_s, "reference_mark": rotor.reference_mark,
+                  "rotation": rotor.rotation, "front": rotor.end_name("front"),
+                  "back": rotor.end_name("back")},
+        "paperwork": {"customer": papers.customer, "work_order": papers.work_order,
+                      "technician": papers.technician, "date": papers.date or None},
+        "units": papers.units,
         "angle_convention": f"degrees from the reference mark, counted {rotor.angle_sense}",
         "permissible_gmm": None if result.permissible_gmm is None
         else float(result.permissible_gmm),

@@ -422,7 +422,13 @@ def work_tables(page: Page, x: float, y: float, w: float, plane: PlaneResult,
         # The fixing (or the hole's dimensions) under each part: the terminal's last column.
         notes = [f"{'Hole' if p.verb == 'drill' else 'Fixing'}: {note}" if note else ""
                  for p, note in zip(parts, notes)]
-        y = page.table(x, y + 0.22, columns, rows, w, ticks=not outside, notes=notes)
+        shared = notes[0] if len(notes) > 1 and notes[0] and len(set(notes)) == 1 else ""
+        y = page.table(x, y + 0.22, columns, rows, w, ticks=not outside,
+                       notes=None if shared else notes)
+        if shared:                          # the same for every part: said once, under them
+            words = shared.split(": ", 1)
+            y = page.paragraph(x, y, f"{words[0]}, every part: {words[1]}", w, 7,
+                               style="italic")
         if drills(parts):
             y = page.paragraph(x, y, "DRILL: a hole; its mass, negative, is the metal it "
                                "takes out.", w, 7)

@@ -62,7 +62,11 @@ def _caution_height(drilling: bool) -> float:
 
 
 AS_LEFT_IN = 0.34
-"""Height of the "as left" lines above the sign-off [in]."""
+"""Height of the "as left" line above the sign-off [in]."""
+
+
+MIN_DRAW_IN = 2.8
+"""Narrowest the rotor face is drawn when the tables need the room [in]."""
 
 
 def _cautions_top(drilling: bool) -> float:
@@ -131,7 +135,8 @@ def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
     for lines in wrapped:
         page.text(left + 0.48, cy, "\n".join(lines), CAUTION_PT, linespacing=1.3)
         cy += lines_in(len(lines), CAUTION_PT) + 0.04
-    for k, label in enumerate(("Fitted by", "Date", "Test run checked by")):
+    signed = plane is None or plane.within_tolerance is not False
+    for k, label in enumerate(("Fitted by", "Date", "Test run checked by") if signed else ()):
         sx = left + k * width / 3
         page.text(sx, sign_y + 0.2, label, 7.5, va="bottom")
         page.rule(sign_y + 0.2, sx + text_width_in(label, 7.5) + 0.1, sx + width / 3 - 0.15, lw=0.6)
@@ -257,7 +262,7 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     draw_h = height(width)
     fit_h = room - key_h if key_below else max(room, side_end - top)
     if draw_h > fit_h + 1e-6:
-        width = max(3.2, width * fit_h / draw_h)
+        width = max(MIN_DRAW_IN, width * fit_h / draw_h)
         ax.cla()
         drawing = draw_plane(ax, plane, sense, width, rotation, mark)
         draw_h = height(width)

@@ -187,9 +187,9 @@ class Page:
             note = notes[i] if notes else ""
             if note:
                 lines = wrap_words(note, x + width - edges[0] - 0.1, size - 1)
-                self.text(edges[0] + 0.05, y - 0.05, "\n".join(lines), size - 1,
+                self.text(edges[0] + 0.05, y - 0.02, "\n".join(lines), size - 1,
                           style="italic", linespacing=1.2)
-                y += lines_in(len(lines), size - 1, 1.2) + 0.02
+                y += lines_in(len(lines), size - 1, 1.2)
             self.rule(y - 0.02, x, x + width, lw=0.3, color=GREY)
         return y + 0.04
 

@@ -47,7 +47,8 @@ def _verdict(within: bool | None) -> Text:
         return Text("no tolerance given", style="bold")
     if within:
         return Text("[OK] WITHIN TOLERANCE", style="bold green")
-    return Text(f"[!!] OUTSIDE TOLERANCE: {OUTSIDE_HEADING}", style="bold red reverse")
+    return Text(f"[!!] OUTSIDE TOLERANCE: this plan {OUTSIDE_HEADING.lower()}",
+                style="bold red reverse")
 
 
 def _header(result: JobResult, units: UnitSystem) -> Panel:
