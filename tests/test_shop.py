@@ -357,13 +357,16 @@ def test_new_without_a_terminal_names_the_missing_option(run_cli, tmp_path, monk
 
 
 def test_new_asks_on_a_terminal(run_cli, tmp_path, monkeypatch):
-    answers = iter(["Hub 4", "", "8", "12", "150", "washers-steel", "2"])
+    # Asked in order: name, positions, radius, catalogue (empty: the default), planes;
+    # a bad answer is asked again.
+    answers = iter(["Hub 4", "twelve", "12", "150", "", "2"])
     monkeypatch.setattr(sys.stdin, "isatty", lambda: True, raising=False)
     monkeypatch.setattr("builtins.input", lambda prompt: next(answers))
     code, _, err = run_cli("new", "job", tmp_path / "hub.toml")
     assert code == 0, err
     text = (tmp_path / "hub.toml").read_text("utf-8")
     assert 'name = "Hub 4"' in text and "positions = 12" in text and "radius_mm = 150" in text
+    assert 'catalog = "washers-steel"' in text and "[[planes]]" in text.split("max_parts")[1]
 
 
 def test_new_example_copies_every_example(run_cli, tmp_path):
@@ -400,7 +403,7 @@ def test_sheet_records_the_job_and_draws_the_far_side_mirrored():
         for field in ("CUSTOMER", "Saltmere dairy, spray dryer hall", "WORK ORDER",
                       "WM-26-0412", "TECHNICIAN", "A. Penhallow", "2026-03-14",
                       "KEYWAY 0°", "AS LEFT", "Residual measured after fitting:",
-                      "Fitted by", "Test run checked by", "Fixing: under the bolt head"):
+                      "Fitted by", "Test run checked by", "under the bolt head"):
             assert field in text, field
     # Seen from the free end everything turns the other way: angles against a clockwise
     # rotation grow counterclockwise from the drive end, clockwise from the free end, and
