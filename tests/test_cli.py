@@ -604,7 +604,7 @@ def test_tolerance_text(run_cli):
     assert code == 0 and err == ""
     assert "97.11 g·mm" in out
     assert f"50% = {u_per / 2:.4g} g·mm" in out              # four significant digits
-    assert out.count(f"{u_per / 2:.1f} g·mm") == 2
+    assert out.count(f"{u_per / 2:.4g} g·mm") == 2
 
 
 def test_tolerance_json(run_cli):
