@@ -9,7 +9,7 @@ from placer.errors import InputError
 
 
 def ask(question: str, convert: Callable[[str], Any], default: Any = None,
-        read: Callable[[str], str] = input) -> Any:
+        read: Callable[[str], str] | None = None) -> Any:
     """Ask until the answer converts; an empty answer takes ``default`` when there is one.
 
     Parameters
@@ -21,8 +21,8 @@ def ask(question: str, convert: Callable[[str], Any], default: Any = None,
         bad one, whose text is shown before asking again.
     default : Any
         What an empty answer gives; None to insist on an answer.
-    read : callable
-        Reads one answer after showing its prompt (``input``; tests pass their own).
+    read : callable or None
+        Reads one answer after showing its prompt; None for ``input``.
 
     Returns
     -------
@@ -37,7 +37,7 @@ def ask(question: str, convert: Callable[[str], Any], default: Any = None,
     prompt = f"{question}" + (f" [{default}]" if default is not None else "") + ": "
     while True:
         try:
-            answer = read(prompt).strip()
+            answer = (read or input)(prompt).strip()
         except EOFError:
             raise InputError("no answer", key=question,
                              expected="an answer, or the option on the command line") from None
