@@ -467,18 +467,22 @@ class Table:
         ----------
         [NISTHB44] the factors of :mod:`placer.units`.
         """
-        keys = [quantity_key(stem, unit) for unit in units]
+        key, factor = self._unit_key(stem, units)
+        if key is None:
+            if required:
+                keys = [quantity_key(stem, unit) for unit in units]
+                raise self.fail(keys[0], "missing", "a number, as " + " or ".join(keys))
+            return default, None
+        return self.check_number(key, self.data[key], positive, non_negative) * factor, key
+
+    def _unit_key(self, stem: str, units: dict[str, float]) -> tuple[str | None, float]:
+        """The one key of ``stem`` given, and its factor; two given together are refused."""
+        keys = {quantity_key(stem, unit): factor for unit, factor in units.items()}
         given = [key for key in keys if key in self.data]
         if len(given) > 1:
             raise self.fail(given[1], f"given together with '{given[0]}'",
                             "one of " + " or ".join(keys))
-        if not given:
-            if required:
-                raise self.fail(keys[0], "missing", "a number, as " + " or ".join(keys))
-            return default, None
-        key = given[0]
-        value = self.check_number(key, self.data[key], positive, non_negative)
-        return value * units[key[len(stem) + 1:] if stem else key], key
+        return (given[0], keys[given[0]]) if given else (None, 1.0)
 
     def quantities(self, stem: str, units: dict[str, float], positive: bool = False,
                    non_negative: bool = False) -> tuple[list[float] | None, str | None]:
@@ -510,15 +514,9 @@ class Table:
         ----------
         [NISTHB44] the factors of :mod:`placer.units`.
         """
-        keys = [quantity_key(stem, unit) for unit in units]
-        given = [key for key in keys if key in self.data]
-        if len(given) > 1:
-            raise self.fail(given[1], f"given together with '{given[0]}'",
-                            "one of " + " or ".join(keys))
-        if not given:
+        key, factor = self._unit_key(stem, units)
+        if key is None:
             return None, None
-        key = given[0]
-        factor = units[key[len(stem) + 1:]]
         return [self.check_number(f"{key}[{i + 1}]", v, positive, non_negative) * factor
                 for i, v in enumerate(self.array(key))], key
 

@@ -15,7 +15,8 @@ from typing import Any
 
 from placer.geometry import angle_of_deg
 from placer.plan import PlaneResult
-from placer.units import METRIC, UnitSystem, mass_at_radius_g
+from placer.units import METRIC, UnitSystem
+from placer.views.wording import at_radius
 
 ZERO_SHARE = 1e-6
 """A vector no longer than this share of the plane's largest magnitude (the correction
@@ -282,10 +283,8 @@ def tolerance_text(plane: PlaneResult, units: UnitSystem = METRIC) -> str:
     """
     if plane.tolerance_gmm is None:
         return "none given"
-    radius_mm = max(plane.plane.geometry.radii_mm)
-    mass = units.mass_text(mass_at_radius_g(plane.tolerance_gmm, radius_mm))
-    return (f"{units.unbalance_text(plane.tolerance_gmm)} ({mass} at r "
-            f"{units.length_text(radius_mm)})")
+    return (f"{units.unbalance_text(plane.tolerance_gmm)} "
+            f"({at_radius(plane.tolerance_gmm, plane.plane.geometry, units)})")
 
 
 def basis_lines(plane: PlaneResult, facts: PlaneFacts) -> list[str]:
