@@ -552,6 +552,8 @@ def _field(args: argparse.Namespace) -> int:
             with console.capture() as captured:
                 render_field(result, console)
             text = captured.get()
+            if not sys.stdout.isatty():
+                text = "\n".join(line.rstrip(" ") for line in text.split("\n"))
         try:
             sys.stdout.write(text)
             sys.stdout.flush()
@@ -611,7 +613,7 @@ def _machines(args: argparse.Namespace) -> int:
     if args.json:
         print(json_text(machines_list(rows), indent=2))
     else:
-        render_machines(rows, str(path), _console(args.width))
+        _print_plain(render_machines, args.width, rows, str(path))
     return EXIT_OK
 
 
@@ -656,7 +658,7 @@ def _history(args: argparse.Namespace) -> int:
         if args.json:
             print(json_text(visit_dict(args.visit, record), indent=2))
         else:
-            render_visit(args.visit, record, _console(args.width))
+            _print_plain(render_visit, args.width, args.visit, record)
         if args.sheet is not None:
             from placer.views.report import write_report
             from placer.visitreport import visit_report
@@ -668,8 +670,17 @@ def _history(args: argparse.Namespace) -> int:
     if args.json:
         print(json_text(visits_list(visits), indent=2))
     else:
-        render_visits(args.machine, visits, _console(args.width))
+        _print_plain(render_visits, args.width, args.machine, visits)
     return EXIT_OK
+
+
+def _print_plain(render, width: int | None, *values) -> None:
+    """Print a history view: the terminal's width on a terminal, else 80 columns trimmed."""
+    from placer.views.terminal.plain import finish
+
+    console = _plain_console(width)
+    render(*values, console)
+    finish(console)
 
 
 def _remove_visit(db, args: argparse.Namespace, visit, path: Path) -> int:
