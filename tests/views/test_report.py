@@ -25,17 +25,17 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-sys.path.insert(0, str(Path(__file__).resolve().parents[1]))
-from sessions import rect, session_toml, write  # noqa: E402
+from layoutcheck import overlapping
+from sessions import rect, session_toml, write
 
-from placer.cli import main  # noqa: E402
-from placer.fieldplan import solve_session  # noqa: E402
-from placer.io.history import History  # noqa: E402
-from placer.io.sessionfile import read_session  # noqa: E402
-from placer.records import visit_record  # noqa: E402
-from placer.views.report.pages import report_pages  # noqa: E402
-from placer.views.sheet.files import PNG_DPI  # noqa: E402
-from placer.visitreport import visit_report  # noqa: E402
+from placer.cli import main
+from placer.fieldplan import solve_session
+from placer.io.history import History
+from placer.io.sessionfile import read_session
+from placer.records import visit_record
+from placer.views.report.pages import report_pages
+from placer.views.sheet.files import PNG_DPI
+from placer.visitreport import visit_report
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 WHEN = date(2025, 12, 3)
@@ -59,17 +59,6 @@ def texts_of(fig):
     renderer = fig.canvas.get_renderer()
     return [(t.get_text(), t.get_window_extent(renderer)) for ax in fig.axes for t in ax.texts
             if t.get_visible() and t.get_text().strip()]
-
-
-def overlapping(texts, clear_px: float = 1.0):
-    pairs = []
-    for i, (a, box_a) in enumerate(texts):
-        for b, box_b in texts[i + 1:]:
-            across = min(box_a.x1, box_b.x1) - max(box_a.x0, box_b.x0)
-            down = min(box_a.y1, box_b.y1) - max(box_a.y0, box_b.y0)
-            if across > -clear_px and down > -clear_px:
-                pairs.append((a, b))
-    return pairs
 
 
 @pytest.fixture(scope="module")
@@ -278,8 +267,7 @@ def test_the_reprint_from_the_database_is_the_same_report(tmp_path):
 
 
 def test_an_older_visit_prints_without_the_face_and_says_why(tmp_path, capsys):
-    sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "io"))
-    from test_history import write_version_2_file
+    from history_writer import write_version_2_file
 
     db = tmp_path / "old.sqlite"
     write_version_2_file(db)

@@ -16,8 +16,14 @@ import numpy as np
 from placer.geometry import angle_of_deg
 from placer.units import kg_mm2_from_gmm2
 from placer.views.numbers import angle_text, phasor_text, significant
-from placer.views.report.layout import BODY_PT, WIDTH_IN, paragraphs, section
-from placer.views.sheet.typeset import INK, MARGIN_IN, Page, lines_in, wrap_words
+from placer.views.report.layout import (
+    BODY_PT,
+    WIDTH_IN,
+    black_band,
+    paragraphs,
+    section,
+)
+from placer.views.sheet.typeset import MARGIN_IN, Page
 from placer.visitreport import VisitReport
 
 G_PER_KG = 1000.0
@@ -81,31 +87,6 @@ def percent(share: float, signed: bool = False) -> str:
     return f"{100 * share:+.0f} %" if signed else f"{100 * share:.0f} %"
 
 
-def band(page: Page, y: float, text: str) -> float:
-    """White words on a black band across the page; returns the y below.
-
-    Parameters
-    ----------
-    page : Page
-        The page (or a dry run).
-    y : float
-        Top [in].
-    text : str
-        The words.
-
-    Returns
-    -------
-    float
-        The y below [in].
-    """
-    lines = wrap_words(text, WIDTH_IN - 0.24, 9.0, True)
-    height = 0.12 + lines_in(len(lines), 9.0, 1.2)
-    page.box(MARGIN_IN, y, WIDTH_IN, height, fill=True, fc=INK, ec=INK)
-    page.text(MARGIN_IN + 0.12, y + 0.06, "\n".join(lines), 9.0, weight="bold", color="white",
-              linespacing=1.2)
-    return y + height + 0.06
-
-
 Block = Callable[[Page, float, object], float]
 
 
@@ -152,7 +133,7 @@ def checks_block(report: VisitReport) -> Block:
         rules = list(dict.fromkeys(c.rule for c in report.checks))
         y = paragraphs(page, y, [f"Rule: {r}." for r in rules], 6.5, style="italic")
         if not report.data_ok:
-            y = band(page, y + 0.04, FAILED_BAND)
+            y = black_band(page, y + 0.04, FAILED_BAND)
         return y
 
     return draw
@@ -289,8 +270,10 @@ def prediction_block(report: VisitReport) -> Block:
             words = (f"LARGEST AFTER THE PLAN {significant(largest)} {unit}: "
                      + ("BELOW" if report.within_limit else "ABOVE")
                      + f" THE LIMIT OF {limit:g} {unit}")
+        if not report.data_ok:
+            words += ", PREDICTED FROM DATA THAT FAILS THE CHECKS"
         if report.within_limit is False or not report.data_ok:
-            y = band(page, y, words)
+            y = black_band(page, y, words)
         else:
             height = 0.36
             page.box(MARGIN_IN, y, WIDTH_IN, height, lw=2.2)

@@ -15,8 +15,14 @@ import numpy as np
 from placer.geometry import angle_of_deg
 from placer.plan import PlanOption
 from placer.views.numbers import angle_text, significant
-from placer.views.report.blocks import band, reading, unit_of
-from placer.views.report.layout import BODY_PT, WIDTH_IN, paragraphs, section
+from placer.views.report.blocks import reading, unit_of
+from placer.views.report.layout import (
+    BODY_PT,
+    WIDTH_IN,
+    black_band,
+    paragraphs,
+    section,
+)
 from placer.views.report.polar import (
     MARKERS,
     PolarPoint,
@@ -289,17 +295,24 @@ def plane_block(report: VisitReport, index: int) -> Block:
             if page.fig is not None:
                 ax = _axes(page, MARGIN_IN, y, DRAW_IN, height["h"])
                 drawing = draw_plane(ax, face, sense, DRAW_IN, rotation)
+                for text in ax.texts:                  # the face speaks of a job file
+                    text.set_text(_session_words(text.get_text()))
                 drawn.faces.append((index, drawing))
                 side = draw_key(page, side_x, y + 0.1, side_w, drawing)
             else:
                 side = y + 0.1 + 0.25 * 9
             side = paragraphs(page, side + 0.1, lines, BODY_PT, x=side_x, width=side_w)
             y = max(end, side) + 0.06
-            text = convention_text(sense, rotation).replace("job file", "session file")
+            text = _session_words(convention_text(sense, rotation))
             y = paragraphs(page, y, [text], 7, style="italic")
         return _work_table(page, y + 0.06, plane)
 
     return draw
+
+
+def _session_words(text: str) -> str:
+    """The fitting sheet's words about a job's file, said of a field session instead."""
+    return text.replace("job file", "session file").replace("The job ", "The session ")
 
 
 def _work_table(page: Page, y: float, plane: ReportPlane) -> float:
@@ -388,7 +401,7 @@ def residual_block(report: VisitReport, index: int) -> Block:
                           ha="center", va="center")
                 end += 0.42
             else:
-                end = band(page, end + 0.02, words)
+                end = black_band(page, end + 0.02, words)
         end = paragraphs(page, end, [f"Note: {n}." for n in result.notes], 7, x=side_x,
                          width=side_w)
         rows = [[str(k), angle_text(a), significant(x)] for k, (a, x) in

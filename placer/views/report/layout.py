@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
+from placer.views.sheet.compose import safety_box, safety_box_height
 from placer.views.sheet.typeset import (
     GREY,
     INK,
@@ -90,15 +91,37 @@ def section(page: Page, y: float, text: str, band: bool = False) -> float:
         The y below [in].
     """
     if band:
-        lines = wrap_words(text.upper(), WIDTH_IN - 0.24, 10.5, True)
-        height = 0.12 + lines_in(len(lines), 10.5, 1.1)
-        page.box(MARGIN_IN, y, WIDTH_IN, height, fill=True, fc=INK, ec=INK)
-        page.text(MARGIN_IN + 0.12, y + 0.06, "\n".join(lines), 10.5, weight="bold",
-                  color="white", linespacing=1.1)
-        return y + height + 0.1
+        return black_band(page, y, text.upper(), 10.5) + 0.04
     page.text(MARGIN_IN, y, text.upper(), 8.5, weight="bold")
     page.rule(y + 0.19, lw=0.6)
     return y + 0.26
+
+
+def black_band(page: Page, y: float, text: str, size: float = 9.0) -> float:
+    """White words on a black band across the page; returns the y below.
+
+    Parameters
+    ----------
+    page : Page
+        The page (or a dry run).
+    y : float
+        Top [in].
+    text : str
+        The words.
+    size : float
+        Font size [pt].
+
+    Returns
+    -------
+    float
+        The y below [in].
+    """
+    lines = wrap_words(text, WIDTH_IN - 0.24, size, True)
+    height = 0.12 + lines_in(len(lines), size, 1.1)
+    page.box(MARGIN_IN, y, WIDTH_IN, height, fill=True, fc=INK, ec=INK)
+    page.text(MARGIN_IN + 0.12, y + 0.06, "\n".join(lines), size, weight="bold",
+              color="white", linespacing=1.1)
+    return y + height + 0.06
 
 
 def facts_row(page: Page, y: float, facts: Sequence[tuple[str, str]]) -> float:
@@ -191,11 +214,6 @@ SIGNATURES = (("Balanced by", 0.38), ("Accepted by (customer)", 0.42), ("Date", 
 """The sign-off lines of the last page, with the share of the width each takes."""
 
 
-def _caution_lines(drilling: bool, trial_runs: bool) -> list[list[str]]:
-    return [wrap_words(c, WIDTH_IN - 0.7, BODY_PT)
-            for c in cautions_for(drilling=drilling, trial_runs=trial_runs)]
-
-
 def safety_height(drilling: bool, trial_runs: bool) -> float:
     """Height of the safety box and the sign-off lines under it [in].
 
@@ -211,12 +229,12 @@ def safety_height(drilling: bool, trial_runs: bool) -> float:
     float
         The height [in].
     """
-    box = sum(lines_in(len(w), BODY_PT) + 0.04 for w in _caution_lines(drilling, trial_runs))
-    return box + 0.30 + 0.75
+    return safety_box_height(cautions_for(drilling=drilling, trial_runs=trial_runs)) + 0.75
 
 
 def safety_and_signoff(page: Page, top: float, drilling: bool, trial_runs: bool) -> float:
-    """The cautions in a box, then the sign-off lines; returns the y below.
+    """The cautions in the fitting sheet's safety box, then the sign-off lines; returns the y
+    below.
 
     Parameters
     ----------
@@ -234,20 +252,9 @@ def safety_and_signoff(page: Page, top: float, drilling: bool, trial_runs: bool)
     float
         The y below the sign-off lines [in].
     """
-    wrapped = _caution_lines(drilling, trial_runs)
-    box_h = safety_height(drilling, trial_runs) - 0.75
-    left = MARGIN_IN
-    page.box(left, top, WIDTH_IN, box_h, lw=2.0)
-    page.box(left, top, 0.36, box_h, fill=True, fc=INK, ec=INK)
-    page.text(left + 0.18, top + box_h / 2, "!", 18, weight="bold", color="white",
-              ha="center", va="center")
-    page.text(left + 0.48, top + 0.07, "SAFETY", 8, weight="bold")
-    cy = top + 0.23
-    for lines in wrapped:
-        page.text(left + 0.48, cy, "\n".join(lines), BODY_PT, linespacing=1.3)
-        cy += lines_in(len(lines), BODY_PT) + 0.04
+    box_h = safety_box(page, top, cautions_for(drilling=drilling, trial_runs=trial_runs))
     sign_y = top + box_h + 0.55
-    sx = left
+    sx = MARGIN_IN
     for label, share in SIGNATURES:
         page.text(sx, sign_y, label, BODY_PT, va="bottom")
         page.rule(sign_y, sx + text_width_in(label, BODY_PT) + 0.1, sx + share * WIDTH_IN - 0.2,

@@ -16,7 +16,6 @@ from dataclasses import dataclass
 from typing import Any
 
 from placer.geometry import angle_of_deg
-from placer.views.numbers import significant
 from placer.views.sheet.convention import page_angle_deg, xy
 from placer.views.sheet.labels import Room
 from placer.views.sheet.typeset import GREY, INK
@@ -176,6 +175,28 @@ def _label(ax, room: Room, x: float, y: float, text: str, outer: float) -> None:
     room.take(box)
 
 
+def _start(ax, largest: float, ccw: bool, width_in: float, unit: str
+           ) -> tuple[tuple[float, ...], float, Room]:
+    """The scale rings past ``largest``, the half-width drawn and the room, frame drawn."""
+    rings = nice_rings(largest * 1.02)
+    half = rings[-1] * 1.2
+    room = Room(width_in / (2 * half))
+    _frame(ax, rings, ccw, unit, room)
+    return rings, half, room
+
+
+def _mark(ax, room: Room, where: dict[str, tuple[float, float]], kinds: dict[str, str],
+          outer: float) -> None:
+    """Each point with its marker (its line labelled "point X"), then its label beside it."""
+    for label, (x, y) in where.items():
+        ax.plot([x], [y], linestyle="none", zorder=5, label=f"point {label}",
+                **MARKERS[kinds[label]])
+        m = 0.03 * outer
+        room.take((x - m, y - m, x + m, y + m))
+    for label, (x, y) in where.items():
+        _label(ax, room, x, y, label, outer)
+
+
 def _finish(ax, half: float) -> None:
     ax.set_xlim(-half, half)
     ax.set_ylim(-half, half)
@@ -208,21 +229,13 @@ def draw_readings(ax, points: Sequence[PolarPoint], counterclockwise: bool, widt
     PolarDrawing
         Rings and where each point went.
     """
-    rings = nice_rings(max([abs(p.value) for p in points] + [1e-12]) * 1.02)
-    half = rings[-1] * 1.2
-    room = Room(width_in / (2 * half))
-    _frame(ax, rings, counterclockwise, unit, room)
+    rings, half, room = _start(ax, max([abs(p.value) for p in points] + [1e-12]),
+                               counterclockwise, width_in, unit)
     where = {p.label: point_xy(p.value, counterclockwise) for p in points}
     for start, end in effects:
         (x0, y0), (x1, y1) = where[start], where[end]
         ax.plot([x0, x1], [y0, y1], color=INK, lw=0.7, linestyle=(0, (3, 2)), zorder=3)
-    for p in points:
-        x, y = where[p.label]
-        ax.plot([x], [y], linestyle="none", zorder=5, label=f"point {p.label}", **MARKERS[p.kind])
-        m = 0.03 * rings[-1]
-        room.take((x - m, y - m, x + m, y + m))
-    for p in points:
-        _label(ax, room, *where[p.label], p.label, rings[-1])
+    _mark(ax, room, where, {p.label: p.kind for p in points}, rings[-1])
     _finish(ax, half)
     return PolarDrawing(ax, counterclockwise, rings, where)
 
@@ -263,10 +276,7 @@ def draw_construction(ax, reference: float, angles_deg: Sequence[float],
     from matplotlib.patches import Circle
 
     reach = max(reference + a for a in amplitudes)
-    rings = nice_rings(max(reach, abs(meeting)) * 1.02)
-    half = rings[-1] * 1.2
-    room = Room(width_in / (2 * half))
-    _frame(ax, rings, counterclockwise, unit, room)
+    rings, half, room = _start(ax, max(reach, abs(meeting)), counterclockwise, width_in, unit)
     ax.add_patch(Circle((0, 0), reference, fill=False, lw=1.6, ec=INK, zorder=3))
     where = {}
     for k, (angle, a) in enumerate(zip(angles_deg, amplitudes), start=1):
@@ -278,13 +288,8 @@ def draw_construction(ax, reference: float, angles_deg: Sequence[float],
     ax.annotate("", xy=where["P"], xytext=(0, 0), zorder=4,
                 arrowprops=dict(arrowstyle="-|>", color=INK, lw=1.8, shrinkA=0, shrinkB=4))
     room.line((0.0, 0.0), where["P"])
-    for label, (x, y) in where.items():
-        kind = "meeting" if label == "P" else "position"
-        ax.plot([x], [y], linestyle="none", zorder=5, label=f"point {label}", **MARKERS[kind])
-        m = 0.03 * rings[-1]
-        room.take((x - m, y - m, x + m, y + m))
-    for label, (x, y) in where.items():
-        _label(ax, room, x, y, label, rings[-1])
+    _mark(ax, room, where, {label: "meeting" if label == "P" else "position"
+                            for label in where}, rings[-1])
     _finish(ax, half)
     return PolarDrawing(ax, counterclockwise, rings, where)
 
@@ -324,25 +329,17 @@ def draw_residual(ax, angles_deg: Sequence[float], amplitudes: Sequence[float], 
     """
     from matplotlib.patches import Circle
 
-    rings = nice_rings(max(list(amplitudes) + [abs(centre) + radius]) * 1.02)
-    half = rings[-1] * 1.2
-    room = Room(width_in / (2 * half))
-    _frame(ax, rings, counterclockwise, unit, room)
+    rings, half, room = _start(ax, max(list(amplitudes) + [abs(centre) + radius]),
+                               counterclockwise, width_in, unit)
     c = point_xy(centre, counterclockwise)
     ax.add_patch(Circle(c, radius, fill=False, lw=1.0, ec=INK, linestyle=(0, (4, 2)), zorder=3))
     ax.plot([0, c[0]], [0, c[1]], color=INK, lw=1.4, zorder=4)
     room.line((0.0, 0.0), c)
     where = {str(k): xy(a, page_angle_deg(angle, counterclockwise))
              for k, (angle, a) in enumerate(zip(angles_deg, amplitudes), start=1)}
-    for label, (x, y) in where.items():
-        ax.plot([x], [y], linestyle="none", zorder=5, label=f"point {label}",
-                **MARKERS["position"])
-        m = 0.03 * rings[-1]
-        room.take((x - m, y - m, x + m, y + m))
     ax.plot([c[0]], [c[1]], linestyle="none", marker="+", ms=9, mew=1.5, color=INK, zorder=5,
             label="point c")
-    for label, (x, y) in where.items():
-        _label(ax, room, x, y, label, rings[-1])
+    _mark(ax, room, where, dict.fromkeys(where, "position"), rings[-1])
     where["c"] = c
     _finish(ax, half)
     return PolarDrawing(ax, counterclockwise, rings, where)
