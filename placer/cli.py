@@ -158,7 +158,8 @@ def _parser() -> argparse.ArgumentParser:
                        help="most parts in all planes together (overrides [solve] max_parts)")
     field.add_argument("--save", action="store_true",
                        help="store the visit (runs, readings, coefficients, plan) in the "
-                            "machine history database, after everything else succeeded")
+                            "machine history database, after everything else succeeded; "
+                            "runs stored already are not stored again")
     field.add_argument("--db", metavar="FILE",
                        help="history database (default: $PLACER_DB, else placer/history.sqlite "
                             "in the user's data folder)")
@@ -181,9 +182,11 @@ def _parser() -> argparse.ArgumentParser:
                                "when not a terminal)")
     history = sub.add_parser("history", help="show one machine's visits, or one visit",
                              description="Show a machine's stored visits: date (UTC), "
-                                         "coefficients, plan and predicted result; with "
+                                         "coefficients, what is on the rotor after each and "
+                                         "the largest reading before and after; with "
                                          "--visit N, one visit's runs, readings, "
-                                         "coefficients and plan.")
+                                         "coefficients and plan (--sheet: its report); "
+                                         "--remove N --force removes one.")
     history.add_argument("machine", metavar="MACHINE", help="machine id, as in [machine] id")
     which = history.add_mutually_exclusive_group()
     which.add_argument("--visit", type=int, metavar="N",

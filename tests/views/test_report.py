@@ -355,3 +355,30 @@ def test_a_saved_visit_reprints_in_the_database_order(tmp_path):
     connection = sqlite3.connect(db)
     assert connection.execute("SELECT COUNT(*) FROM visits").fetchone() == (1,)
     connection.close()
+
+
+def test_a_trial_weight_left_on_and_kept_is_drawn_staying_and_listed(tmp_path):
+    """A 20 g trial weight left on position 2, where the correction wants mass, and an M12
+    fitted for a check run on plane 2 (synthetic machine, tests/sessions.py): the face
+    draws what stays and what goes, and the list of what is on the rotor says where each
+    part came from."""
+    from sessions import synthetic
+
+    a, _ = synthetic(31)
+    path = write(tmp_path, session_toml(a, np.array([rect(2600, 270), rect(600, 250)]),
+                                        capacity=2, trials=((0, 20.0, 2, False),
+                                                            (1, 20.0, 1, True)),
+                                        check=[(1, 3, "M12", 1)], max_parts=3))
+    result = solve_session(read_session(path))
+    report = visit_report(visit_record(result))
+    kept = [p for p in report.on_rotor if p.origin == "trial weight left on"]
+    removed = [p for _, p in result.chosen.parts if p.action == "remove"]
+    assert [(p.plane, p.position, p.label) for p in kept] == [(0, 2, "trial 20 g")]
+    assert all(p.item != "trial 20 g" for p in removed)
+    faces = dict(f for page in pages_of(result, dpi=40) for f in page.drawn.faces)
+    assert sorted(faces[0].stay_xy) == [2]
+    # The trim takes the check run's M12 off (the plan found by the exact search, pinned
+    # here as a regression value): drawn crossed out, and no longer on the rotor.
+    assert [(p.position, p.item) for p in removed] == [(3, "M12")]
+    assert sorted(faces[1].remove_xy) == [3]
+    assert not any(p.origin == "fitted for a check run" for p in report.on_rotor)
