@@ -113,9 +113,9 @@ def _coefficient_table(result: FieldResult) -> RenderableType:
             f"{angle_text(angle_of_deg(f.meeting_point), 1)}: the trial's effect and the "
             f"correction's angle. Coefficient {significant(f.coefficient * G_PER_KG)} {unit} "
             "per kg·mm (its phase is not known).")
-    table = Table(title=f"Influence coefficients ({unit} per kg·mm; phases as angles counted "
-                        f"{s.rotor.angle_sense})", title_justify="left", box=box.SIMPLE,
-                  pad_edge=False)
+    table = Table(title=f"Influence coefficients ({unit} per kg·mm)", title_justify="left",
+                  box=box.SIMPLE, pad_edge=False, caption=f"Phases as angles counted "
+                  f"{s.rotor.angle_sense}.", caption_justify="left")
     table.add_column("Sensor", overflow="fold")
     for plane in s.planes:
         table.add_column(plane.geometry.name, justify="right", overflow="fold")
@@ -212,7 +212,7 @@ def weighted(result: FieldResult) -> bool:
 
 def _front_table(result: FieldResult) -> Table:
     s = result.session
-    table = Table(title="Trade-off: parts against the predicted largest reading",
+    table = Table(title="Trade-off: parts against the largest reading",
                   title_justify="left", box=box.SIMPLE, pad_edge=False)
     table.add_column("Parts", justify="right")
     table.add_column(f"Largest {unit_text(s.unit, s.measure)}", justify="right")
