@@ -96,8 +96,14 @@ typedef struct {
     int32_t *out;
     int pass; /* 1 count, 2 fill */
     Py_ssize_t max_rows;
-    int over;
+    int over;        /* 1 past max_rows, 2 a signal handler raised */
 } Build;
+
+/* Between rows of the enumeration: let the command's time limit (a signal) stop it. */
+static inline int build_interrupted(Build *b) {
+    if (!b->over && PyErr_CheckSignals() < 0) b->over = 2;
+    return b->over;
+}
 
 static inline int64_t cell_of(const double *x, const double *lo, double inv_h,
                               const int64_t *gn, const int64_t *stride, int G) {
@@ -141,7 +147,7 @@ static void enumerate_rows(Build *b) {
             visit_row(b, idx);
         }
     } else if (b->w == 2) {
-        for (Py_ssize_t a = 0; a < n && !b->over; a++) {
+        for (Py_ssize_t a = 0; a < n && !build_interrupted(b); a++) {
             idx[0] = (int32_t)o[a];
             int64_t pa = b->pos[idx[0]], ia = b->item[idx[0]];
             for (Py_ssize_t c = a; c < n; c++) {
@@ -154,7 +160,7 @@ static void enumerate_rows(Build *b) {
         }
     } else {
         for (Py_ssize_t a = 0; a < n && !b->over; a++)
-            for (Py_ssize_t c = a; c < n && !b->over; c++) {
+            for (Py_ssize_t c = a; c < n && !build_interrupted(b); c++) {
                 idx[0] = (int32_t)o[a]; idx[1] = (int32_t)o[c];
                 if (!tuple_ok(idx, 2, b->pos, b->item, b->cap, b->stock)) continue;
                 for (Py_ssize_t e = c; e < n; e++) {
@@ -254,6 +260,7 @@ static PyObject *k_build(PyObject *self, PyObject *args) {
     b.rows = 0;
     if (max_rows >= (Py_ssize_t)UINT32_MAX) b.max_rows = (Py_ssize_t)UINT32_MAX - 1;
     enumerate_rows(&b);
+    if (b.over == 2) goto done;
     if (b.over) { Py_INCREF(Py_None); result = Py_None; goto done; }
     rows = b.rows;
     rows_obj = PyByteArray_FromStringAndSize(NULL, (Py_ssize_t)rows * w * 4);
@@ -263,6 +270,7 @@ static PyObject *k_build(PyObject *self, PyObject *args) {
     /* Fill: count[c] runs from the start of cell c; afterwards it is the start of c + 1. */
     b.pass = 2;
     enumerate_rows(&b);
+    if (b.over == 2) goto done;
     memmove(b.count + 1, b.count, (size_t)total * 4);
     b.count[0] = 0;
     PyObject *lo = PyTuple_New(G), *gn = PyTuple_New(G);
