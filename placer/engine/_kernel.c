@@ -435,6 +435,46 @@ static void lookup(Search *s, const double *q, const double *qf, double hmass) {
         int64_t far = c[d] > s->gn[d] - 1 - c[d] ? c[d] : s->gn[d] - 1 - c[d];
         if (far > reach) reach = far;
     }
+    {
+        /* A small radius: the cells the ball's bounding box meets, directly. */
+        double limit2 = s->lightest ? s->radius_par2 : s->Upar2;
+        double radius = sqrt(limit2);
+        if (s->h > 0 && radius <= s->h) {
+            int64_t lo[MAXG], hi[MAXG], o[MAXG];
+            for (int d = 0; d < G; d++) {
+                double a = floor((p[d] - radius - s->lo[d]) / s->h);
+                double b = floor((p[d] + radius - s->lo[d]) / s->h);
+                lo[d] = a < 0 ? 0 : (a > (double)(s->gn[d] - 1) ? s->gn[d] - 1 : (int64_t)a);
+                hi[d] = b < 0 ? 0 : (b > (double)(s->gn[d] - 1) ? s->gn[d] - 1 : (int64_t)b);
+                o[d] = lo[d];
+            }
+            for (;;) {
+                double box2 = 0.0;
+                int64_t cell = 0;
+                for (int d = 0; d < G; d++) {
+                    int64_t cd = o[d];
+                    cell += cd * s->stride[d];
+                    double lo_e = cd == 0 ? -INFINITY : s->lo[d] + cd * s->h;
+                    double hi_e = cd == s->gn[d] - 1 ? INFINITY : s->lo[d] + (cd + 1) * s->h;
+                    double gap = p[d] < lo_e ? lo_e - p[d] : (p[d] > hi_e ? p[d] - hi_e : 0.0);
+                    box2 += gap * gap;
+                }
+                limit2 = s->lightest ? s->radius_par2 : s->Upar2;
+                if (s->lightest ? box2 <= limit2 : box2 < limit2) {
+                    scan_cell(s, cell, q, qf, hmass);
+                    if (s->status) return;
+                }
+                if (spend(s, 1)) return;
+                int d = G - 1;
+                while (d >= 0) {
+                    if (o[d] < hi[d]) { o[d]++; break; }
+                    o[d] = lo[d];
+                    d--;
+                }
+                if (d < 0) return;
+            }
+        }
+    }
     for (int64_t r = 0; r <= reach; r++) {
         double limit2 = s->lightest ? s->radius_par2 : s->Upar2;
         if (r >= 1) {

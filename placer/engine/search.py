@@ -251,6 +251,7 @@ class PlacementSearch:
         self.span_mag = np.ascontiguousarray(np.maximum.accumulate(span_mag[::-1])[::-1]
                                              if self.n else span_mag)
         self._tables: dict[int, tuple | None] = {}
+        self._index: dict[tuple[int, int], int] | None = None
         self._stock = self.stock
         self._work = 0
         self._work_limit = DEFAULT_WORK
@@ -493,7 +494,10 @@ class PlacementSearch:
         parts : tuple of (position, item, count)
             The parts (position and item as indices of the effects array).
         """
-        index = {(int(p), int(i)): r for r, (p, i) in enumerate(zip(self.pos_of, self.item_of))}
+        if self._index is None:
+            self._index = {(int(p), int(i)): r
+                           for r, (p, i) in enumerate(zip(self.pos_of, self.item_of))}
+        index = self._index
         return np.array([index[(p, i)] for p, i, c in parts for _ in range(c)], dtype=np.int64)
 
     def _best_with(self, k: int, t_real: np.ndarray, bound: float, stop: float = 0.0):
