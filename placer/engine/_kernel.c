@@ -219,34 +219,35 @@ static PyObject *k_build(PyObject *self, PyObject *args) {
     double rows_d = 1.0;
     for (int j = 0; j < w; j++) rows_d = rows_d * (double)(b.n + j) / (double)(j + 1);
     Py_ssize_t rows = rows_d < (double)max_rows ? (Py_ssize_t)rows_d : max_rows;
-    /* Cell size: about `occupancy` rows a cell over the bounding box. */
-    double volume = 1.0;
-    int live = 0;
+    /* Cell size: about `occupancy` rows a cell over the bounding box.  A coordinate
+     * whose extent is a rounding error of the largest is not divided. */
+    double volume = 1.0, widest = 0.0;
+    int live = 0, is_live[MAXG];
     for (int d = 0; d < G; d++) {
         if (rows == 0) { b.lo[d] = 0; b.hi[d] = 0; }
         double ext = b.hi[d] - b.lo[d];
-        if (ext > 0) { volume *= ext; live++; }
+        if (ext > widest) widest = ext;
+    }
+    for (int d = 0; d < G; d++) {
+        double ext = b.hi[d] - b.lo[d];
+        is_live[d] = ext > 1e-9 * widest && ext > 0;
+        if (is_live[d]) { volume *= ext; live++; }
     }
     double cells_wanted = rows / occupancy;
     if (cells_wanted < 1) cells_wanted = 1;
     b.h = (live > 0 && !scan) ? pow(volume / cells_wanted, 1.0 / live) : 0.0;
     int64_t total = 1;
-    for (int d = 0; d < G; d++) {
-        double ext = b.hi[d] - b.lo[d];
-        int64_t g = (b.h > 0 && ext > 0) ? (int64_t)floor(ext / b.h) + 1 : 1;
-        if (g > 1 << 20) g = 1 << 20;
-        b.gn[d] = g;
-    }
-    /* Keep the cell array within a few times the rows. */
+    /* Keep the cell array within a few times the rows (and each side within 2^20). */
     for (;;) {
         total = 1;
-        for (int d = 0; d < G; d++) total *= b.gn[d];
-        if (total <= 4 * (int64_t)rows + 64 || b.h <= 0) break;
-        b.h *= 1.25;
         for (int d = 0; d < G; d++) {
             double ext = b.hi[d] - b.lo[d];
-            b.gn[d] = (ext > 0) ? (int64_t)floor(ext / b.h) + 1 : 1;
+            double g = (b.h > 0 && is_live[d]) ? floor(ext / b.h) + 1.0 : 1.0;
+            b.gn[d] = g > (double)(1 << 20) ? (int64_t)1 << 20 : (int64_t)g;
+            total *= b.gn[d];
         }
+        if (total <= 4 * (int64_t)rows + 64 || b.h <= 0) break;
+        b.h *= 1.25;
     }
     if (b.h <= 0) for (int d = 0; d < G; d++) b.gn[d] = 1;
     total = 1;
