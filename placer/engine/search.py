@@ -114,8 +114,8 @@ def _require_kernel() -> None:
     """Raise a one-line error when the compiled search was not built."""
     if _kernel is None:
         raise PlacerError("placer's compiled search is not built",
-                            expected="placer installed with `python -m pip install .` (it "
-                            "needs a C compiler and the Python headers)")
+                          expected="placer installed with `python -m pip install .`, which "
+                          "needs a C compiler and the Python headers")
 
 
 @dataclass(frozen=True)
