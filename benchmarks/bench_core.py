@@ -379,20 +379,25 @@ def worker(source: str, key: str, count: int, warm: bool) -> None:
     print(json.dumps(dict(fronts=out, peak_mb=peak_mb)))
 
 
-def run_worker(source: str, key: str, count: int, warm: bool, timeout_s: float) -> dict | None:
+def run_json(command: list[str], cwd: str, timeout_s: float) -> dict | None:
+    """Run a worker process; its last line of output as JSON, or None past the timeout."""
     import json
     import subprocess
 
-    command = [sys.executable, str(Path(__file__).resolve()), "--worker", source, key,
-               str(count), "warm" if warm else "cold"]
     try:
         done = subprocess.run(command, capture_output=True, text=True, timeout=timeout_s,
-                              cwd=source)
+                              cwd=cwd)
     except subprocess.TimeoutExpired:
         return None
     if done.returncode != 0:
         raise RuntimeError(done.stderr)
     return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def run_worker(source: str, key: str, count: int, warm: bool, timeout_s: float) -> dict | None:
+    command = [sys.executable, str(Path(__file__).resolve()), "--worker", source, key,
+               str(count), "warm" if warm else "cold"]
+    return run_json(command, source, timeout_s)
 
 
 def same_fronts(new: dict, old: dict) -> tuple[int, int]:

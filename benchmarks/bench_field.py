@@ -30,7 +30,6 @@ from __future__ import annotations
 import argparse
 import json
 import statistics
-import subprocess
 import sys
 import time
 from pathlib import Path
@@ -89,16 +88,11 @@ def worker(source: str, fit: bool, norm: str, count: int) -> None:
 
 
 def run(source: str, fit: bool, norm: str, count: int, timeout_s: float) -> dict | None:
+    from bench_core import run_json
+
     command = [sys.executable, str(Path(__file__).resolve()), "--worker", source,
                "fit" if fit else "misfit", norm, str(count)]
-    try:
-        done = subprocess.run(command, capture_output=True, text=True, timeout=timeout_s,
-                              cwd=source)
-    except subprocess.TimeoutExpired:
-        return None
-    if done.returncode != 0:
-        raise RuntimeError(done.stderr)
-    return json.loads(done.stdout.strip().splitlines()[-1])
+    return run_json(command, source, timeout_s)
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -423,6 +423,28 @@ static void scan_cell(Search *s, int64_t cell, const double *q, const double *qf
     }
 }
 
+/* Scan cell `at` (grid indices) if its box is near enough to p; 1 to stop. */
+static int visit_cell(Search *s, const int64_t *at, const double *p, const double *q,
+                      const double *qf, double hmass) {
+    double box2 = 0.0;
+    int64_t cell = 0;
+    for (int d = 0; d < s->G; d++) {
+        int64_t cd = at[d];
+        cell += cd * s->stride[d];
+        /* Edge cells reach to infinity: rows clamped into them are inside their box. */
+        double lo_e = cd == 0 ? -INFINITY : s->lo[d] + cd * s->h;
+        double hi_e = cd == s->gn[d] - 1 ? INFINITY : s->lo[d] + (cd + 1) * s->h;
+        double gap = p[d] < lo_e ? lo_e - p[d] : (p[d] > hi_e ? p[d] - hi_e : 0.0);
+        box2 += gap * gap;
+    }
+    double limit2 = s->lightest ? s->radius_par2 : s->Upar2;
+    if (s->lightest ? box2 <= limit2 : box2 < limit2) {
+        scan_cell(s, cell, q, qf, hmass);
+        if (s->status) return 1;
+    }
+    return spend(s, 1);
+}
+
 /* Every row of the grid that could complete the head (q, qf) to something better. */
 static void lookup(Search *s, const double *q, const double *qf, double hmass) {
     int G = s->G;
@@ -450,22 +472,7 @@ static void lookup(Search *s, const double *q, const double *qf, double hmass) {
                 o[d] = lo[d];
             }
             for (;;) {
-                double box2 = 0.0;
-                int64_t cell = 0;
-                for (int d = 0; d < G; d++) {
-                    int64_t cd = o[d];
-                    cell += cd * s->stride[d];
-                    double lo_e = cd == 0 ? -INFINITY : s->lo[d] + cd * s->h;
-                    double hi_e = cd == s->gn[d] - 1 ? INFINITY : s->lo[d] + (cd + 1) * s->h;
-                    double gap = p[d] < lo_e ? lo_e - p[d] : (p[d] > hi_e ? p[d] - hi_e : 0.0);
-                    box2 += gap * gap;
-                }
-                limit2 = s->lightest ? s->radius_par2 : s->Upar2;
-                if (s->lightest ? box2 <= limit2 : box2 < limit2) {
-                    scan_cell(s, cell, q, qf, hmass);
-                    if (s->status) return;
-                }
-                if (spend(s, 1)) return;
+                if (visit_cell(s, o, p, q, qf, hmass)) return;
                 int d = G - 1;
                 while (d >= 0) {
                     if (o[d] < hi[d]) { o[d]++; break; }
@@ -502,23 +509,9 @@ static void lookup(Search *s, const double *q, const double *qf, double hmass) {
                 }
                 if (empty) continue;
                 for (;;) {
-                    /* Distance from p to the cell's box (edge cells reach to infinity). */
-                    double box2 = 0.0;
-                    int64_t cell = 0;
-                    for (int d = 0; d < G; d++) {
-                        int64_t cd = c[d] + o[d];
-                        cell += cd * s->stride[d];
-                        double lo_e = cd == 0 ? -INFINITY : s->lo[d] + cd * s->h;
-                        double hi_e = cd == s->gn[d] - 1 ? INFINITY : s->lo[d] + (cd + 1) * s->h;
-                        double gap = p[d] < lo_e ? lo_e - p[d] : (p[d] > hi_e ? p[d] - hi_e : 0.0);
-                        box2 += gap * gap;
-                    }
-                    limit2 = s->lightest ? s->radius_par2 : s->Upar2;
-                    if (s->lightest ? box2 <= limit2 : box2 < limit2) {
-                        scan_cell(s, cell, q, qf, hmass);
-                        if (s->status) return;
-                    }
-                    if (spend(s, 1)) return;
+                    int64_t at[MAXG];
+                    for (int d = 0; d < G; d++) at[d] = c[d] + o[d];
+                    if (visit_cell(s, at, p, q, qf, hmass)) return;
                     int d = G - 1;
                     while (d >= 0) {
                         if (o[d] < hi[d]) { o[d]++; break; }
