@@ -212,7 +212,7 @@ def weighted(result: FieldResult) -> bool:
 
 def _front_table(result: FieldResult) -> Table:
     s = result.session
-    table = Table(title="Trade-off: parts against the largest reading",
+    table = Table(title="Trade-off: parts and largest reading",
                   title_justify="left", box=box.SIMPLE, pad_edge=False)
     table.add_column("Parts", justify="right")
     table.add_column(f"Largest {unit_text(s.unit, s.measure)}", justify="right")
