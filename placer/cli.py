@@ -3,7 +3,10 @@
 Exit codes: 0 every plane within tolerance (or none given); 1 a plane is
 outside its tolerance (the least-residual plan is still printed); 2 bad
 input, with one line on stderr naming the file, the key and what was
-expected.
+expected; 3 stopped at the time limit; 4 (``placer field``) a plan made from
+data that fails the checks (a weak trial run, poorly separated planes, an
+amplitude-only construction whose circles do not meet): the plan is printed,
+marked as such.
 """
 
 from __future__ import annotations
@@ -32,6 +35,8 @@ from placer.limits import (
 )
 
 EXIT_OK, EXIT_OUTSIDE, EXIT_BAD_INPUT, EXIT_LIMIT = 0, 1, 2, 3
+EXIT_UNTRUSTED = 4
+"""placer field: the plan comes from data that fails the checks (before exit code 1)."""
 
 FLAGS = {
     "time_limit_s": "--time-limit", "effort": "--effort", "aim_share": "--aim-share",
@@ -46,6 +51,7 @@ FLAGS = {
     "example": "NAME", "folder": "--folder", "kind": "KIND",
 }
 """How the command line shows an argument the library names (see placer.errors)."""
+FLAGS["remove"] = "--remove"
 
 
 class _Parser(argparse.ArgumentParser):
@@ -136,7 +142,12 @@ def _parser() -> argparse.ArgumentParser:
                                   "[solve] vibration_limit, or no limit given), 1 the "
                                   "chosen plan is still predicted above vibration_limit "
                                   "(the least vibration plan is printed), 2 bad input or "
-                                  "database (one line on stderr; nothing saved).")
+                                  "database (one line on stderr; nothing saved), 3 stopped "
+                                  "at --time-limit (nothing printed or saved), 4 the plan "
+                                  "comes from data that fails the checks (a weak trial run, "
+                                  "poorly separated planes, amplitude-only runs that do not "
+                                  "agree): it is printed and marked, with what to do; 4 is "
+                                  "given before 1.")
     field.add_argument("session", metavar="SESSION", help="session file (TOML), see examples/")
     field.add_argument("--json", action="store_true", help="print one JSON object")
     _engine_options(field, DEFAULT_TIME_LIMIT_S)
@@ -147,12 +158,18 @@ def _parser() -> argparse.ArgumentParser:
                        help="most parts in all planes together (overrides [solve] max_parts)")
     field.add_argument("--save", action="store_true",
                        help="store the visit (runs, readings, coefficients, plan) in the "
-                            "machine history database, after everything else succeeded")
+                            "machine history database, after everything else succeeded; "
+                            "runs stored already are not stored again")
     field.add_argument("--db", metavar="FILE",
                        help="history database (default: $PLACER_DB, else placer/history.sqlite "
                             "in the user's data folder)")
     field.add_argument("--width", type=int, default=None, metavar="COLUMNS",
                        help=f"width of the sheet in columns (at least {MIN_WIDTH})")
+    field.add_argument("--sheet", metavar="FILE",
+                       help="also write the printable visit report: .pdf (every page), .png "
+                            "or .svg (NAME-1.png... a file per page); needs matplotlib")
+    field.add_argument("--force", action="store_true",
+                       help="let --sheet overwrite files that exist")
 
     machines = sub.add_parser("machines", help="list the machines in the history database",
                               description="List the machines stored in the history database, "
@@ -160,16 +177,33 @@ def _parser() -> argparse.ArgumentParser:
                                           "(times in UTC).")
     machines.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
     machines.add_argument("--json", action="store_true", help="print JSON")
+    machines.add_argument("--width", type=int, default=None, metavar="COLUMNS",
+                          help="width of the table in columns (default: the terminal's, 80 "
+                               "when not a terminal)")
     history = sub.add_parser("history", help="show one machine's visits, or one visit",
                              description="Show a machine's stored visits: date (UTC), "
-                                         "coefficients, plan and predicted result; with "
+                                         "coefficients, what is on the rotor after each and "
+                                         "the largest reading before and after; with "
                                          "--visit N, one visit's runs, readings, "
-                                         "coefficients and plan.")
+                                         "coefficients and plan (--sheet: its report); "
+                                         "--remove N --force removes one.")
     history.add_argument("machine", metavar="MACHINE", help="machine id, as in [machine] id")
-    history.add_argument("--visit", type=int, metavar="N",
-                         help="show visit N of this machine in full")
+    which = history.add_mutually_exclusive_group()
+    which.add_argument("--visit", type=int, metavar="N",
+                       help="show visit N of this machine in full")
+    which.add_argument("--remove", type=int, metavar="N",
+                       help="remove visit N of this machine from the database, with --force "
+                            "(without it, says what would be removed and removes nothing)")
     history.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
     history.add_argument("--json", action="store_true", help="print JSON")
+    history.add_argument("--width", type=int, default=None, metavar="COLUMNS",
+                         help="width of the tables in columns (default: the terminal's, 80 "
+                              "when not a terminal)")
+    history.add_argument("--sheet", metavar="FILE",
+                         help="with --visit N: print that visit's report again (.pdf, .png "
+                              "or .svg, as 'placer field --sheet')")
+    history.add_argument("--force", action="store_true",
+                         help="let --sheet overwrite files that exist; confirm --remove")
 
     trial = sub.add_parser("trial", help="suggest a trial mass before the first trial run",
                            description="Trial mass whose centrifugal force is 10 % of the "
@@ -498,6 +532,10 @@ def _field(args: argparse.Namespace) -> int:
         session = replace(session, norm=args.norm)
     if args.max_parts is not None:
         session = replace(session, max_parts=args.max_parts)
+    if args.sheet is not None:
+        from placer.views.report import check_report_path
+
+        check_report_path(Path(args.sheet), force=args.force)
     path = _db(args)
     with _deadline(args.time_limit, "before the plan was final; nothing is printed or saved"):
         result = solve_visit(session, path, effort=args.effort)
@@ -506,6 +544,7 @@ def _field(args: argparse.Namespace) -> int:
         # Opened before anything is printed: a file that is not a history is refused here.
         db, record = open_for_saving(result, path)
     try:
+        pages = _report_pages(result, record) if args.sheet is not None else None
         if args.json:
             from placer.io.jsonout import field_dict
 
@@ -516,6 +555,8 @@ def _field(args: argparse.Namespace) -> int:
             with console.capture() as captured:
                 render_field(result, console)
             text = captured.get()
+            if not sys.stdout.isatty():
+                text = "\n".join(line.rstrip(" ") for line in text.split("\n"))
         try:
             sys.stdout.write(text)
             sys.stdout.flush()
@@ -524,14 +565,41 @@ def _field(args: argparse.Namespace) -> int:
             import os
 
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
-        if db is not None:
-            visit_id = db.save_visit(record)
-            print(f"placer: visit {visit_id} of {session.machine_id} saved in {path}",
+        if pages is not None:
+            from placer.views.report.output import write_pages
+
+            files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
+            print(f"placer: visit report written to {', '.join(map(str, files))}",
                   file=sys.stderr)
+        if db is not None:
+            _save_once(db, record, session.machine_id, path)
     finally:
         if db is not None:
             db.close()
+    if not result.data_ok:
+        return EXIT_UNTRUSTED
     return EXIT_OUTSIDE if result.within_limit is False else EXIT_OK
+
+
+def _report_pages(result, record):
+    """The visit report's pages, drawn before anything is printed (from the record saved)."""
+    from placer.records import visit_record
+    from placer.views.report.pages import report_pages
+    from placer.visitreport import visit_report
+
+    return report_pages(visit_report(record if record is not None else visit_record(result)))
+
+
+def _save_once(db, record, machine_id: str, path: Path) -> None:
+    """Save the visit unless its runs are stored already (the same session saved twice)."""
+    same = db.same_visit(record)
+    if same is not None:
+        print(f"placer: visit {same} of {machine_id} already holds these runs (the same "
+              f"readings and masses): not saved again; to store this plan instead, remove it "
+              f"first ('placer history {machine_id} --remove {same} --force')", file=sys.stderr)
+        return
+    visit_id = db.save_visit(record)
+    print(f"placer: visit {visit_id} of {machine_id} saved in {path}", file=sys.stderr)
 
 
 def _machines(args: argparse.Namespace) -> int:
@@ -548,7 +616,7 @@ def _machines(args: argparse.Namespace) -> int:
     if args.json:
         print(json_text(machines_list(rows), indent=2))
     else:
-        render_machines(rows, str(path), _console())
+        _print_plain(render_machines, args.width, rows, str(path))
     return EXIT_OK
 
 
@@ -561,15 +629,26 @@ def _history(args: argparse.Namespace) -> int:
     if not path.exists():
         raise InputError(f"no history database at {path}", option="db",
                          expected="a database written by 'placer field --save'")
+    if args.sheet is not None:
+        if args.visit is None:
+            raise InputError("needs the visit to print", option="sheet",
+                             expected="{opt:visit} N with it")
+        from placer.views.report import check_report_path
+
+        check_report_path(Path(args.sheet), force=args.force)
     with History(path) as db:
         visits = db.visits(args.machine)
         known = [m.id for m in db.machines()]
-        if visits and args.visit is not None:
+        chosen = args.visit if args.visit is not None else args.remove
+        if visits and chosen is not None:
             ids = [v.id for v in visits]
-            if args.visit not in ids:
-                raise InputError(f"machine '{args.machine}' has no visit {args.visit}",
-                                 option="visit", expected="one of its visits: "
-                                 + ", ".join(map(str, ids)))
+            if chosen not in ids:
+                raise InputError(f"machine '{args.machine}' has no visit {chosen}",
+                                 option="visit" if args.visit is not None else "remove",
+                                 expected="one of its visits: " + ", ".join(map(str, ids)))
+            if args.remove is not None:
+                return _remove_visit(db, args, next(v for v in visits if v.id == chosen),
+                                     path)
             record = db.visit(args.visit)
     if not visits:
         import difflib
@@ -582,12 +661,42 @@ def _history(args: argparse.Namespace) -> int:
         if args.json:
             print(json_text(visit_dict(args.visit, record), indent=2))
         else:
-            render_visit(args.visit, record, _console())
+            _print_plain(render_visit, args.width, args.visit, record)
+        if args.sheet is not None:
+            from placer.views.report import write_report
+            from placer.visitreport import visit_report
+
+            files = write_report(visit_report(record), Path(args.sheet), force=args.force)
+            print(f"placer: visit report written to {', '.join(map(str, files))}",
+                  file=sys.stderr)
         return EXIT_OK
     if args.json:
         print(json_text(visits_list(visits), indent=2))
     else:
-        render_visits(args.machine, visits, _console())
+        _print_plain(render_visits, args.width, args.machine, visits)
+    return EXIT_OK
+
+
+def _print_plain(render, width: int | None, *values) -> None:
+    """Print a history view: the terminal's width on a terminal, else 80 columns trimmed."""
+    from placer.views.terminal.plain import finish
+
+    console = _plain_console(width)
+    render(*values, console)
+    finish(console)
+
+
+def _remove_visit(db, args: argparse.Namespace, visit, path: Path) -> int:
+    """Remove one visit with --force; without it, say what would go and remove nothing."""
+    from placer.records import utc_label
+
+    what = (f"visit {visit.id} of {args.machine} ({utc_label(visit.started_at)}, "
+            f"{visit.runs} runs)")
+    if not args.force:
+        raise InputError(f"{what} would be removed for good", option="remove",
+                         expected="{opt:force} with it to remove it")
+    db.remove_visit(visit.id)
+    print(f"placer: {what} removed from {path}", file=sys.stderr)
     return EXIT_OK
 
 
@@ -685,8 +794,8 @@ def main(argv: list[str] | None = None) -> int:
     -------
     int
         0 within tolerance, 1 a plane (or rotor) outside it, 2 bad input or no
-        command, 3 stopped at the time limit (nothing printed as final), 130
-        interrupted.
+        command, 3 stopped at the time limit (nothing printed as final), 4 a
+        field plan from data that fails the checks, 130 interrupted.
     """
     from placer.views.terminal.plain import ascii_safe
 

@@ -7,7 +7,11 @@ effect of a part is the vibration it adds at every sensor, A[:, plane]·m·r·e^
 so the planes are solved together, not each plane's correction rounded on
 its own.  After a check run, the parts fitted for it take room on their
 positions and may be taken off: taking one off has the opposite effect of
-fitting it.
+fitting it.  Trial weights left on their positions are parts on the rotor in
+the same way (:mod:`placer.onrotor`).  Before the plan, the data is judged
+(:mod:`placer.trialruns`); a session without a phase reference is solved by
+the four-run method (:mod:`placer.fourrun`) and then planned the same way,
+with the coefficient's magnitude alone.
 """
 
 from __future__ import annotations
@@ -19,9 +23,10 @@ import numpy as np
 from placer.engine.arrays import PlaneArrays, part_of_row, placement_arrays
 from placer.engine.search import PlacementSearch, Selection
 from placer.errors import InputError
+from placer.fieldresult import FieldOption, FieldResult
+from placer.fourrun import FourRunSolution, four_run_checks, solve_four_run
 from placer.influence import (
     Coefficients,
-    StaticCouple,
     StoredCoefficients,
     adapt_stored,
     checked_coefficients,
@@ -31,127 +36,22 @@ from placer.influence import (
 )
 from placer.job import ExistingPart
 from placer.limits import DEFAULT_EFFORT, DEFAULT_WORK
+from placer.onrotor import plan_view
 from placer.plan import FittedPart
 from placer.residual import objective_of
+from placer.residualcheck import ResidualCheckResult, check_limit_gmm, residual_check
 from placer.session import FIELD_NORMS, PlacedMass, Session
+from placer.trialruns import (
+    DataCheck,
+    TrialVerdict,
+    conditioning_check,
+    judge_runs,
+    trial_check,
+)
 
 __all__ = ["FieldOption", "FieldResult", "PlaneBlock", "field_search", "objective_of",
            "solve_session"]
-
-
-@dataclass(frozen=True)
-class FieldOption:
-    """A discrete plan and the vibration it is predicted to leave.
-
-    ``parts`` are (plane index, FittedPart) pairs; a part with action
-    "remove" is one fitted for a check run, to be taken off.  ``predicted``
-    is the vibration at each sensor once the plan is carried out [session
-    unit and measure]; ``objective`` its largest or root-sum-square value.
-
-    Parameters
-    ----------
-    part_count : int
-        Most parts allowed for this plan.
-    parts : tuple of (int, FittedPart)
-        (plane index, parts) pairs, parts to take off first.
-    predicted : complex array (n_channels,)
-        Vibration predicted at each sensor [session unit and measure].
-    objective : float
-        Its weighted largest or root-sum-square value (:func:`objective_of`)
-        [session unit and measure].
-    proven : bool
-        Whether the search proved it least for ``part_count`` parts.
-    """
-
-    part_count: int
-    parts: tuple[tuple[int, FittedPart], ...]
-    predicted: np.ndarray
-    objective: float
-    proven: bool
-
-    @property
-    def used_parts(self) -> int:
-        """Operations: parts fitted plus parts taken off."""
-        return sum(p.count for _, p in self.parts)
-
-
-@dataclass(frozen=True)
-class FieldResult:
-    """Everything a visit needs to print, store and fit.
-
-    Parameters
-    ----------
-    session : Session
-        The visit.
-    coefficients : Coefficients
-        The influence coefficients used, with their warnings.
-    coefficient_source : str
-        Where they came from: the stored visit's label, or "N trial run(s) of
-        this visit".
-    vibration_now : complex array (n_channels,)
-        The vibration the plan starts from [session unit and measure]: the
-        last check run, or the reference run (with the trial weights left on,
-        predicted).
-    basis : str
-        Which of those it is, in words.
-    correction_gmm : complex array (n_planes,)
-        The continuous least-squares correction [g·mm].
-    static_couple : StaticCouple or None
-        Its static and couple parts (two planes only).
-    front : tuple of FieldOption
-        Coupled plans, each with more parts and less predicted vibration
-        than the one before, the plan of no parts first.
-    chosen : FieldOption
-        The plan to fit.
-    rounded : FieldOption
-        Each plane's correction rounded to stock on its own, for comparison.
-    warnings : tuple of str
-        Sentences for the technician.
-    fitted : tuple of PlacedMass
-        Parts fitted for the check runs, which a plan may take off.
-    """
-
-    session: Session
-    coefficients: Coefficients
-    coefficient_source: str
-    vibration_now: np.ndarray
-    basis: str
-    correction_gmm: np.ndarray
-    static_couple: StaticCouple | None
-    front: tuple[FieldOption, ...]
-    chosen: FieldOption
-    rounded: FieldOption
-    warnings: tuple[str, ...]
-    fitted: tuple[PlacedMass, ...] = ()
-
-    def best_with_at_most(self, parts: int) -> FieldOption:
-        """The coupled plan with the least predicted vibration using at most ``parts`` parts.
-
-        Parameters
-        ----------
-        parts : int
-            Most parts (fitted plus taken off).
-
-        Returns
-        -------
-        FieldOption
-            The last plan of :attr:`front` within that many parts.
-        """
-        return [o for o in self.front if o.used_parts <= parts][-1]
-
-    @property
-    def coupled_same_parts(self) -> FieldOption:
-        """The coupled optimum with no more parts than the rounded per-plane plan."""
-        return self.best_with_at_most(self.rounded.used_parts)
-
-    @property
-    def within_limit(self) -> bool | None:
-        """Whether the chosen plan's prediction is at or below the session's limit.
-
-        Both are in the session's unit and measure.  None: no limit given.
-        """
-        limit = self.session.vibration_limit
-        return None if limit is None else self.chosen.objective <= limit
+"""FieldOption and FieldResult live in :mod:`placer.fieldresult` and are re-exported here."""
 
 
 @dataclass(frozen=True)
@@ -307,25 +207,65 @@ def _option(session: Session, selection: Selection, blocks: list[PlaneBlock],
 
 
 def _coefficients(session: Session, stored: StoredCoefficients | None
-                  ) -> tuple[Coefficients, str]:
-    names = [c.name for c in session.channels]
-    plane_names = [p.geometry.name for p in session.planes]
+                  ) -> tuple[Coefficients, str, FourRunSolution | None]:
     weights = np.array([c.weight for c in session.channels])
     if stored is not None:
         matrix, notes = adapt_stored(stored, session.unit, session.measure,
                                      session.rotor.angle_sense, session.rotor.rotation,
                                      session.rotor.service_rpm)
-        return checked_coefficients(matrix, plane_names, weights, notes), stored.label
-    during, _ = session.weights_in()
+        return checked_coefficients(matrix, weights, notes), stored.label, None
     trial_index = [i for i, r in enumerate(session.runs) if r.kind == "trial"]
-    base = session.baselines()
+    if session.amplitude_only:
+        trials = [session.runs[i].added[0] for i in trial_index]
+        solution = solve_four_run(abs(session.runs[0].readings[0]),
+                                  [m.angle_deg for m in trials],
+                                  [abs(session.runs[i].readings[0]) for i in trial_index],
+                                  trials[0].mass_g * trials[0].radius_mm)
+        return (checked_coefficients(np.array([[solution.coefficient]], dtype=complex)),
+                (f"{len(trial_index)} trial runs of this visit, amplitudes only (four-run "
+                 "method)"), solution)
+    during, _ = session.weights_in()
     readings = np.array([session.runs[i].readings for i in trial_index])
-    baselines = np.array([session.runs[base[i]].readings for i in trial_index])
     coefficients = coefficients_from_runs(
-        session.runs[0].readings, readings, during[trial_index], names, plane_names,
-        channel_weights=weights, baselines=baselines,
-        baseline_names=[session.runs[base[i]].name for i in trial_index])
-    return coefficients, f"{len(trial_index)} trial run(s) of this visit"
+        session.runs[0].readings, readings, during[trial_index],
+        [c.name for c in session.channels], [p.geometry.name for p in session.planes],
+        channel_weights=weights)
+    return coefficients, f"{len(trial_index)} trial run(s) of this visit", None
+
+
+def _data_checks(session: Session, coefficients: Coefficients, stored: bool,
+                 four_run: FourRunSolution | None
+                 ) -> tuple[tuple[TrialVerdict, ...], tuple[DataCheck, ...]]:
+    """The verdict on the data before the plan: trial runs, plane separation, construction."""
+    if four_run is not None:
+        return (), four_run_checks(four_run, session.channels[0].name)
+    verdicts = () if stored else judge_runs(
+        session.runs, len(session.planes), [c.name for c in session.channels],
+        session.rotor.mass_kg, session.rotor.service_rpm)
+    checks = [trial_check(v) for v in verdicts]
+    if len(session.planes) > 1:
+        checks.append(conditioning_check(coefficients.condition,
+                                         [p.geometry.name for p in session.planes]))
+    return verdicts, tuple(checks)
+
+
+def _residual_checks(session: Session) -> tuple[ResidualCheckResult, ...]:
+    """Each residual-unbalance check with its plane's limit."""
+    from placer.tolerance import allocate_to_planes, permissible_residual_gmm
+
+    rotor = session.rotor
+    u_per = None
+    if None not in (rotor.grade_mm_s, rotor.mass_kg, rotor.service_rpm):
+        u_per = permissible_residual_gmm(rotor.grade_mm_s, rotor.mass_kg, rotor.service_rpm)
+    names = [p.geometry.name for p in session.planes]
+    distances = rotor.com_distances_mm if len(names) == 2 else None
+    shares = [s.share for s in allocate_to_planes(1.0, [f"{i}" for i in range(len(names))],
+                                                  distances)]
+    out = []
+    for check in session.residual_checks:
+        limit, source = check_limit_gmm(check, shares[check.plane], u_per, rotor.service_rpm)
+        out.append(residual_check(check, limit, source))
+    return tuple(out)
 
 
 def solve_session(session: Session, stored: StoredCoefficients | None = None,
@@ -348,8 +288,8 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     Returns
     -------
     FieldResult
-        Coefficients, correction, coupled front, chosen and rounded plans,
-        warnings.
+        Coefficients, the checks of the data, correction, coupled front,
+        chosen and rounded plans, warnings, residual checks.
 
     Raises
     ------
@@ -360,17 +300,24 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
 
     References
     ----------
-    Correction W = -(Aᴴ D A)⁻¹ Aᴴ D V (:func:`placer.influence.least_squares_correction`).
+    Correction W = -(Aᴴ D A)⁻¹ Aᴴ D V (:func:`placer.influence.least_squares_correction`);
+    without a phase reference [FourRun] (:mod:`placer.fourrun`).
     """
     _, state = session.weights_in()
     try:
-        coefficients, source = _coefficients(session, stored)
+        coefficients, source, four_run = _coefficients(session, stored)
     except InputError as exc:
         raise type(exc)(exc.detail, file=session.source, key=exc.key,
                         expected=exc.expected) from None
+    except ValueError as exc:
+        raise InputError(str(exc), file=session.source, key="runs",
+                         expected="the readings of the four-run method") from None
     matrix = coefficients.matrix
     checks = [r for r in session.runs if r.kind == "check"]
-    if checks:
+    if four_run is not None:
+        now = np.array([-four_run.coefficient * four_run.correction_gmm])
+        basis = "reference run"
+    elif checks:
         now, basis = checks[-1].readings, f"check run '{checks[-1].name}' (trim plan)"
     else:
         now = session.runs[0].readings + matrix @ state
@@ -380,11 +327,11 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     sc = None
     if len(session.planes) == 2:
         sc = static_couple(correction[0], correction[1], session.plane_separation_mm)
-    fitted = session.fitted_parts() if checks else ()
-    search, blocks = field_search(session, matrix, fitted)
+    planned, fitted, fixed = plan_view(session)
+    search, blocks = field_search(planned, matrix, fitted)
     front = search.front(np.sqrt(weights) * now, work=int(DEFAULT_WORK * effort))
-    options = [_option(session, e, blocks, matrix, now) for e in front.entries]
-    rounded = _rounded_plan(session, correction, matrix, now, fitted, effort)
+    options = [_option(planned, e, blocks, matrix, now) for e in front.entries]
+    rounded = _rounded_plan(planned, correction, matrix, now, fitted, effort)
     # The rounded plan is a coupled plan too: where the search ran out of time it may be
     # the better one found.  A count proven by the search is never beaten by it.
     options = [replace(rounded, part_count=o.part_count, proven=False)
@@ -401,11 +348,19 @@ def solve_session(session: Session, stored: StoredCoefficients | None = None,
     if sc is not None and sc.couple_negligible:
         warnings.append("the couple part is negligible (under 10 % of the static part, "
                         "placer's own rule): one plane would do")
+    for m in fixed:
+        warnings.append(f"the trial weight of {m.mass_g:g} g at {m.angle_deg:g}° on "
+                        f"{session.planes[m.plane].geometry.name} sits on no position: it "
+                        "stays on, outside the plan; take it off and take a new reference "
+                        "run if it should go")
     chosen = options[-1]
     if session.vibration_limit is not None:
-        chosen = next((o for o in tidy if o.objective <= session.vibration_limit), options[-1])
+        chosen = next((o for o in tidy if o.largest <= session.vibration_limit), options[-1])
+    verdicts, data_checks = _data_checks(session, coefficients, stored is not None, four_run)
     return FieldResult(session, coefficients, source, now, basis, correction, sc,
-                       tuple(tidy), chosen, rounded, tuple(warnings), fitted)
+                       tuple(tidy), chosen, rounded, tuple(warnings), fitted,
+                       verdicts=verdicts, checks=data_checks, fixed=fixed, four_run=four_run,
+                       residual_checks=_residual_checks(session))
 
 
 def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
@@ -415,8 +370,8 @@ def _rounded_plan(session: Session, correction: np.ndarray, matrix: np.ndarray,
 
     Each plane gets an equal share of max_parts (at least one) and its own
     least-residual plan [g·mm] for its own correction, with the same room on
-    its positions and the same fitted parts to take off as the coupled plan;
-    the planes are not coupled.
+    its positions and the same parts on the rotor to take off as the coupled
+    plan; the planes are not coupled.
     """
     share = max(1, session.max_parts // len(session.planes))
     parts = []

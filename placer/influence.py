@@ -24,18 +24,6 @@ import numpy as np
 
 from placer.errors import CoefficientMismatch, InputError
 
-TRUST_AMPLITUDE_CHANGE = 0.30
-"""A trial run is trusted when it changes an amplitude by at least 30 % ...
-
-([TrialRunRule]: common practice; 20-25 % is also used)."""
-TRUST_PHASE_CHANGE_DEG = 30.0
-"""... or a phase by at least 30° (common practice, as above)."""
-ILL_CONDITIONED = 10.0
-"""Condition number of the coefficient matrix above which placer warns.
-
-placer's own threshold: beyond it the planes separate poorly and the
-correction magnifies reading errors roughly by that factor (condition-number
-error bound of linear least squares; [GolubVanLoan], ch. 5; from memory)."""
 TRIAL_FORCE_SHARE = 0.10
 """Trial weight sized so its centrifugal force is 10 % of the rotor weight.
 
@@ -57,18 +45,20 @@ class Coefficients:
 
     ``matrix`` is channels × planes [reading unit and measure per g·mm];
     ``condition`` is the 2-norm condition number of the matrix with each row
-    scaled by the square root of its channel's weight (the matrix the
-    weighted least-squares correction solves with, see
-    :func:`condition_number`); ``warnings`` are sentences for the user.
+    scaled by the square root of its channel's weight and each column then
+    scaled to unit length (:func:`condition_number`); ``warnings`` are notes
+    for the user (a speed that could not be checked).  Whether the data can
+    be trusted is judged in :mod:`placer.trialruns`.
 
     Parameters
     ----------
     matrix : complex array (n_channels, n_planes)
         The influence coefficients A [reading unit and measure per g·mm].
     condition : float
-        Condition number of the weighted matrix [1]; infinite for an empty one.
+        Condition number of the weighted matrix, columns scaled to unit length
+        [1]; infinite for an empty one.
     warnings : tuple of str
-        Sentences for the user (untrusted trial runs, ill-conditioning).
+        Notes for the user.
     """
 
     matrix: np.ndarray
@@ -77,7 +67,15 @@ class Coefficients:
 
 
 def condition_number(matrix: np.ndarray, channel_weights: np.ndarray | None = None) -> float:
-    """2-norm condition number of D^½·A, D the channel weights (1 when None).
+    """2-norm condition number of D^½·A·S: rows weighted, columns scaled to unit length.
+
+    D holds the channel weights (1 when None) and S scales each column of
+    D^½·A to unit length.  Scaling a plane's column by any factor (its
+    radius, when coefficients are stated per gram at the plane's radius
+    rather than per g·mm; a unit) leaves the number unchanged, so it
+    measures how well the planes separate, not how the planes happen to be
+    dimensioned.  Column scaling is within a factor √n of the best diagonal
+    scaling of the columns.
 
     Parameters
     ----------
@@ -89,25 +87,29 @@ def condition_number(matrix: np.ndarray, channel_weights: np.ndarray | None = No
     Returns
     -------
     float
-        The condition number [1]; infinite for an empty matrix.
+        The condition number [1]; 1 for a single plane that moves a reading;
+        infinite for an empty matrix or a plane that moves no reading.
 
     References
     ----------
-    Condition number of a least-squares problem (Golub and Van Loan, Matrix
-    Computations, ch. 5; from memory); computed by numpy.linalg.cond.
+    Condition number of a least-squares problem [GolubVanLoan]; column
+    equilibration [vanderSluis1969]; computed by numpy.linalg.cond.
     """
     if matrix.size == 0:
         return math.inf
     if channel_weights is None:
         channel_weights = np.ones(matrix.shape[0])
     root = np.sqrt(np.asarray(channel_weights, dtype=float))
-    return float(np.linalg.cond(root[:, None] * matrix))
+    weighted = root[:, None] * np.asarray(matrix, dtype=complex)
+    norms = np.linalg.norm(weighted, axis=0)
+    if not np.all(norms > 0):
+        return math.inf
+    return float(np.linalg.cond(weighted / norms[None, :]))
 
 
-def checked_coefficients(matrix: np.ndarray, plane_names: list[str],
-                         channel_weights: np.ndarray | None = None,
+def checked_coefficients(matrix: np.ndarray, channel_weights: np.ndarray | None = None,
                          warnings: tuple[str, ...] | list[str] = ()) -> Coefficients:
-    """Coefficients with their condition number and the ill-conditioning warning.
+    """Coefficients with their condition number (:func:`condition_number`) and notes.
 
     Used for coefficients from this visit's trial runs and for stored ones alike.
 
@@ -115,39 +117,23 @@ def checked_coefficients(matrix: np.ndarray, plane_names: list[str],
     ----------
     matrix : complex array (n_channels, n_planes)
         The influence coefficients A [reading unit and measure per g·mm].
-    plane_names : list of str
-        The planes' names, for the warning.
     channel_weights : float array (n_channels,) or None
         The channels' weights; None for 1 each.
     warnings : tuple or list of str
-        Warnings found so far; the ill-conditioning warning is added after them.
+        Notes found so far.
 
     Returns
     -------
     Coefficients
-        The matrix, its condition number and the warnings.
-
-    References
-    ----------
-    Condition number of a least-squares problem [GolubVanLoan]; the
-    threshold :data:`ILL_CONDITIONED` is placer's own.
+        The matrix, its condition number and the notes.
     """
-    condition = condition_number(matrix, channel_weights)
-    out = list(warnings)
-    if condition > ILL_CONDITIONED:
-        out.append(f"the coefficients are ill-conditioned (condition number "
-                   f"{condition:.1f} > {ILL_CONDITIONED:g}): the planes "
-                   f"{' and '.join(plane_names)} separate poorly, so the correction is "
-                   "sensitive to reading errors")
-    return Coefficients(matrix, condition, tuple(out))
+    return Coefficients(matrix, condition_number(matrix, channel_weights), tuple(warnings))
 
 
 def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
                            weights_gmm: np.ndarray, channel_names: list[str],
                            plane_names: list[str],
-                           channel_weights: np.ndarray | None = None,
-                           baselines: np.ndarray | None = None,
-                           baseline_names: list[str] | None = None) -> Coefficients:
+                           channel_weights: np.ndarray | None = None) -> Coefficients:
     """Influence coefficients from a reference run and trial runs.
 
     Parameters
@@ -160,14 +146,9 @@ def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
         Trial weights present in each run [g·mm], counted in the rotor's
         angle sense (cumulative when a weight was left on).
     channel_names, plane_names : list of str
-        For the warnings.
+        The sensors and planes (kept for the messages of callers).
     channel_weights : float (channels,), optional
         Weights of the channels in the fit (for the condition number).
-    baselines : complex (runs, channels), optional
-        For each trial run, the readings of the run whose weights it adds to
-        (default: the reference run), for the trial-run warning.
-    baseline_names : list of str, optional
-        Names of those runs, for the warning.
 
     Returns
     -------
@@ -193,61 +174,7 @@ def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
         raise InputError(f"the trial runs move only {rank} of {n_planes} planes independently; "
                          "each plane needs a trial run of its own", key="runs")
     solution, *_ = np.linalg.lstsq(weights_gmm, delta, rcond=None)
-    matrix = solution.T
-    if baselines is None:
-        baselines = np.repeat(reference[None, :], n_runs, axis=0)
-    warnings = trial_run_warnings(baselines, readings, channel_names, baseline_names)
-    return checked_coefficients(matrix, plane_names, channel_weights, warnings)
-
-
-def trial_run_warnings(baselines: np.ndarray, readings: np.ndarray,
-                       channel_names: list[str],
-                       baseline_names: list[str] | None = None) -> list[str]:
-    """A warning for each trial run that changed no channel enough to trust it.
-
-    Parameters
-    ----------
-    baselines : complex (channels,) or (runs, channels)
-        The readings each trial run is compared with: those of the run whose
-        weights it adds to (the reference run, or an earlier trial run whose
-        weight was left on).  One row serves every run.
-    readings : complex (runs, channels)
-        The trial runs' readings.
-    channel_names : list of str
-        Sensor names (kept for the signature's symmetry with the fit).
-    baseline_names : list of str, optional
-        Name of each run's baseline run, for the message.
-
-    Returns
-    -------
-    list of str
-        One sentence per untrusted trial run (runs counted from 1).
-
-    References
-    ----------
-    30 % in amplitude or 30° in phase: [TrialRunRule], common practice (20-25 %
-    is also used).
-    """
-    baselines = np.asarray(baselines)
-    if baselines.ndim == 1:
-        baselines = np.repeat(baselines[None, :], len(readings), axis=0)
-    warnings = []
-    for r, (base, run) in enumerate(zip(baselines, readings), start=1):
-        trusted = False
-        for v0, v1 in zip(base, run):
-            a0, a1 = abs(v0), abs(v1)
-            amplitude = abs(a1 - a0) / a0 if a0 > 0 else math.inf
-            phase = abs((math.degrees(np.angle(v1) - np.angle(v0)) + 180.0) % 360.0 - 180.0)
-            if amplitude >= TRUST_AMPLITUDE_CHANGE or (phase >= TRUST_PHASE_CHANGE_DEG
-                                                        and a0 > 0 and a1 > 0):
-                trusted = True
-        if not trusted:
-            against = (f" from run '{baseline_names[r - 1]}', whose weights it adds to"
-                       if baseline_names else "")
-            warnings.append(f"trial run {r} changed no reading by 30 % in amplitude or 30° in "
-                            f"phase{against} (common practice): use a heavier trial weight or "
-                            "check the readings")
-    return warnings
+    return checked_coefficients(solution.T, channel_weights)
 
 
 def least_squares_correction(matrix: np.ndarray, vibration: np.ndarray,

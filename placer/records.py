@@ -9,13 +9,17 @@ from __future__ import annotations
 import json
 import math
 from collections.abc import Callable, Sequence
+import dataclasses
 from dataclasses import dataclass, fields
 from datetime import datetime, timezone
+from typing import Any
 
 import numpy as np
 
 from placer.errors import HistoryError
-from placer.fieldplan import FieldResult
+from placer.fieldresult import FieldResult
+from placer.geometry import PlaneGeometry
+from placer.residual import objective_of
 
 MASS_ROLES = ("trial", "fitted", "planned")
 """What a stored mass was: a trial weight, a part fitted for a run, or planned."""
@@ -101,7 +105,12 @@ class VisitRecord:
     ``service_rpm`` the speed of the runs [r/min] and ``rotation`` the sense
     of rotation ("clockwise", "counterclockwise"), None when not known.
     Phasors and coefficients are in ``unit`` and ``measure``.  Equality
-    compares the coefficient arrays element by element.
+    compares the coefficient arrays element by element.  What a visit report
+    needs beyond the runs and the plan (schema version 3): the sensors'
+    weights, each plane's positions and catalogue, and ``setup`` (the rotor's
+    name, mass and grade, the plane separation, norm, limit and part limit,
+    the residual checks as entered); None (or empty) for a visit stored
+    before.
 
     Parameters
     ----------
@@ -141,6 +150,15 @@ class VisitRecord:
         Speed of the runs [r/min].
     rotation : str or None
         Sense of rotation.
+    channel_weights : tuple of float or None
+        Each sensor's weight in the fit; None when not stored.
+    plane_geometries : tuple of (PlaneGeometry or None) or None
+        Each plane's positions; None when not stored.
+    catalog_names : tuple of (str or None) or None
+        Each plane's catalogue name; None when not stored.
+    setup : dict
+        JSON-serialisable: the rotor and the session's settings (see above);
+        empty when not stored.
     """
 
     machine_id: str
@@ -161,12 +179,20 @@ class VisitRecord:
     result: dict
     service_rpm: float | None = None
     rotation: str | None = None
+    channel_weights: tuple[float, ...] | None = None
+    plane_geometries: tuple[PlaneGeometry | None, ...] | None = None
+    catalog_names: tuple[str | None, ...] | None = None
+    setup: dict = dataclasses.field(default_factory=dict)
 
     def __post_init__(self) -> None:
         if self.coefficients is not None:
             matrix = np.array(self.coefficients, dtype=complex)
             matrix.setflags(write=False)
             object.__setattr__(self, "coefficients", matrix)
+        for name in ("plane_geometries", "catalog_names"):
+            value = getattr(self, name)
+            if value is not None and all(v is None for v in value):
+                object.__setattr__(self, name, None)
 
     def __eq__(self, other: object) -> bool:
         if not isinstance(other, VisitRecord):
@@ -226,6 +252,9 @@ class VisitSummary:
         The plan chosen.
     result : dict
         The stored summary of the outcome.
+    kept : tuple of MassRecord
+        Masses fitted for the runs that stayed on (trial weights left on,
+        check-run parts), for what is on the rotor after the visit.
     """
 
     id: int
@@ -235,6 +264,7 @@ class VisitSummary:
     runs: int
     planned: tuple[MassRecord, ...]
     result: dict
+    kept: tuple[MassRecord, ...] = ()
 
 
 def utc_label(started_at: str) -> str:
@@ -304,15 +334,24 @@ def check_record(record: VisitRecord) -> None:
                       f"has shape {record.coefficients.shape}")
         if not np.all(np.isfinite(record.coefficients)):
             raise bad("coefficients", "finite numbers", "holds NaN or infinity")
+    if record.channel_weights is not None and (
+            len(record.channel_weights) != n_channels
+            or not all(math.isfinite(w) and w > 0 for w in record.channel_weights)):
+        raise bad("channel_weights", f"{n_channels} weights above zero, one per channel")
+    for name in ("plane_geometries", "catalog_names"):
+        value = getattr(record, name)
+        if value is not None and len(value) != n_planes:
+            raise bad(name, f"{n_planes} entries, one per plane", f"has {len(value)}")
     if record.service_rpm is not None and not (math.isfinite(record.service_rpm)
                                                and record.service_rpm > 0):
         raise bad("service_rpm", "a speed above zero or None", f"is {record.service_rpm!r}")
     if record.condition is not None and math.isnan(record.condition):
         raise bad("condition", "a number or None", "is NaN")
-    try:
-        json.dumps(record.result)
-    except (TypeError, ValueError) as exc:
-        raise bad("result", "a JSON-serialisable dict", str(exc)) from None
+    for name in ("result", "setup"):
+        try:
+            json.dumps(getattr(record, name), allow_nan=False)
+        except (TypeError, ValueError) as exc:
+            raise bad(name, "a JSON-serialisable dict of finite numbers", str(exc)) from None
 
 
 def _check_masses(masses: Sequence[MassRecord], n_planes: int, key: str,
@@ -333,7 +372,12 @@ def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRec
     The visit's time is the session's ``[visit] date`` if given, else
     ``started_at``, else now (UTC).  Readings and coefficients are kept in the
     session's unit and measure, with its angle sense, sense of rotation and
-    speed, so that a later visit can convert them or refuse them.
+    speed, so that a later visit can convert them or refuse them; with the
+    sensors' weights, the planes' positions and the session's settings, so
+    that the visit report can be printed again from the record alone.  The
+    result's vibration figures are physical amplitudes (the largest reading
+    before and after); the weighted objective the plan minimised is kept
+    beside them, labelled.
 
     Parameters
     ----------
@@ -361,6 +405,14 @@ def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRec
                                count=-part.count if part.action == "remove" else part.count,
                                role="planned", removed_after=False)
                     for p, part in result.chosen.parts)
+    weights = np.array([c.weight for c in s.channels])
+    before = float(np.max(np.abs(result.vibration_now)))
+    rotor = s.rotor
+    setup: dict[str, Any] = {
+        "rotor_name": rotor.name, "mass_kg": rotor.mass_kg, "grade_mm_s": rotor.grade_mm_s,
+        "plane_separation_mm": s.plane_separation_mm, "norm": s.norm,
+        "vibration_limit": s.vibration_limit, "max_parts": s.max_parts,
+        "residual_checks": [residual_check_setup(r) for r in result.residual_checks]}
     return VisitRecord(
         machine_id=s.machine_id, machine_name=s.machine_name,
         started_at=s.visit_date or started_at
@@ -371,12 +423,43 @@ def visit_record(result: FieldResult, started_at: str | None = None) -> VisitRec
         coefficients=result.coefficients.matrix, condition=result.coefficients.condition,
         coefficient_source=result.coefficient_source, planned=planned,
         result={"basis": result.basis, "norm": s.norm,
-                "vibration_before": float(max(abs(v) for v in result.vibration_now))
-                if s.norm == "max" else float(sum(abs(v) ** 2 for v in result.vibration_now)
-                                              ** 0.5),
-                "vibration_after": result.chosen.objective,
+                "vibration_before": before, "vibration_after": result.chosen.largest,
+                "figures": "largest reading",
+                "objective_before": objective_of(result.vibration_now, weights, s.norm),
+                "objective_after": result.chosen.objective,
                 "correction_gmm": [[float(w.real), float(w.imag)] for w in result.correction_gmm],
                 "vibration_limit": s.vibration_limit,
                 "within_limit": result.within_limit,
+                "data_ok": result.data_ok,
+                "checks": [{"subject": c.subject, "passed": c.passed, "finding": c.finding,
+                            "action": c.action} for c in result.checks],
+                "residual_checks": [{"plane": r.check.plane, "residual_gmm": r.residual_gmm,
+                                     "limit_gmm": r.limit_gmm, "within": r.within}
+                                    for r in result.residual_checks],
                 "warnings": list(result.warnings)},
-        service_rpm=s.rotor.service_rpm, rotation=s.rotor.rotation)
+        service_rpm=s.rotor.service_rpm, rotation=s.rotor.rotation,
+        channel_weights=tuple(float(c.weight) for c in s.channels),
+        plane_geometries=tuple(p.geometry for p in s.planes),
+        catalog_names=tuple(p.catalog.name for p in s.planes), setup=setup)
+
+
+def residual_check_setup(result: Any) -> dict[str, Any]:
+    """A residual check as the record keeps it: the check as entered and its limit.
+
+    Parameters
+    ----------
+    result : ResidualCheckResult
+        The check's result (:mod:`placer.residualcheck`).
+
+    Returns
+    -------
+    dict
+        plane, sensor (indices from 0), mass_g, radius_mm, angles_deg,
+        amplitudes, journal_load_kg, limit_gmm (as entered), and the limit
+        judged against with its source.
+    """
+    c = result.check
+    return {"plane": c.plane, "sensor": c.sensor, "mass_g": c.mass_g, "radius_mm": c.radius_mm,
+            "angles_deg": list(c.angles_deg), "amplitudes": list(c.amplitudes),
+            "journal_load_kg": c.journal_load_kg, "limit_gmm": c.limit_gmm,
+            "judged_limit_gmm": result.limit_gmm, "limit_source": result.limit_source}

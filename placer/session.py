@@ -12,6 +12,7 @@ from placer.errors import InputError
 from placer.geometry import PlaneGeometry, polar
 from placer.job import Rotor
 from placer.limits import MAX_PARTS_LIMIT
+from placer.residualcheck import ResidualCheck
 
 RUN_KINDS = ("reference", "trial", "check")
 FIELD_NORMS = {"max": "max", "rms": "euclidean"}
@@ -142,8 +143,10 @@ class Session:
         :data:`placer.readings.AMPLITUDE_UNITS`).
     measure : str
         Amplitude measure: "peak", "peak-to-peak" or "rms".
-    phase_sense : {"lag", "lead"}
-        How the instrument counted the phase.
+    phase_sense : {"lag", "lead", "none"}
+        How the instrument counted the phase; "none" for a meter without a
+        phase reference (amplitudes only: the four-run method,
+        :mod:`placer.fourrun`).
     channels : tuple of Channel
         The sensors, in the order of every run's readings.
     planes : tuple of FieldPlane
@@ -166,6 +169,9 @@ class Session:
     visit_date : str or None
         Date (or UTC date and time) of the visit, ISO 8601; None for when
         placer is run.
+    residual_checks : tuple of ResidualCheck
+        Residual-unbalance checks taken after balancing
+        (:mod:`placer.residualcheck`).
     """
 
     machine_id: str
@@ -184,6 +190,7 @@ class Session:
     source: str
     vibration_limit: float | None = None
     visit_date: str | None = None
+    residual_checks: tuple[ResidualCheck, ...] = ()
 
     def __post_init__(self) -> None:
         validate.one_of(self.norm, "solve.norm", FIELD_NORMS)
@@ -200,24 +207,22 @@ class Session:
                 raise InputError(f"run '{run.name}' has {len(run.readings)} readings for "
                                  f"{len(self.channels)} sensors", key="runs",
                                  expected="one reading per sensor")
+        for check in self.residual_checks:
+            validate.whole(check.plane, "residual_checks.plane", 0, len(self.planes) - 1)
+            validate.whole(check.sensor, "residual_checks.sensor", 0, len(self.channels) - 1)
+
+    @property
+    def amplitude_only(self) -> bool:
+        """True when the readings have no phase (the four-run method)."""
+        return self.phase_sense == "none"
 
     def baselines(self) -> list[int]:
         """For each run, the index of the run whose weights it adds to (-1 for the first).
 
-        A trial run adds its weights to what was on the rotor before it: the
-        reference run's state, or an earlier run's whose weights were left on.
-        That run is the latest one before it with the same masses on the
-        rotor as were carried into it.
+        See :func:`carried_baselines`.
         """
         during, _ = self.weights_in()
-        state = np.zeros(len(self.planes), dtype=complex)
-        out = []
-        for i, run in enumerate(self.runs):
-            match = [k for k in range(i) if np.allclose(during[k], state, rtol=0, atol=1e-9)]
-            out.append(match[-1] if match else -1)
-            if not run.removed_after:
-                state = during[i]
-        return out
+        return carried_baselines(during, [run.removed_after for run in self.runs])
 
     def fitted_parts(self) -> tuple[PlacedMass, ...]:
         """Parts fitted for the check runs and still on the rotor, one per (plane, position, item).
@@ -245,13 +250,68 @@ class Session:
         Masses added for a run stay on unless the run says they were removed
         after it (trial weights usually are; a check run's fitted parts stay).
         """
-        state = np.zeros(len(self.planes), dtype=complex)
-        during = []
+        added = []
         for run in self.runs:
-            now = state.copy()
+            gmm = np.zeros(len(self.planes), dtype=complex)
             for mass in run.added:
-                now[mass.plane] += mass.gmm
-            during.append(now)
-            if not run.removed_after:
-                state = now
-        return np.array(during).reshape(len(self.runs), len(self.planes)), state
+                gmm[mass.plane] += mass.gmm
+            added.append(gmm)
+        return carried_masses(added, [run.removed_after for run in self.runs], len(self.planes))
+
+
+def carried_masses(added_gmm: list[np.ndarray], removed_after: list[bool],
+                   n_planes: int) -> tuple[np.ndarray, np.ndarray]:
+    """Masses on the rotor during each run, and after the last [g·mm per plane].
+
+    Parameters
+    ----------
+    added_gmm : list of complex array (n_planes,)
+        Masses added for each run [g·mm per plane].
+    removed_after : list of bool
+        Per run, whether they came off after it.
+    n_planes : int
+        Planes of the rotor.
+
+    Returns
+    -------
+    (complex array (n_runs, n_planes), complex array (n_planes,))
+        During each run, and after the last [g·mm].
+    """
+    state = np.zeros(n_planes, dtype=complex)
+    during = []
+    for added, removed in zip(added_gmm, removed_after):
+        now = state + added
+        during.append(now)
+        if not removed:
+            state = now
+    return np.array(during, dtype=complex).reshape(len(during), n_planes), state
+
+
+def carried_baselines(during_gmm: np.ndarray, removed_after: list[bool]) -> list[int]:
+    """For each run, the index of the run whose weights it adds to (-1 for the first).
+
+    A trial run adds its weights to what was on the rotor before it: the
+    reference run's state, or an earlier run's whose weights were left on.
+    That run is the latest one before it with the same masses on the rotor
+    as were carried into it.
+
+    Parameters
+    ----------
+    during_gmm : complex array (n_runs, n_planes)
+        Masses on the rotor during each run [g·mm per plane].
+    removed_after : list of bool
+        Per run, whether its added masses came off after it.
+
+    Returns
+    -------
+    list of int
+        The index of each run's baseline run, -1 when there is none.
+    """
+    state = np.zeros(during_gmm.shape[1], dtype=complex)
+    out = []
+    for i, removed in enumerate(removed_after):
+        match = [k for k in range(i) if np.allclose(during_gmm[k], state, rtol=0, atol=1e-9)]
+        out.append(match[-1] if match else -1)
+        if not removed:
+            state = during_gmm[i]
+    return out

@@ -21,8 +21,9 @@ from pathlib import Path
 
 import numpy as np
 
-from placer.geometry import polar
+from placer.geometry import PlaneGeometry, equally_spaced_deg, polar
 from placer.io.history import History
+from placer.io.historyschema import SCHEMA_V1
 from placer.records import MassRecord, RunRecord, VisitRecord
 
 
@@ -109,11 +110,51 @@ def make_visit(machine_id: str = "WM-EF-07",
                MassRecord(n_planes - 1, 2, 45.0, 212.5, 2.5, "WB-2.5", 3, "planned", False))
     result = {"vibration_before": 7.31, "vibration_after": 0.42, "within_limit": True,
               "warnings": ["trial run 2 changed outboard H by 24 %"], "limit": None}
+    names = tuple(f"plane {k + 1}" for k in range(n_planes))
+    geometries = tuple(PlaneGeometry(name, equally_spaced_deg(8), (212.5,) * 8,
+                                     frozenset({3}) if k else frozenset(), 2)
+                       for k, name in enumerate(names))
+    setup = {"rotor_name": "exhaust fan 7 impeller", "norm": "max", "vibration_limit": 1.5,
+             "plane_separation_mm": 380.0, "residual_checks": []}
     return VisitRecord(machine_id, machine_name, started_at, "wrenmoor-ef07.toml", "mm/s",
-                       "rms", "lag", "with rotation", tuple(channel_names),
-                       tuple(f"plane {k + 1}" for k in range(n_planes)), tuple(runs), matrix,
-                       condition, "runs" if coefficients else "none", planned, result,
-                       service_rpm=1475.0 if coefficients else None)
+                       "rms", "lag", "with rotation", tuple(channel_names), names, tuple(runs),
+                       matrix, condition, "runs" if coefficients else "none", planned, result,
+                       service_rpm=1475.0 if coefficients else None,
+                       channel_weights=tuple(1.0 + k for k in range(n_channels)),
+                       plane_geometries=geometries,
+                       catalog_names=("washers-steel",) * n_planes, setup=setup)
+
+
+def write_version_2_file(path: Path) -> None:
+    """A history file as placer wrote it at schema version 2, by hand: version 1's tables,
+    the version 2 columns (speed, rotation), one visit with a trial run and a plan."""
+    connection = sqlite3.connect(path)
+    for statement in SCHEMA_V1.split(";"):
+        if statement.strip():
+            connection.execute(statement)
+    connection.execute("ALTER TABLE visits ADD COLUMN service_rpm REAL")
+    connection.execute("ALTER TABLE visits ADD COLUMN rotation TEXT")
+    connection.execute("INSERT INTO schema_version VALUES (2)")
+    connection.execute("INSERT INTO machines VALUES ('WM-EF-07', 'exhaust fan 7', "
+                       "'2026-11-02T10:15:00+00:00')")
+    connection.execute(
+        "INSERT INTO visits VALUES (1, 'WM-EF-07', '2026-11-02T10:15:00+00:00', 'ef7.toml', "
+        "'mm/s', 'peak', 'lag', 'against rotation', '1 trial run(s) of this visit', 1.0, "
+        "'{\"vibration_before\": 4.0, \"vibration_after\": 0.5, \"norm\": \"max\"}', "
+        "1475.0, NULL)")
+    connection.execute("INSERT INTO channels VALUES (1, 0, 'outboard H')")
+    connection.execute("INSERT INTO planes VALUES (1, 0, 'hub')")
+    connection.execute("INSERT INTO runs VALUES (1, 1, 0, 'as found', 'reference')")
+    connection.execute("INSERT INTO runs VALUES (2, 1, 1, 'trial', 'trial')")
+    connection.execute("INSERT INTO readings VALUES (1, 0, 4.0, 30.0, 3.4641016, 2.0)")
+    connection.execute("INSERT INTO readings VALUES (2, 0, 6.0, 50.0, 3.8567257, 4.5962667)")
+    connection.execute("INSERT INTO coefficients VALUES (1, 0, 0, 0.004, -0.002)")
+    connection.execute("INSERT INTO masses VALUES (1, 1, 2, 'trial', 0, 3, 90.0, 150.0, 20.0, "
+                       "NULL, 1, 1)")
+    connection.execute("INSERT INTO masses VALUES (2, 1, NULL, 'planned', 0, 5, 180.0, 150.0, "
+                       "6.27, 'M12', 1, 0)")
+    connection.commit()
+    connection.close()
 
 
 def main(db: str, marker: str, pause_at: str, n_runs: str) -> None:

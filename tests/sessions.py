@@ -113,7 +113,8 @@ def placement_problem(a, positions, radius, capacity, fitted=()):
 
     Rows: every position of every plane, then one row per fitted group (taking
     one part off: minus its effect); columns: the washers, then one per fitted
-    group.  Capacity of a position is reduced by the parts fitted on it.
+    group.  Capacity of a position is reduced by the parts fitted on it.  A
+    group's item is a washer's name, or a trial weight's mass [g] (left on).
     """
     n_planes = a.shape[1]
     masses = list(WASHERS.values())
@@ -127,8 +128,8 @@ def placement_problem(a, positions, radius, capacity, fitted=()):
                                                                           radius)
     for f, (p, position, item, count) in enumerate(fitted):
         r = n_planes * positions + f
-        effects[r, len(masses) + f] = -a[:, p] * WASHERS[item] * unit_vector(position,
-                                                                            positions, radius)
+        mass = WASHERS[item] if isinstance(item, str) else float(item)
+        effects[r, len(masses) + f] = -a[:, p] * mass * unit_vector(position, positions, radius)
         cap[r] = count
         cap[p * positions + position - 1] -= count
     stock = [60, 60, 50, 40, 30] + [c for *_, c in fitted]

@@ -400,6 +400,8 @@ def test_trial_run_that_changed_nothing_prints_strict_json(run_cli, tmp_path):
                                   FIRST_READINGS).replace("max_parts = 6 ", "max_parts = 2 "),
                     encoding="utf-8")
     code, out, err = run_cli("field", path, "--json", "--db", tmp_path / "none.sqlite")
-    assert code in (0, 1) and "Traceback" not in err
+    # The trial run moved nothing: the data fails its check, exit code 4 (placer field --help).
+    assert code == 4 and "Traceback" not in err
     assert "Infinity" not in out and "NaN" not in out
-    assert _strict(out)["condition_number"] is None
+    data = _strict(out)
+    assert data["condition_number"] is None and data["plan_from_failed_data"] is True

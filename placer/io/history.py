@@ -21,7 +21,10 @@ writes it in UTC with its offset, or as a date alone when the session gave
 only a date (:func:`utc_label` shows it).
 
 Visits are written once and never changed; only a machine's name follows
-its latest saved visit.
+its latest saved visit.  A visit whose runs are already stored (the same
+sensors, planes, runs, readings and masses: the same session saved twice) is
+found by :meth:`History.same_visit` before saving; a visit can be removed
+(:meth:`History.remove_visit`).
 
 Journal mode: the default rollback journal (``journal_mode=DELETE``) with
 ``synchronous=FULL``, chosen over WAL because the history is a single file
@@ -56,10 +59,12 @@ from contextlib import contextmanager
 from datetime import datetime, timezone
 from pathlib import Path
 from types import TracebackType
+from typing import Any
 
 import numpy as np
 
 from placer.errors import HistoryError
+from placer.geometry import PlaneGeometry
 from placer.influence import StoredCoefficients
 from placer.io.historyschema import MIGRATIONS, SCHEMA_V1, SCHEMA_VERSION
 from placer.records import (
@@ -261,18 +266,26 @@ class History:
         visit_id = conn.execute(
             "INSERT INTO visits (machine_id, started_at, session_file, unit, measure, "
             "phase_sense, angle_sense, coefficient_source, condition, result_json, "
-            "service_rpm, rotation) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            "service_rpm, rotation, setup_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
             (record.machine_id, record.started_at, record.session_file, record.unit,
              record.measure, record.phase_sense, record.angle_sense,
              record.coefficient_source,
              None if record.condition is None else float(record.condition),
              json.dumps(record.result, ensure_ascii=False),
              None if record.service_rpm is None else float(record.service_rpm),
-             record.rotation)).lastrowid
-        conn.executemany("INSERT INTO channels (visit_id, channel_index, name) VALUES (?, ?, ?)",
-                         [(visit_id, i, name) for i, name in enumerate(record.channel_names)])
-        conn.executemany("INSERT INTO planes (visit_id, plane_index, name) VALUES (?, ?, ?)",
-                         [(visit_id, i, name) for i, name in enumerate(record.plane_names)])
+             record.rotation, json.dumps(record.setup, ensure_ascii=False))).lastrowid
+        weights = record.channel_weights or (None,) * len(record.channel_names)
+        conn.executemany(
+            "INSERT INTO channels (visit_id, channel_index, name, weight) VALUES (?, ?, ?, ?)",
+            [(visit_id, i, name, None if w is None else float(w))
+             for i, (name, w) in enumerate(zip(record.channel_names, weights))])
+        geometries = record.plane_geometries or (None,) * len(record.plane_names)
+        catalogs = record.catalog_names or (None,) * len(record.plane_names)
+        conn.executemany(
+            "INSERT INTO planes (visit_id, plane_index, name, geometry_json, catalog) "
+            "VALUES (?, ?, ?, ?, ?)",
+            [(visit_id, i, name, None if g is None else json.dumps(_geometry_dict(g)), c)
+             for i, (name, g, c) in enumerate(zip(record.plane_names, geometries, catalogs))])
         for seq, run in enumerate(record.runs):
             run_id = conn.execute(
                 "INSERT INTO runs (visit_id, seq, name, kind) VALUES (?, ?, ?, ?)",
@@ -328,9 +341,14 @@ class History:
             "(SELECT COUNT(*) FROM runs AS r WHERE r.visit_id = v.id), v.result_json "
             "FROM visits AS v WHERE v.machine_id = ? ORDER BY v.started_at, v.id",
             (machine_id,)).fetchall()
-        return [VisitSummary(visit_id, started_at, source, condition, runs,
-                             self._read_masses(visit_id).get(None, ()), json.loads(result))
-                for visit_id, started_at, source, condition, runs, result in rows]
+        out = []
+        for visit_id, started_at, source, condition, runs, result in rows:
+            masses = self._read_masses(visit_id)
+            kept = tuple(m for run_id, group in masses.items() if run_id is not None
+                         for m in group if not (m.role == "trial" and m.removed_after))
+            out.append(VisitSummary(visit_id, started_at, source, condition, runs,
+                                    masses.get(None, ()), json.loads(result), kept))
+        return out
 
     def visit(self, visit_id: int) -> VisitRecord:
         """The full record of one visit, as it was saved.
@@ -354,16 +372,23 @@ class History:
         row = conn.execute(
             "SELECT v.machine_id, m.name, v.started_at, v.session_file, v.unit, v.measure, "
             "v.phase_sense, v.angle_sense, v.coefficient_source, v.condition, v.result_json, "
-            "v.service_rpm, v.rotation "
+            "v.service_rpm, v.rotation, v.setup_json "
             "FROM visits AS v JOIN machines AS m ON m.id = v.machine_id WHERE v.id = ?",
             (visit_id,)).fetchone()
         if row is None:
             raise self._error(f"no visit {visit_id}", key="visit_id",
                               expected="the id of a saved visit")
         (machine_id, machine_name, started_at, session_file, unit, measure, phase_sense,
-         angle_sense, source, condition, result_json, service_rpm, rotation) = row
+         angle_sense, source, condition, result_json, service_rpm, rotation, setup_json) = row
         channel_names = self._names("channels", "channel_index", visit_id)
         plane_names = self._names("planes", "plane_index", visit_id)
+        weights = tuple(w for (w,) in conn.execute(
+            "SELECT weight FROM channels WHERE visit_id = ? ORDER BY channel_index",
+            (visit_id,)))
+        planes = conn.execute("SELECT name, geometry_json, catalog FROM planes WHERE "
+                              "visit_id = ? ORDER BY plane_index", (visit_id,)).fetchall()
+        geometries = tuple(None if g is None else _geometry_of(name, json.loads(g))
+                           for name, g, _ in planes)
         masses = self._read_masses(visit_id)
         runs = []
         for run_id, name, kind in conn.execute(
@@ -379,7 +404,66 @@ class History:
                            self._read_coefficients(visit_id, len(channel_names),
                                                    len(plane_names)),
                            condition, source, masses.get(None, ()), json.loads(result_json),
-                           service_rpm, rotation)
+                           service_rpm, rotation,
+                           None if None in weights else weights, geometries,
+                           tuple(c for _, _, c in planes),
+                           json.loads(setup_json) if setup_json else {})
+
+    def same_visit(self, record: VisitRecord) -> int | None:
+        """The id of a stored visit with the same runs as ``record`` (a session saved twice).
+
+        The same machine, sensors and planes, and runs with the same names,
+        kinds, readings as read and masses; the time and the plan are not
+        compared (the same runs planned again are still the same visit).
+
+        Parameters
+        ----------
+        record : VisitRecord
+            The visit about to be saved.
+
+        Returns
+        -------
+        int or None
+            The stored visit's id, or None.
+        """
+        def runs_of(runs: Sequence[RunRecord]) -> list:
+            return [(r.name, r.kind, tuple(r.readings), tuple(r.masses)) for r in runs]
+
+        wanted = runs_of(record.runs)
+        for (visit_id,) in self._conn.execute(
+                "SELECT v.id FROM visits AS v WHERE v.machine_id = ? AND (SELECT COUNT(*) "
+                "FROM runs AS r WHERE r.visit_id = v.id) = ? ORDER BY v.id",
+                (record.machine_id, len(record.runs))).fetchall():
+            if self._names("channels", "channel_index", visit_id) != record.channel_names:
+                continue
+            if self._names("planes", "plane_index", visit_id) != record.plane_names:
+                continue
+            if runs_of(self.visit(visit_id).runs) == wanted:
+                return visit_id
+        return None
+
+    def remove_visit(self, visit_id: int) -> None:
+        """Remove one visit and everything stored with it (its machine stays).
+
+        Parameters
+        ----------
+        visit_id : int
+            The visit's id.
+
+        Raises
+        ------
+        HistoryError
+            No visit has this id, or the database cannot be written.
+        """
+        try:
+            with _immediate(self._conn):
+                gone = self._conn.execute("DELETE FROM visits WHERE id = ?",
+                                          (visit_id,)).rowcount
+        except sqlite3.Error as exc:
+            raise self._error(f"cannot remove visit {visit_id}: {exc}") from exc
+        if gone != 1:
+            raise self._error(f"no visit {visit_id}", key="visit_id",
+                              expected="the id of a saved visit")
 
     def latest_coefficients(self, machine_id: str, channel_names: Sequence[str],
                             plane_names: Sequence[str]) -> StoredCoefficients | None:
@@ -454,3 +538,52 @@ class History:
             run_id, *values, removed_after = row
             grouped.setdefault(run_id, []).append(MassRecord(*values, bool(removed_after)))
         return {run_id: tuple(masses) for run_id, masses in grouped.items()}
+
+
+def _geometry_dict(geometry: PlaneGeometry) -> dict[str, Any]:
+    """A plane's positions as the history stores them (JSON).
+
+    Parameters
+    ----------
+    geometry : PlaneGeometry
+        The positions.
+
+    Returns
+    -------
+    dict
+        angles_deg, radii_mm, blocked (sorted), capacity, accepts.
+    """
+    return {"angles_deg": list(geometry.angles_deg), "radii_mm": list(geometry.radii_mm),
+            "blocked": sorted(geometry.blocked), "capacity": geometry.capacity,
+            "accepts": list(geometry.accepts)}
+
+
+def _geometry_of(name: str, data: dict[str, Any]) -> PlaneGeometry:
+    """A plane's positions back from :func:`_geometry_dict`.
+
+    Parameters
+    ----------
+    name : str
+        The plane's name.
+    data : dict
+        What :func:`_geometry_dict` gave.
+
+    Returns
+    -------
+    PlaneGeometry
+        The positions.
+
+    Raises
+    ------
+    HistoryError
+        Data that does not make a plane's positions.
+    """
+    try:
+        return PlaneGeometry(name, tuple(float(a) for a in data["angles_deg"]),
+                             tuple(float(r) for r in data["radii_mm"]),
+                             frozenset(int(b) for b in data["blocked"]), int(data["capacity"]),
+                             tuple(str(a) for a in data["accepts"]))
+    except (KeyError, TypeError, ValueError) as exc:
+        raise HistoryError(f"positions of plane '{name}' cannot be read: {exc}",
+                           key="planes.geometry_json",
+                           expected="the positions as placer stored them") from None

@@ -6,9 +6,11 @@ Schema (version :data:`SCHEMA_VERSION`)::
     machines(id PK, name, created_at)
     visits(id PK, machine_id -> machines, started_at, session_file, unit,
            measure, phase_sense, angle_sense, coefficient_source, condition,
-           result_json, service_rpm, rotation)        (the last two from version 2)
-    channels(visit_id -> visits, channel_index, name)   PK (visit_id, channel_index)
-    planes(visit_id -> visits, plane_index, name)       PK (visit_id, plane_index)
+           result_json, service_rpm, rotation,        (these two from version 2)
+           setup_json)                                (from version 3)
+    channels(visit_id -> visits, channel_index, name, weight)   PK (visit_id, channel_index)
+    planes(visit_id -> visits, plane_index, name, geometry_json, catalog)
+                                                        PK (visit_id, plane_index)
     runs(id PK, visit_id -> visits, seq, name, kind)    UNIQUE (visit_id, seq)
     readings(run_id -> runs, channel_index, amplitude, phase_deg, re, im)
     coefficients(visit_id -> visits, channel_index, plane_index, re, im)
@@ -17,7 +19,13 @@ Schema (version :data:`SCHEMA_VERSION`)::
 
 Version 2 (:func:`migrate_1_to_2`) added the speed and the sense of rotation to
 visits, and holds phasors and coefficients in the visit's measure; version 1
-held them as peak values.  A new file gets :data:`SCHEMA_V1` and is then brought
+held them as peak values.  Version 3 (:func:`migrate_2_to_3`) added what a
+visit report needs to be printed again: each sensor's weight, each plane's
+positions (JSON: angles, radii, blocked, capacity, what each takes) and
+catalogue name, and the session's settings (``setup_json``: the rotor's name,
+mass and grade, the plane separation, norm, limit, part limit, the residual
+checks); NULL for the visits stored before, which then print without the
+rotor face.  A new file gets :data:`SCHEMA_V1` and is then brought
 up by the same :data:`MIGRATIONS` an older file goes through.
 
 References
@@ -32,7 +40,7 @@ import math
 import sqlite3
 from collections.abc import Callable
 
-SCHEMA_VERSION = 2
+SCHEMA_VERSION = 3
 """Schema version this placer writes; files of a newer version are refused."""
 
 _V1_PEAK_PER_MEASURE = {"peak": 1.0, "peak-to-peak": 0.5, "rms": math.sqrt(2.0)}
@@ -72,7 +80,23 @@ def migrate_1_to_2(conn: sqlite3.Connection) -> None:
                          (json.dumps(result, ensure_ascii=False), visit_id))
 
 
-MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {1: migrate_1_to_2}
+def migrate_2_to_3(conn: sqlite3.Connection) -> None:
+    """Version 2 -> 3: sensors' weights, planes' positions and catalogues, the session's
+    settings (NULL for the visits already stored: not known).
+
+    Parameters
+    ----------
+    conn : sqlite3.Connection
+        The open database, inside the opening transaction.
+    """
+    conn.execute("ALTER TABLE channels ADD COLUMN weight REAL")
+    conn.execute("ALTER TABLE planes ADD COLUMN geometry_json TEXT")
+    conn.execute("ALTER TABLE planes ADD COLUMN catalog TEXT")
+    conn.execute("ALTER TABLE visits ADD COLUMN setup_json TEXT")
+
+
+MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {1: migrate_1_to_2,
+                                                                2: migrate_2_to_3}
 """Schema upgrades: ``MIGRATIONS[v](connection)`` turns version v into v + 1.
 
 Each runs inside the opening transaction (foreign keys on) and must leave

@@ -6,7 +6,7 @@ from collections.abc import Sequence
 from typing import Any
 
 from placer.catalog import Catalog
-from placer.fieldplan import FieldOption, FieldResult
+from placer.fieldresult import FieldOption, FieldResult
 from placer.geometry import angle_of_deg
 from placer.plan import LIGHTEST, JobResult, PlaneResult, PlanOption
 from placer.records import (
@@ -147,6 +147,7 @@ def job_dict(result: JobResult) -> dict[str, Any]:
 def _option_dict(option: FieldOption, result: FieldResult) -> dict[str, Any]:
     return {
         "part_count": option.used_parts,
+        "largest_amplitude": option.largest,
         "objective": option.objective,
         "proven": option.proven,
         "parts": [{"plane": p + 1, "plane_name": result.session.planes[p].geometry.name,
@@ -172,11 +173,19 @@ def field_dict(result: FieldResult) -> dict[str, Any]:
     Returns
     -------
     dict
-        Coefficients, vibration now, correction, plans and warnings; the
-        static and couple parts for two planes.
+        Coefficients, the checks of the data (``data_ok`` false: the plan is
+        from data that fails them), vibration now, correction, plans with
+        their largest predicted amplitude and the weighted objective they
+        minimise, what is on the rotor, residual checks and warnings; the
+        static and couple parts for two planes; the four-run figures without
+        a phase reference.
     """
+    from placer.records import visit_record
+    from placer.visitreport import on_rotor_after, on_rotor_before
+
     s = result.session
     matrix = result.coefficients.matrix
+    record = visit_record(result)
     out: dict[str, Any] = {
         "machine": {"id": s.machine_id, "name": s.machine_name},
         "unit": s.unit, "measure": s.measure, "norm": s.norm,
@@ -186,6 +195,15 @@ def field_dict(result: FieldResult) -> dict[str, Any]:
         "coefficients_per_gmm": [[{"re": float(v.real), "im": float(v.imag)} for v in row]
                                  for row in matrix],
         "condition_number": result.coefficients.condition,
+        "condition_number_of": "the coefficients with each sensor's row weighted and each "
+                               "plane's column scaled to unit length",
+        "objective": ("weighted largest reading" if s.norm == "max"
+                      else "weighted root-sum-square of the readings"),
+        "data_ok": result.data_ok,
+        "plan_from_failed_data": not result.data_ok,
+        "checks": [{"subject": c.subject, "passed": c.passed, "finding": c.finding,
+                    "action": c.action, "rule": c.rule} for c in result.checks],
+        "trial_runs": [_verdict_dict(v) for v in result.verdicts],
         "basis": result.basis,
         "vibration_now": [_phasor_dict(v) for v in result.vibration_now],
         "correction": [{"plane": p + 1, "gmm": float(abs(w)), "angle_deg": angle_of_deg(w)}
@@ -196,6 +214,9 @@ def field_dict(result: FieldResult) -> dict[str, Any]:
         "coupled_same_parts": _option_dict(result.coupled_same_parts, result),
         "fitted_on_rotor": [{"plane": m.plane + 1, "position": m.position, "item": m.item,
                              "count": m.count} for m in result.fitted],
+        "on_rotor_before": [_rotor_part_dict(p) for p in on_rotor_before(record)],
+        "on_rotor_after": [_rotor_part_dict(p) for p in on_rotor_after(record)],
+        "residual_checks": [_residual_dict(r) for r in result.residual_checks],
         "vibration_limit": s.vibration_limit,
         "within_limit": result.within_limit,
         "warnings": list(result.warnings),
@@ -210,7 +231,41 @@ def field_dict(result: FieldResult) -> dict[str, Any]:
                                 "couple_moment_kg_mm2": None if sc.couple_moment_gmm2 is None
                                 else kg_mm2_from_gmm2(sc.couple_moment_gmm2),
                                 "couple_negligible": bool(sc.couple_negligible)}
+    if result.four_run is not None:
+        f = result.four_run
+        out["amplitude_only"] = {
+            "reference": f.reference, "trial_gmm": f.trial_gmm,
+            "trial_angles_deg": list(f.angles_deg), "trial_amplitudes": list(f.amplitudes),
+            "meeting_point": _phasor_dict(f.meeting_point), "trial_effect": f.effect,
+            "trial_effect_mean_square": f.mean_square_effect,
+            "coefficient_per_gmm": f.coefficient}
     return out
+
+
+def _verdict_dict(v) -> dict[str, Any]:
+    return {"run": v.run, "against": v.against, "masses_g": list(v.masses_g),
+            "trusted": v.trusted, "suggested_masses_g": None if v.suggested_g is None
+            else list(v.suggested_g),
+            "sensors": [{"sensor": c.sensor, "vector_change": c.vector_share,
+                         "amplitude_change": c.amplitude_share,
+                         "phase_change_deg": c.phase_change_deg} for c in v.changes]}
+
+
+def _rotor_part_dict(p) -> dict[str, Any]:
+    return {"plane": p.plane + 1, "position": p.position, "angle_deg": p.angle_deg,
+            "radius_mm": p.radius_mm, "mass_g": p.mass_g, "part": p.label, "count": p.count,
+            "origin": p.origin}
+
+
+def _residual_dict(r) -> dict[str, Any]:
+    c = r.check
+    return {"plane": c.plane + 1, "sensor": c.sensor + 1, "mass_g": c.mass_g,
+            "radius_mm": c.radius_mm, "trial_gmm": c.trial_gmm,
+            "angles_deg": list(c.angles_deg), "amplitudes": list(c.amplitudes),
+            "residual_from_range_gmm": r.from_range_gmm,
+            "residual_from_circle_gmm": r.from_circle_gmm, "residual_gmm": r.residual_gmm,
+            "heavy_spot_deg": r.heavy_spot_deg, "limit_gmm": r.limit_gmm,
+            "limit_source": r.limit_source, "within_limit": r.within, "notes": list(r.notes)}
 
 
 def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
@@ -228,6 +283,8 @@ def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
     dict
         Everything stored about the visit; plane numbers from 1.
     """
+    from placer.visitreport import on_rotor_after
+
     def mass(m: MassRecord) -> dict[str, Any]:
         return {"plane": m.plane + 1, "plane_name": record.plane_names[m.plane],
                 "position": m.position, "angle_deg": m.angle_deg, "radius_mm": m.radius_mm,
@@ -250,6 +307,16 @@ def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
             for row in record.coefficients],
         "condition_number": record.condition,
         "planned": [mass(m) for m in record.planned],
+        "on_rotor_after": [_rotor_part_dict(p) for p in on_rotor_after(record)],
+        "sensor_weights": None if record.channel_weights is None
+        else list(record.channel_weights),
+        "plane_positions": None if record.plane_geometries is None else [
+            None if g is None else {"angles_deg": list(g.angles_deg),
+                                    "radii_mm": list(g.radii_mm), "capacity": g.capacity,
+                                    "blocked": sorted(g.blocked)}
+            for g in record.plane_geometries],
+        "catalogs": None if record.catalog_names is None else list(record.catalog_names),
+        "setup": record.setup,
         "result": record.result,
     }
 

@@ -185,7 +185,7 @@ def starter_text(start: Starter) -> str:
         lines += ["", "[readings]",
                   'unit = "mm/s"          # um, mils, mm/s or in/s',
                   'measure = "peak"       # peak, peak-to-peak or rms',
-                  'phase = "lag"          # lag or lead, from the reference pulse',
+                  'phase = "lag"          # lag or lead, from the reference pulse; none without one',
                   "", "[[sensors]]", 'name = "drive end horizontal"',
                   "", "[[sensors]]", 'name = "free end horizontal"']
     for number in range(1, start.planes + 1):

@@ -8,7 +8,11 @@ Format (see examples/exhaust-fan-visit.toml)::
     [rotor]     as in a job, plus rotation = "clockwise" (when angles are
                 clockwise/counterclockwise) and plane_separation_mm (or _in)
     [readings]  unit = "mm/s" | "in/s" | "um" | "mils"; measure = "peak" |
-                "peak-to-peak" | "rms"; phase = "lag" | "lead"
+                "peak-to-peak" | "rms"; phase = "lag" | "lead" | "none"
+                ("none": a meter without a phase reference; every run's readings are
+                amplitudes, readings = [4.1], and the session is the four-run method:
+                one sensor, one plane, a reference run and three or more trial runs with
+                the same trial mass at different angles, each removed after its run)
     [[sensors]] name, weight (optional, default 1); readings taken at more than one
                 speed are entered as one sensor per speed ("DE horizontal 900 r/min"),
                 with a reading in every run
@@ -23,7 +27,18 @@ Format (see examples/exhaust-fan-visit.toml)::
     [solve]     norm = "max" | "rms"; max_parts = 4; coefficients = "runs" | "stored"
                 ("stored": no trial runs, rotor.service_rpm required);
                 vibration_limit = 1.0 (optional, in the session's unit and measure:
-                fewest parts predicted at or below it)
+                fewest parts predicted at or below it, every sensor's amplitude compared)
+    [[residual_checks]]  after balancing, a known trial mass in turn at six or more
+                equally spaced positions of one plane (placer.residualcheck):
+                plane = 1, sensor = "drive end horizontal" (default: the first),
+                mass_g = 8.0, positions = [1, 2, 3, 4, 5, 6, 7, 8] or angles_deg = [...],
+                radius_mm (default: the positions' radius), amplitudes = [...] one
+                reading per position in the session's unit and measure; the limit:
+                limit_gmm, or journal_load_kg (6350·W/N with rotor.service_rpm), else
+                the plane's share of the rotor's U_per (grade, mass_kg, service_rpm)
+
+A trial weight left on (removed = false) at a position takes room there like a
+fitted part, and the plan may take it off.
 """
 
 from __future__ import annotations
@@ -35,12 +50,13 @@ from pathlib import Path
 import numpy as np
 
 from placer.catalog import Catalog
-from placer.errors import SessionError
+from placer.errors import InputError, SessionError
 from placer.geometry import ROTATIONS, polar
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
 from placer.io.tables import Table, quantity_key, read_toml
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
 from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense
+from placer.residualcheck import ResidualCheck
 from placer.session import (
     FIELD_NORMS,
     RUN_KINDS,
@@ -84,7 +100,7 @@ def read_session(path: Path) -> Session:
     file = str(path)
     root = Table(read_toml(path, SessionError, "session file"), file, "", SessionError)
     root.allow_only(("machine", "visit", "rotor", "readings", "sensors", "planes", "runs",
-                     "solve"))
+                     "solve", "residual_checks"))
     machine = root.sub("machine", required=True)
     machine.allow_only(("id", "name"))
     machine_id = machine.text("id", required=True).strip()
@@ -110,8 +126,9 @@ def read_session(path: Path) -> Session:
     if measure not in MEASURES:
         raise readings.fail("measure", f"is '{measure}'", "peak, peak-to-peak or rms")
     phase = readings.text("phase", required=True)
-    if phase not in PHASE_SENSES:
-        raise readings.fail("phase", f"is '{phase}'", "lag or lead")
+    if phase not in PHASE_SENSES + (NO_PHASE,):
+        raise readings.fail("phase", f"is '{phase}'",
+                            "lag, lead, or none (a meter without a phase reference)")
 
     channels = []
     for t in root.tables("sensors", required=True):
@@ -147,6 +164,10 @@ def read_session(path: Path) -> Session:
                  for t in root.tables("runs", required=True))
     _check_runs(root, runs, len(planes), coefficients)
     _check_fitted(root, runs, planes)
+    if phase == NO_PHASE:
+        _check_amplitude_only(root, runs, channels, planes, coefficients)
+    checks = tuple(_residual_check(t, planes, names)
+                   for t in root.tables("residual_checks") or ())
     return Session(
         machine_id=machine_id, machine_name=machine.text("name", default=machine_id),
         rotor=rotor, plane_separation_mm=separation, unit=unit,
@@ -155,7 +176,8 @@ def read_session(path: Path) -> Session:
         max_parts=solve.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
                                   maximum=MAX_PARTS_LIMIT),
         coefficients=coefficients, source=file,
-        vibration_limit=solve.number("vibration_limit", positive=True), visit_date=visit_date)
+        vibration_limit=solve.number("vibration_limit", positive=True), visit_date=visit_date,
+        residual_checks=checks)
 
 
 def _visit_date(visit: Table | None) -> str | None:
@@ -182,6 +204,10 @@ def _visit_date(visit: Table | None) -> str | None:
     raise visit.fail("date", f"is {type(value).__name__}", expected)
 
 
+NO_PHASE = "none"
+"""[readings] phase of a meter without a phase reference: amplitudes only."""
+
+
 class _Converter:
     """Readings as read -> amplitude in the session's measure, phase in the rotor's angle sense."""
 
@@ -189,6 +215,8 @@ class _Converter:
         self.phase, self.sense, self.rotation = phase, rotor_sense, rotation
 
     def __call__(self, amplitude: float, phase_deg: float) -> complex:
+        if self.phase == NO_PHASE:
+            return complex(amplitude, 0.0)
         angle = phase_in_rotor_sense(phase_deg, self.phase, self.sense, self.rotation)
         return polar(amplitude, angle)
 
@@ -205,10 +233,16 @@ def _run(t: Table, convert: _Converter, n_channels: int, planes: list[FieldPlane
     raw, phasors = [], []
     for i, pair in enumerate(values, start=1):
         key = f"readings[{i}]"
-        if not isinstance(pair, list) or len(pair) != 2:
-            raise t.fail(key, "is not a pair", "[amplitude, phase_deg]")
-        amplitude = t.check_number(key + "[1]", pair[0], non_negative=True)
-        phase = t.check_number(key + "[2]", pair[1])
+        if convert.phase == NO_PHASE:
+            if isinstance(pair, list):
+                raise t.fail(key, "is a list", "an amplitude alone, as [readings] phase = "
+                             "\"none\" (no phase reference)")
+            amplitude, phase = t.check_number(key, pair, non_negative=True), 0.0
+        else:
+            if not isinstance(pair, list) or len(pair) != 2:
+                raise t.fail(key, "is not a pair", "[amplitude, phase_deg]")
+            amplitude = t.check_number(key + "[1]", pair[0], non_negative=True)
+            phase = t.check_number(key + "[2]", pair[1])
         raw.append((amplitude, phase))
         phasors.append(convert(amplitude, phase))
     added = []
@@ -298,17 +332,93 @@ def _check_runs(root: Table, runs: tuple[Run, ...], n_planes: int, coefficients:
 
 
 def _check_fitted(root: Table, runs: tuple[Run, ...], planes: list[FieldPlane]) -> None:
-    """Parts fitted for the check runs must fit their positions (capacity, not blocked)."""
+    """Parts fitted for the check runs, and trial weights left on their positions, must fit
+    those positions (capacity, not blocked)."""
     on: dict[tuple[int, int], int] = {}
     for i, run in enumerate(runs, start=1):
         for k, mass in enumerate(run.added, start=1):
-            if run.kind != "check":
+            if run.kind == "check":
+                key, what = f"runs[{i}].fitted[{k}].count", "part(s)"
+            elif run.kind == "trial" and not run.removed_after and mass.position is not None \
+                    and math.isclose(mass.radius_mm, planes[mass.plane].geometry.radii_mm[
+                        mass.position - 1], rel_tol=1e-9):
+                key, what = f"runs[{i}].trial[{k}].position", "part(s), trial weights left on"
+            else:
                 continue
-            key = (mass.plane, mass.position)
-            on[key] = on.get(key, 0) + mass.count
+            place = (mass.plane, mass.position)
+            on[place] = on.get(place, 0) + mass.count
             room = int(planes[mass.plane].geometry.capacities()[mass.position - 1])
-            if on[key] > room:
-                raise root.fail(f"runs[{i}].fitted[{k}].count",
-                                f"puts {on[key]} part(s) on position {mass.position} of plane "
-                                f"{mass.plane + 1}, which takes {room}",
+            if on[place] > room:
+                raise root.fail(key, f"puts {on[place]} {what} on position {mass.position} of "
+                                f"plane {mass.plane + 1}, which takes {room}",
                                 "no more parts on a position than its capacity (0 if blocked)")
+
+
+def _check_amplitude_only(root: Table, runs: tuple[Run, ...], channels: list[Channel],
+                          planes: list[FieldPlane], coefficients: str) -> None:
+    """A session without a phase reference is the four-run method: check its shape."""
+    why = "the four-run method without a phase reference ([readings] phase = \"none\")"
+    if len(channels) != 1:
+        raise root.fail("sensors", f"has {len(channels)} sensors",
+                        f"one sensor for {why}")
+    if len(planes) != 1:
+        raise root.fail("planes", f"has {len(planes)} planes", f"one plane for {why}")
+    if coefficients != "runs":
+        raise root.fail("solve.coefficients", f"is '{coefficients}'",
+                        f"\"runs\" for {why}: stored coefficients carry a phase")
+    trials = [(i, r) for i, r in enumerate(runs, start=1) if r.kind == "trial"]
+    for i, run in enumerate(runs, start=1):
+        if run.kind == "check":
+            raise root.fail(f"runs[{i}].kind", "is a check run",
+                            f"a reference run and trial runs only for {why}")
+    for i, run in trials:
+        if len(run.added) != 1 or not run.removed_after:
+            raise root.fail(f"runs[{i}].trial", "does not hold one trial weight taken off "
+                            "after the run", f"one trial weight per run, removed, for {why}")
+    moments = {round(run.added[0].mass_g * run.added[0].radius_mm, 9) for _, run in trials}
+    if len(moments) > 1:
+        raise root.fail("runs", "has trial weights of different mass or radius",
+                        f"the same trial mass at the same radius in every trial run, for {why}")
+    angles = {round(run.added[0].angle_deg % 360.0, 6) for _, run in trials}
+    if len(trials) < 3 or len(angles) < 3:
+        raise root.fail("runs", f"has the trial weight at {len(angles)} different angle(s)",
+                        f"three or more trial runs at different angles (0°, 120°, 240°) for "
+                        f"{why}")
+
+
+def _residual_check(t: Table, planes: list[FieldPlane], sensors: list[str]) -> ResidualCheck:
+    """One [[residual_checks]] table."""
+    t.allow_only(("plane", "sensor", "mass_g", "radius_mm", "positions", "angles_deg",
+                  "amplitudes", "journal_load_kg", "limit_gmm"))
+    plane = t.integer("plane", required=True, minimum=1, maximum=len(planes)) - 1
+    geometry = planes[plane].geometry
+    sensor = 0
+    if t.has("sensor"):
+        name = t.text("sensor")
+        if name not in sensors:
+            raise t.fail("sensor", f"is '{name}'", "one of the sensors: " + ", ".join(sensors))
+        sensor = sensors.index(name)
+    if t.has("positions") == t.has("angles_deg"):
+        raise t.fail("positions", "and angles_deg are both given" if t.has("positions")
+                     else "missing", "positions = [1, 2, ...] or angles_deg = [...], not both")
+    if t.has("positions"):
+        numbers = [t.check_integer(f"positions[{k}]", v, minimum=1,
+                                   maximum=geometry.n_positions)
+                   for k, v in enumerate(t.array("positions", required=True), start=1)]
+        angles = [geometry.angles_deg[n - 1] for n in numbers]
+        radius = geometry.radii_mm[numbers[0] - 1] if numbers else geometry.radii_mm[0]
+    else:
+        angles = [t.check_number(f"angles_deg[{k}]", v)
+                  for k, v in enumerate(t.array("angles_deg", required=True), start=1)]
+        radius = geometry.radii_mm[0]
+    amplitudes = [t.check_number(f"amplitudes[{k}]", v, non_negative=True)
+                  for k, v in enumerate(t.array("amplitudes", required=True), start=1)]
+    try:
+        return ResidualCheck(plane, sensor, t.number("mass_g", required=True, positive=True),
+                             t.number("radius_mm", positive=True) or radius, tuple(angles),
+                             tuple(amplitudes), t.number("journal_load_kg", positive=True),
+                             t.number("limit_gmm", positive=True))
+    except SessionError:
+        raise
+    except InputError as exc:
+        raise t.fail(exc.key or "amplitudes", exc.detail, exc.expected or "") from None

@@ -24,7 +24,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from history_writer import make_visit, watch_connections
+from history_writer import make_visit, watch_connections, write_version_2_file
 
 from placer.errors import HistoryError, PlacerError
 from placer.io import history
@@ -217,17 +217,17 @@ def test_visit_survives_restart_in_new_process(db: Path, tmp_path: Path) -> None
 def test_schema_version_is_stored(db: Path) -> None:
     History(db).close()
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
     assert connection.execute("PRAGMA journal_mode").fetchone() == ("delete",)
     connection.close()
-    assert history.SCHEMA_VERSION == 2
+    assert history.SCHEMA_VERSION == 3
 
 
 def test_newer_schema_version_is_refused(db: Path) -> None:
     with History(db) as h:
         h.save_visit(make_visit())
     connection = sqlite3.connect(db)
-    connection.execute("UPDATE schema_version SET version = 3")
+    connection.execute("UPDATE schema_version SET version = 4")
     connection.commit()
     connection.close()
     with pytest.raises(HistoryError, match="newer placer") as caught:
@@ -238,7 +238,7 @@ def test_newer_schema_version_is_refused(db: Path) -> None:
 
 
 def add_visit_notes(connection: sqlite3.Connection) -> None:
-    """A made-up migration 2 -> 3: a notes column on visits."""
+    """A made-up migration 3 -> 4: a notes column on visits."""
     connection.execute("ALTER TABLE visits ADD COLUMN notes TEXT NOT NULL DEFAULT ''")
 
 
@@ -247,15 +247,15 @@ def test_older_file_is_migrated(db: Path, tmp_path: Path,
     record = make_visit()
     with History(db) as h:
         visit_id = h.save_visit(record)
-    monkeypatch.setattr(history, "SCHEMA_VERSION", 3)
-    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 2: add_visit_notes})
+    monkeypatch.setattr(history, "SCHEMA_VERSION", 4)
+    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 3: add_visit_notes})
     with History(db) as h:
         assert h.visit(visit_id) == record
     fresh = tmp_path / "fresh.sqlite"
     History(fresh).close()
     for path in (db, fresh):
         connection = sqlite3.connect(path)
-        assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
+        assert connection.execute("SELECT version FROM schema_version").fetchall() == [(4,)]
         columns = [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
         assert columns[-1] == "notes"
         connection.close()
@@ -264,12 +264,12 @@ def test_older_file_is_migrated(db: Path, tmp_path: Path,
 def test_missing_migration_leaves_file_unchanged(db: Path,
                                                  monkeypatch: pytest.MonkeyPatch) -> None:
     History(db).close()
-    monkeypatch.setattr(history, "SCHEMA_VERSION", 4)
-    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 2: add_visit_notes})
-    with pytest.raises(HistoryError, match="no migration from schema version 3"):
+    monkeypatch.setattr(history, "SCHEMA_VERSION", 5)
+    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 3: add_visit_notes})
+    with pytest.raises(HistoryError, match="no migration from schema version 4"):
         History(db)
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
     assert "notes" not in [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
     connection.close()
 
@@ -321,8 +321,65 @@ def test_version_1_file_is_migrated_to_the_visit_measure(db: Path) -> None:
     assert (rms.service_rpm, rms.rotation) == (None, None)
     assert (found.measure, found.service_rpm) == ("peak", None)  # the newest: visit 3
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(2,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
     assert connection.execute("PRAGMA integrity_check").fetchall() == [("ok",)]
+    connection.close()
+
+
+def test_version_2_file_is_migrated_without_the_report_facts(db: Path) -> None:
+    """Version 3 adds the sensors' weights, the planes' positions and catalogues and the
+    session's settings; a visit stored before has none of them (NULL) and reads back
+    with None, and a new visit in the same file keeps them."""
+    db.parent.mkdir(parents=True)
+    write_version_2_file(db)
+    with History(db) as h:
+        old = h.visit(1)
+        new_id = h.save_visit(make_visit())
+        new = h.visit(new_id)
+    assert (old.channel_weights, old.plane_geometries, old.catalog_names, old.setup) == \
+        (None, None, None, {})
+    assert old.runs[1].masses[0].mass_g == 20.0 and old.planned[0].item == "M12"
+    assert new == make_visit()
+    connection = sqlite3.connect(db)
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
+    assert [row[1] for row in connection.execute("PRAGMA table_info(channels)")][-1] == "weight"
+    assert connection.execute("PRAGMA integrity_check").fetchall() == [("ok",)]
+    assert connection.execute("PRAGMA foreign_key_check").fetchall() == []
+    connection.close()
+
+
+def test_the_same_runs_saved_twice_are_found(db: Path) -> None:
+    record = make_visit()
+    with History(db) as h:
+        assert h.same_visit(record) is None
+        first = h.save_visit(record)
+        # Another time and another plan: still the same runs, so the same visit.
+        again = replace(record, started_at="2026-11-02T11:00", planned=())
+        assert h.same_visit(again) == first
+        other = replace(record, runs=record.runs[:-1] + (replace(
+            record.runs[-1], readings=((9.99, 1.0),) + record.runs[-1].readings[1:]),))
+        assert h.same_visit(other) is None
+        assert h.same_visit(replace(record, machine_id="WM-EF-08")) is None
+
+
+def test_a_visit_is_removed_with_everything_stored_with_it(db: Path) -> None:
+    with History(db) as h:
+        keep = h.save_visit(make_visit())
+        gone = h.save_visit(make_visit(started_at="2027-01-05T09:00", seed=11))
+    before = table_counts(db)
+    with History(db) as h:
+        h.remove_visit(gone)
+        assert [v.id for v in h.visits("WM-EF-07")] == [keep]
+        assert h.visit(keep) == make_visit()
+        with pytest.raises(HistoryError, match=f"no visit {gone}"):
+            h.remove_visit(gone)
+    after = table_counts(db)
+    # Every row of the removed visit went (counted without placer), the kept one stayed.
+    for table in ("channels", "planes", "runs", "readings", "coefficients", "masses"):
+        assert after[table] == before[table] // 2, table
+    assert after["visits"] == 1 and after["machines"] == 1
+    connection = sqlite3.connect(db)
+    assert connection.execute("PRAGMA foreign_key_check").fetchall() == []
     connection.close()
 
 

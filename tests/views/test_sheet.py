@@ -26,6 +26,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 from conftest import example_files
+from layoutcheck import overlapping
 
 from placer.cli import main
 from placer.errors import InputError
@@ -467,21 +468,7 @@ def _flat(texts) -> str:
     return " ".join(t for t, _ in texts).replace("\n", " ")
 
 
-CLEAR_PX = 2.0
-"""Least gap between two texts' boxes [px]: texts that merely touch read as one
-("pump-impeller-rework.toml2026-12-02")."""
-
-
-def _overlapping(texts, clear_px: float = CLEAR_PX) -> list[tuple[str, str]]:
-    """Pairs of texts whose boxes overlap or come closer than ``clear_px``."""
-    pairs = []
-    for i, (a, box_a) in enumerate(texts):
-        for b, box_b in texts[i + 1:]:
-            across = min(box_a.x1, box_b.x1) - max(box_a.x0, box_b.x0)
-            down = min(box_a.y1, box_b.y1) - max(box_a.y0, box_b.y0)
-            if across > -clear_px and down > -clear_px:
-                pairs.append((a, b))
-    return pairs
+_overlapping = overlapping
 
 
 def _arrows_through_text(drawing, texts) -> list[str]:

@@ -23,7 +23,7 @@ from placer.views.sheet.convention import (
                                            rotation_clockwise,
 )
 from placer.views.sheet.face import draw_plane
-from placer.views.sheet.facts import PlaneDrawing, SheetPage, fmt_gmm
+from placer.views.sheet.facts import PlaneDrawing, PlaneFace, SheetPage, fmt_gmm, plane_face
 from placer.views.sheet.files import (
                                            MATPLOTLIB_MISSING,
                                            PNG_DPI,
@@ -33,7 +33,7 @@ from placer.views.sheet.files import (
 )
 from placer.views.sheet.labels import spread_deg
 
-__all__ = ["MATPLOTLIB_MISSING", "PNG_DPI", "SUFFIXES", "PlaneDrawing", "SheetPage",
+__all__ = ["MATPLOTLIB_MISSING", "PNG_DPI", "SUFFIXES", "PlaneDrawing", "PlaneFace", "SheetPage",
            "angles_counterclockwise", "draw_plane", "fmt_gmm", "page_angle_deg",
-           "plane_page", "require_matplotlib", "rotation_clockwise", "sheet_paths",
+           "plane_face", "plane_page", "require_matplotlib", "rotation_clockwise", "sheet_paths",
            "spread_deg", "write_sheet"]

@@ -8,6 +8,7 @@ the cautions.  The key lists only the symbols drawn.
 
 from __future__ import annotations
 
+from collections.abc import Sequence
 from datetime import date
 from pathlib import Path
 
@@ -52,13 +53,59 @@ FOOTER_IN = 0.45
 """Distance of the footer rule from the bottom of the page [in]."""
 
 
-def _caution_lines(drilling: bool) -> list[list[str]]:
-    cautions = cautions_for(drilling=drilling)
+def _wrapped(cautions: Sequence[str]) -> list[list[str]]:
     return [wrap_words(c, PAGE_IN[0] - 2 * MARGIN_IN - 0.7, CAUTION_PT) for c in cautions]
 
 
+def safety_box_height(cautions: Sequence[str]) -> float:
+    """Height of the safety box that holds ``cautions`` [in].
+
+    Parameters
+    ----------
+    cautions : sequence of str
+        The cautions, one paragraph each.
+
+    Returns
+    -------
+    float
+        The height [in].
+    """
+    return sum(lines_in(len(w), CAUTION_PT) + 0.04 for w in _wrapped(cautions)) + 0.30
+
+
+def safety_box(page: Page, top: float, cautions: Sequence[str]) -> float:
+    """The cautions across the page in a heavy box with a black "!" band; returns its height.
+
+    Parameters
+    ----------
+    page : Page
+        The page.
+    top : float
+        Top of the box [in from the top of the page].
+    cautions : sequence of str
+        The cautions, one paragraph each.
+
+    Returns
+    -------
+    float
+        The box's height [in].
+    """
+    left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
+    box_h = safety_box_height(cautions)
+    page.box(left, top, width, box_h, lw=2.0)
+    page.box(left, top, 0.36, box_h, fill=True, fc=INK, ec=INK)
+    page.text(left + 0.18, top + box_h / 2, "!", 18, weight="bold", color="white",
+              ha="center", va="center")
+    page.text(left + 0.48, top + 0.07, "SAFETY", 8, weight="bold")
+    cy = top + 0.23
+    for lines in _wrapped(cautions):
+        page.text(left + 0.48, cy, "\n".join(lines), CAUTION_PT, linespacing=1.3)
+        cy += lines_in(len(lines), CAUTION_PT) + 0.04
+    return box_h
+
+
 def _caution_height(drilling: bool) -> float:
-    return sum(lines_in(len(w), CAUTION_PT) + 0.04 for w in _caution_lines(drilling)) + 0.30
+    return safety_box_height(cautions_for(drilling=drilling))
 
 
 AS_LEFT_IN = 0.34
@@ -121,20 +168,11 @@ def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
     """
     left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
     bottom = PAGE_IN[1] - FOOTER_IN
-    wrapped = _caution_lines(drilling)
     box_h = _caution_height(drilling)
     sign_y = max(bottom - 0.55, top + box_h + 0.25 + AS_LEFT_IN)
     if plane is not None and result is not None:
         _as_left(page, sign_y - AS_LEFT_IN + 0.12, plane, result)
-    page.box(left, top, width, box_h, lw=2.0)
-    page.box(left, top, 0.36, box_h, fill=True, fc=INK, ec=INK)
-    page.text(left + 0.18, top + box_h / 2, "!", 18, weight="bold", color="white",
-              ha="center", va="center")
-    page.text(left + 0.48, top + 0.07, "SAFETY", 8, weight="bold")
-    cy = top + 0.23
-    for lines in wrapped:
-        page.text(left + 0.48, cy, "\n".join(lines), CAUTION_PT, linespacing=1.3)
-        cy += lines_in(len(lines), CAUTION_PT) + 0.04
+    safety_box(page, top, cautions_for(drilling=drilling))
     signed = plane is None or plane.within_tolerance is not False
     for k, label in enumerate(("Fitted by", "Date", "Test run checked by") if signed else ()):
         sx = left + k * width / 3

@@ -18,7 +18,7 @@ from placer.views.sheet.convention import (
     rotation_clockwise,
     xy,
 )
-from placer.views.sheet.facts import PlaneDrawing, plane_facts
+from placer.views.sheet.facts import PlaneDrawing, PlaneFace, plane_face
 from placer.views.sheet.labels import (
     Box,
     Room,
@@ -201,7 +201,7 @@ def _position_labels(n: int, blocked: frozenset[int], used: set[int]
     return labels
 
 
-def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW_IN,
+def draw_plane(ax, result: PlaneResult | PlaneFace, angle_sense: str, width_in: float = DRAW_IN,
                rotation: str | None = None, mark: str = "") -> PlaneDrawing:
     """Draw one rotor face into ``ax``; returns where each thing was drawn.
 
@@ -213,8 +213,8 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW
     ----------
     ax : matplotlib.axes.Axes
         An empty axes ``width_in`` wide.
-    result : PlaneResult
-        The solved plane.
+    result : PlaneResult or PlaneFace
+        The solved plane of a job, or the face of any plane (a field visit's).
     angle_sense : str
         The job's ``rotor.angle_sense`` (see the module's drawing convention).
     width_in : float
@@ -231,17 +231,18 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW
     PlaneDrawing
         Where each position, symbol and arrow was drawn [data units].
     """
-    geometry = result.plane.geometry
-    facts = plane_facts(result)
-    back = result.plane.worked_from == "back"
+    face = result if isinstance(result, PlaneFace) else plane_face(result)
+    geometry = face.geometry
+    facts = face.facts
+    back = face.back
     ccw = angles_counterclockwise(angle_sense, rotation, back)
     clockwise_rotation = rotation_clockwise(angle_sense, rotation, back)
     r_max = max(geometry.radii_mm)
     n = geometry.n_positions
     ax.set_aspect("equal")
     ax.axis("off")
-    chosen = result.chosen
-    symbols = symbols_by_position(result, facts)
+    chosen = face.chosen
+    symbols = symbols_by_position(face, facts)
     kinds: list[str] = []
 
     radius = [geometry.radii_mm[k - 1] / r_max for k in range(1, n + 1)]

@@ -13,8 +13,8 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
 
-from placer.geometry import angle_of_deg
-from placer.plan import PlaneResult
+from placer.geometry import PlaneGeometry, angle_of_deg
+from placer.plan import PlaneResult, PlanOption
 from placer.units import METRIC, UnitSystem
 from placer.views.wording import at_radius
 
@@ -129,6 +129,49 @@ def plane_facts(plane: PlaneResult) -> PlaneFacts:
             staying.append(StayingPart(e.position, key[1], items[e.item].mass_g, e.count - taken))
     return PlaneFacts(further_gmm=further, given_gmm=given, basis=basis,
                       zero_gmm=ZERO_SHARE * largest, staying=tuple(staying))
+
+
+@dataclass(frozen=True)
+class PlaneFace:
+    """What the rotor face draws of one plane: its positions, a plan and the plane's facts.
+
+    A job's plane gives it with :func:`plane_face`; a field visit's plane
+    builds it from its own plan (the arrows then show the plane's continuous
+    correction and what the plan leaves of it).
+
+    Parameters
+    ----------
+    geometry : PlaneGeometry
+        The plane's positions.
+    chosen : PlanOption
+        The plan drawn: its parts, its residual [g·mm] and the residual's angle [deg].
+    facts : PlaneFacts
+        The correction the arrows show, the zero threshold and the parts left on.
+    back : bool
+        The plane is worked from the far side: drawn as seen from there, mirrored.
+    """
+
+    geometry: PlaneGeometry
+    chosen: PlanOption
+    facts: PlaneFacts
+    back: bool = False
+
+
+def plane_face(plane: PlaneResult) -> PlaneFace:
+    """The face of a job's solved plane: its geometry, chosen plan and facts.
+
+    Parameters
+    ----------
+    plane : PlaneResult
+        The solved plane.
+
+    Returns
+    -------
+    PlaneFace
+        What :func:`placer.views.sheet.face.draw_plane` draws.
+    """
+    return PlaneFace(plane.plane.geometry, plane.chosen, plane_facts(plane),
+                     plane.plane.worked_from == "back")
 
 
 def fmt_gmm(value: float) -> str:

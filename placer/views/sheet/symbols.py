@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from placer.plan import PlaneResult
 from placer.views.sheet.convention import xy
-from placer.views.sheet.facts import PlaneFacts
+from placer.views.sheet.facts import PlaneFace, PlaneFacts
 from placer.views.sheet.typeset import INK
 
 
@@ -89,13 +89,14 @@ def part_label(stack: list[tuple[str, str, int]], split: bool) -> str:
     return "\n".join(lines)
 
 
-def symbols_by_position(plane: PlaneResult, facts: PlaneFacts) -> dict[int, list[tuple[str, str, int]]]:
+def symbols_by_position(plane: PlaneResult | PlaneFace,
+                        facts: PlaneFacts) -> dict[int, list[tuple[str, str, int]]]:
     """Per position, (kind, item, count) of each symbol, in the order they stack inward.
 
     Parameters
     ----------
-    plane : PlaneResult
-        The solved plane; its chosen plan's parts.
+    plane : PlaneResult or PlaneFace
+        The solved plane, or a plane's face; its chosen plan's parts.
     facts : PlaneFacts
         Its facts; the existing parts left on.
 

@@ -23,6 +23,7 @@ ASCII_FOR = {
     "·": ".", "°": "d", "×": "x", "≈": "~", "−": "-", "–": "-", "—": "-", "◀": "<",
     "←": "<", "→": ">", "²": "2", "³": "3", "µ": "u", "Ø": "D", "±": "+", "…": ".",
     "‘": "'", "’": "'", "“": '"', "”": '"', "ω": "w", "⁻": "-", "¹": "1", "ᴴ": "H",
+    "∠": "@",
 }
 """One ASCII character for each non-ASCII character placer prints (columns keep their
 width); any other becomes "?"."""
