@@ -53,8 +53,19 @@ def _caution_height(drilling: bool) -> float:
     return sum(lines_in(len(w), CAUTION_PT) + 0.04 for w in _caution_lines(drilling)) + 0.30
 
 
-def _cautions_top(drilling: bool) -> float:
-    """Top of the safety box [in from the top of the page]; the box sits above the sign-off."""
+def cautions_top(drilling: bool) -> float:
+    """Top of the safety box [in from the top of the page]; the box sits above the sign-off.
+
+    Parameters
+    ----------
+    drilling : bool
+        The plan drills a hole (the drilling caution makes the box taller).
+
+    Returns
+    -------
+    float
+        The top of the box when the page has room for it [in].
+    """
     return PAGE_IN[1] - FOOTER_IN - 0.55 - 0.25 - _caution_height(drilling)
 
 
@@ -127,7 +138,8 @@ def _lower(page: Page, y: float, result: JobResult, plane: PlaneResult,
 
 
 def plane_page(result: JobResult, index: int, *, title: str | None = None,
-               when: date | None = None, dpi: float = PNG_DPI):
+               when: date | None = None, dpi: float = PNG_DPI,
+               sheet: tuple[int, int] | None = None):
     """One page of the sheet as a matplotlib Figure; returns (figure, drawing).
 
     ``index`` counts planes from 1.  The figure is at ``dpi`` (PNG_DPI by
@@ -147,6 +159,9 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
         Date printed; None for today.
     dpi : float
         Resolution of the figure [dots per inch].
+    sheet : (int, int) or None
+        The page's number and the pages in all, for the footer, when it is part
+        of a longer document; None for plane ``index`` of the job's planes.
 
     Returns
     -------
@@ -172,7 +187,7 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     ax = fig.add_axes((0, 0, 1, 1))
     sense, rotation = result.job.rotor.angle_sense, result.job.rotor.rotation
     drawing = draw_plane(ax, plane, sense, DRAW_IN, rotation)
-    room = _cautions_top(drilling) - 0.12 - _lower(Page(None), 0.0, result, plane, facts) \
+    room = cautions_top(drilling) - 0.12 - _lower(Page(None), 0.0, result, plane, facts) \
         - 0.06 - top
 
     def side(on: Page, row_in: float) -> float:
@@ -211,8 +226,9 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     if key_below:
         below = draw_key(page, MARGIN_IN, below + 0.04, DRAW_IN, drawing, row_in, columns=2)
     end = _lower(page, max(below, side_end) + 0.06, result, plane, facts)
-    draw_cautions(page, max(end + 0.08, _cautions_top(drilling)), when, index, len(result.planes),
-              Path(result.job.source).name, drilling)
+    number, total = sheet or (index, len(result.planes))
+    draw_cautions(page, max(end + 0.08, cautions_top(drilling)), when, number, total,
+                  Path(result.job.source).name, drilling)
     return fig, drawing
 
 
