@@ -31,6 +31,9 @@ class Item:
         catalogues.
     catalog : str
         The name of that catalogue (its drawer, for the stores).
+    fixing : str
+        How a part is fastened (screw, torque, adhesive, clip), printed beside
+        every part of the plan; "" when the catalogue does not say.
     """
 
     id: str
@@ -40,6 +43,7 @@ class Item:
     mass_tolerance_g: float = 0.0
     source: str = ""
     catalog: str = ""
+    fixing: str = ""
 
     def __post_init__(self) -> None:
         if not isinstance(self.id, str) or not self.id.strip():

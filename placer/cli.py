@@ -40,6 +40,10 @@ FLAGS = {
     "force": "--force", "out": "--out", "resume": "--resume", "jobs": "--jobs", "db": "--db",
     "save": "--save", "mass_kg": "--mass-kg", "rpm": "--rpm", "radius_mm": "--radius-mm",
     "distances_mm": "--distances-mm", "grade": "--grade", "visit": "--visit",
+    "mass_lb": "--mass-lb", "radius_in": "--radius-in", "distances_in": "--distances-in",
+    "units": "--units", "positions": "--positions", "planes": "--planes", "catalog": "--catalog",
+    "name": "--name", "radius": "--radius-mm or --radius-in", "file": "FILE",
+    "example": "NAME", "folder": "--folder", "kind": "KIND",
 }
 """How the command line shows an argument the library names (see placer.errors)."""
 
@@ -102,18 +106,26 @@ def _parser() -> argparse.ArgumentParser:
                                       "(a bundled name or a catalogue file), show its items.")
     cats.add_argument("name", metavar="NAME", nargs="?", help="bundled name or file path")
     cats.add_argument("--json", action="store_true", help="print JSON instead of a table")
+    _units_option(cats)
 
     tol = sub.add_parser("tolerance", help="permissible residual unbalance from a grade",
                          description="U_per = 1000·G·m/ω per ISO 21940-11, and its share per "
                                      "correction plane.")
     tol.add_argument("--grade", required=True, help="balance quality grade, e.g. G2.5")
-    tol.add_argument("--mass-kg", required=True, type=float, help="rotor mass [kg]")
+    _rotor_mass_options(tol)
     tol.add_argument("--rpm", required=True, type=float, help="maximum service speed [r/min]")
     tol.add_argument("--planes", type=int, default=2, choices=(1, 2),
                      help="correction planes to share U_per between (default 2)")
-    tol.add_argument("--distances-mm", type=float, nargs=2, metavar=("L_A", "L_B"),
-                     help="distances from the centre of mass to plane A and plane B [mm] "
-                          "(lever rule; default equal shares)")
+    distances = tol.add_mutually_exclusive_group()
+    distances.add_argument("--distances-mm", type=float, nargs=2, metavar=("L_A", "L_B"),
+                           help="distances from the centre of mass to plane A and plane B "
+                                "[mm] (lever rule; default equal shares)")
+    distances.add_argument("--distances-in", type=float, nargs=2, metavar=("L_A", "L_B"),
+                           help="the same in inches")
+    _radius_options(tol, required=False,
+                    text="radius of the correction positions: each share also as the mass "
+                         "at it")
+    _units_option(tol)
     tol.add_argument("--json", action="store_true", help="print JSON instead of text")
     field = sub.add_parser("field", help="plan from vibration readings of trial runs",
                            description="Read a session file (reference run, trial runs, "
@@ -161,11 +173,11 @@ def _parser() -> argparse.ArgumentParser:
 
     trial = sub.add_parser("trial", help="suggest a trial mass before the first trial run",
                            description="Trial mass whose centrifugal force is 10 % of the "
-                                       "rotor's weight (rule of thumb, from memory).")
-    trial.add_argument("--mass-kg", required=True, type=float, help="rotor mass [kg]")
+                                       "rotor's weight (common practice).")
+    _rotor_mass_options(trial)
     trial.add_argument("--rpm", required=True, type=float, help="speed of the trial run [r/min]")
-    trial.add_argument("--radius-mm", required=True, type=float,
-                       help="radius the trial weight goes on [mm]")
+    _radius_options(trial, required=True, text="radius the trial weight goes on")
+    _units_option(trial)
 
     batch = sub.add_parser("batch", help="plan rotor after rotor of one type from a readings file",
                            description="Solve every rotor of a readings file (CSV or JSON lines: "
@@ -191,6 +203,7 @@ def _parser() -> argparse.ArgumentParser:
                             "(refused when a kept rotor's readings changed since)")
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
     _engine_options(batch, None)
+    _new_parser(sub)
     blades = sub.add_parser("blades", help="arrange blades on a disc, proven, then trim",
                             description="Read a blade file (TOML, or a CSV list of blades), "
                                         "find which blade goes in which slot for the least "
@@ -223,6 +236,66 @@ def _parser() -> argparse.ArgumentParser:
     blades.add_argument("--force", action="store_true",
                         help="let --sheet replace files that exist")
     return parser
+
+
+def _rotor_mass_options(command: argparse.ArgumentParser) -> None:
+    """--mass-kg or --mass-lb, one of them required."""
+    mass = command.add_mutually_exclusive_group(required=True)
+    mass.add_argument("--mass-kg", type=float, help="rotor mass [kg]")
+    mass.add_argument("--mass-lb", type=float, help="rotor mass [lb]")
+
+
+def _radius_options(command: argparse.ArgumentParser, required: bool, text: str) -> None:
+    """--radius-mm or --radius-in."""
+    radius = command.add_mutually_exclusive_group(required=required)
+    radius.add_argument("--radius-mm", type=float, metavar="R", help=f"{text} [mm]")
+    radius.add_argument("--radius-in", type=float, metavar="R", help=f"{text} [in]")
+
+
+def _units_option(command: argparse.ArgumentParser) -> None:
+    """--units: what the output is shown in."""
+    from placer.units import UNIT_SYSTEMS
+
+    command.add_argument("--units", choices=UNIT_SYSTEMS,
+                         help="show g, mm and g·mm (metric) or oz, in and oz·in (imperial); "
+                              "default: imperial when a quantity is given in lb or in")
+
+
+def _new_parser(sub) -> None:
+    """``placer new``: a commented job, session or template, or a copy of an example."""
+    new = sub.add_parser("new", help="start a job, session or batch template file, or copy an "
+                                     "example",
+                         description="Write a commented job (for 'placer solve'), field "
+                                     "session ('placer field') or batch template ('placer "
+                                     "batch') for a rotor, from the options or, on a terminal, "
+                                     "from questions; or copy bundled examples into a folder.",
+                         epilog="Examples: placer new job fan.toml --positions 12 --radius-mm "
+                                "210 --catalog washers-steel --planes 2;  placer new example "
+                                "supply-fan;  placer new example (lists them).")
+    kinds = new.add_subparsers(dest="kind", metavar="KIND", parser_class=_Parser)
+    for kind, text in (("job", "a job file for 'placer solve'"),
+                       ("session", "a field-balancing session for 'placer field'"),
+                       ("template", "a batch template for 'placer batch'")):
+        one = kinds.add_parser(kind, help=text, description=f"Write {text}.")
+        one.add_argument("file", metavar="FILE", help="the file to write (TOML)")
+        one.add_argument("--name", help="the rotor's name")
+        one.add_argument("--positions", type=int, metavar="N",
+                         help="equally spaced positions per plane")
+        _radius_options(one, required=False, text="radius of the positions")
+        one.add_argument("--catalog", metavar="NAME",
+                         help="bundled catalogue or catalogue file (default washers-steel, "
+                              "wheel-clips-oz for imperial)")
+        one.add_argument("--planes", type=int, choices=(1, 2), help="correction planes")
+        _units_option(one)
+        one.add_argument("--force", action="store_true", help="replace FILE if it exists")
+    example = kinds.add_parser("example", help="copy bundled examples into a folder",
+                               description="Copy bundled example files (jobs, sessions, a "
+                                           "batch template and its readings) into a folder; "
+                                           "without NAME, list them.")
+    example.add_argument("names", metavar="NAME", nargs="*",
+                         help="example names (supply-fan or supply-fan.toml), or all")
+    example.add_argument("--folder", default=".", help="where to copy them (default: here)")
+    example.add_argument("--force", action="store_true", help="replace files that exist")
 
 
 def _engine_options(command: argparse.ArgumentParser, time_limit_s: float | None) -> None:
@@ -323,6 +396,31 @@ def _db(args: argparse.Namespace) -> Path:
     return Path(args.db) if args.db else default_db_path()
 
 
+def _plain_console(width: int | None = None):
+    from placer.views.terminal.plain import console
+
+    return console(width)
+
+
+def _metric(args: argparse.Namespace) -> tuple[float, float | None, "object"]:
+    """Rotor mass [kg], radius [mm] (None when not given) and the units to show, from
+    whichever of --mass-kg/--mass-lb and --radius-mm/--radius-in was given."""
+    from placer.units import IMPERIAL, METRIC, UnitSystem, kg_from_lb, mm_from_in
+
+    given = [(name, getattr(args, name)) for name in ("mass_kg", "mass_lb", "radius_mm",
+                                                      "radius_in")
+             if getattr(args, name, None) is not None]
+    _positive(*given)
+    values = dict(given)
+    mass_kg = values["mass_kg"] if "mass_kg" in values else kg_from_lb(values["mass_lb"])
+    radius_mm = (values["radius_mm"] if "radius_mm" in values else
+                 mm_from_in(values["radius_in"]) if "radius_in" in values else None)
+    imperial = "mass_lb" in values or "radius_in" in values or getattr(
+        args, "distances_in", None) is not None
+    units = UnitSystem(args.units) if args.units else IMPERIAL if imperial else METRIC
+    return mass_kg, radius_mm, units
+
+
 def _solve(args: argparse.Namespace) -> int:
     from placer.io.jobfile import read_job
     from placer.solve import FittingErrors, solve_job
@@ -343,8 +441,11 @@ def _solve(args: argparse.Namespace) -> int:
         print(json_text(job_dict(result), indent=2))
     else:
         from placer.views.terminal.job import render_job
+        from placer.views.terminal.plain import finish
 
-        render_job(result, _console(args.width))
+        console = _plain_console(args.width)
+        render_job(result, console)
+        finish(console)
     if args.sheet is not None:
         from placer.views.sheet import write_sheet
 
@@ -357,8 +458,12 @@ def _solve(args: argparse.Namespace) -> int:
 def _catalogs(args: argparse.Namespace) -> int:
     from placer.io.catalogfile import bundled_names, read_catalog, resolve_catalog
     from placer.io.jsonout import catalog_dict, catalogs_list
+    from placer.units import METRIC, UnitSystem
     from placer.views.terminal.catalog import render_catalog, render_catalog_list
+    from placer.views.terminal.plain import finish
 
+    units = UnitSystem(args.units) if args.units else METRIC
+    console = _plain_console()
     if args.name is None:
         names = bundled_names()
         catalogs = [read_catalog(resolve_catalog(n, Path.cwd(), "placer catalogs", "NAME"))
@@ -366,13 +471,15 @@ def _catalogs(args: argparse.Namespace) -> int:
         if args.json:
             print(json_text(catalogs_list(names, catalogs), indent=1))
         else:
-            render_catalog_list(names, catalogs, _console())
+            render_catalog_list(names, catalogs, console, units)
+            finish(console)
         return EXIT_OK
     catalog = read_catalog(resolve_catalog(args.name, Path.cwd(), "placer catalogs", "NAME"))
     if args.json:
         print(json_text(catalog_dict(catalog), indent=1))
     else:
-        render_catalog(catalog, _console())
+        render_catalog(catalog, console, units)
+        finish(console)
     return EXIT_OK
 
 
@@ -385,19 +492,27 @@ def _tolerance(args: argparse.Namespace) -> int:
     )
     from placer.views.terminal.tolerance import tolerance_lines
 
-    _positive(("mass_kg", args.mass_kg), ("rpm", args.rpm),
-              *((("distances_mm", d) for d in args.distances_mm) if args.distances_mm else ()))
+    from placer.units import mm_from_in
+
+    mass_kg, radius_mm, units = _metric(args)
+    distance_option = "distances_mm" if args.distances_mm else "distances_in"
+    raw = args.distances_mm or args.distances_in
+    _positive(("rpm", args.rpm), *(((distance_option, d) for d in raw) if raw else ()))
+    distances = None if raw is None else (
+        raw if args.distances_mm else [mm_from_in(d) for d in raw])
     grade = parse_grade(args.grade)
-    u_per = permissible_residual_gmm(grade, args.mass_kg, args.rpm)
+    u_per = permissible_residual_gmm(grade, mass_kg, args.rpm)
     names = ["A"] if args.planes == 1 else ["A", "B"]
-    if args.distances_mm is not None and args.planes != 2:
-        raise InputError("needs two planes", option="distances_mm", expected="--planes 2")
-    shares = allocate_to_planes(u_per, names, args.distances_mm)
+    if distances is not None and args.planes != 2:
+        raise InputError("needs two planes", option=distance_option, expected="--planes 2")
+    shares = allocate_to_planes(u_per, names, distances)
     if args.json:
-        print(json_text(tolerance_dict(grade, args.mass_kg, args.rpm, u_per, shares), indent=1))
+        print(json_text(tolerance_dict(grade, mass_kg, args.rpm, u_per, shares, radius_mm),
+                        indent=1))
         return EXIT_OK
-    print("\n".join(tolerance_lines(grade, args.mass_kg, args.rpm, u_per, shares,
-                                   lever_rule=args.distances_mm is not None)))
+    print("\n".join(tolerance_lines(grade, mass_kg, args.rpm, u_per, shares,
+                                   lever_rule=distances is not None, units=units,
+                                   radius_mm=radius_mm)))
     return EXIT_OK
 
 
@@ -510,8 +625,9 @@ def _history(args: argparse.Namespace) -> int:
 def _trial(args: argparse.Namespace) -> int:
     from placer.views.terminal.tolerance import trial_lines
 
-    _positive(("mass_kg", args.mass_kg), ("rpm", args.rpm), ("radius_mm", args.radius_mm))
-    print("\n".join(trial_lines(args.mass_kg, args.rpm, args.radius_mm)))
+    _positive(("rpm", args.rpm))
+    mass_kg, radius_mm, units = _metric(args)
+    print("\n".join(trial_lines(mass_kg, args.rpm, radius_mm, units)))
     return EXIT_OK
 
 
@@ -530,6 +646,56 @@ def _batch(args: argparse.Namespace) -> int:
                                                            file=sys.stderr))
     render_summary(summary, paths, sys.stdout)
     return EXIT_OK if summary.all_within else EXIT_OUTSIDE
+
+
+def _new(args: argparse.Namespace) -> int:
+    from placer.io.newfile import Starter, copy_examples, example_names, starter_text, write_new
+
+    if args.kind is None:
+        raise InputError("says nothing to write", option="kind",
+                         expected="job, session, template or example (placer new --help)")
+    if args.kind == "example":
+        if not args.names:
+            print("Bundled examples (copy with: placer new example NAME, or all):")
+            print("\n".join(f"  {name}" for name in example_names()))
+            return EXIT_OK
+        for path in copy_examples(args.names, Path(args.folder), force=args.force):
+            print(f"placer: wrote {path}", file=sys.stderr)
+        return EXIT_OK
+    path = Path(args.file)
+    if path.exists() and not args.force:
+        raise InputError(f"'{path}' exists", option="file",
+                         expected="a new file name, or {opt:force} to replace it")
+    imperial = args.units == "imperial" or (args.units is None and args.radius_in is not None)
+    answers = {"name": args.name, "positions": args.positions,
+               "radius": args.radius_in if args.radius_in is not None else args.radius_mm,
+               "catalog": args.catalog, "planes": args.planes}
+    if sys.stdin.isatty() and None in answers.values():
+        from placer.views.terminal.ask import ask, positive_number, whole_number
+
+        unit = "in" if imperial else "mm"
+        asked = {"name": ("Rotor name", str, "rotor"),
+                 "positions": ("Positions per plane (holes, blades, slots)", whole_number, None),
+                 "radius": (f"Their radius [{unit}]", positive_number, None),
+                 "catalog": ("Catalogue", str, "wheel-clips-oz" if imperial else "washers-steel"),
+                 "planes": ("Correction planes (1 or 2)", whole_number, 1)}
+        for key, (question, convert, default) in asked.items():
+            if answers[key] is None:
+                answers[key] = ask(question, convert, default)
+    for key, option in (("positions", "positions"), ("radius", "radius")):
+        if answers[key] is None:
+            raise InputError("missing", option=option,
+                             expected=f"{{opt:{option}}} (or run on a terminal to be asked)")
+    start = Starter(kind=args.kind, name=answers["name"] or "rotor",
+                    positions=answers["positions"], radius=answers["radius"],
+                    catalog=answers["catalog"] or ("wheel-clips-oz" if imperial
+                                                   else "washers-steel"),
+                    planes=answers["planes"] or 1, units="imperial" if imperial else "metric")
+    write_new(path, starter_text(start), force=args.force)
+    command = {"job": "solve", "session": "field", "template": "batch"}[args.kind]
+    print(f"placer: wrote {path}; fill in the lines marked FILL IN, then: placer {command} "
+          f"{path}" + (" READINGS.csv" if args.kind == "template" else ""), file=sys.stderr)
+    return EXIT_OK
 
 
 def _blades(args: argparse.Namespace) -> int:
@@ -551,8 +717,11 @@ def _blades(args: argparse.Namespace) -> int:
         print(json_text(blades_dict(result), indent=2))
     else:
         from placer.views.terminal.blades import render_blades
+        from placer.views.terminal.plain import finish
 
-        render_blades(result, _console(args.width))
+        console = _plain_console(args.width)
+        render_blades(result, console)
+        finish(console)
     if args.sheet is not None:
         from placer.views.sheet.bladepage import write_blade_sheet
 
@@ -564,7 +733,7 @@ def _blades(args: argparse.Namespace) -> int:
 
 HANDLERS = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance, "field": _field,
             "machines": _machines, "history": _history, "trial": _trial, "batch": _batch,
-            "blades": _blades}
+            "new": _new, "blades": _blades}
 """The function that runs each command."""
 
 
@@ -583,6 +752,9 @@ def main(argv: list[str] | None = None) -> int:
         command, 3 stopped at the time limit (nothing printed as final), 130
         interrupted.
     """
+    from placer.views.terminal.plain import ascii_safe
+
+    ascii_safe(sys.stdout, sys.stderr)
     parser = _parser()
     try:
         args = parser.parse_args(argv)

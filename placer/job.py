@@ -9,12 +9,17 @@ from placer.catalog import Catalog
 from placer.errors import InputError
 from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
+from placer.units import UNIT_SYSTEMS
 
 CORRECTION_BASES = ("further", "total")
 """How a plane's correction was measured: with the existing parts on, or without them."""
 
 DEFAULT_ANGLE_SENSE = "against rotation"
 """Sense in which angles are counted from the reference mark when the job does not say."""
+
+ENDS = ("front", "back")
+"""The ends a plane is worked from: the front is the end the rotor's rotation (and
+angles counted clockwise or counterclockwise) are seen from; the back is the other."""
 
 
 @dataclass(frozen=True)
@@ -50,6 +55,12 @@ class Rotor:
     aim_share : float or None
         Share of each plane's tolerance its plan aims at [1] (None: placer's
         default; a plane may give its own).
+    reference_mark : str
+        What marks 0° on the rotor ("valve", "keyway"), as the sheet labels it;
+        "" for a plain reference mark.
+    front_name, back_name : str
+        What the shop calls the front and the back end ("drive end"); "" for
+        "front" and "back".
     """
 
     name: str
@@ -61,6 +72,25 @@ class Rotor:
     placement_error_deg: float = 0.0
     rotation: str | None = None
     aim_share: float | None = None
+    reference_mark: str = ""
+    front_name: str = ""
+    back_name: str = ""
+
+    def end_name(self, end: str) -> str:
+        """What the shop calls an end: its name, else "front" or "back".
+
+        Parameters
+        ----------
+        end : {"front", "back"}
+            The end.
+
+        Returns
+        -------
+        str
+            The name.
+        """
+        name = self.front_name if end == "front" else self.back_name
+        return name or end
 
     def __post_init__(self) -> None:
         validate.share(self.aim_share, "aim_share")
@@ -130,6 +160,12 @@ class PlaneJob:
     aim_share : float or None
         Share of the plane's tolerance its plan aims at [1] (None: the
         rotor's, else placer's default).
+    worked_from : {"front", "back"}
+        The end the plane is worked from; the sheet draws its face as seen
+        from there.
+    tolerance_given_as : str
+        How the job stated ``tolerance_gmm``, for the sheet ("5 g at r 190 mm");
+        "" for a tolerance in g·mm or none.
     """
 
     geometry: PlaneGeometry
@@ -141,9 +177,12 @@ class PlaneJob:
     existing: tuple[ExistingPart, ...] = ()
     correction_basis: str = "further"
     aim_share: float | None = None
+    worked_from: str = "front"
+    tolerance_given_as: str = ""
 
     def __post_init__(self) -> None:
         validate.share(self.aim_share, "aim_share")
+        validate.one_of(self.worked_from, "worked_from", ENDS)
         z = complex(self.correction_gmm)
         validate.number(z.real, "correction_gmm")
         validate.number(z.imag, "correction_gmm")
@@ -174,6 +213,35 @@ class PlaneJob:
 
 
 @dataclass(frozen=True)
+class Paperwork:
+    """What a shop writes on a job's sheet besides the rotor, and the units it reads.
+
+    Parameters
+    ----------
+    customer : str
+        Customer or site.
+    work_order : str
+        Work order number.
+    technician : str
+        Who does the work.
+    date : str
+        Date of the job (ISO 8601, "2026-03-14"); "" for the day the sheet is printed.
+    units : {"metric", "imperial"}
+        The unit system every output of the job is shown in
+        (:data:`placer.units.UNIT_SYSTEMS`).
+    """
+
+    customer: str = ""
+    work_order: str = ""
+    technician: str = ""
+    date: str = ""
+    units: str = "metric"
+
+    def __post_init__(self) -> None:
+        validate.one_of(self.units, "units", UNIT_SYSTEMS)
+
+
+@dataclass(frozen=True)
 class Job:
     """Everything one ``placer solve`` run works on.
 
@@ -185,11 +253,14 @@ class Job:
         Its correction planes, at least one.
     source : str
         The job file, or "(built in Python)".
+    paperwork : Paperwork
+        Customer, work order, technician, date and the units shown.
     """
 
     rotor: Rotor
     planes: tuple[PlaneJob, ...]
     source: str = "(built in Python)"
+    paperwork: Paperwork = Paperwork()
 
     def __post_init__(self) -> None:
         if not self.planes:

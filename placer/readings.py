@@ -27,8 +27,10 @@ from __future__ import annotations
 
 import math
 
-AMPLITUDE_UNITS = {"um": ("displacement", 1.0), "mils": ("displacement", 25.4),
-                   "mm/s": ("velocity", 1.0), "in/s": ("velocity", 25.4)}
+from placer.units import MM_PER_IN
+
+AMPLITUDE_UNITS = {"um": ("displacement", 1.0), "mils": ("displacement", MM_PER_IN),
+                   "mm/s": ("velocity", 1.0), "in/s": ("velocity", MM_PER_IN)}
 """Amplitude units: quantity and factor to the base unit (µm or mm/s)."""
 
 UNIT_ALIASES = {"µm": "um", "micron": "um", "microns": "um", "mil": "mils",

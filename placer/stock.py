@@ -292,9 +292,9 @@ def plan_together(planners: Sequence[PlanePlanner], drawers: dict[str, int],
             planner = planners[i]
             following = best
             best = {}
-            for left in itertools.product(*(range(t + 1) for t in totals)):
+            for left in itertools.product(*(range(t, -1, -1) for t in totals)):
                 top = None
-                for cap in itertools.product(*(range(min(x, c) + 1)
+                for cap in itertools.product(*(range(min(x, c), -1, -1)
                                                for x, c in zip(left, limit))):
                     choice = planner.choice(dict(zip(keys, cap)))
                     use = planner.drawer_use(choice)

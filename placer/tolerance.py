@@ -30,8 +30,6 @@ from placer.job import Job
 __all__ = [
     "BALANCE_QUALITY_GRADES_MM_S",
     "SHARE_LIMITS",
-    "OZ_IN_TO_GMM",
-    "LB_TO_KG",
     "PlaneShare",
     "PlaneTolerance",
     "JobTolerances",
@@ -78,18 +76,6 @@ When the lever rule gives a plane less than 0.3 * U_per or more than
 are FROM MEMORY of the allocation rule for two reference planes in
 ISO 21940-11; they have not been checked against the standard's text.
 """
-
-OZ_IN_TO_GMM: float = 720.078
-"""Gram-millimetres in one ounce-inch [g*mm / (oz*in)].
-
-1 oz * in = 28.349523125 g * 25.4 mm = 720.0779 g*mm; the value 720.078 is
-the one printed in the Energy-Tech magazine article comparing API 617,
-MIL-STD-167 and ISO 1940-1 ([EnergyTech] in REFERENCES.md).
-"""
-
-LB_TO_KG: float = 0.45359237
-"""Kilograms in one avoirdupois pound [kg/lb]; exact by definition."""
-
 
 @dataclass(frozen=True)
 class PlaneShare:
@@ -455,7 +441,8 @@ def api_617_limit_gmm(journal_load_kg: float, max_continuous_rpm: float) -> floa
 
     Examples
     --------
-    >>> round(api_617_limit_gmm(500 * LB_TO_KG, 15000.0) / OZ_IN_TO_GMM, 2)
+    >>> from placer.units import GMM_PER_OZ_IN, KG_PER_LB
+    >>> round(api_617_limit_gmm(500 * KG_PER_LB, 15000.0) / GMM_PER_OZ_IN, 2)
     0.13
     """
     load_kg = _positive_finite(journal_load_kg, "journal_load_kg", "kg")
@@ -532,12 +519,14 @@ def job_tolerances(job: Job) -> JobTolerances:
         shares = tuple(allocate_to_planes(u_per, [p.geometry.name for p in job.planes],
                                           rotor.com_distances_mm))
     elif any(given):
-        notes = ("grade, mass_kg and service_rpm are all needed for a tolerance from the "
-                 "balance quality grade; planes use tolerance_gmm only",)
+        notes = ("grade, the rotor's mass and service_rpm are all needed for a tolerance from "
+                 "the balance quality grade; planes use their own tolerance only",)
     planes = []
-    for index, own in enumerate(p.tolerance_gmm for p in job.planes):
+    for index, plane in enumerate(job.planes):
+        own = plane.tolerance_gmm
         if own is not None:
-            planes.append(PlaneTolerance(own, "job file (tolerance_gmm)"))
+            given = plane.tolerance_given_as or "tolerance_gmm"
+            planes.append(PlaneTolerance(own, f"job file ({given})"))
         elif shares is not None:
             planes.append(PlaneTolerance(shares[index].permissible_gmm,
                                          f"{shares[index].share:.0%} of U_per from the grade"))

@@ -12,7 +12,7 @@ import pytest
 from placer.cli import main
 
 REPO_DIR = Path(__file__).resolve().parent.parent
-JOB_TABLES = {"rotor", "planes"}
+JOB_TABLES = {"job", "rotor", "planes"}
 
 
 REQUIREMENT_KEYS = ("correction", "unbalance")

@@ -14,7 +14,8 @@ from pathlib import Path
 
 from placer.batch import RotorReading, solve_readings
 from placer.geometry import polar
-from placer.io.batchresults import cut_to, read_template, run_batch
+from placer.io.batchresults import read_template, run_batch
+from placer.io.batchresume import cut_to
 from placer.io.jobfile import read_job
 from placer.solve import solve_job
 

@@ -24,7 +24,8 @@ BUNDLED = ["washers-steel.toml", "fan-blade-clips.toml", "rim-clips-5g.toml",
 TOP_KEYS_REQUIRED = {"name", "items"}
 TOP_KEYS_ALLOWED = {"name", "description", "items"}
 ITEM_KEYS_REQUIRED = {"id", "mass_g"}
-ITEM_KEYS_ALLOWED = {"id", "mass_g", "stock", "description", "mass_tol_g", "mass_tol_pct"}
+ITEM_KEYS_ALLOWED = {"id", "mass_g", "mass_oz", "stock", "description", "fixing", "mass_tol_g",
+                     "mass_tol_oz", "mass_tol_pct"}
 
 # The washers file's masses are washer_mass_g of the ISO 7089 table rounded to
 # 0.01 g, so they agree with the unrounded value to half a unit: 0.005 g.

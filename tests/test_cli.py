@@ -54,7 +54,13 @@ EXPECTED_EXIT = {
     "blade-fan.toml": 0,
     "adhesive-hub.toml": 0,
     "pump-impeller-rework.toml": 0,
+    "dryer-fan-two-ends.toml": 0,
+    "pickup-wheel-oz.toml": 0,
 }
+
+IN_MM = 25.4                                   # [NISTHB44]: 1 in = 25.4 mm exactly
+LB_KG = 0.45359237                             # [NISTHB44]: 1 lb = 0.45359237 kg exactly
+OZ_G = LB_KG * 1000.0 / 16.0                   # [NISTHB44]: 1 oz = 1/16 lb
 
 # Defaults of the job-file format (placer.job: DEFAULT_MAX_PARTS, capacity 1,
 # angles counted against rotation).  Regression pins of placer's own format.
@@ -82,7 +88,11 @@ def _catalog_items(reference: str, job_dir: Path) -> dict[str, dict]:
     if not path.is_file():
         path = CATALOG_DIR / f"{reference}.toml"
     data = tomllib.loads(path.read_text(encoding="utf-8"))
-    return {item["id"]: item for item in data["items"]}
+    items = {item["id"]: item for item in data["items"]}
+    for item in items.values():
+        if "mass_oz" in item:
+            item["mass_g"] = item["mass_oz"] * OZ_G
+    return items
 
 
 def _job_planes(job: Path) -> tuple[dict, list[dict]]:
@@ -95,10 +105,17 @@ def _job_planes(job: Path) -> tuple[dict, list[dict]]:
         else:
             count, start = plane["positions"], float(plane.get("start_deg", 0.0))
             angles = [(start + 360.0 * i / count) % 360.0 for i in range(count)]
+        if "radius_in" in plane:
+            plane["radius_mm"] = plane["radius_in"] * IN_MM
         radii = [float(r) for r in plane.get("radii_mm", [plane.get("radius_mm")] * len(angles))]
         which = "correction" if "correction" in plane else "unbalance"
         vector = plane[which]
+        if "mass_oz" in vector:
+            vector["mass_g"] = vector["mass_oz"] * OZ_G
         magnitude = vector["gmm"] if "gmm" in vector else vector["mass_g"] * plane["radius_mm"]
+        for key, grams in (("tolerance_g", 1.0), ("tolerance_oz", OZ_G)):
+            if key in plane:                       # a mass at the radius: U = m·r
+                plane["tolerance_gmm"] = plane[key] * grams * plane["radius_mm"]
         required = cmath.rect(magnitude, math.radians(vector["angle_deg"]))
         if which == "unbalance":
             required = -required       # correction goes opposite the heavy spot (REFERENCES)
@@ -124,17 +141,23 @@ def _expected_tolerances(rotor: dict, planes: list[dict]) -> list[float | None]:
     distances half each (symmetric rotor) - both from REFERENCES.
     """
     u_per = None
-    if all(k in rotor for k in ("grade", "mass_kg", "service_rpm")):
-        assert "com_distances_mm" not in rotor, "this oracle covers equal shares only"
+    mass_kg = rotor.get("mass_kg", rotor["mass_lb"] * LB_KG if "mass_lb" in rotor else None)
+    shares = [1.0 / len(planes)] * len(planes)
+    if "com_distances_mm" in rotor:
+        # Lever rule U_A = U·L_B/L, U_B = U·L_A/L, each held to 0.3..0.7 [ISO21940-11].
+        to_a, to_b = rotor["com_distances_mm"]
+        shares = [min(max(to_b / (to_a + to_b), 0.3), 0.7),
+                  min(max(to_a / (to_a + to_b), 0.3), 0.7)]
+    if "grade" in rotor and mass_kg is not None and "service_rpm" in rotor:
         grade_mm_s = float(str(rotor["grade"]).lstrip("Gg"))
         omega_rad_s = 2.0 * math.pi * rotor["service_rpm"] / 60.0
-        u_per = 1000.0 * grade_mm_s * rotor["mass_kg"] / omega_rad_s
+        u_per = 1000.0 * grade_mm_s * mass_kg / omega_rad_s
     out = []
-    for plane in planes:
+    for plane, share in zip(planes, shares):
         if plane["tolerance_gmm"] is not None:
             out.append(float(plane["tolerance_gmm"]))
         elif u_per is not None:
-            out.append(u_per / len(planes))
+            out.append(u_per * share)
         else:
             out.append(None)
     return out
@@ -312,7 +335,9 @@ def test_example_sheet_at_width_80(example_job, run_cli, solve_json):
         expected = ["WITHIN" if p["chosen"]["within_tolerance"] else "OUTSIDE"
                     for p in data["planes"] if p["chosen"]["within_tolerance"] is not None]
         assert [v for v in verdicts] == expected
-        assert f"Angles: degrees from the reference mark, counted {sense}" in flat
+        mark = f"the {rotor['reference_mark']}" if "reference_mark" in rotor \
+            else "the reference mark"
+        assert f"Angles: degrees from {mark}, counted {sense}" in flat
         # Cautions: lockout/tagout (OSHA 29 CFR 1910.147) and the projectile warning,
         # as in REFERENCES "Cautions".
         assert "Cautions" in flat
@@ -390,10 +415,11 @@ def test_outside_tolerance_exit_1_and_least_residual_plan(write_file, solve_json
     flat = _flat(sheet)
     assert "OUTSIDE TOLERANCE" in flat
     assert "WITHIN TOLERANCE" not in flat
-    assert "Fit these parts" in flat
+    assert "Best plan found, which does NOT reach the tolerance" in flat
+    assert "Fit these parts" not in flat               # not a list to tick off (issue 12)
     for part in chosen["parts"]:
         assert part["item"] in flat
-    assert f"Residual {chosen['residual_gmm']:.2f} g·mm" in flat
+    assert f"Residual {chosen['residual_gmm']:.4g} g·mm" in flat
 
 
 def test_outside_tolerance_exit_1_as_subprocess(write_file):
@@ -401,7 +427,7 @@ def test_outside_tolerance_exit_1_as_subprocess(write_file):
     proc = _run_placer("solve", job)
     assert proc.returncode == 1
     assert "OUTSIDE TOLERANCE" in proc.stdout
-    assert "Fit these parts" in proc.stdout
+    assert "does NOT reach the tolerance" in proc.stdout
 
 
 # --------------------------------------------------------------------------
@@ -579,9 +605,9 @@ def test_tolerance_text(run_cli):
     assert f"{u_per:.1f}" == "97.1"
     code, out, err = run_cli("tolerance", "--grade", "G2.5", "--mass-kg", "12", "--rpm", "2950")
     assert code == 0 and err == ""
-    assert "97.1 g·mm" in out
-    assert f"50% = {u_per / 2:.1f} g·mm" in out
-    assert out.count(f"{u_per / 2:.1f} g·mm") == 2
+    assert "97.11 g·mm" in out
+    assert f"50% = {u_per / 2:.4g} g·mm" in out              # four significant digits
+    assert out.count(f"{u_per / 2:.4g} g·mm") == 2
 
 
 def test_tolerance_json(run_cli):
@@ -611,7 +637,7 @@ def test_tolerance_published_example(run_cli):
 def test_tolerance_as_subprocess():
     proc = _run_placer("tolerance", "--grade", "G2.5", "--mass-kg", "12", "--rpm", "2950")
     assert proc.returncode == 0
-    assert "97.1 g·mm" in proc.stdout
+    assert "97.11 g·mm" in proc.stdout
 
 
 # --------------------------------------------------------------------------

@@ -13,8 +13,6 @@ import pytest
 from placer.errors import ToleranceError
 from placer.tolerance import (
     BALANCE_QUALITY_GRADES_MM_S,
-    LB_TO_KG,
-    OZ_IN_TO_GMM,
     SHARE_LIMITS,
     PlaneShare,
     allocate_to_planes,
@@ -23,6 +21,8 @@ from placer.tolerance import (
     permissible_eccentricity_um,
     permissible_residual_gmm,
 )
+from placer.units import GMM_PER_OZ_IN as OZ_IN_TO_GMM
+from placer.units import KG_PER_LB as LB_TO_KG
 
 # --------------------------------------------------------------------------
 # Grades and constants
@@ -49,11 +49,11 @@ def test_pound_is_exact_by_definition():
 
 
 def test_ounce_inch_in_gram_millimetres():
-    # REFERENCES (Energy-Tech article): 1 oz*in = 720.078 g*mm, printed to
-    # 3 decimals.  Independently: 1 oz = 1/16 lb = 28.349523125 g and
-    # 1 in = 25.4 mm (both exact by definition), product 720.0779 g*mm.
-    assert OZ_IN_TO_GMM == 720.078
-    assert OZ_IN_TO_GMM == pytest.approx(LB_TO_KG * 1000.0 / 16.0 * 25.4, abs=0.0005)
+    # [EnergyTech] prints 1 oz*in = 720.078 g*mm, to 3 decimals: the exact
+    # value of [NISTHB44] (28.349523125 g * 25.4 mm = 720.077887375 g*mm)
+    # rounds to the article's figure.
+    assert round(OZ_IN_TO_GMM, 3) == 720.078
+    assert OZ_IN_TO_GMM == pytest.approx(0.45359237 * 1000.0 / 16.0 * 25.4, rel=1e-15)
 
 
 def test_share_limits_value():

@@ -1,4 +1,6 @@
-"""A built wheel carries the bundled catalogues and finds them without the checkout."""
+"""A built wheel carries the bundled catalogues and examples and finds them without the
+checkout; its distribution name is placer-balance (the name placer is another project's
+on the package index), its import name and command placer."""
 
 from __future__ import annotations
 
@@ -16,9 +18,17 @@ def test_wheel_finds_bundled_catalogues(tmp_path):
     subprocess.run([sys.executable, "-m", "pip", "wheel", str(ROOT), "--no-deps",
                     "--no-build-isolation", "-q", "-w", str(out)], check=True,
                    capture_output=True, text=True)
-    wheel = next(out.glob("placer-*.whl"))
+    wheel = next(out.glob("placer_balance-*.whl"))
     names = zipfile.ZipFile(wheel).namelist()
     assert "placer/catalogs/washers-steel.toml" in names
+    assert "placer/catalogs/wheel-clips-oz.toml" in names
+    examples = sorted(p.name for p in (ROOT / "examples").iterdir()
+                      if p.suffix in (".toml", ".csv"))
+    assert {f"placer/examples/{name}" for name in examples} <= set(names)
+    metadata = next(n for n in names if n.endswith(".dist-info/METADATA"))
+    text = zipfile.ZipFile(wheel).read(metadata).decode("utf-8")
+    assert "Name: placer-balance" in text
+    assert any(line.startswith("Requires-Dist: matplotlib") for line in text.splitlines())
     site = tmp_path / "site"
     zipfile.ZipFile(wheel).extractall(site)
     code = ("import placer.io.catalogfile as c, placer.io.catalogfile as f; "
@@ -34,3 +44,14 @@ def test_wheel_finds_bundled_catalogues(tmp_path):
     assert {"washers-steel", "rim-clips-5g", "fan-blade-clips", "adhesive-segments"} <= set(
         listed.split(","))
     assert item == "M8"
+    # placer new example copies from the installed package, not from a checkout.
+    copy = tmp_path / "copies"
+    copy.mkdir()
+    code = "import sys; from placer.cli import main; sys.exit(main(sys.argv[1:]))"
+    run = subprocess.run([sys.executable, "-P", "-c", code, "new", "example", "all",
+                          "--folder", str(copy)], cwd=tmp_path, env=env, capture_output=True,
+                         text=True)
+    assert run.returncode == 0, run.stderr
+    assert sorted(p.name for p in copy.iterdir()) == examples
+    assert (copy / "supply-fan.toml").read_bytes() == (ROOT / "examples" /
+                                                      "supply-fan.toml").read_bytes()

@@ -57,29 +57,6 @@ class PlaneArrays:
     row_existing: np.ndarray | None = None
     masses: np.ndarray | None = None
 
-    def row_of(self, position_index: int, hole: bool) -> int:
-        """The row that fits an added part (or drills a hole) at a position.
-
-        A position with no drilling row (already drilled, or taking no
-        removal) has no row for a hole: numpy then raises a ValueError.
-
-        Parameters
-        ----------
-        position_index : int
-            The position's index (number - 1).
-        hole : bool
-            True for a removal item (a hole drilled), False for an added part.
-
-        Returns
-        -------
-        int
-            The position's own row for an added part, its drilling row for a
-            hole.
-        """
-        if not hole:
-            return position_index
-        rows = np.nonzero((self.row_position == position_index) & (self.row_existing < 0))[0]
-        return int(rows.max())     # rows[0] is the position's own row for added parts
 
 
 def placement_arrays(geometry: PlaneGeometry, catalog: Catalog,

@@ -12,9 +12,11 @@ template order (1, 2, ...)::
 * ``serial``: the rotor's serial, 1 to 40 characters, ASCII letters,
   digits, ``-``, ``_`` and ``.`` only; each serial once per file.
 * per plane ``<plane>_angle_deg`` and exactly one of ``<plane>_mass_g``
-  (at the plane's ``radius_mm``; not for planes with ``radii_mm``) or
-  ``<plane>_gmm``: the required **correction** (where mass must be added,
-  as ``correction = {...}`` in a job file), magnitude zero or more.
+  or ``<plane>_mass_oz`` (at the plane's radius; not for planes with radii
+  per position), ``<plane>_gmm`` or ``<plane>_oz_in``: the required
+  **correction** (where mass must be added, as ``correction = {...}`` in a
+  job file), magnitude zero or more.  Ounces and oz·in are converted with
+  the exact factors of :mod:`placer.units`.
 
 No other columns.  A bad header stops the batch (exit 2); a bad row (wrong
 number of values, a value missing, not a number, NaN or infinite, outside
@@ -35,6 +37,8 @@ One object per line, the planes in template order::
 
     {"serial": "WM-FH-0001", "planes": [{"mass_g": 4.2, "angle_deg": 117.5},
                                         {"gmm": 630.0, "angle_deg": 12.0}]}
+
+with ``mass_oz`` and ``oz_in`` as in the CSV.
 
 Numbers are JSON numbers (not text), with the range of the CSV's; a line
 that is not JSON, or nests lists and objects too deeply to read, is a bad
@@ -59,11 +63,18 @@ from placer.geometry import polar
 from placer.io.tables import number_problem, printable, whole_number_text
 from placer.job import Job
 from placer.limits import MAX_WHOLE, RANGE_EXPECTED
+from placer.units import MASS_UNITS, UNBALANCE_UNITS
+
+MAGNITUDE_FACTORS = {**{f"mass_{unit}": factor for unit, factor in MASS_UNITS.items()},
+                     **UNBALANCE_UNITS}
+"""A plane's magnitude columns (keys) and the factor to g (a mass) or to g·mm."""
+MAGNITUDE_KINDS = tuple(MAGNITUDE_FACTORS)
+MASS_KINDS = tuple(k for k in MAGNITUDE_KINDS if k.startswith("mass_"))
 
 SERIAL_PATTERN = re.compile(r"[A-Za-z0-9._-]{1,40}")
 """A serial: 1 to 40 ASCII letters, digits, '-', '_' or '.'."""
 SERIAL_EXPECTED = "1 to 40 letters, digits, '-', '_' or '.'"
-COLUMN_PATTERN = re.compile(r"([0-9]+)_(mass_g|gmm|angle_deg)")
+COLUMN_PATTERN = re.compile(r"([0-9]+)_(mass_g|mass_oz|gmm|oz_in|angle_deg)")
 PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?")
 """A number as a spreadsheet or a balancing machine writes it (ASCII digits only)."""
 PLAIN_EXPECTED = "a plain decimal number such as 12.5, -3 or 1.25e3"
@@ -148,8 +159,8 @@ def _radius_of(template: Job, index: int) -> float | None:
 
 def _csv_header(names: list[str], file: str, template: Job) -> tuple[int, list[_PlaneColumns]]:
     n_planes = len(template.planes)
-    expected = ("serial, then per plane <plane>_mass_g or <plane>_gmm and <plane>_angle_deg, "
-                f"<plane> from 1 to {n_planes}")
+    expected = ("serial, then per plane one of <plane>_mass_g, <plane>_mass_oz, <plane>_gmm, "
+                f"<plane>_oz_in, and <plane>_angle_deg, <plane> from 1 to {n_planes}")
     seen: dict[str, int] = {}
     per_plane: dict[int, dict[str, int]] = {}
     for index, name in enumerate(names):
@@ -174,20 +185,26 @@ def _csv_header(names: list[str], file: str, template: Job) -> tuple[int, list[_
     planes = []
     for number in range(1, n_planes + 1):
         given = per_plane.get(number, {})
-        kinds = [k for k in ("mass_g", "gmm") if k in given]
+        kinds = [k for k in MAGNITUDE_KINDS if k in given]
         if "angle_deg" not in given:
             raise InputError(f"no column {number}_angle_deg", file=file, key="header",
                              expected=expected)
         if len(kinds) != 1:
-            raise InputError(f"plane {number} needs one of {number}_mass_g or {number}_gmm, "
-                             f"not {'both' if kinds else 'neither'}", file=file, key="header",
+            names = ", ".join(f"{number}_{k}" for k in MAGNITUDE_KINDS)
+            raise InputError(f"plane {number} needs one of {names}, "
+                             f"not {_count_word(kinds)}", file=file, key="header",
                              expected=expected)
         radius = _radius_of(template, number - 1)
-        if kinds[0] == "mass_g" and radius is None:
+        if kinds[0] in MASS_KINDS and radius is None:
             raise InputError(f"plane {number} has its own radius per position", file=file,
-                             key=f"column '{number}_mass_g'", expected=f"{number}_gmm")
+                             key=f"column '{number}_{kinds[0]}'",
+                             expected=f"{number}_gmm or {number}_oz_in")
         planes.append(_PlaneColumns(given[kinds[0]], given["angle_deg"], kinds[0], radius))
     return seen["serial"], planes
+
+
+def _count_word(kinds: list[str]) -> str:
+    return "both" if len(kinds) == 2 else "several" if kinds else "neither"
 
 
 def _csv_rows(text: str, path: Path, template: Job) -> Iterator[RotorReading | RowError]:
@@ -314,7 +331,9 @@ def _vector(raw_magnitude: Any, raw_angle: Any, columns: _PlaneColumns, magnitud
     angle = _number(raw_angle, angle_name, text)
     if isinstance(angle, str):
         return angle
-    gmm = magnitude * columns.radius_mm if columns.kind == "mass_g" else magnitude
+    gmm = magnitude * MAGNITUDE_FACTORS[columns.kind]
+    if columns.kind in MASS_KINDS:
+        gmm *= columns.radius_mm
     vector = polar(gmm, angle)
     if not (math.isfinite(vector.real) and math.isfinite(vector.imag)):  # cannot happen in range
         return f"{magnitude_name} gives a correction that is not finite (expected {RANGE_EXPECTED})"
@@ -369,15 +388,17 @@ def _json_plane(plane: Any, number: int, template: Job) -> complex | str:
     key = f"planes[{number}]"
     if not isinstance(plane, dict):
         return f"{key} is not an object"
-    unknown = sorted(set(plane) - {"mass_g", "gmm", "angle_deg"})
+    unknown = sorted(set(plane) - {*MAGNITUDE_KINDS, "angle_deg"})
+    names = ", ".join(MAGNITUDE_KINDS)
     if unknown:
-        return f"{key}.{unknown[0]} is an unknown key (expected mass_g or gmm, and angle_deg)"
-    kinds = [k for k in ("mass_g", "gmm") if k in plane]
+        return f"{key}.{unknown[0]} is an unknown key (expected one of {names}, and angle_deg)"
+    kinds = [k for k in MAGNITUDE_KINDS if k in plane]
     if len(kinds) != 1:
-        return f"{key} needs one of mass_g or gmm, not {'both' if kinds else 'neither'}"
+        return f"{key} needs one of {names}, not {_count_word(kinds)}"
     radius = _radius_of(template, number - 1)
-    if kinds[0] == "mass_g" and radius is None:
-        return f"{key}.mass_g: plane {number} has its own radius per position (expected gmm)"
+    if kinds[0] in MASS_KINDS and radius is None:
+        return (f"{key}.{kinds[0]}: plane {number} has its own radius per position "
+                "(expected gmm or oz_in)")
     columns = _PlaneColumns(0, 0, kinds[0], radius)
     return _vector(plane[kinds[0]], plane.get("angle_deg"), columns, f"{key}.{kinds[0]}",
                    f"{key}.angle_deg", text=False)

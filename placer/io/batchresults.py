@@ -68,7 +68,6 @@ from __future__ import annotations
 
 import csv
 import hashlib
-import json
 import time
 from collections.abc import Callable
 from dataclasses import asdict, dataclass
@@ -78,19 +77,18 @@ from typing import Any, TextIO
 from placer.batch import (
     BatchSummary,
     BatchTally,
-    RotorOutcome,
     RotorReading,
     default_jobs,
     processes_used,
-    reading_digest,
     solve_readings,
     usable_cores,
 )
 from placer.errors import InputError
-from placer.geometry import angle_of_deg
 from placer.io.batchreadings import RowError, read_readings
+from placer.io.batchrecords import csv_header, csv_row, outcome_record, record_parts
+from placer.io.batchresume import check_unchanged, cut_to, drawer_use, read_done
 from placer.io.jobfile import read_job
-from placer.io.tables import json_text, printable
+from placer.io.tables import json_text
 from placer.limits import DEFAULT_EFFORT
 
 
@@ -198,269 +196,6 @@ def template_digest(path: Path) -> str:
     return hashlib.sha256(Path(path).read_bytes()).hexdigest()[:12]
 
 
-def parts_text(fitted: list[dict]) -> str:
-    """``position:item×count`` joined by ``;`` (empty for no parts); count < 0 to take off.
-
-    Parameters
-    ----------
-    fitted : list of dict
-        The plane's parts as in a result record (``position``, ``item``,
-        ``count``, ``action``).
-
-    Returns
-    -------
-    str
-        The parts as text, e.g. ``3:M10×2;7:M6×1``.
-    """
-    return ";".join(f"{p['position']}:{p['item']}×{_signed(p)}" for p in fitted)
-
-
-def _signed(part: dict) -> int:
-    return -part["count"] if part.get("action") == "remove" else part["count"]
-
-
-def outcome_record(outcome: RotorOutcome, digest: str) -> dict[str, Any]:
-    """The JSON object of one solved rotor (a line of ``PREFIX.jsonl``).
-
-    ``input`` is :func:`placer.batch.reading_digest` of the corrections the
-    rotor was solved for; each plane repeats its correction as read.
-
-    Parameters
-    ----------
-    outcome : RotorOutcome
-        The rotor's plans.
-    digest : str
-        :func:`template_digest` of the template file.
-
-    Returns
-    -------
-    dict
-        The record, ready for :func:`placer.io.tables.json_text`.
-    """
-    record = {"serial": outcome.serial, "line": outcome.line, "template": digest,
-              "input": reading_digest(p.correction_gmm for p in outcome.planes),
-              "within_tolerance": outcome.within_tolerance,
-              "solved_together": outcome.solved_together,
-              "stock_short": list(outcome.stock_short),
-              "planes": [_plane_record(p) for p in outcome.planes]}
-    if outcome.drawer_left:
-        record["drawer_left"] = [{"catalog": c, "item": i, "count": n}
-                                 for c, i, n in outcome.drawer_left]
-        record["full_drawer"] = (None if outcome.full_drawer is None
-                                 else [_plane_record(p) for p in outcome.full_drawer])
-    return record
-
-
-def _plane_record(p) -> dict[str, Any]:
-    """One plane's plan in a rotor's record."""
-    fitted = [{"position": f.position, "angle_deg": f.angle_deg, "item": f.item,
-               "mass_g": f.mass_g, "count": f.count, "action": f.verb} for f in p.option.parts]
-    return {"plane": p.plane, "name": p.name, "catalog": p.catalog,
-            "correction_gmm": abs(p.correction_gmm),
-            "correction_angle_deg": angle_of_deg(p.correction_gmm),
-            "parts": parts_text(fitted), "fitted": fitted,
-            "part_count": p.option.used_parts, "mass_g": p.option.mass_g,
-            "residual_gmm": p.option.residual_gmm,
-            "residual_angle_deg": p.option.residual_angle_deg,
-            "tolerance_gmm": p.tolerance_gmm, "within_tolerance": p.within_tolerance}
-
-
-def csv_header(n_planes: int) -> list[str]:
-    """Columns of ``PREFIX.csv``.
-
-    Parameters
-    ----------
-    n_planes : int
-        Planes of the template.
-
-    Returns
-    -------
-    list of str
-        ``serial``, three columns per plane (numbered from 1), then
-        ``within_tolerance``.
-    """
-    names = ["serial"]
-    for number in range(1, n_planes + 1):
-        names += [f"{number}_parts", f"{number}_residual_gmm", f"{number}_within_tolerance"]
-    return names + ["within_tolerance"]
-
-
-def _flag(value: bool | None) -> str:
-    return "" if value is None else ("true" if value else "false")
-
-
-def csv_row(record: dict[str, Any]) -> list[str]:
-    """One line of ``PREFIX.csv`` from a result record (a residual of null left empty).
-
-    Parameters
-    ----------
-    record : dict
-        A result record (:func:`outcome_record`, or read back from ``PREFIX.jsonl``).
-
-    Returns
-    -------
-    list of str
-        The cells, in the order of :func:`csv_header`.
-    """
-    row = [record["serial"]]
-    for plane in record["planes"]:
-        residual = plane["residual_gmm"]
-        row += [plane["parts"], "" if residual is None else repr(float(residual)),
-                _flag(plane["within_tolerance"])]
-    return row + [_flag(record["within_tolerance"])]
-
-
-def read_done(path: Path, digest: str, n_planes: int | None = None
-              ) -> tuple[list[dict[str, Any]], int]:
-    """The rotors already in ``PREFIX.jsonl`` and how many bytes of it to keep.
-
-    A partial last line (a batch killed while writing it) is left out of
-    both; :func:`cut_to` cuts it off the file once the batch goes on.
-
-    Parameters
-    ----------
-    path : Path
-        ``PREFIX.jsonl``.
-    digest : str
-        :func:`template_digest` of the template now given.
-    n_planes : int or None
-        Planes every record must have; None not to check.
-
-    Returns
-    -------
-    records : list of dict
-        The result records kept.
-    keep : int
-        Bytes of the file that hold them.
-
-    Raises
-    ------
-    InputError
-        When a line other than the last is not a result record (of
-        ``n_planes`` planes, when given), or a record was written from
-        another template.
-    """
-    path = Path(path)
-    data = path.read_bytes()
-    keep = data.rfind(b"\n") + 1
-    lines = data[:keep].split(b"\n")[:-1]
-    records: list[dict[str, Any]] = []
-    for number, raw in enumerate(lines, start=1):
-        try:
-            record = json.loads(raw.decode("utf-8"))
-            _check_record(record, n_planes)
-        except (ValueError, KeyError, IndexError, TypeError, RecursionError):
-            if number == len(lines) and keep == len(data):
-                keep -= len(raw) + 1
-                break
-            raise InputError("is not a result record", file=str(path), key=f"line {number}",
-                             expected="a file written by placer batch, or {opt:force} to start "
-                                      "again") from None
-        if record.get("template") != digest:
-            raise InputError(f"was written from another template "
-                             f"({printable(str(record.get('template')))[:20]}, "
-                             f"now {digest})", file=str(path), key=f"line {number}",
-                             expected="the same template, or {opt:force} to start again")
-        records.append(record)
-    return records, keep
-
-
-def _check_record(record: Any, n_planes: int | None) -> None:
-    """Raise ValueError unless ``record`` has what resuming reads from it."""
-    if not isinstance(record, dict) or not isinstance(record.get("serial"), str):
-        raise ValueError("no serial")
-    planes = record["planes"]
-    if not isinstance(planes, list) or not planes or (n_planes and len(planes) != n_planes):
-        raise ValueError("planes")
-    for plane in planes:
-        if not isinstance(plane["parts"], str) or not isinstance(plane["catalog"], str):
-            raise ValueError("plane")
-        residual = plane["residual_gmm"]
-        if residual is not None and not isinstance(residual, (int, float)):
-            raise ValueError("residual")
-        for part in plane["fitted"]:
-            if not isinstance(part["item"], str) or not isinstance(part["count"], int):
-                raise ValueError("part")
-
-
-def cut_to(path: Path, keep: int) -> None:
-    """Cut ``path`` to its first ``keep`` bytes (a no-op when it is that long).
-
-    Parameters
-    ----------
-    path : Path
-        The file.
-    keep : int
-        Bytes to keep [bytes].
-    """
-    if Path(path).stat().st_size != keep:
-        with Path(path).open("r+b") as handle:
-            handle.truncate(keep)
-
-
-def check_unchanged(done: list[dict[str, Any]], rows: list[RotorReading | RowError],
-                    results_path: Path) -> None:
-    """Refuse to resume when a kept result's row is gone or its corrections changed.
-
-    Parameters
-    ----------
-    done : list of dict
-        The result records kept (:func:`read_done`).
-    rows : list of RotorReading or RowError
-        The rows of the readings file; the first row of each serial counts.
-    results_path : Path
-        ``PREFIX.jsonl``, for the message.
-
-    Raises
-    ------
-    InputError
-        Naming the results file, the record's line and serial.
-    """
-    readings: dict[str, RotorReading | RowError] = {}
-    for row in rows:
-        if row.serial is not None:
-            readings.setdefault(row.serial, row)
-    again = "the readings the results were solved from, or {opt:force} to start again"
-    for number, record in enumerate(done, start=1):
-        serial = record["serial"]
-        row = readings.get(serial)
-        if row is None:
-            raise InputError(f"rotor {serial} is no longer in the readings file",
-                             file=str(results_path), key=f"line {number}", expected=again)
-        if isinstance(row, RowError) or record.get("input") != row.digest:
-            what = "is now a bad row" if isinstance(row, RowError) else \
-                "has other corrections in the readings file than when it was solved"
-            raise InputError(f"rotor {serial} {what}", file=str(results_path),
-                             key=f"line {number}", expected=again)
-
-
-def drawer_use(template, done: list[dict[str, Any]]) -> dict[str, int]:
-    """Parts the kept rotors took from each drawer (by stock key), for a resumed batch.
-
-    Parameters
-    ----------
-    template : Job
-        The batch's template (its planes' catalogues name the drawers).
-    done : list of dict
-        The kept rotors' records.
-    """
-    used: dict[str, int] = {}
-    for record in done:
-        for plane in record["planes"]:
-            items = {item.id: item for item in template.planes[plane["plane"] - 1].catalog.items}
-            for part in plane["fitted"]:
-                item = items.get(part["item"])
-                if part["action"] != "remove" and item is not None and item.stock is not None:
-                    used[item.stock_key] = used.get(item.stock_key, 0) + int(part["count"])
-    return used
-
-
-def _record_parts(record: dict[str, Any]) -> list[tuple[str, str, int]]:
-    return [(plane["catalog"], part["item"], part["count"])
-            for plane in record["planes"] for part in plane["fitted"]
-            if part.get("action") != "remove"]
-
-
 def _write_line(handle: TextIO, text: str) -> None:
     handle.write(text)
     handle.flush()
@@ -556,7 +291,7 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
     paths.summary_json.unlink(missing_ok=True)
     tally = BatchTally(template)
     for record in done:
-        tally.add(record["within_tolerance"], _record_parts(record), record["serial"],
+        tally.add(record["within_tolerance"], record_parts(record), record["serial"],
                   [(d["catalog"], d["item"], d["count"]) for d in record.get("drawer_left", [])],
                   bool(record.get("full_drawer")))
     done_serials = {record["serial"] for record in done}

@@ -6,11 +6,13 @@ Format::
     description = "optional free text"
     [[items]]
     id = "M8"
-    mass_g = 1.83
+    mass_g = 1.83         # or mass_oz = 0.25 (converted to grams, placer.units)
     stock = 40            # optional: parts on hand
     description = "..."   # optional
-    mass_tol_g = 0.05     # optional: mass tolerance of one part, ± g (or mass_tol_pct)
-    removes = true        # optional: a removal item (drilled hole), mass_g negative
+    fixing = "M8 bolt, 25 N·m"   # optional: how it is fastened, printed beside each part
+    mass_tol_g = 0.05     # optional: mass tolerance of one part, ± g (or mass_tol_oz,
+                          # mass_tol_pct)
+    removes = true        # optional: a removal item (drilled hole), mass negative
 """
 
 from __future__ import annotations
@@ -20,20 +22,49 @@ from pathlib import Path
 
 from placer.catalog import Catalog, Item
 from placer.errors import CatalogError
-from placer.io.tables import Table, read_toml
+from placer.io.tables import Table, quantity_key, read_toml
+from placer.units import MASS_UNITS
+
+ITEM_KEYS = ("id", *(quantity_key("mass", u) for u in MASS_UNITS), "stock", "description",
+             "fixing", "removes", *(quantity_key("mass_tol", u) for u in MASS_UNITS),
+             "mass_tol_pct")
+"""Keys of a catalogue's [[items]]."""
 
 
 def bundled_dir() -> Path:
-    """Folder of the bundled catalogue files, installed or in a source checkout."""
+    """Folder of the bundled catalogue files: a source checkout's own, else the installed ones."""
+    return package_data_dir("catalogs")
+
+
+def package_data_dir(name: str) -> Path:
+    """A folder of files shipped with placer (``catalogs``, ``examples``).
+
+    In a source checkout (a ``pyproject.toml`` beside the ``placer`` package)
+    its own folder, so that another install of placer on the path does not
+    lend its files; otherwise the installed package ``placer.<name>``.
+
+    Parameters
+    ----------
+    name : str
+        The folder: "catalogs" or "examples".
+
+    Returns
+    -------
+    Path
+        The folder.
+    """
+    checkout = Path(__file__).resolve().parents[2]
+    if (checkout / "pyproject.toml").is_file() and (checkout / name).is_dir():
+        return checkout / name
     try:
         from importlib.resources import files
 
-        folder = Path(str(files("placer.catalogs")))
+        folder = Path(str(files(f"placer.{name}")))
         if folder.is_dir():
             return folder
     except (ModuleNotFoundError, TypeError):
         pass
-    return Path(__file__).resolve().parents[2] / "catalogs"
+    return checkout / name
 
 
 def bundled_names() -> list[str]:
@@ -68,8 +99,7 @@ def read_catalog(path: Path) -> Catalog:
     seen: set[str] = set()
     source = str(path.resolve())
     for table in root.tables("items", required=True):
-        table.allow_only(("id", "mass_g", "stock", "description", "removes", "mass_tol_g",
-                          "mass_tol_pct"))
+        table.allow_only(ITEM_KEYS)
         item_id = table.text("id", required=True)
         if not item_id.strip():
             raise table.fail("id", "is empty", "a label such as 'M8'")
@@ -79,16 +109,18 @@ def read_catalog(path: Path) -> Catalog:
         removes = table.data.get("removes", False)
         if not isinstance(removes, bool):
             raise table.fail("removes", "is not true/false", "true for a removal item")
-        mass = table.number("mass_g", required=True)
+        mass, key = table.quantity("mass", MASS_UNITS, required=True)
         if removes and mass >= 0:
-            raise table.fail("mass_g", f"is {mass:g} on a removal item",
+            raise table.fail(key, f"is {table.data[key]:g} on a removal item",
                              "a negative mass (the mass the removal takes off)")
         if not removes and mass <= 0:
-            raise table.fail("mass_g", f"is {mass:g}", "a number above zero "
+            raise table.fail(key, f"is {table.data[key]:g}", "a number above zero "
                              "(or removes = true and a negative mass for a removal item)")
-        if table.has("mass_tol_g") and table.has("mass_tol_pct"):
-            raise table.fail("mass_tol_pct", "given together with 'mass_tol_g'", "one of the two")
-        tolerance = table.number("mass_tol_g", default=0.0, non_negative=True)
+        tolerance, tol_key = table.quantity("mass_tol", MASS_UNITS, default=0.0,
+                                            non_negative=True)
+        if tol_key and table.has("mass_tol_pct"):
+            raise table.fail("mass_tol_pct", f"given together with '{tol_key}'",
+                             "one of the two")
         if table.has("mass_tol_pct"):
             tolerance = abs(mass) * table.number("mass_tol_pct", non_negative=True) / 100.0
         items.append(Item(
@@ -96,12 +128,22 @@ def read_catalog(path: Path) -> Catalog:
             mass_g=mass,
             stock=table.integer("stock", minimum=0),
             description=table.text("description", default=""),
+            fixing=_one_line(table, "fixing"),
             mass_tolerance_g=tolerance,
             source=source,
             catalog=name,
         ))
     return Catalog(name=name, items=tuple(items), source=source,
                    description=root.text("description", default=""))
+
+
+def _one_line(table: Table, key: str) -> str:
+    """Optional text on one line (a fixing note), stripped; "" when not given."""
+    text = (table.text(key) or "").strip()
+    if "\n" in text:
+        raise table.fail(key, "holds a new line", "a note on one line, such as "
+                         "\"M10 bolt, 45 N·m\"")
+    return text
 
 
 def resolve_catalog(reference: str, base_dir: Path, job_file: str, key: str) -> Path:

@@ -1,8 +1,17 @@
-"""Job files (TOML) -> :class:`placer.job.Job`.  The only reader of job files."""
+"""Job files (TOML) -> :class:`placer.job.Job`.  The only reader of job files.
+
+Quantities are read in metric or inch-pound units, each from its own
+unit-suffixed key (``radius_mm`` or ``radius_in``, ``mass_kg`` or
+``mass_lb``, ``mass_g`` or ``mass_oz``, ``gmm`` or ``oz_in``), and converted
+to metric here (:mod:`placer.units`); ``[job] units`` chooses what the
+output is shown in.
+"""
 
 from __future__ import annotations
 
+import datetime as dt
 import math
+from dataclasses import replace
 from pathlib import Path
 
 from placer.catalog import Catalog
@@ -16,12 +25,14 @@ from placer.geometry import (
     polar,
 )
 from placer.io.catalogfile import read_catalog, resolve_catalog
-from placer.io.tables import Table, read_toml
+from placer.io.tables import Table, quantity_key, read_toml
 from placer.job import (
     CORRECTION_BASES,
     DEFAULT_ANGLE_SENSE,
+    ENDS,
     ExistingPart,
     Job,
+    Paperwork,
     PlaneJob,
     Rotor,
 )
@@ -32,15 +43,35 @@ from placer.limits import (
     MAX_POSITIONS,
 )
 from placer.tolerance import parse_grade
+from placer.units import (
+    LENGTH_UNITS,
+    MASS_UNITS,
+    ROTOR_MASS_UNITS,
+    UNBALANCE_UNITS,
+    UNIT_SYSTEMS,
+    METRIC,
+)
 
-ROTOR_KEYS = ("name", "mass_kg", "service_rpm", "grade", "com_distances_mm", "angle_sense",
-              "placement_error_deg", "rotation")
-JOB_ROTOR_KEYS = ROTOR_KEYS + ("correction_basis", "aim_share")
+ROTOR_KEYS = ("name", "mass_kg", "mass_lb", "service_rpm", "grade", "com_distances_mm",
+              "com_distances_in", "angle_sense", "placement_error_deg", "rotation")
+JOB_ROTOR_KEYS = ROTOR_KEYS + ("correction_basis", "aim_share", "reference_mark", "front",
+                               "back")
 """Keys of a job file's [rotor] (a session's takes ROTOR_KEYS and its own)."""
-PLANE_KEYS = ("name", "radius_mm", "radii_mm", "positions", "start_deg", "angles_deg", "blocked",
-              "capacity", "catalog", "correction", "unbalance", "tolerance_gmm", "aim_share",
-              "max_parts", "accepts", "add_only", "remove_only", "existing")
-VECTOR_KEYS = ("mass_g", "gmm", "angle_deg")
+GEOMETRY_KEYS = ("name", "radius_mm", "radius_in", "radii_mm", "radii_in", "positions",
+                 "start_deg", "angles_deg", "blocked", "capacity", "catalog", "accepts",
+                 "add_only", "remove_only")
+"""Keys of a plane's positions and catalogue, in a job and in a session."""
+TOLERANCE_KEYS = tuple(quantity_key("tolerance", unit)
+                       for unit in (*UNBALANCE_UNITS, *MASS_UNITS))
+"""A plane's tolerance: in g·mm or oz·in, or as the mass at the plane's radius (g or oz)."""
+PLANE_KEYS = GEOMETRY_KEYS + ("correction", "unbalance", *TOLERANCE_KEYS, "aim_share",
+                              "max_parts", "existing", "worked_from")
+VECTOR_KEYS = (*(quantity_key("mass", unit) for unit in MASS_UNITS), *UNBALANCE_UNITS,
+               "angle_deg")
+PAPERWORK_KEYS = ("customer", "work_order", "technician", "date", "units")
+"""Keys of a job file's [job]: what the shop writes on the sheet, and the units shown."""
+SESSION_TABLES = ("machine", "readings", "sensors", "runs", "visit", "solve")
+"""Tables of a field session file, which a job file does not have."""
 
 
 def read_job(path: Path, *, template: bool = False) -> Job:
@@ -68,11 +99,21 @@ def read_job(path: Path, *, template: bool = False) -> Job:
     """
     path = Path(path)
     file = str(path)
-    root = Table(read_toml(path, JobError, "template file" if template else "job file"), file,
-                 "", JobError)
-    root.allow_only(("rotor", "planes"))
+    what = "template file" if template else "job file"
+    root = Table(read_toml(path, JobError, what), file, "", JobError)
+    session = [name for name in SESSION_TABLES if root.has(name)]
+    if session:
+        raise root.fail(session[0], f"is a table of a field-balancing session file, not of a "
+                        f"{what}", f"'placer field {file}' for a session file; a {what} has "
+                        "[job], [rotor] and [[planes]]")
+    root.allow_only(("job", "rotor", "planes"))
+    if not template:
+        _refuse_template(root)
+    paperwork = _paperwork(root.sub("job"))
     rotor_table = root.sub("rotor", required=True)
     rotor = rotor_of(rotor_table, JOB_ROTOR_KEYS[len(ROTOR_KEYS):])
+    rotor = replace(rotor, reference_mark=_name(rotor_table, "reference_mark"),
+                    front_name=_name(rotor_table, "front"), back_name=_name(rotor_table, "back"))
     basis = rotor_table.text("correction_basis", default="further")
     if basis not in CORRECTION_BASES:
         raise rotor_table.fail("correction_basis", f"is '{basis}'",
@@ -81,11 +122,59 @@ def read_job(path: Path, *, template: bool = False) -> Job:
     catalogs: dict[Path, Catalog] = {}
     planes = []
     for table in root.tables("planes", required=True):
-        planes.append(_plane(table, path.parent, catalogs, basis, template))
+        planes.append(_plane(table, path.parent, catalogs, basis, template, rotor))
     if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(planes):
+        key = next(k for k in ("com_distances_mm", "com_distances_in") if rotor_table.has(k))
         raise JobError(f"gives {len(rotor.com_distances_mm)} distances for {len(planes)} planes",
-                       file=file, key="rotor.com_distances_mm", expected="one distance per plane")
-    return Job(rotor=rotor, planes=tuple(planes), source=file)
+                       file=file, key=f"rotor.{key}", expected="one distance per plane")
+    return Job(rotor=rotor, planes=tuple(planes), source=file, paperwork=paperwork)
+
+
+def _refuse_template(root: Table) -> None:
+    """A file whose planes all lack a correction is a batch template: say which command."""
+    planes = root.data.get("planes")
+    if not isinstance(planes, list) or not planes or not all(isinstance(p, dict) for p in planes):
+        return
+    if any(k in p for p in planes for k in ("correction", "unbalance")):
+        return
+    raise root.fail("planes[1].correction", "missing on every plane, as in a batch template",
+                    f"correction = {{ mass_g = ..., angle_deg = ... }} on each plane, or "
+                    f"'placer batch {root.file} READINGS' for a template")
+
+
+def _name(t: Table, key: str) -> str:
+    """An optional short name (of the reference mark, of an end), stripped; "" when not given."""
+    text = (t.text(key) or "").strip()
+    if "\n" in text:
+        raise t.fail(key, "holds a new line", "a name on one line, such as \"keyway\"")
+    return text
+
+
+def _paperwork(t: Table | None) -> Paperwork:
+    """The [job] table: customer, work order, technician, date, units."""
+    if t is None:
+        return Paperwork()
+    t.allow_only(PAPERWORK_KEYS)
+    units = t.text("units", default=METRIC.name)
+    if units not in UNIT_SYSTEMS:
+        raise t.fail("units", f"is '{units}'", "metric (g, mm, g·mm, kg) or imperial "
+                     "(oz, in, oz·in, lb)")
+    date = ""
+    if t.has("date"):
+        value = t.data["date"]
+        expected = "a date such as 2026-03-14"
+        if isinstance(value, str):
+            try:
+                value = dt.date.fromisoformat(value.strip())
+            except ValueError:
+                raise t.fail("date", f"is '{value[:40]}'", expected) from None
+        if isinstance(value, dt.datetime):
+            value = value.date()
+        if not isinstance(value, dt.date):
+            raise t.fail("date", "is not a date", expected)
+        date = value.isoformat()
+    return Paperwork(customer=_name(t, "customer"), work_order=_name(t, "work_order"),
+                     technician=_name(t, "technician"), date=date, units=units)
 
 
 def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
@@ -119,11 +208,8 @@ def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
             grade = parse_grade(raw)
         except ToleranceError as exc:
             raise t.fail("grade", exc.detail, exc.expected) from None
-    distances = None
-    if t.has("com_distances_mm"):
-        values = t.array("com_distances_mm")
-        distances = tuple(t.check_number(f"com_distances_mm[{i + 1}]", v, non_negative=True)
-                          for i, v in enumerate(values))
+    values, _ = t.quantities("com_distances", LENGTH_UNITS, non_negative=True)
+    distances = None if values is None else tuple(values)
     sense = t.text("angle_sense", default=DEFAULT_ANGLE_SENSE)
     if sense not in ANGLE_SENSES:
         raise t.fail("angle_sense", f"is '{sense}'", "one of " + ", ".join(ANGLE_SENSES))
@@ -135,7 +221,7 @@ def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
         aim_share=_share(t, "aim_share"),
         placement_error_deg=t.number("placement_error_deg", default=0.0, non_negative=True),
         name=t.text("name", default="rotor"),
-        mass_kg=t.number("mass_kg", positive=True),
+        mass_kg=t.quantity("mass", ROTOR_MASS_UNITS, positive=True)[0],
         service_rpm=t.number("service_rpm", positive=True),
         grade_mm_s=grade,
         com_distances_mm=distances,
@@ -145,27 +231,90 @@ def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
 
 
 def _plane(t: Table, base_dir: Path, catalogs: dict[Path, Catalog],
-           basis: str = "further", template: bool = False) -> PlaneJob:
+           basis: str = "further", template: bool = False,
+           rotor: Rotor | None = None) -> PlaneJob:
     t.allow_only(PLANE_KEYS)
     geometry, catalog = plane_geometry(t, base_dir, catalogs)
     if template:
         if t.has("correction") or t.has("unbalance"):
-            _requirement(t)                   # checked like any job file's, then not used
+            _requirement(t, geometry)         # checked like any job file's, then not used
         correction, given_as = 0j, "batch template"
     else:
-        correction, given_as = _requirement(t)
+        correction, given_as = _requirement(t, geometry)
+    tolerance, tolerance_text = _tolerance(t, geometry)
     return PlaneJob(
         geometry=geometry,
         catalog=catalog,
         correction_gmm=correction,
         given_as=given_as,
-        tolerance_gmm=t.number("tolerance_gmm", non_negative=True),
+        tolerance_gmm=tolerance,
+        tolerance_given_as=tolerance_text,
+        worked_from=_end(t, rotor or Rotor("rotor")),
         max_parts=t.integer("max_parts", default=DEFAULT_MAX_PARTS, minimum=1,
                             maximum=MAX_PARTS_LIMIT),
         existing=_existing(t, geometry, catalog),
         correction_basis=basis,
         aim_share=_share(t, "aim_share"),
     )
+
+
+def _end(t: Table, rotor: Rotor) -> str:
+    """worked_from: "front", "back", or the name the rotor gives one of its ends."""
+    given = t.text("worked_from", default="front").strip()
+    for end in ENDS:
+        if given in (end, rotor.end_name(end)):
+            return end
+    names = [f"'{rotor.end_name(e)}'" for e in ENDS]
+    names += [f"'{e}'" for e in ENDS if rotor.end_name(e) != e]
+    raise t.fail("worked_from", f"is '{given}'", "the end the plane is worked from: "
+                 + " or ".join(names))
+
+
+def plane_radius_mm(t: Table, geometry: PlaneGeometry, key: str) -> float:
+    """The plane's one radius, for a value given as a mass at it; refused with radii per
+    position.
+
+    Parameters
+    ----------
+    t : Table
+        The table holding ``key``.
+    geometry : PlaneGeometry
+        The plane's positions.
+    key : str
+        The key given as a mass (for the message).
+
+    Returns
+    -------
+    float
+        The radius [mm].
+
+    Raises
+    ------
+    InputError
+        Of the table's error class when the positions have different radii.
+    """
+    radii = set(geometry.radii_mm)
+    if len(radii) != 1:
+        raise t.fail(key, "is a mass, but the plane's positions have radii of their own",
+                     "a value in g·mm or oz·in (gmm, oz_in) when positions have their own radii")
+    return radii.pop()
+
+
+def _tolerance(t: Table, geometry: PlaneGeometry) -> tuple[float | None, str]:
+    """The plane's own tolerance [g·mm] and how it was given (mass forms at the radius)."""
+    unbalance, key = t.quantity("tolerance", UNBALANCE_UNITS, non_negative=True)
+    mass, mass_key = t.quantity("tolerance", MASS_UNITS, non_negative=True)
+    if key and mass_key:
+        raise t.fail(mass_key, f"given together with '{key}'", "one tolerance per plane")
+    if mass_key is None:
+        if key == "tolerance_oz_in":
+            return unbalance, f"{t.data[key]:g} oz·in"
+        return unbalance, ""
+    radius = plane_radius_mm(t, geometry, mass_key)
+    unit = mass_key.rsplit("_", 1)[1]
+    length = "in" if t.has("radius_in") else "mm"
+    shown = t.data["radius_in"] if length == "in" else radius
+    return mass * radius, f"{t.data[mass_key]:g} {unit} at r {shown:g} {length}"
 
 
 def _share(t: Table, name: str) -> float | None:
@@ -297,14 +446,16 @@ def _angles(t: Table) -> tuple[float, ...]:
 
 
 def _radii(t: Table, count: int) -> tuple[float, ...]:
-    if t.has("radii_mm"):
-        values = t.array("radii_mm")
+    values, key = t.quantities("radii", LENGTH_UNITS, positive=True)
+    if values is not None:
+        one = next((k for k in ("radius_mm", "radius_in") if t.has(k)), None)
+        if one is not None:
+            raise t.fail(one, f"given together with '{key}'", "one of the two")
         if len(values) != count:
-            raise t.fail("radii_mm", f"has {len(values)} radii for {count} positions",
+            raise t.fail(key, f"has {len(values)} radii for {count} positions",
                          "one radius per position")
-        return tuple(t.check_number(f"radii_mm[{i + 1}]", v, positive=True)
-                     for i, v in enumerate(values))
-    radius = t.number("radius_mm", required=True, positive=True)
+        return tuple(values)
+    radius, _ = t.quantity("radius", LENGTH_UNITS, required=True, positive=True)
     return (radius,) * count
 
 
@@ -328,7 +479,7 @@ def _accepts(t: Table, count: int) -> tuple[str, ...]:
     return () if all(k == "both" for k in kinds) else tuple(kinds)
 
 
-def _requirement(t: Table) -> tuple[complex, str]:
+def _requirement(t: Table, geometry: PlaneGeometry) -> tuple[complex, str]:
     given = [k for k in ("correction", "unbalance") if t.has(k)]
     if not given:
         raise t.fail("correction", "missing",
@@ -338,21 +489,22 @@ def _requirement(t: Table) -> tuple[complex, str]:
     which = given[0]
     v = t.sub(which)
     v.allow_only(VECTOR_KEYS)
-    if v.has("mass_g") and v.has("gmm"):
-        raise v.fail("gmm", "given together with 'mass_g'", "one of mass_g or gmm")
+    mass, mass_key = v.quantity("mass", MASS_UNITS, non_negative=True)
+    gmm, gmm_key = v.quantity("", UNBALANCE_UNITS, non_negative=True)
+    if mass_key and gmm_key:
+        raise v.fail(gmm_key, f"given together with '{mass_key}'",
+                     "a mass (mass_g, mass_oz) or an unbalance (gmm, oz_in), not both")
     angle = v.number("angle_deg", required=True)
-    if v.has("mass_g"):
-        radius = t.number("radius_mm") if t.has("radius_mm") else None
-        if radius is None:
-            raise v.fail("mass_g", "needs the plane's radius_mm",
-                         "gmm = ... when positions have their own radii_mm")
-        mass = v.number("mass_g", non_negative=True)
-        magnitude, text = mass * radius, f"{which} {mass:g} g at {angle:g}°"
-    elif v.has("gmm"):
-        magnitude = v.number("gmm", non_negative=True)
-        text = f"{which} {magnitude:g} g·mm at {angle:g}°"
+    if mass_key:
+        radius = plane_radius_mm(v, geometry, mass_key)
+        magnitude = mass * radius
+        text = f"{which} {v.data[mass_key]:g} {mass_key[5:]} at {angle:g}°"
+    elif gmm_key:
+        magnitude = gmm
+        unit = "g·mm" if gmm_key == "gmm" else "oz·in"
+        text = f"{which} {v.data[gmm_key]:g} {unit} at {angle:g}°"
     else:
-        raise v.fail("mass_g", "missing", "mass_g = ... or gmm = ...")
+        raise v.fail("mass_g", "missing", "mass_g, mass_oz, gmm or oz_in = ...")
     vector = polar(magnitude, angle)
     if which == "unbalance":
         vector = -vector

@@ -18,7 +18,7 @@ from placer.records import (
     utc_label,
 )
 from placer.tolerance import PlaneShare
-from placer.units import kg_mm2_from_gmm2
+from placer.units import kg_mm2_from_gmm2, mass_at_radius_g
 
 
 def option_dict(option: PlanOption) -> dict[str, Any]:
@@ -70,6 +70,13 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
     """
     plane = result.plane
     chosen = option_dict(result.chosen)
+    for part, fitted in zip(chosen["parts"], result.chosen.parts):
+        try:
+            item = plane.catalog.items[plane.catalog.item_index(fitted.item)]
+            part["fixing"] = item.fixing
+        except KeyError:
+            part["fixing"] = ""
+    radius_mm = max(plane.geometry.radii_mm)
     chosen["within_tolerance"] = result.within_tolerance
     chosen["within_aim"] = result.within_aim
     chosen["rule"] = result.rule
@@ -96,6 +103,11 @@ def plane_dict(result: PlaneResult) -> dict[str, Any]:
         "notes": list(result.notes),
         "method": result.method,
         "elapsed_s": float(result.elapsed_s),
+        "worked_from": plane.worked_from,
+        "radius_mm": radius_mm,
+        "residual_mass_g": mass_at_radius_g(float(result.chosen.residual_gmm), radius_mm),
+        "tolerance_mass_g": None if result.tolerance_gmm is None
+        else mass_at_radius_g(float(result.tolerance_gmm), radius_mm),
     }
 
 
@@ -113,10 +125,16 @@ def job_dict(result: JobResult) -> dict[str, Any]:
         The object of ``placer solve --json``.
     """
     rotor = result.job.rotor
+    papers = result.job.paperwork
     return {
         "job": result.job.source,
         "rotor": {"name": rotor.name, "mass_kg": rotor.mass_kg, "service_rpm": rotor.service_rpm,
-                  "grade_mm_s": rotor.grade_mm_s},
+                  "grade_mm_s": rotor.grade_mm_s, "reference_mark": rotor.reference_mark,
+                  "rotation": rotor.rotation, "front": rotor.end_name("front"),
+                  "back": rotor.end_name("back")},
+        "paperwork": {"customer": papers.customer, "work_order": papers.work_order,
+                      "technician": papers.technician, "date": papers.date or None},
+        "units": papers.units,
         "angle_convention": f"degrees from the reference mark, counted {rotor.angle_sense}",
         "permissible_gmm": None if result.permissible_gmm is None
         else float(result.permissible_gmm),
@@ -273,7 +291,8 @@ def catalog_dict(catalog: Catalog) -> dict[str, Any]:
 
 
 def tolerance_dict(grade_mm_s: float, mass_kg: float, service_rpm: float, u_per_gmm: float,
-                   shares: Sequence[PlaneShare]) -> dict[str, Any]:
+                   shares: Sequence[PlaneShare],
+                   radius_mm: float | None = None) -> dict[str, Any]:
     """The JSON of ``placer tolerance --json``: U_per and each plane's share.
 
     Parameters
@@ -288,16 +307,24 @@ def tolerance_dict(grade_mm_s: float, mass_kg: float, service_rpm: float, u_per_
         Permissible residual unbalance of the rotor [g·mm].
     shares : sequence of PlaneShare
         Its shares per plane.
+    radius_mm : float or None
+        A correction radius [mm]: each share also as the mass at it
+        (``mass_at_radius_g``); None to leave that out.
 
     Returns
     -------
     dict
         The inputs, U_per and the shares.
     """
-    return {"grade_mm_s": grade_mm_s, "mass_kg": mass_kg, "service_rpm": service_rpm,
-            "permissible_gmm": u_per_gmm, "shares": [
-                {"plane": s.name, "share": s.share, "permissible_gmm": s.permissible_gmm}
-                for s in shares]}
+    out = {"grade_mm_s": grade_mm_s, "mass_kg": mass_kg, "service_rpm": service_rpm,
+           "permissible_gmm": u_per_gmm, "shares": [
+               {"plane": s.name, "share": s.share, "permissible_gmm": s.permissible_gmm}
+               for s in shares]}
+    if radius_mm is not None:
+        out["radius_mm"] = radius_mm
+        for entry, share in zip(out["shares"], shares):
+            entry["mass_at_radius_g"] = mass_at_radius_g(share.permissible_gmm, radius_mm)
+    return out
 
 
 def machines_list(machines: Sequence[MachineSummary]) -> list[dict[str, Any]]:

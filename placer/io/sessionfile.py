@@ -6,7 +6,7 @@ Format (see examples/exhaust-fan-visit.toml)::
     [visit]     date = 2026-11-02 or 2026-11-02T10:15:00Z (optional; TOML date, or date
                 and time with its offset; default: when placer is run, in UTC)
     [rotor]     as in a job, plus rotation = "clockwise" (when angles are
-                clockwise/counterclockwise) and plane_separation_mm
+                clockwise/counterclockwise) and plane_separation_mm (or _in)
     [readings]  unit = "mm/s" | "in/s" | "um" | "mils"; measure = "peak" |
                 "peak-to-peak" | "rms"; phase = "lag" | "lead"
     [[sensors]] name, weight (optional, default 1); readings taken at more than one
@@ -15,7 +15,8 @@ Format (see examples/exhaust-fan-visit.toml)::
     [[planes]]  as in a job, without correction or tolerance
     [[runs]]    name, kind = "reference" | "trial" | "check",
                 readings = [[amplitude, phase_deg], ...] one pair per sensor,
-                trial = [{ plane = 1, mass_g = 20.0, position = 3 }]   (or angle_deg)
+                trial = [{ plane = 1, mass_g = 20.0, position = 3 }]   (or angle_deg;
+                mass_oz instead of mass_g, radius_mm or radius_in to override the radius)
                 removed = true    (trial weights taken off after the run; default)
                 fitted = [{ plane = 1, position = 5, item = "M12", count = 1 }]   (check runs:
                 the parts on the rotor for that run; a trim plan may take them off)
@@ -36,8 +37,8 @@ import numpy as np
 from placer.catalog import Catalog
 from placer.errors import SessionError
 from placer.geometry import ROTATIONS, polar
-from placer.io.jobfile import PLANE_KEYS, plane_geometry, rotor_of
-from placer.io.tables import Table, read_toml
+from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
+from placer.io.tables import Table, quantity_key, read_toml
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
 from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense
 from placer.session import (
@@ -49,9 +50,14 @@ from placer.session import (
     Run,
     Session,
 )
+from placer.units import LENGTH_UNITS, MASS_UNITS
 
-FIELD_PLANE_KEYS = tuple(k for k in PLANE_KEYS if k not in (
-    "correction", "unbalance", "tolerance_gmm", "aim_share", "max_parts", "existing"))
+FIELD_PLANE_KEYS = GEOMETRY_KEYS
+"""Keys of a session's [[planes]]: a job plane's positions and catalogue, without a
+correction or tolerance."""
+TRIAL_KEYS = ("plane", *(quantity_key("mass", u) for u in MASS_UNITS), "position", "angle_deg",
+              *(quantity_key("radius", u) for u in LENGTH_UNITS))
+"""Keys of a trial weight: its mass in g or oz, its position or angle, its radius in mm or in."""
 
 
 def read_session(path: Path) -> Session:
@@ -86,13 +92,13 @@ def read_session(path: Path) -> Session:
         raise machine.fail("id", "is empty", "a machine tag such as \"WM-0417\"")
     visit_date = _visit_date(root.sub("visit"))
     rotor_table = root.sub("rotor", required=True)
-    rotor = rotor_of(rotor_table, ("plane_separation_mm",))
+    rotor = rotor_of(rotor_table, ("plane_separation_mm", "plane_separation_in"))
     rotation = rotor.rotation
     if rotor.angle_sense in ROTATIONS and rotation is None:
         raise rotor_table.fail("rotation", "missing",
                                "the sense of rotation, as the angles are "
                                f"{rotor.angle_sense} (clockwise or counterclockwise)")
-    separation = rotor_table.number("plane_separation_mm", positive=True)
+    separation, _ = rotor_table.quantity("plane_separation", LENGTH_UNITS, positive=True)
 
     readings = root.sub("readings", required=True)
     readings.allow_only(("unit", "measure", "phase"))
@@ -233,14 +239,13 @@ def _run(t: Table, convert: _Converter, n_channels: int, planes: list[FieldPlane
 
 
 def _mass(w: Table, planes: list[FieldPlane], trial: bool) -> PlacedMass:
-    keys = ("plane", "mass_g", "position", "angle_deg", "radius_mm") if trial else (
-        "plane", "position", "item", "count")
+    keys = TRIAL_KEYS if trial else ("plane", "position", "item", "count")
     w.allow_only(keys)
     plane_no = w.integer("plane", required=True, minimum=1, maximum=len(planes))
     plane = planes[plane_no - 1]
     geometry = plane.geometry
     if trial:
-        mass = w.number("mass_g", required=True, positive=True)
+        mass, _ = w.quantity("mass", MASS_UNITS, required=True, positive=True)
         item, count = None, 1
     else:
         item = w.text("item", required=True)
@@ -258,11 +263,11 @@ def _mass(w: Table, planes: list[FieldPlane], trial: bool) -> PlacedMass:
         radius = geometry.radii_mm[position - 1]
     elif trial and w.has("angle_deg"):
         angle = w.number("angle_deg") % 360.0
-        radius = w.number("radius_mm", positive=True) or geometry.radii_mm[0]
+        radius = w.quantity("radius", LENGTH_UNITS, positive=True)[0] or geometry.radii_mm[0]
     else:
         raise w.fail("position", "missing", "position = N" + (" or angle_deg" if trial else ""))
-    if trial and w.has("radius_mm") and position is not None:
-        radius = w.number("radius_mm", positive=True)
+    if trial and position is not None:
+        radius = w.quantity("radius", LENGTH_UNITS, positive=True, default=radius)[0]
     if not math.isfinite(angle):
         raise w.fail("angle_deg", "is not finite", "a number")
     return PlacedMass(plane=plane_no - 1, mass_g=mass, angle_deg=angle, radius_mm=radius,

@@ -429,6 +429,97 @@ class Table:
             raise self.fail(name, f"is {value:g}", "zero or more")
         return value
 
+    def quantity(self, stem: str, units: dict[str, float], default: float | None = None,
+                 required: bool = False, positive: bool = False,
+                 non_negative: bool = False) -> tuple[float | None, str | None]:
+        """The number at one of ``stem_<unit>`` keys, converted to the first unit.
+
+        ``radius_mm`` or ``radius_in`` for ``quantity("radius", LENGTH_UNITS)``;
+        an empty ``stem`` names the units alone (``gmm``, ``oz_in``).
+
+        Parameters
+        ----------
+        stem : str
+            What the number is ("radius"), or "" for keys that are the unit alone.
+        units : dict of str to float
+            Unit suffix -> factor to the first unit (:data:`placer.units.LENGTH_UNITS`).
+        default : float or None
+            What a missing quantity gives (in the first unit).
+        required : bool
+            Refuse it missing.
+        positive, non_negative : bool
+            Also refuse zero and below, or below zero.
+
+        Returns
+        -------
+        value : float or None
+            In the first unit of ``units``, or ``default``.
+        key : str or None
+            The key it was read from; None when missing.
+
+        Raises
+        ------
+        InputError
+            Two of the keys given together, a missing required one, or a bad
+            number (:meth:`check_number`).
+
+        References
+        ----------
+        [NISTHB44] the factors of :mod:`placer.units`.
+        """
+        key, factor = self._unit_key(stem, units)
+        if key is None:
+            if required:
+                keys = [quantity_key(stem, unit) for unit in units]
+                raise self.fail(keys[0], "missing", "a number, as " + " or ".join(keys))
+            return default, None
+        return self.check_number(key, self.data[key], positive, non_negative) * factor, key
+
+    def _unit_key(self, stem: str, units: dict[str, float]) -> tuple[str | None, float]:
+        """The one key of ``stem`` given, and its factor; two given together are refused."""
+        keys = {quantity_key(stem, unit): factor for unit, factor in units.items()}
+        given = [key for key in keys if key in self.data]
+        if len(given) > 1:
+            raise self.fail(given[1], f"given together with '{given[0]}'",
+                            "one of " + " or ".join(keys))
+        return (given[0], keys[given[0]]) if given else (None, 1.0)
+
+    def quantities(self, stem: str, units: dict[str, float], positive: bool = False,
+                   non_negative: bool = False) -> tuple[list[float] | None, str | None]:
+        """The list of numbers at one of ``stem_<unit>`` keys, converted to the first unit.
+
+        Parameters
+        ----------
+        stem : str
+            What the numbers are ("radii").
+        units : dict of str to float
+            Unit suffix -> factor to the first unit.
+        positive, non_negative : bool
+            Also refuse zero and below, or below zero.
+
+        Returns
+        -------
+        values : list of float or None
+            In the first unit of ``units``; None when no key is given.
+        key : str or None
+            The key they were read from.
+
+        Raises
+        ------
+        InputError
+            Two of the keys given together, a value that is not a list, or a
+            bad number (named ``key[i]``).
+
+        References
+        ----------
+        [NISTHB44] the factors of :mod:`placer.units`.
+        """
+        key, factor = self._unit_key(stem, units)
+        if key is None:
+            return None, None
+        return [self.check_number(f"{key}[{i + 1}]", v, positive, non_negative) * factor
+                for i, v in enumerate(self.array(key))], key
+
     def integer(self, name: str, default: int | None = None, required: bool = False,
                 minimum: int | None = None, maximum: int | None = None) -> int | None:
         """The whole number at ``name``.
@@ -577,6 +668,24 @@ class Table:
             raise self.fail(name, "is empty", f"at least one [[{name}]] table")
         return [Table(v, self.file, f"{self.key(name)}[{i + 1}]", self.error)
                 for i, v in enumerate(values)]
+
+
+def quantity_key(stem: str, unit: str) -> str:
+    """The file key of a quantity in one unit: ``radius_in``, or ``oz_in`` without a stem.
+
+    Parameters
+    ----------
+    stem : str
+        What the number is ("radius"), or "".
+    unit : str
+        The unit suffix ("in").
+
+    Returns
+    -------
+    str
+        The key.
+    """
+    return f"{stem}_{unit}" if stem else unit
 
 
 def _kind(value: Any) -> str:

@@ -35,7 +35,15 @@ from placer.views.sheet.typeset import (
     text_width_in,
     wrap_words,
 )
-from placer.views.wording import cautions_for, drills
+from placer.views.wording import (
+    AS_LEFT_LINES,
+    at_radius,
+    cautions_for,
+    drills,
+    plane_radius_mm,
+    unbalance_text,
+    units_of,
+)
 
 CAUTION_PT = 7.5
 
@@ -53,8 +61,17 @@ def _caution_height(drilling: bool) -> float:
     return sum(lines_in(len(w), CAUTION_PT) + 0.04 for w in _caution_lines(drilling)) + 0.30
 
 
+AS_LEFT_IN = 0.34
+"""Height of the "as left" line above the sign-off [in]."""
+
+
+MIN_DRAW_IN = 2.8
+"""Narrowest the rotor face is drawn when the tables need the room [in]."""
+
+
 def cautions_top(drilling: bool) -> float:
-    """Top of the safety box [in from the top of the page]; the box sits above the sign-off.
+    """Top of the safety box [in from the top of the page]; the box sits above the "as left"
+    lines and the sign-off.
 
     Parameters
     ----------
@@ -66,12 +83,31 @@ def cautions_top(drilling: bool) -> float:
     float
         The top of the box when the page has room for it [in].
     """
-    return PAGE_IN[1] - FOOTER_IN - 0.55 - 0.25 - _caution_height(drilling)
+    return PAGE_IN[1] - FOOTER_IN - 0.55 - 0.25 - AS_LEFT_IN - _caution_height(drilling)
+
+
+def _as_left(page: Page, y: float, plane: PlaneResult, result: JobResult) -> None:
+    """The lines the technician fills in after the check run: the residual as left."""
+    left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
+    units = units_of(result.job)
+    page.text(left, y, "AS LEFT", 8, weight="bold")
+    tolerance = ("" if plane.tolerance_gmm is None else
+                 f"(tolerance {at_radius(plane.tolerance_gmm, plane.plane.geometry, units)})")
+    label = f"{AS_LEFT_LINES[0]}:"
+    page.text(left + 0.7, y, label, 7.5, va="top")
+    x = left + 0.7 + text_width_in(label, 7.5) + 0.08
+    radius = units.length_text(plane_radius_mm(plane.plane.geometry))
+    for blank, words in ((0.7, f"{units.mass_unit} at r {radius}, at"), (0.5, "°")):
+        page.rule(y + 0.14, x, x + blank, lw=0.6)
+        page.text(x + blank + 0.04, y, words, 7.5)
+        x += blank + 0.04 + text_width_in(words, 7.5) + 0.1
+    page.text(x, y, tolerance.strip(), 7, color=GREY)
 
 
 def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
-              job_name: str, drilling: bool) -> None:
-    """The safety box (the shared cautions), the sign-off line and the footer.
+                  job_name: str, drilling: bool, plane: PlaneResult | None = None,
+                  result: JobResult | None = None) -> None:
+    """The safety box (the shared cautions), the "as left" lines, the sign-off and the footer.
 
     Parameters
     ----------
@@ -89,12 +125,18 @@ def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
         The job file's name, for the footer.
     drilling : bool
         The plan drills a hole (adds the drilling caution).
+    plane : PlaneResult or None
+        The page's plane, for the "as left" lines (None: none drawn).
+    result : JobResult or None
+        The solved job (its units).
     """
     left, width = MARGIN_IN, PAGE_IN[0] - 2 * MARGIN_IN
     bottom = PAGE_IN[1] - FOOTER_IN
     wrapped = _caution_lines(drilling)
     box_h = _caution_height(drilling)
-    sign_y = max(bottom - 0.55, top + box_h + 0.25)
+    sign_y = max(bottom - 0.55, top + box_h + 0.25 + AS_LEFT_IN)
+    if plane is not None and result is not None:
+        _as_left(page, sign_y - AS_LEFT_IN + 0.12, plane, result)
     page.box(left, top, width, box_h, lw=2.0)
     page.box(left, top, 0.36, box_h, fill=True, fc=INK, ec=INK)
     page.text(left + 0.18, top + box_h / 2, "!", 18, weight="bold", color="white",
@@ -104,7 +146,8 @@ def draw_cautions(page: Page, top: float, when: date, index: int, total: int,
     for lines in wrapped:
         page.text(left + 0.48, cy, "\n".join(lines), CAUTION_PT, linespacing=1.3)
         cy += lines_in(len(lines), CAUTION_PT) + 0.04
-    for k, label in enumerate(("Fitted by", "Date", "Test run checked by")):
+    signed = plane is None or plane.within_tolerance is not False
+    for k, label in enumerate(("Fitted by", "Date", "Test run checked by") if signed else ()):
         sx = left + k * width / 3
         page.text(sx, sign_y + 0.2, label, 7.5, va="bottom")
         page.rule(sign_y + 0.2, sx + text_width_in(label, 7.5) + 0.1, sx + width / 3 - 0.15, lw=0.6)
@@ -118,23 +161,41 @@ def _lower(page: Page, y: float, result: JobResult, plane: PlaneResult,
            facts: PlaneFacts) -> float:
     """Convention, the work and the trade-off, notes; returns the y below them."""
     width = PAGE_IN[0] - 2 * MARGIN_IN
-    basis = basis_sentence(plane, facts)
+    job = result.job
+    basis = basis_sentence(plane, facts, units_of(job))
     if basis:
         y = page.paragraph(MARGIN_IN, y, basis, width, 7.5, weight="bold") + 0.02
-    rotor = result.job.rotor
-    y = page.paragraph(MARGIN_IN, y, convention_text(rotor.angle_sense, rotor.rotation), width, 7,
-                       style="italic") + 0.1
+    rotor = job.rotor
+    back = plane.plane.worked_from == "back"
+    named = bool(rotor.front_name or rotor.back_name or any(
+        p.worked_from == "back" for p in job.planes))
+    seen_from = rotor.end_name(plane.plane.worked_from) if named else ""
+    other = rotor.end_name("front" if back else "back") if named else ""
+    text = convention_text(rotor.angle_sense, rotor.rotation, back, seen_from, other,
+                           rotor.reference_mark)
+    y = page.paragraph(MARGIN_IN, y, text, width, 7, style="italic",
+                       weight="bold" if back else "normal") + 0.1
     page.rule(y - 0.04, lw=0.4, color=GREY)
     half = width / 2 - 0.1
-    y_left = work_tables(page, MARGIN_IN, y + 0.04, half, plane, facts)
-    y_right = trade_off_table(page, MARGIN_IN + width / 2 + 0.1, y + 0.04, half, plane, facts)
+    y_left = work_tables(page, MARGIN_IN, y + 0.04, half, plane, facts, job)
+    y_right = trade_off_table(page, MARGIN_IN + width / 2 + 0.1, y + 0.04, half, plane,
+                              facts, job)
     y = max(y_left, y_right)
     notes = list(plane.notes) + list(result.notes)
     if not plane.optimal:
-        notes.append("Not every plan in the trade-off was proven optimal in the time limit.")
+        notes.append("Not every plan in the trade-off was proven optimal with the effort given.")
     for note in notes:
         y = page.paragraph(MARGIN_IN, y, f"Note: {note}", width, 7.5, weight="bold")
     return y
+
+
+def _job_date(result: JobResult, when: date | None) -> date:
+    """The date printed: the one asked for, else the job's ([job] date), else today."""
+    if when is not None:
+        return when
+    if result.job.paperwork.date:
+        return date.fromisoformat(result.job.paperwork.date)
+    return date.today()
 
 
 def plane_page(result: JobResult, index: int, *, title: str | None = None,
@@ -173,7 +234,7 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
-    when = date.today() if when is None else when
+    when = _job_date(result, when)
     plane = result.planes[index - 1]
     facts = plane_facts(plane)
     drilling = drills(plane.chosen.parts)
@@ -181,18 +242,19 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     FigureCanvasAgg(fig)
     page = Page(fig)
     y = draw_header(page, result, index, title or result.job.rotor.name, when)
-    top = plane_band(page, plane, index, y) + 0.12
+    top = plane_band(page, plane, index, y, result) + 0.12
     side_x = MARGIN_IN + DRAW_IN + 0.25
     side_w = PAGE_IN[0] - MARGIN_IN - side_x
     ax = fig.add_axes((0, 0, 1, 1))
     sense, rotation = result.job.rotor.angle_sense, result.job.rotor.rotation
-    drawing = draw_plane(ax, plane, sense, DRAW_IN, rotation)
+    mark = result.job.rotor.reference_mark
+    drawing = draw_plane(ax, plane, sense, DRAW_IN, rotation, mark)
     room = cautions_top(drilling) - 0.12 - _lower(Page(None), 0.0, result, plane, facts) \
         - 0.06 - top
 
     def side(on: Page, row_in: float) -> float:
         key_end = draw_key(on, side_x, top + 0.1, side_w, drawing, row_in)
-        return result_box(on, side_x, key_end + 0.12, side_w, plane, facts)
+        return result_box(on, side_x, key_end + 0.12, side_w, plane, facts, result.job)
 
     row_in = next((r for r in (KEY_ROW_IN, 0.19, 0.17, 0.16)
                    if side(Page(None), r) - top <= room), None)
@@ -202,7 +264,7 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     if key_below:
         row_in = 0.17
         key_h = draw_key(Page(None), MARGIN_IN, 0.0, DRAW_IN, drawing, row_in, columns=2)
-        side_end = result_box(page, side_x, top + 0.1, side_w, plane, facts)
+        side_end = result_box(page, side_x, top + 0.1, side_w, plane, facts, result.job)
     else:
         key_h = 0.0
         side_end = side(page, row_in)
@@ -215,9 +277,9 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     draw_h = height(width)
     fit_h = room - key_h if key_below else max(room, side_end - top)
     if draw_h > fit_h + 1e-6:
-        width = max(3.2, width * fit_h / draw_h)
+        width = max(MIN_DRAW_IN, width * fit_h / draw_h)
         ax.cla()
-        drawing = draw_plane(ax, plane, sense, width, rotation)
+        drawing = draw_plane(ax, plane, sense, width, rotation, mark)
         draw_h = height(width)
     left = MARGIN_IN + (DRAW_IN - width) / 2
     ax.set_position((left / PAGE_IN[0], 1 - (top + draw_h) / PAGE_IN[1],
@@ -228,7 +290,7 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     end = _lower(page, max(below, side_end) + 0.06, result, plane, facts)
     number, total = sheet or (index, len(result.planes))
     draw_cautions(page, max(end + 0.08, cautions_top(drilling)), when, number, total,
-                  Path(result.job.source).name, drilling)
+                  Path(result.job.source).name, drilling, plane, result)
     return fig, drawing
 
 
@@ -263,7 +325,7 @@ def write_sheet(result: JobResult, path: Path, *, title: str | None = None,
     """
     require_matplotlib()
     paths = sheet_paths(Path(path), len(result.planes), force=force)
-    when = date.today() if when is None else when
+    when = _job_date(result, when)
     mode = "wb" if force else "xb"
     pages = [plane_page(result, i, title=title, when=when)
              for i in range(1, len(result.planes) + 1)]

@@ -98,9 +98,10 @@ def _frame(ax, ccw: bool, radii: list[float], room: Room) -> None:
     room.take((-0.05, 0.80, 0.05, 0.92))
 
 
-def _reference_label(ax, room: Room, ccw: bool) -> None:
-    """"REF 0°" beside the mark on the side the angles do not grow to, else below or across."""
-    text = "REF 0°"
+def _reference_label(ax, room: Room, ccw: bool, mark: str = "") -> None:
+    """"REF 0°" (or the mark's name) beside the mark on the side the angles do not grow to,
+    else below or across."""
+    text = f"{mark.upper() if mark else 'REF'} 0°"
     w, h = room.size(text, SMALL_PT, bold=True)
     away = 1.0 if ccw else -1.0          # angles grow to the left when counterclockwise
 
@@ -201,7 +202,7 @@ def _position_labels(n: int, blocked: frozenset[int], used: set[int]
 
 
 def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW_IN,
-               rotation: str | None = None) -> PlaneDrawing:
+               rotation: str | None = None, mark: str = "") -> PlaneDrawing:
     """Draw one rotor face into ``ax``; returns where each thing was drawn.
 
     The drawing is ``width_in`` wide; its height follows what is drawn (read
@@ -219,7 +220,11 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW
     width_in : float
         Width of the drawing on the page [in]; spacing of the labels follows it.
     rotation : str, optional
-        The job's ``rotor.rotation`` ("clockwise", "counterclockwise", None).
+        The job's ``rotor.rotation`` ("clockwise", "counterclockwise", None), seen
+        from the front end; a plane worked from the back
+        (``result.plane.worked_from``) is drawn as seen from there, mirrored.
+    mark : str, optional
+        What marks 0° on the rotor, for its label ("" for "REF").
 
     Returns
     -------
@@ -228,8 +233,9 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW
     """
     geometry = result.plane.geometry
     facts = plane_facts(result)
-    ccw = angles_counterclockwise(angle_sense, rotation)
-    clockwise_rotation = rotation_clockwise(angle_sense, rotation)
+    back = result.plane.worked_from == "back"
+    ccw = angles_counterclockwise(angle_sense, rotation, back)
+    clockwise_rotation = rotation_clockwise(angle_sense, rotation, back)
     r_max = max(geometry.radii_mm)
     n = geometry.n_positions
     ax.set_aspect("equal")
@@ -379,7 +385,7 @@ def draw_plane(ax, result: PlaneResult, angle_sense: str, width_in: float = DRAW
         draw_vector(ax, *residual_xy, solid=False)
         room.line(*residual_xy)
         kinds.append("residual")
-    _reference_label(ax, room, ccw)
+    _reference_label(ax, room, ccw, mark)
     if required_xy is not None:
         text = "required = residual" if same else "required"
         box = label_beside(room, *required_xy, text, SMALL_PT, (0.55, 0.7, 0.4, 0.85, 0.25),

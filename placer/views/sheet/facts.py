@@ -15,6 +15,8 @@ from typing import Any
 
 from placer.geometry import angle_of_deg
 from placer.plan import PlaneResult
+from placer.units import METRIC, UnitSystem
+from placer.views.wording import at_radius
 
 ZERO_SHARE = 1e-6
 """A vector no longer than this share of the plane's largest magnitude (the correction
@@ -156,8 +158,8 @@ def fmt_gmm(value: float) -> str:
     return text
 
 
-def fmt_vector(vector: complex, facts: PlaneFacts) -> str:
-    """"X g·mm at Y°", or "≈ 0 g·mm" when it counts as zero.
+def fmt_vector(vector: complex, facts: PlaneFacts, units: UnitSystem = METRIC) -> str:
+    """"X g·mm at Y°" (or oz·in), or "≈ 0 g·mm" when it counts as zero.
 
     Parameters
     ----------
@@ -165,6 +167,8 @@ def fmt_vector(vector: complex, facts: PlaneFacts) -> str:
         A correction or residual [g·mm].
     facts : PlaneFacts
         The plane's facts, for the zero threshold.
+    units : UnitSystem
+        The job's units.
 
     Returns
     -------
@@ -172,8 +176,8 @@ def fmt_vector(vector: complex, facts: PlaneFacts) -> str:
         The vector as text.
     """
     if facts.negligible(abs(vector)):
-        return "≈ 0 g·mm"
-    return f"{fmt_gmm(abs(vector))} g·mm at {angle_of_deg(vector):.1f}°"
+        return f"≈ 0 {units.unbalance_unit}"
+    return f"{units.unbalance_text(abs(vector))} at {angle_of_deg(vector):.1f}°"
 
 
 @dataclass(frozen=True)
@@ -262,20 +266,25 @@ class SheetPage:
     drawing: PlaneDrawing
 
 
-def tolerance_text(plane: PlaneResult) -> str:
-    """The plane's tolerance for the sheet: "X g·mm", or "none given".
+def tolerance_text(plane: PlaneResult, units: UnitSystem = METRIC) -> str:
+    """The plane's tolerance for the sheet: "X g·mm (Y g at r Z mm)", or "none given".
 
     Parameters
     ----------
     plane : PlaneResult
         The solved plane.
+    units : UnitSystem
+        The job's units.
 
     Returns
     -------
     str
         The text.
     """
-    return "none given" if plane.tolerance_gmm is None else f"{fmt_gmm(plane.tolerance_gmm)} g·mm"
+    if plane.tolerance_gmm is None:
+        return "none given"
+    return (f"{units.unbalance_text(plane.tolerance_gmm)} "
+            f"({at_radius(plane.tolerance_gmm, plane.plane.geometry, units)})")
 
 
 def basis_lines(plane: PlaneResult, facts: PlaneFacts) -> list[str]:
@@ -294,13 +303,14 @@ def basis_lines(plane: PlaneResult, facts: PlaneFacts) -> list[str]:
         One or two lines for the plane band.
     """
     if facts.basis == "none":
-        return [plane.plane.given_as]
+        return [f"as given: {plane.plane.given_as}"]
     if facts.basis == "further":
-        return [plane.plane.given_as, "measured with the existing parts on"]
+        return [f"as given: {plane.plane.given_as}", "measured with the existing parts on"]
     return ["with the existing parts on (sum below)"]
 
 
-def basis_sentence(plane: PlaneResult, facts: PlaneFacts) -> str | None:
+def basis_sentence(plane: PlaneResult, facts: PlaneFacts,
+                   units: UnitSystem = METRIC) -> str | None:
     """For a correction given without the existing parts: total − existing = further.
 
     Parameters
@@ -309,6 +319,8 @@ def basis_sentence(plane: PlaneResult, facts: PlaneFacts) -> str | None:
         The solved plane.
     facts : PlaneFacts
         Its facts (:func:`plane_facts`).
+    units : UnitSystem
+        The job's units.
 
     Returns
     -------
@@ -321,7 +333,7 @@ def basis_sentence(plane: PlaneResult, facts: PlaneFacts) -> str | None:
     """
     if facts.basis != "total":
         return None
-    return (f"Required correction: total {fmt_vector(facts.given_gmm, facts)} as the job "
-            f"gives it ({plane.plane.given_as}, without the existing parts) − existing parts "
-            f"{fmt_vector(facts.existing_gmm, facts)} = further "
-            f"{fmt_vector(facts.further_gmm, facts)}, which the arrows and the plan use.")
+    return (f"Required correction: total {fmt_vector(facts.given_gmm, facts, units)} as the "
+            f"job gives it ({plane.plane.given_as}, without the existing parts) − existing "
+            f"parts {fmt_vector(facts.existing_gmm, facts, units)} = further "
+            f"{fmt_vector(facts.further_gmm, facts, units)}, which the arrows and the plan use.")

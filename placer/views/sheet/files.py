@@ -20,7 +20,8 @@ PNG_DPI = 150
 """Resolution of a PNG sheet [dots per inch]: A4 at 1240 × 1754 pixels."""
 
 
-MATPLOTLIB_MISSING = "{opt:sheet} needs matplotlib: pip install 'placer[sheet]'"
+MATPLOTLIB_MISSING = ("{opt:sheet} needs matplotlib, which placer installs with it; it is "
+                      "missing here: pip install matplotlib")
 
 
 def require_matplotlib() -> None:

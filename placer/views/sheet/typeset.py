@@ -121,12 +121,14 @@ class Page:
 
     def table(self, x: float, y: float, columns: list[tuple[str, str]],
               rows: list[list[str]], width_in: float, bold: set[int] = frozenset(),
-              ticks: bool = False, size: float = 8.0) -> float:
+              ticks: bool = False, size: float = 8.0,
+              notes: list[str] | None = None) -> float:
         """A table no wider than ``width_in``; returns the y below it.
 
         ``columns`` are (heading, "l" or "r"); each column is as wide as its
         widest cell, measured, and the type shrinks (to 6.5 pt) until the
-        table fits.
+        table fits.  A row's note (``notes``) is set under it in italics,
+        wrapped to the table's width.
 
         Parameters
         ----------
@@ -144,6 +146,8 @@ class Page:
             Put a tick box before each row.
         size : float
             Font size to start from [pt].
+        notes : list of str or None
+            A note under each row ("" for none).
 
         Returns
         -------
@@ -180,6 +184,12 @@ class Page:
                 self.text(tx, cy, cell, size, va="center", ha="left" if align == "l" else "right",
                           weight="bold" if i in bold else "normal")
             y += row_h
+            note = notes[i] if notes else ""
+            if note:
+                lines = wrap_words(note, x + width - edges[0] - 0.1, size - 1)
+                self.text(edges[0] + 0.05, y - 0.02, "\n".join(lines), size - 1,
+                          style="italic", linespacing=1.2)
+                y += lines_in(len(lines), size - 1, 1.2)
             self.rule(y - 0.02, x, x + width, lw=0.3, color=GREY)
         return y + 0.04
 

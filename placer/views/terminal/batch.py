@@ -16,7 +16,7 @@ PLAIN_PROGRESS_EVERY_S = 10.0
 
 
 def summary_line(summary: BatchSummary, paths: BatchPaths) -> str:
-    """The summary as one line.
+    """The summary as one logical line (:func:`render_summary` wraps it to 80 columns).
 
     Parameters
     ----------
@@ -45,7 +45,7 @@ def summary_line(summary: BatchSummary, paths: BatchPaths) -> str:
 
 
 def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> None:
-    """Print the summary: a table on a terminal, one line otherwise.
+    """Print the summary: a table on a terminal, else lines of at most 80 columns.
 
     Parameters
     ----------
@@ -57,7 +57,13 @@ def render_summary(summary: BatchSummary, paths: BatchPaths, stream: TextIO) -> 
         Where to print.
     """
     if not stream.isatty():
-        print(summary_line(summary, paths), file=stream)
+        import textwrap
+
+        from placer.views.terminal.plain import PLAIN_WIDTH
+
+        print("\n".join(textwrap.wrap(summary_line(summary, paths), PLAIN_WIDTH,
+                                      subsequent_indent="  ", break_on_hyphens=False,
+                                      break_long_words=False)), file=stream)
         return
     from rich.console import Console
     from rich.table import Table as RichTable
