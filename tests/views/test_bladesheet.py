@@ -153,6 +153,27 @@ def _overlapping(texts) -> list[tuple[str, str]]:
             if not _apart(pa, pb, CLEAR_PX)]
 
 
+def _symbols_under_text(fig, texts) -> list[str]:
+    """Texts that run into a symbol of the key (blade shapes, arrows, swap discs) drawn
+    on the page itself; a symbol's own label inside it (the swap's "1") excepted."""
+    from matplotlib.patches import Circle, FancyArrowPatch, Polygon
+
+    renderer = fig.canvas.get_renderer()
+    hit = []
+    for patch in fig.axes[0].patches:
+        if not isinstance(patch, (Circle, FancyArrowPatch, Polygon)):
+            continue
+        box = patch.get_window_extent(renderer)
+        poly = [(box.x0, box.y0), (box.x1, box.y0), (box.x1, box.y1), (box.x0, box.y1)]
+        for text, outline in texts:
+            cx = sum(x for x, _ in outline) / 4
+            cy = sum(y for _, y in outline) / 4
+            inside = box.x0 <= cx <= box.x1 and box.y0 <= cy <= box.y1
+            if not inside and not _apart(poly, outline, CLEAR_PX):
+                hit.append(text)
+    return hit
+
+
 @pytest.mark.parametrize("name", CASES)
 def test_text_never_overlaps_and_stays_on_the_page(name):
     result = _solved(name)
@@ -167,6 +188,7 @@ def test_text_never_overlaps_and_stays_on_the_page(name):
                    or min(y for _, y in poly) < edge or max(x for x, _ in poly) > width - edge
                    or max(y for _, y in poly) > height - edge]
         assert outside == [], f"page {number}"
+        assert _symbols_under_text(fig, texts) == [], f"page {number}"
         flat = " ".join(t for t, _ in texts)
         assert "SAFETY" in flat and "Fitted by" in flat
         assert f"sheet {number} of {len(figures)}" in flat

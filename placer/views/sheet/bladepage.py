@@ -75,6 +75,8 @@ BLADE_KEY_TEXT = {
 }
 """What each symbol of the disc means, as the key says it."""
 
+KEY_GUTTER_IN = 0.15
+"""Space between a column of the key and the symbols of the next [in]."""
 LABEL_IN = 0.68
 """Width of the labels of the result block [in]."""
 MIN_DRAW_IN = 3.2
@@ -167,7 +169,7 @@ def _key(page: Page, x: float, y: float, w: float, drawing: DiscDrawing,
         for kind in kinds[c * per:(c + 1) * per]:
             _key_symbol(page, kind, cx + 0.14, cy + 0.06)
             end = page.paragraph(cx + 0.40, cy + 0.06 - lines_in(1, 7.5) / 2,
-                                 BLADE_KEY_TEXT[kind], w / columns - 0.40, 7.5)
+                                 BLADE_KEY_TEXT[kind], w / columns - 0.40 - KEY_GUTTER_IN, 7.5)
             cy = max(cy + 0.2, end + 0.04)
         ends.append(cy)
     return max(ends)

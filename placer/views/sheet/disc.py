@@ -55,6 +55,8 @@ NUMBER_PT, MARK_PT, SMALL_PT = 8.0, 7.5, 7.0
 SWAP_R = (0.76, 0.62)
 """Where the step numbers of a swap sit on a blade (a second swap of the same slot
 further in) [data units]."""
+HEAD_IN = 0.07
+"""Half the size of an arc's arrowhead on the page [in] (matplotlib sizes it in points)."""
 ZERO_SHARE = 1e-9
 """A residual below this share of the blades' total moment weight is drawn as zero
 (rounding; the sheet still prints its value)."""
@@ -334,30 +336,33 @@ def draw_disc(ax, result: BladeResult, width_in: float = DRAW_IN) -> DiscDrawing
     ax.set_xlim(-half, half)
     ax.set_ylim(bottom - 0.06, box[3] + 0.05)
 
-    # The residual unbalance from the centre towards its heavy spot, inside the hub.
+    # The residual unbalance from the centre towards its heavy spot, inside the hub; the
+    # reference mark's label under the mark or beside it, then the residual's label.
     a = result.arrangement
     residual_xy = None
-    ref_candidates = [(0.0, HUB_R - 0.19), (0.0, -0.12), (0.16, HUB_R - 0.19),
-                      (-0.16, HUB_R - 0.19)]
     if a.residual_gmm > ZERO_SHARE * result.total_moment_gmm:
         angle = page_angle_deg(a.residual_angle_deg, ccw)
         residual_xy = (xy(0.06, angle), xy(HUB_R - 0.08, angle))
         draw_vector(ax, *residual_xy, solid=False)
         room.line(*residual_xy)
         drawn.append("residual")
-        text = "residual"
-        box = label_beside(room, *residual_xy, text, SMALL_PT, (0.55, 0.75, 0.35), HUB_R - 0.02)
+    w, h = room.size("REF 0°", SMALL_PT, bold=True)
+    away = 1.0 if ccw else -1.0                    # the side angles do not grow to
+    centres = [(0.0, HUB_R - 0.15 - h / 2), (away * (0.06 + w / 2), HUB_R - 0.075),
+               (-away * (0.06 + w / 2), HUB_R - 0.075), (0.0, -0.12), (0.0, 0.12)]
+    boxes = [(x - w / 2, y - h / 2, x + w / 2, y + h / 2) for x, y in centres]
+    box = next((b for b in boxes if room.free(b, pad=0.01) and box_inside(b, HUB_R - 0.01)),
+               boxes[0])
+    put_text(ax, room, box, "REF 0°", SMALL_PT, weight="bold")
+    if residual_xy is not None:
+        box = label_beside(room, *residual_xy, "residual", SMALL_PT,
+                           (0.55, 0.75, 0.35, 0.9, 0.2), HUB_R - 0.01)
         if box is not None:
-            put_text(ax, room, box, text, SMALL_PT, style="italic")
+            put_text(ax, room, box, "residual", SMALL_PT, style="italic")
     else:
         w, h = room.size("residual ≈ 0", SMALL_PT, bold=True)
         put_text(ax, room, (-w / 2, -0.1 - h, w / 2, -0.1), "residual ≈ 0", SMALL_PT,
                  weight="bold")
-    w, h = room.size("REF 0°", SMALL_PT, bold=True)
-    boxes = [(x - w / 2, y - h / 2, x + w / 2, y + h / 2) for x, y in ref_candidates]
-    box = next((b for b in boxes if room.free(b, pad=0.01) and box_inside(b, HUB_R - 0.01)),
-               boxes[0])
-    put_text(ax, room, box, "REF 0°", SMALL_PT, weight="bold")
     if _angle_arc(ax, room, ccw):
         drawn.append("angle")
     if turns is not None:
@@ -423,7 +428,10 @@ def _angle_arc(ax, room: Room, ccw: bool) -> bool:
             for start in starts:
                 a0, a1 = page_angle_deg(start, ccw), page_angle_deg(start + 50, ccw)
                 verts = draw_arc(None, radius, a0, a1)
-                if not room.clear_path(verts[::4] + [verts[-1]], pad=0.02):
+                head = HEAD_IN / room.unit_in           # the arrowhead is sized in points
+                (hx, hy) = verts[-1]
+                if not room.clear_path(verts[::4] + [verts[-1]], pad=0.02) or \
+                        not room.free((hx - head, hy - head, hx + head, hy + head), pad=0.0):
                     continue
                 box = _arc_label(room, radius, page_angle_deg(start + 25, ccw), verts) \
                     if labelled else None

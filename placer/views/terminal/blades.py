@@ -23,7 +23,7 @@ from placer.views.bladewording import (
     verdict_text,
 )
 from placer.views.terminal.job import plane_panel
-from placer.views.wording import cautions_for
+from placer.views.wording import cautions_for, units_of
 
 VERDICT_STYLE = {"WITHIN TOLERANCE": ("[OK] ", "bold green"),
                  "OUTSIDE TOLERANCE": ("[!!] ", "bold red reverse"),
@@ -173,7 +173,8 @@ def render_blades(result: BladeResult, console: Console) -> None:
     console.print(_arrangement_panel(result))
     if result.trim is not None:
         share = None if result.trim.shares is None else result.trim.shares[0]
-        console.print(plane_panel(1, result.trim.planes[0], share))
+        console.print(plane_panel(1, result.trim.planes[0], share, result.trim,
+                                  units_of(result.trim.job)))
         lines = _trim_lines(result)
         if lines is not None:
             console.print(lines)
