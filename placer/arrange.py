@@ -375,6 +375,23 @@ def swaps_to(job: BladeJob, blade_ids: tuple[str, ...]) -> tuple[tuple[int, int]
     return tuple((int(a) + 1, int(b) + 1) for a, b in swaps_between(start, target))
 
 
+def slot_gaps_deg(disc: Disc) -> list[float]:
+    """The angle from each slot to the next round the disc [deg], in the order of angles.
+
+    Parameters
+    ----------
+    disc : Disc
+        The disc.
+
+    Returns
+    -------
+    list of float
+        One gap per slot; they add up to 360°.
+    """
+    angles = sorted(a % 360.0 for a in disc.slot_angles_deg())
+    return [b - a for a, b in zip(angles, angles[1:] + [angles[0] + 360.0])]
+
+
 def work_budget(effort: float) -> int:
     """Work units of the arrangement search at ``effort`` times the default.
 

@@ -41,23 +41,17 @@ def _residual(weights: dict[str, float], order, angles_deg, disc_gmm: complex = 
     return float(abs(disc_gmm + sum(weights[b] * z[k] for k, b in enumerate(order))))
 
 
-def _cycles(perm) -> int:
-    seen, count = set(), 0
-    for start in range(len(perm)):
-        if start not in seen:
-            count += 1
-            j = start
-            while j not in seen:
-                seen.add(j)
-                j = perm[j]
-    return count
-
-
 def _swaps(start, target) -> int:
-    """Fewest swaps between two arrangements: n − cycles of the permutation
-    [PermutationCycles]."""
-    where = {b: k for k, b in enumerate(start)}
-    return len(start) - _cycles([where[b] for b in target])
+    """Fewest swaps between two arrangements, counted by sorting ``start`` into ``target``
+    one slot at a time, a swap whenever a slot holds the wrong blade: n − cycles of the
+    permutation between them [PermutationCycles]."""
+    slots, count = list(start), 0
+    for k, wanted in enumerate(target):
+        if slots[k] != wanted:
+            j = slots.index(wanted, k + 1)
+            slots[k], slots[j] = slots[j], slots[k]
+            count += 1
+    return count
 
 
 RNG = np.random.default_rng(14)

@@ -11,7 +11,7 @@ and neighbour limits; [ISO21940-11] the tolerance.
 
 from __future__ import annotations
 
-from placer.arrange import BladeResult, SlotRow
+from placer.arrange import BladeResult, SlotRow, slot_gaps_deg
 from placer.blades import ANGLE_TOL_DEG, Disc
 
 MOVE_TEXT = {
@@ -63,10 +63,8 @@ def equally_spaced(disc: Disc) -> bool:
     bool
         True when every gap between neighbouring slots is 360°/n.
     """
-    angles = sorted(a % 360.0 for a in disc.slot_angles_deg())
     pitch = 360.0 / disc.slot_count
-    gaps = [b - a for a, b in zip(angles, angles[1:] + [angles[0] + 360.0])]
-    return all(abs(g - pitch) <= ANGLE_TOL_DEG for g in gaps)
+    return all(abs(g - pitch) <= ANGLE_TOL_DEG for g in slot_gaps_deg(disc))
 
 
 def opposite_text(disc: Disc) -> str:

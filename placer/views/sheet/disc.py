@@ -15,7 +15,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
-from placer.arrange import BladeResult, SlotRow
+from placer.arrange import BladeResult, SlotRow, slot_gaps_deg
 from placer.views.sheet.convention import (
     angle_gap_deg,
     angles_counterclockwise,
@@ -204,13 +204,6 @@ def draw_step(ax, x: float, y: float, step: int, radius: float) -> None:
             zorder=7)
 
 
-def _pitch_rad(page_deg: list[float]) -> float:
-    """The smallest angle between neighbouring slots [rad]."""
-    angles = sorted(a % 360.0 for a in page_deg)
-    gaps = [b - a for a, b in zip(angles, angles[1:] + [angles[0] + 360.0])]
-    return math.radians(min(gaps))
-
-
 def _label_reach(texts: list[str], page_deg: list[float], size_pt: float, unit_in: float,
                  bold: list[bool]) -> float:
     """How far from the centre labels along the radius reach [data units]."""
@@ -252,11 +245,12 @@ def draw_disc(ax, result: BladeResult, width_in: float = DRAW_IN) -> DiscDrawing
     ax.set_aspect("equal")
     ax.axis("off")
 
+    pitch = math.radians(min(slot_gaps_deg(result.job.disc)))   # the closest two slots
     half, size_pt = LIMIT, MARK_PT
     for _ in range(4):
         unit_in = width_in / (2 * half)
         if along:
-            pitch_in = ALONG_R * _pitch_rad(page) * unit_in
+            pitch_in = ALONG_R * pitch * unit_in
             size_pt = max(4.5, min(MARK_PT, pitch_in * 72 * 0.78))
             texts = [f"{row.slot}  {row.blade.blade_id}" for row in rows]
             need = _label_reach(texts, page, size_pt, unit_in, bold) + 0.04
@@ -287,7 +281,6 @@ def draw_disc(ax, result: BladeResult, width_in: float = DRAW_IN) -> DiscDrawing
     room.take((-0.05, HUB_R - 0.13, 0.05, HUB_R - 0.02))
 
     # The blades, one per slot.
-    pitch = _pitch_rad(page)
     half_root = min(0.055, 0.30 * pitch * ROOT_R)
     half_tip = min(0.085, 0.30 * pitch * TIP_R)
     slot_xy = {}
