@@ -47,8 +47,11 @@ import time
 from pathlib import Path
 
 REPO = Path(__file__).resolve().parent.parent
-if str(REPO) not in sys.path:
-    sys.path.insert(0, str(REPO))
+SOURCE = Path(sys.argv[sys.argv.index("--source") + 1]).resolve() if "--source" in sys.argv \
+    else REPO
+"""The checkout placer is imported from (``--source DIR``; default this one)."""
+if str(SOURCE) not in sys.path:
+    sys.path.insert(0, str(SOURCE))
 
 import scipy.spatial  # noqa: E402,F401  (imported here so no timing pays for it)
 
@@ -170,30 +173,70 @@ def scaling_table(folder: Path, rows: int, seed: int, cores: int) -> None:
               f"{speedup:>8.2f} {speedup / jobs:>7.2f} {cpu_use:>8.0%}  {verdict}")
 
 
+def side_by_side(args: argparse.Namespace, argv: list[str]) -> int:
+    """The scaling table of this checkout and of ``--baseline``, alternating, in fresh
+    processes, and the ratio of their rates."""
+    import subprocess
+
+    sources = {"base": str(Path(args.baseline).resolve()), "new": str(REPO)}
+    print("$ python benchmarks/bench_batch.py " + " ".join(argv))
+    rates: dict[str, dict[tuple[str, str], list[float]]] = {"base": {}, "new": {}}
+    for round_ in range(args.rounds):
+        for engine, source in sources.items():
+            command = [sys.executable, str(Path(__file__).resolve()), "--source", source,
+                       "--scaling-only", "--scale-rows", str(args.scale_rows or 200),
+                       "--seed", str(args.seed)]
+            done = subprocess.run(command, capture_output=True, text=True, check=True)
+            print(f"\n[{engine}, round {round_ + 1}] placer from {source}")
+            print(done.stdout.rstrip())
+            for line in done.stdout.splitlines():
+                cells = line.split()
+                if len(cells) == 8 and cells[0].isdigit():
+                    rates[engine].setdefault((cells[0], cells[1]), []).append(float(cells[6]))
+    print(f"\nrotors/s on one core (whole batch, median over {args.rounds} round(s))")
+    print(f"{'positions':>9} {'sizes':>5} {'base':>9} {'new':>9} {'new/base':>8}")
+    for key, base in rates["base"].items():
+        new = rates["new"].get(key, [])
+        b, n = statistics.median(base), statistics.median(new) if new else float("nan")
+        print(f"{key[0]:>9} {key[1]:>5} {b:>9.0f} {n:>9.0f} {n / b:>8.2f}")
+    return 0
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--source", metavar="DIR", help="import placer from this checkout")
+    parser.add_argument("--baseline", metavar="DIR",
+                        help="another checkout of placer: its scaling table and this one's, "
+                             "side by side")
+    parser.add_argument("--rounds", type=int, default=3,
+                        help="processes per checkout with --baseline (default 3)")
+    parser.add_argument("--scaling-only", action="store_true",
+                        help="only the scaling table (jobs 1)")
     parser.add_argument("--rows", type=int, default=None,
                         help="rows of the 12-hole line (default 20000; 3000 with --quick)")
     parser.add_argument("--scale-rows", type=int, default=None,
                         help="rows per scaling case (default 200; 60 with --quick)")
     parser.add_argument("--seed", type=int, default=2026, help="seed of the rows")
     parser.add_argument("--quick", action="store_true", help="fewer rows")
+    argv = sys.argv[1:] if argv is None else argv
     args = parser.parse_args(argv)
+    if args.baseline:
+        return side_by_side(args, argv)
     rows = args.rows or (3000 if args.quick else 20000)
     scale_rows = args.scale_rows or (60 if args.quick else 200)
-    print("$ python benchmarks/bench_batch.py " + " ".join(argv if argv is not None
-                                                           else sys.argv[1:]))
+    print("$ python benchmarks/bench_batch.py " + " ".join(argv))
     cores = usable_cores()
     print(f"cores: os.cpu_count() = {os.cpu_count()}, usable by this process = {cores}; "
           f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
-    if cores > 1:
+    if cores > 1 and not args.scaling_only:
         print(f"machine: {cores} processes do {machine_scaling(cores):.2f} times the work of "
               f"one (pure-Python loop; {cores:.2f} on {cores} free cores)")
     with tempfile.TemporaryDirectory() as name:
         folder = Path(name)
-        print(f"\n12-hole bolt circle, 5 washer sizes, capacity 3, up to 4 parts, {rows} rows, "
-              f"seed {args.seed}")
-        scaling_table(folder, rows, args.seed, cores)
+        if not args.scaling_only:
+            print(f"\n12-hole bolt circle, 5 washer sizes, capacity 3, up to 4 parts, {rows} "
+                  f"rows, seed {args.seed}")
+            scaling_table(folder, rows, args.seed, cores)
         print(f"\nScaling, jobs 1, capacity 3, up to 4 parts, {scale_rows} rows per case")
         print(f"{'positions':>9} {'sizes':>5} {'placements':>10} {'first ms':>9} "
               f"{'median ms':>9} {'steady /s':>9} {'rotors/s':>9} {'per CPU-s':>10}")

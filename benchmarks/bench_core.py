@@ -51,15 +51,15 @@ from dataclasses import dataclass
 from pathlib import Path
 
 REPO = Path(__file__).resolve().parent.parent
-if str(REPO) not in sys.path:
+if str(REPO) not in sys.path and sys.argv[1:2] != ["--worker"]:
     sys.path.insert(0, str(REPO))
 
 import numpy as np  # noqa: E402
 import scipy.spatial  # noqa: E402,F401  (imported here so no timing pays for it)
-from ortools.sat.python import cp_model  # noqa: E402
 
-from placer.engine.search import ABS_TOL, REL_TOL, PlacementSearch  # noqa: E402
-from placer.handbook import handbook_plan, residual_gmm  # noqa: E402
+ABS_TOL, REL_TOL = 0.01, 0.005
+"""The proof tolerance (placer/engine/search.py), written here so that the side-by-side
+workers import placer only from the checkout they measure."""
 
 MAX_PARTS = 4
 POLYGON_SIDES = 16
@@ -105,7 +105,9 @@ class Case:
         angles = rng.uniform(0.0, 2.0 * math.pi, size=count)
         return [complex(m * np.exp(1j * a)) for m, a in zip(magnitudes, angles)]
 
-    def search(self) -> PlacementSearch:
+    def search(self):
+        from placer.engine.search import PlacementSearch
+
         return PlacementSearch(self.effects(), np.full(self.n_positions, self.capacity),
                                np.full(len(self.item_masses_g), self.stock), MAX_PARTS)
 
@@ -134,6 +136,10 @@ def build_cases() -> tuple[list[Case], str]:
 def cpsat_solve(case: Case, correction_gmm: complex, max_parts: int,
                 seconds: float) -> tuple[float, bool, float]:
     """Plain CP-SAT model; returns (time s, proved optimal, Euclidean residual g·mm)."""
+    from ortools.sat.python import cp_model
+
+    from placer.handbook import residual_gmm
+
     effects = case.effects()
     n_pos, n_items = effects.shape
     model = cp_model.CpModel()
@@ -235,6 +241,8 @@ def run_case(case: Case, n_corrections: int, repeat: int, n_cpsat: int,
                         worst=max((r for r in ratios if r is not None), default=None),
                         beaten=beaten)
 
+    from placer.handbook import handbook_plan, residual_gmm
+
     hand_vs2, hand_vs4, hand_parts, hand_residual, hand_time = [], [], [], [], []
     for index, correction in enumerate(corrections):
         started = time.perf_counter()
@@ -319,6 +327,146 @@ def print_report(rows: list[dict], args: argparse.Namespace, washer_source: str,
     print(f"Total run time {total_s:.1f} s.")
 
 
+# ----------------------------------------------------------------- side by side
+ENGINE_CASES = {
+    # key: (label, positions, radius_mm, masses, capacity, max_parts, seed, target_s)
+    "a4": ("12 x 5 cap 3, k<=4", 12, 150.0, None, 3, 4, 101, None),
+    "b4": ("36 x 12, k<=4", 36, 210.0, "b", 1, 4, 202, 0.010),
+    "c4": ("120 x 12, k<=4", 120, 190.0, "c", 1, 4, 303, 0.100),
+    "d4": ("360 x 12, k<=4", 360, 190.0, "c", 1, 4, 404, 1.0),
+    "b6": ("36 x 12, k<=6", 36, 210.0, "b", 1, 6, 202, 0.5),
+    "c6": ("120 x 12, k<=6", 120, 190.0, "c", 1, 6, 303, 2.0),
+    "b8": ("36 x 12, k<=8", 36, 210.0, "b", 1, 8, 202, None),
+}
+"""The engine cases of the issue (the first three are the reference cases (a)-(c))."""
+SIZES_B = (2.0, 3.0, 4.0, 5.0, 6.0, 8.0, 10.0, 12.0, 16.0, 20.0, 30.0, 40.0)
+SIZES_C = tuple(float(m) for m in range(5, 61, 5))
+
+
+def engine_case(key: str) -> tuple[str, Case, int]:
+    label, n, radius, sizes, capacity, k, seed, target = ENGINE_CASES[key]
+    masses = {"b": SIZES_B, "c": SIZES_C, None: washer_masses()[0]}[sizes]
+    return label, Case(label, n, radius, masses, capacity, 30, target or 0.0, seed), k
+
+
+def worker(source: str, key: str, count: int, warm: bool) -> None:
+    """In a fresh process with placer from ``source``: the fronts of one case (CPU time of
+    each, cold or warm), their residuals and proofs, and the peak memory; one JSON line."""
+    import json
+    import resource
+
+    sys.path.insert(0, source)
+    from placer.engine.search import PlacementSearch as Search
+
+    _, case, k = engine_case(key)
+    corrections = case.corrections(count)
+
+    def build():
+        return Search(case.effects(), np.full(case.n_positions, case.capacity),
+                      np.full(len(case.item_masses_g), case.stock), k)
+
+    shared = build() if warm else None
+    if warm:
+        shared.front(np.array([corrections[0]]))
+    out = []
+    for correction in corrections:
+        started = time.process_time()
+        front = (shared if warm else build()).front(np.array([correction]))
+        out.append(dict(s=time.process_time() - started, proven=front.optimal,
+                        residuals=[e.residual_norm for e in front.entries],
+                        flags=[e.proven for e in front.entries]))
+    peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    print(json.dumps(dict(fronts=out, peak_mb=peak_mb)))
+
+
+def run_json(command: list[str], cwd: str, timeout_s: float) -> dict | None:
+    """Run a worker process; its last line of output as JSON, or None past the timeout."""
+    import json
+    import subprocess
+
+    try:
+        done = subprocess.run(command, capture_output=True, text=True, timeout=timeout_s,
+                              cwd=cwd)
+    except subprocess.TimeoutExpired:
+        return None
+    if done.returncode != 0:
+        raise RuntimeError(done.stderr)
+    return json.loads(done.stdout.strip().splitlines()[-1])
+
+
+def run_worker(source: str, key: str, count: int, warm: bool, timeout_s: float) -> dict | None:
+    command = [sys.executable, str(Path(__file__).resolve()), "--worker", source, key,
+               str(count), "warm" if warm else "cold"]
+    return run_json(command, source, timeout_s)
+
+
+def same_fronts(new: dict, old: dict) -> tuple[int, int]:
+    """(entries compared, entries whose residuals differ) where both engines proved them:
+    residuals agree within the proof tolerance (0.5 % or 0.01 g·mm), which is also how
+    far a plan proven within the tolerance of zero may be from the least one."""
+    compared = differ = 0
+    for a, b in zip(new["fronts"], old["fronts"]):
+        for ra, rb, pa, pb in zip(a["residuals"], b["residuals"], a["flags"], b["flags"]):
+            if pa and pb:
+                compared += 1
+                low, high = min(ra, rb), max(ra, rb)
+                differ += high > max(low * (1 + REL_TOL), low + ABS_TOL) + 1e-9
+    return compared, differ
+
+
+def side_by_side(args: argparse.Namespace) -> int:
+    """Today's engine (``--baseline``) and this one, alternating, in fresh processes."""
+    keys = args.cases.split(",")
+    sources = {"new": str(REPO), "base": str(Path(args.baseline).resolve())}
+    print(f"Rerun: python benchmarks/bench_core.py --baseline {args.baseline} "
+          f"--cases {args.cases} --count {args.count} --rounds {args.rounds} "
+          f"--timeout {args.timeout:g}")
+    print(f"       new = {sources['new']}, base = {sources['base']}; CPU time per front "
+          f"k = 0..K, median over {args.count} corrections x {args.rounds} round(s), each "
+          "round a fresh process per engine, engines alternating")
+    head = (f"{'case':20} {'mode':4} {'base ms':>9} {'new ms':>9} {'new/base':>8} "
+            f"{'target':>7} {'base proven':>11} {'new proven':>10} {'same':>7} "
+            f"{'base MB':>8} {'new MB':>7}")
+    print(head)
+    print("-" * len(head))
+    for key in keys:
+        label, case, _ = engine_case(key)
+        for warm in (False, True):
+            times = {"new": [], "base": []}
+            last: dict[str, dict | None] = {"new": None, "base": None}
+            peak = {"new": 0.0, "base": 0.0}
+            for _ in range(args.rounds):
+                for engine in ("base", "new"):
+                    got = run_worker(sources[engine], key, args.count, warm, args.timeout)
+                    if got is None:
+                        continue
+                    times[engine] += [f["s"] for f in got["fronts"]]
+                    peak[engine] = max(peak[engine], got["peak_mb"])
+                    last[engine] = got
+            med = {e: statistics.median(t) if t else None for e, t in times.items()}
+            proven = {e: (f"{sum(f['proven'] for f in last[e]['fronts'])}/{args.count}"
+                          if last[e] else "timeout") for e in last}
+            same = "n/a"
+            if last["new"] and last["base"]:
+                compared, differ = same_fronts(last["new"], last["base"])
+                same = f"{compared - differ}/{compared}"
+            ratio = (med["new"] / med["base"] if med["new"] and med["base"] else None)
+            target = ("" if warm or not case.target_s
+                      else ("pass" if med["new"] is not None and med["new"] < case.target_s
+                            else "FAIL"))
+            print(f"{label if not warm else '':20} {'warm' if warm else 'cold':4} "
+                  f"{fmt(None if med['base'] is None else 1e3 * med['base'], '.2f'):>9} "
+                  f"{fmt(None if med['new'] is None else 1e3 * med['new'], '.2f'):>9} "
+                  f"{fmt(ratio, '.3f'):>8} {target:>7} {proven['base']:>11} "
+                  f"{proven['new']:>10} {same:>7} {peak['base']:>8.0f} {peak['new']:>7.0f}",
+                  flush=True)
+    print("\n'same': front entries proven by both engines whose residuals agree within the "
+          "proof tolerance / entries proven by both.  MB: peak resident memory of the "
+          "process (ru_maxrss).  'timeout': the engine did not finish the case within "
+          f"{args.timeout:g} s.")
+    return 0
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--repeat", type=int, default=None,
@@ -330,7 +478,25 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--cpsat-count", type=int, default=None,
                         help="corrections per case also given to CP-SAT, the first ones "
                              "(default all 9; 1 with --quick)")
+    parser.add_argument("--baseline", metavar="DIR",
+                        help="another checkout of placer (today's engine): measure both "
+                             "side by side on the engine cases instead")
+    parser.add_argument("--cases", default=",".join(ENGINE_CASES),
+                        help="engine cases with --baseline (default all: "
+                             + ",".join(ENGINE_CASES) + ")")
+    parser.add_argument("--count", type=int, default=5,
+                        help="corrections per engine case with --baseline (default 5)")
+    parser.add_argument("--rounds", type=int, default=3,
+                        help="fresh processes per engine and case with --baseline (default 3)")
+    parser.add_argument("--timeout", type=float, default=600.0,
+                        help="seconds one engine may take for one case with --baseline")
+    argv = sys.argv[1:] if argv is None else argv
+    if argv[:1] == ["--worker"]:
+        worker(argv[1], argv[2], int(argv[3]), argv[4] == "warm")
+        return 0
     args = parser.parse_args(argv)
+    if args.baseline:
+        return side_by_side(args)
     if args.repeat is None:
         args.repeat = 1 if args.quick else 3
     if args.cpsat_seconds is None:

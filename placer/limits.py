@@ -40,9 +40,9 @@ MAX_EFFORT = 1000.0
 """Largest effort an option may ask for."""
 
 DEFAULT_WORK = 1_000_000_000
-"""Work the exact search may do for one part count of one plane (candidate residuals
-evaluated and head rows grown) before it declines the count; counted, never timed, so
-that the same input gives the same answer on any machine and load."""
+"""Work the exact search may do for one part count of one plane (head nodes, grid cells
+and rows looked at; about 5 to 15 s of one core) before it declines the count; counted,
+never timed, so that the same input gives the same answer on any machine and load."""
 
 DEFAULT_MODEL_EFFORT = 5.0
 """Deterministic time the CP-SAT model may spend on one decision (its own unit, about a

@@ -297,3 +297,29 @@ def test_field_plan_drills_one_hole_per_position(tmp_path):
         places = [(plane, part.position) for plane, part in option.parts]
         assert all(part.count == 1 for _, part in option.parts)
         assert len(places) == len(set(places))
+
+
+def test_a_slow_session_stops_within_its_time_limit():
+    """A visit made to be slow (two planes of 720 positions, up to 8 parts, the largest
+    reading) stops with exit 3 within its --time-limit + 10 %: the compiled search checks
+    for the limit's signal while it works.  The margin over that covers the interpreter's
+    start-up, measured beside it, and a loaded machine (common practice, no source)."""
+    import subprocess
+    import sys
+    import time
+
+    session = ROOT / "tests" / "fuzz_corpus" / "session-slow-720-positions.toml"
+    limit_s = 1.5
+    env = {**__import__("os").environ, "PYTHONPATH": str(ROOT)}
+    started = time.perf_counter()
+    subprocess.run([sys.executable, "-m", "placer", "field", "--help"], env=env,
+                   capture_output=True, check=True)
+    start_up_s = time.perf_counter() - started
+    started = time.perf_counter()
+    run = subprocess.run([sys.executable, "-m", "placer", "field", str(session),
+                          "--max-parts", "8", "--norm", "max", "--time-limit", str(limit_s),
+                          "--json"], env=env, capture_output=True, text=True)
+    elapsed_s = time.perf_counter() - started
+    assert run.returncode == 3, run.stderr
+    assert "time limit" in run.stderr and run.stdout == ""
+    assert elapsed_s <= 1.1 * limit_s + start_up_s + 0.5, (elapsed_s, start_up_s)

@@ -1,9 +1,11 @@
 """The trade-off front of one plane, proven, and the choice of a plan from it.
 
 The exact search (:mod:`placer.engine.search`) gives the least residual for
-every part count; a count it declines goes to the integer model
-(:mod:`placer.engine.model`), whose bound on the true residual decides
-whether the count is proven.
+every part count; a count it cannot finish within its work budget keeps the
+plan of fewer parts and is marked not proven.  (The integer model,
+:mod:`placer.engine.model`, is no longer asked to take such counts over: in
+about 45 such solves it never proved one, its lower bound stayed 0, and it
+spent seconds on each; it is kept for shared stock.)
 """
 
 from __future__ import annotations
@@ -15,12 +17,6 @@ import numpy as np
 from placer.engine.arrays import PlaneArrays
 from placer.engine.search import ABS_TOL, REL_TOL, PlacementSearch, Selection
 from placer.limits import DEFAULT_EFFORT, DEFAULT_WORK
-from placer.residual import residual_of
-
-MAX_MODEL_PLACEMENTS = 6000
-"""Past this many (position, item) placements the CP-SAT model takes longer to build
-than it can use; the part counts the search declines are then left unproven, with
-the best plan of fewer parts (measured: 8640 placements took 20 s to build)."""
 
 
 def is_proven(found: float, lower_bound: float) -> bool:
@@ -45,12 +41,11 @@ def is_proven(found: float, lower_bound: float) -> bool:
 def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFFORT,
                 search: PlacementSearch | None = None,
                 stock: np.ndarray | None = None) -> tuple[list[Selection], int, str]:
-    """The front of one plane, proven; CP-SAT takes what the search declines.
+    """The front of one plane, proven where the search finishes within its effort.
 
-    A part count the search declines goes to :func:`placer.engine.model.min_residual`
-    (seeded with the plan of one part fewer), unless the plane has more than
-    :data:`MAX_MODEL_PLACEMENTS` placements; then it stays unproven.  Entry k
-    is then made no worse than entry k - 1, and proven only if both are.
+    A part count the search declines (past its work budget) keeps the plan
+    of fewer parts, not proven.  Entry k is made no worse than entry k - 1,
+    and proven only if both are.
 
     Parameters
     ----------
@@ -59,7 +54,7 @@ def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFF
     max_parts : int
         Longest plan.
     effort : float
-        Multiple of the default work budget and model time (deterministic).
+        Multiple of the default work budget (deterministic).
     search : PlacementSearch, optional
         A search built once for these arrays (batches); default a new one.
     stock : int array, optional
@@ -72,37 +67,15 @@ def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFF
     work : int
         Work the search counted.
     method : str
-        "exact search", "exact search + CP-SAT" or "exact search (not proven
-        past its budget)".
+        "exact search", or "exact search (not proven past its budget)".
     """
     if search is None:
         search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, max_parts,
                                  masses=arrays.masses)
     front = search.front(arrays.target, stock=stock, work=int(DEFAULT_WORK * effort))
     entries = list(front.entries)
-    method = "exact search"
-    for k, entry in enumerate(entries):
-        if entry.proven:
-            continue
-        if search.n > MAX_MODEL_PLACEMENTS:
-            method = "exact search (not proven past its budget)"
-            continue
-        from placer.engine.model import ModelPlane, min_residual
-
-        method = "exact search + CP-SAT"
-        previous = entries[k - 1]
-        outcome = min_residual(ModelPlane(arrays.effects, arrays.target, arrays.capacity,
-                                          arrays.stock if stock is None else stock, k,
-                                          hint=previous.parts), effort)
-        parts = outcome.parts[0]
-        residual = residual_of(arrays.target, arrays.effects, parts)
-        norm = float(np.linalg.norm(residual))
-        if norm >= previous.residual_norm:
-            parts, residual, norm = previous.parts, previous.residual, previous.residual_norm
-        lower = min(outcome.lower_bounds[0], norm)
-        # CP-SAT's OPTIMAL is for its scaled integer model; the proof that counts
-        # is its bound on the true residual, rounding taken off.
-        entries[k] = Selection(k, parts, residual, norm, lower, is_proven(norm, lower))
+    method = ("exact search" if all(entry.proven for entry in entries)
+              else "exact search (not proven past its budget)")
     # At most k parts is never worse than at most k - 1, and is proven only if both are.
     for k in range(1, len(entries)):
         before, entry = entries[k - 1], entries[k]

@@ -1,13 +1,12 @@
 """The CP-SAT model: the general engine for side constraints.
 
 The exact search (:mod:`placer.engine.search`) proves the trade-off front of each
-plane on its own.  Two things it does not do are left to this integer model,
-solved by OR-Tools CP-SAT:
-
-* stock shared by several planes of one job (one drawer for both sides of a
-  fan): all planes are solved together, seeded with the search's plans;
-* a part count the search declines because its tables would grow past its
-  budget (many positions and items with a long plan).
+plane on its own.  What it does not do is left to this integer model, solved
+by OR-Tools CP-SAT: stock shared by several planes of one job (one drawer for
+both sides of a fan) past what :mod:`placer.stock` combines exactly; all
+planes are solved together, seeded with the search's plans.  (Part counts the
+search declines are no longer given to it: it never proved one in the
+measurements of issue 10.)
 
 The residual norm is exact up to integer scaling: each residual component
 is an integer linear expression, squared with a multiplication constraint,

@@ -6,44 +6,63 @@ The problem in its general shape::
 
 ``effect_n`` is what one part of item k fitted at position j does, as one
 complex value per channel: for a correction plane it is minus the part's
-unbalance in g·mm (one channel); for field balancing it will be the predicted
+unbalance in g·mm (one channel); for field balancing it is the predicted
 vibration at several sensors.  The search finds, for every part count
-k = 0 .. max_parts, the least Euclidean norm of the residual over all
-selections of at most k parts that respect the capacity of each position
-(0 for blocked ones) and the stock of each item.
+k = 0 .. max_parts, the least norm of the residual over all selections of at
+most k parts that respect the capacity of each position (0 for blocked ones)
+and the stock of each item.
 
 How the search proves its answer (Notes)
 ----------------------------------------
 * Placements (position, item) are sorted by the norm of their effect,
   largest first, so a multiset written in non-decreasing index order lists
   its parts from largest to smallest.
-* Meet in the middle: every feasible pair of placements is tabulated once,
-  with its summed effect, in a k-d tree (exact Euclidean distances).  A
-  selection of k parts is its k-2 largest parts (the "head") plus a pair.
+* The span: every effect lies in the span of the effects (for a field visit,
+  of the planes' influence columns, whatever the number of sensors).  In an
+  orthonormal basis of it a residual splits into a part in the span and a
+  part orthogonal to it that no plan changes, so the search works in the
+  span's coordinates (2 × rank real numbers) and adds the constant back.
+* Meet in the middle: every feasible multiset of w placements (w = 2, pairs;
+  3 for plans of seven parts or more when the table stays small; 1 past the
+  pair budget) is tabulated once in a uniform grid over its summed effect.
+  A selection of k parts is its k - w largest parts (the "head") plus a
+  tail row.
 * Bound from the largest part that is left: a head of j parts whose smallest
   part has norm m can only be completed to k parts with residual below U if
   ``|target + head| - (k - j) * m < U`` (triangle inequality), so heads that
-  fail it are never expanded or looked up.
+  fail it are never expanded or looked up.  Heads are walked depth first,
+  first parts most promising first.
 * The incumbent U is the best residual with fewer parts, then shrinks as
-  heads are looked up, most promising first.  Every head that survives is
-  looked up exactly (nearest feasible pair; when the nearest few pairs all
-  clash with the head on a position or an item, the pair table is scanned in
-  full for that head), so the result is the proven optimum.
+  heads are completed.  A head's completion scans the grid's cells shell by
+  shell around the point that would cancel it, skipping cells whose box is
+  not nearer than U, and stops when a whole shell is at least U away: every
+  row that could beat U is looked at, so the result is the proven optimum.
+* A residual within the proof tolerance of zero (:data:`ABS_TOL`, or
+  :data:`REL_TOL` of the problem's size if that is smaller) is proven as
+  soon as it is found (its lower bound is zero), so the search of that part
+  count stops there; long plans on large rims are proven this way.
+* The largest channel ("max" norm) is bounded below by the Euclidean norm
+  over √channels, which prunes heads and cells; candidates are scored exactly.
 * The least added mass within a residual radius (:meth:`PlacementSearch.lightest`)
-  uses the same heads and pairs, with the mass of the lightest parts left as
+  walks the same heads and grid, with the mass of the lightest parts left as
   the bound (a head of mass w can only be completed to less than the
   incumbent W if ``w + (k - j) * w_min < W``) and the radius as the
   geometric bound.
-* Work is counted (candidate residuals evaluated, head rows grown), never
-  timed: a part count whose search would pass the work budget is declined and
-  left to the CP-SAT model (:mod:`placer.engine.model`), which reports its own
-  proof status.  The same input gives the same answer on any machine and load.
+* Work is counted (head nodes, grid cells and rows looked at), never timed:
+  a part count whose search would pass the work budget is declined and left
+  unproven.  The same input gives the same answer on any machine and load.
+  The compiled loops also check for signals (the command's time limit,
+  Ctrl-C) every few hundred thousand units of work.
+
+The head walk and the grid are compiled (``placer/engine/_kernel.c``, built
+when placer is installed); this module prepares the arrays and reads the
+answer.
 
 References
 ----------
-Meet-in-the-middle and branch-and-bound are textbook combinatorial search
-(e.g. Horowitz and Sahni, "Computing partitions with applications to the
-knapsack problem", J. ACM 21 (1974) 277-292; from memory).
+[HorowitzSahni1974] meet in the middle; branch and bound is textbook
+combinatorial search.  [Bentley1975] uniform grids ("cells") for nearest
+neighbours.
 """
 
 from __future__ import annotations
@@ -52,8 +71,14 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from placer.errors import PlacerError
 from placer.limits import DEFAULT_WORK
 from placer.residual import residual_of
+
+try:
+    from placer.engine import _kernel
+except ImportError:                                   # pragma: no cover - a broken install
+    _kernel = None
 
 NORMS = ("euclidean", "max")
 """Norms the search can minimise over the channels of the residual."""
@@ -66,20 +91,31 @@ ABS_TOL = 0.01
 REL_TOL = 0.005
 """Relative proof tolerance on the residual (0.5 %)."""
 
-NEIGHBOURS_FIRST = 4
-NEIGHBOURS_SECOND = 32
-CHUNK_ROWS = 65536
-MAX_PAIRS = 4_000_000
-MAX_HEAD_ROWS = 6_000_000
-DENSE_LIMIT = 200_000
-"""Heads x tail rows up to which heads are completed by a dense scan, not a k-d tree."""
-DENSE_TAIL = 4096
-"""Tail rows up to which the dense scan takes more heads (a small tree does not pay for
-importing scipy, as on a 12-hole bolt circle)..."""
-DENSE_LIMIT_SMALL_TAIL = 3_000_000
-"""...up to this many heads x tail rows."""
-DENSE_CHUNK = 262_144
-"""Head x tail combinations scored at once in the dense scan."""
+MAX_TAIL_ROWS = 16_000_000
+"""Most rows of one tail table (pairs or triples; 4 bytes a placement): past this the
+search completes heads from a narrower table (triples -> pairs -> single placements)."""
+LONG_PLAN = 7
+"""Part counts from which the table of triples is used when it fits: building it (12 M
+rows for 36 positions x 12 items) takes about a second, which pays only for 7 and 8
+parts; shorter plans are proven sooner with pairs."""
+GRID_OCCUPANCY = 3.0
+"""Rows per grid cell on average over the table's bounding box."""
+GRID_DIMS = 4
+"""Most coordinates the grid indexes (the rest are scored, not indexed)."""
+INDEX = "grid"
+"""How tails are looked up: "grid", or "scan" (one cell: every row is scored; for tests)."""
+MAX_COORDS = 32
+"""Most real coordinates of the span the compiled search takes (2 × rank)."""
+MAX_FULL = 128
+"""Most real coordinates of a full residual for the max norm (2 × channels)."""
+
+
+def _require_kernel() -> None:
+    """Raise a one-line error when the compiled search was not built."""
+    if _kernel is None:
+        raise PlacerError("placer's compiled search is not built",
+                          expected="placer installed with `python -m pip install .`, which "
+                          "needs a C compiler and the Python headers")
 
 
 @dataclass(frozen=True)
@@ -128,10 +164,10 @@ class Front:
     entries : tuple of Selection
         Entry k: the least residual with at most k parts.
     work : int
-        Work the search counted (candidate residuals evaluated).
+        Work the search counted (head nodes, grid cells and rows looked at).
     method : str
-        "exact", or "exact+cp-sat" when a part count was declined (left
-        unproven for the integer model).
+        "exact", or "exact (not proven past its budget)" when a part count was
+        declined (its entry is the best with fewer parts, not proven).
     """
 
     entries: tuple[Selection, ...]
@@ -147,8 +183,9 @@ class PlacementSearch:
     """Exact search over one set of positions and items, reusable for many targets.
 
     Everything that does not depend on the target (placements, their
-    ordering, the pair table and its k-d tree) is built once here, so a
-    production line can solve rotor after rotor without rebuilding it.
+    ordering, the span's coordinates, the tail tables and their grids) is
+    built once here, so a production line can solve rotor after rotor
+    without rebuilding it.
 
     Parameters
     ----------
@@ -163,9 +200,8 @@ class PlacementSearch:
     norm : {"euclidean", "max"}
         What is least: the Euclidean norm over all channels (root of the sum
         of squares), or the largest channel magnitude.  Both are norms, so the
-        bounds hold; the k-d tree works in Euclidean distance, which bounds
-        the largest magnitude from above and from below by a factor
-        sqrt(n_channels), and candidates are re-scored exactly.
+        bounds hold; the Euclidean distance bounds the largest magnitude from
+        below over sqrt(n_channels), and candidates are scored exactly.
     masses : float array (n_positions, n_items), optional
         What one part adds to a plan's total mass [g], zero or more (a part
         taken off or a hole drilled counts by its magnitude); default the
@@ -175,18 +211,20 @@ class PlacementSearch:
     def __init__(self, effects: np.ndarray, capacity: np.ndarray, stock: np.ndarray,
                  max_parts: int, norm: str = "euclidean",
                  masses: np.ndarray | None = None) -> None:
+        _require_kernel()
         effects = np.asarray(effects, dtype=complex)
         if effects.ndim == 2:
             effects = effects[:, :, None]
         if norm not in NORMS:
             raise ValueError(f"norm must be one of {NORMS}, not {norm!r}")
-        self.norm = norm
         self.effects = effects
         self.n_positions, self.n_items, self.n_channels = effects.shape
-        # Euclidean distance d between real vectors bounds the chosen norm below by d / widen.
-        self.widen = 1.0 if norm == "euclidean" else float(np.sqrt(self.n_channels))
-        self.capacity = np.minimum(np.asarray(capacity, dtype=np.int64), max_parts)
-        self.stock = np.minimum(np.asarray(stock, dtype=np.int64), max_parts)
+        # One channel: the largest magnitude is the Euclidean norm.
+        self.norm = "euclidean" if self.n_channels == 1 else norm
+        self.capacity = np.ascontiguousarray(
+            np.minimum(np.asarray(capacity, dtype=np.int64), max_parts))
+        self.stock = np.ascontiguousarray(np.minimum(np.asarray(stock, dtype=np.int64),
+                                                     max_parts))
         self.max_parts = int(max_parts)
         usable = (self.capacity[:, None] > 0) & (self.stock[None, :] > 0)
         usable &= np.linalg.norm(effects, axis=2) > 0
@@ -194,52 +232,94 @@ class PlacementSearch:
         eff = effects[pos, item, :]
         size = self._norm(_as_real(eff))
         order = np.lexsort((item, pos, -size))
-        self.pos_of = pos[order]
-        self.item_of = item[order]
+        self.pos_of = np.ascontiguousarray(pos[order], dtype=np.int64)
+        self.item_of = np.ascontiguousarray(item[order], dtype=np.int64)
         self.eff = eff[order]
-        self.mag = size[order]
+        self.mag = np.ascontiguousarray(size[order], dtype=float)
         weights = (np.linalg.norm(effects, axis=2) if masses is None
                    else np.abs(np.asarray(masses, dtype=float)))
-        self.mass = weights[self.pos_of, self.item_of]
+        self.mass = np.ascontiguousarray(weights[self.pos_of, self.item_of], dtype=float)
         self.n = len(self.pos_of)
-        self.eff_real = _as_real(self.eff)
-        self._pairs: tuple[np.ndarray, np.ndarray, np.ndarray] | None = None
-        self._tail_rows: tuple[np.ndarray, np.ndarray] | None = None
-        self._tree = None
-        self.pair_table_too_large = self.n * (self.n + 1) // 2 > MAX_PAIRS
+        self.eff_real = np.ascontiguousarray(_as_real(self.eff))
+        self._basis, self.coords = _span(self.eff)
+        if self.coords.shape[1] > MAX_COORDS or (self.norm == "max"
+                                                 and self.eff_real.shape[1] > MAX_FULL):
+            raise ValueError("too many channels for the compiled search "
+                             f"(rank {self.coords.shape[1] // 2}, {self.n_channels} channels)")
+        span_mag = np.linalg.norm(self.coords, axis=1)
+        # Suffix maxima: no placement from i on is larger in the span than this.
+        self.span_mag = np.ascontiguousarray(np.maximum.accumulate(span_mag[::-1])[::-1]
+                                             if self.n else span_mag)
+        self._tables: dict[int, tuple | None] = {}
+        self._index: dict[tuple[int, int], int] | None = None
         self._stock = self.stock
         self._work = 0
         self._work_limit = DEFAULT_WORK
 
     # ----------------------------------------------------------------- tables
-    def _pair_table(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-        if self._pairs is None:
-            a, b = np.triu_indices(self.n)
-            ok = feasible(np.stack([a, b], axis=1), self.pos_of, self.item_of,
-                           self.capacity, self.stock)
-            a, b = a[ok], b[ok]
-            self._pairs = (a, b, self.eff_real[a] + self.eff_real[b])
-        return self._pairs
+    def _table(self, width: int) -> tuple | None:
+        """The grid of every feasible multiset of ``width`` placements (built once);
+        None when it would pass :data:`MAX_TAIL_ROWS` rows."""
+        if width not in self._tables:
+            built = None
+            if width == 1 or _multisets(self.n, width) <= 2 * MAX_TAIL_ROWS:
+                built = _kernel.build(self.coords, self.coords.shape[1], self._walk(), self.pos_of,
+                                      self.item_of, self.capacity, self.stock, width,
+                                      min(GRID_DIMS, self.coords.shape[1]), GRID_OCCUPANCY,
+                                      max(MAX_TAIL_ROWS, self.n) if width == 1
+                                      else MAX_TAIL_ROWS, int(INDEX == "scan"))
+            self._tables[width] = None if built is None else (*built, width)
+        return self._tables[width]
 
-    def _tail_table(self) -> tuple[np.ndarray, np.ndarray]:
-        """The table that completes a head: every feasible pair, or (past the pair
-        budget) every single placement; its placements and summed effects (built once)."""
-        if self._tail_rows is None:
-            if self.pair_table_too_large:
-                self._tail_rows = (np.arange(self.n)[:, None], self.eff_real)
-            else:
-                a, b, sums = self._pair_table()
-                self._tail_rows = (np.stack([a, b], axis=1), sums)
-        return self._tail_rows
+    def _walk(self) -> np.ndarray:
+        """The order tables are built in: by item, then by the angle of the first
+        coordinate (around the circle), so that consecutive rows fall in nearby cells."""
+        angle = np.arctan2(self.coords[:, 1], self.coords[:, 0]) if self.n else np.zeros(0)
+        return np.ascontiguousarray(np.lexsort((angle, self.item_of)), dtype=np.int64)
 
-    def _tail(self) -> tuple[np.ndarray, np.ndarray, object]:
-        """The tail table (see `_tail_table`) and its k-d tree."""
-        if self._tree is None:
-            from scipy.spatial import cKDTree
+    def _width(self, k: int) -> int:
+        """Tail width for a plan of k parts (k >= 2): triples for long plans when their
+        table fits, else pairs when theirs fits, else single placements."""
+        if k >= LONG_PLAN and self._table(3) is not None:
+            return 3
+        return 2 if self._table(2) is not None else 1
 
-            cols, sums = self._tail_table()
-            self._tree = cKDTree(sums, balanced_tree=False, compact_nodes=False, leafsize=16)
-        return (*self._tail_table(), self._tree)
+    def _query_target(self, t_real: np.ndarray) -> tuple[np.ndarray, float]:
+        """The target in the span's coordinates, and the squared norm of the rest."""
+        target = t_real[:self.n_channels] + 1j * t_real[self.n_channels:]
+        if self._basis is None:
+            return np.ascontiguousarray(t_real, dtype=float), 0.0
+        inside = target @ self._basis.conj().T
+        rest = target - inside @ self._basis
+        coords = np.stack([inside.real, inside.imag], axis=1).reshape(-1)
+        return np.ascontiguousarray(coords), float(np.vdot(rest, rest).real)
+
+    def _run(self, k: int, t_real: np.ndarray, *, bound: float = np.inf,
+             radius: float | None = None, best_mass: float = np.inf,
+             best_value: float = np.inf, stop: float = 0.0):
+        """One compiled search of exactly k parts (k >= 2): the least residual below
+        ``bound`` or, with ``radius``, the lightest within it.  Returns (rows or None,
+        value, mass, stopped) or None past the work budget."""
+        width = min(self._width(k), k)
+        table = self._table(width)
+        coords, perp2 = self._query_target(t_real)
+        maxnorm = self.norm == "max"
+        full = self.eff_real if maxnorm else None
+        placements = (self.coords, self.coords.shape[1], full,
+                      self.eff_real.shape[1] if maxnorm else 0, self.pos_of, self.item_of,
+                      self.capacity, self.mag, self.span_mag, self.mass, self.n_positions)
+        lightest = radius is not None
+        query = (tuple(coords), tuple(t_real) if maxnorm else (), perp2, self._stock, k,
+                 int(maxnorm), int(lightest), float(radius if lightest else bound),
+                 float(stop), float(best_mass), float(best_value),
+                 max(0, self._work_limit - self._work))
+        status, rows, value, mass, work = _kernel.search(table, placements, query)
+        self._work += work
+        if status == 1:
+            return None
+        if rows is None:
+            return None, np.inf, np.inf, False
+        return np.array(rows, dtype=np.int64), value, mass, status == 2
 
     # ----------------------------------------------------------------- search
     def front(self, target: np.ndarray, max_parts: int | None = None, *,
@@ -257,8 +337,9 @@ class PlacementSearch:
             own stock (default that stock): planes that share a drawer are
             planned with what the others leave.
         work : int
-            Work budget of each part count (candidate residuals evaluated);
-            a count that would pass it is declined and left unproven.
+            Work budget of each part count (head nodes, grid cells and rows
+            looked at); a count that would pass it is declined and left
+            unproven.
 
         Returns
         -------
@@ -274,27 +355,33 @@ class PlacementSearch:
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
         method = "exact"
         total = 0
-        # Nothing can beat an exact zero; stop there (relative to the problem's size, so
-        # that tiny rotors are solved as carefully as large ones).
-        exact_zero = 1e-12 * max(best_norm, float(self.mag.max(initial=0.0)))
+        stop = self._near_zero(best_norm)
         for k in range(1, k_max + 1):
-            if best_norm <= exact_zero or self.n == 0:
-                entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, True))
+            if best_norm <= stop or self.n == 0:
+                entries.append(self._selection(k, target, best_rows[-1], best_norm,
+                                               min(best_norm, entries[-1].lower_bound), True))
                 continue
             self._work = 0
-            found = self._best_with(k, t_real, best_norm)
+            found = self._best_with(k, t_real, best_norm, stop)
             total += self._work
             if found is None:
-                method = "exact+cp-sat"
+                method = "exact (not proven past its budget)"
                 entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, False))
                 continue
-            row, value = found
+            row, value, stopped = found
             if row is not None and value < best_norm:
                 best_rows.append(row)
                 best_norm = value
-            # Every k-part selection was examined: best_norm is the least residual.
-            entries.append(self._selection(k, target, best_rows[-1], best_norm, best_norm, True))
+            # Every k-part selection that could beat best_norm was examined, unless the
+            # search stopped at a plan within the proof tolerance of zero.
+            entries.append(self._selection(k, target, best_rows[-1], best_norm,
+                                           0.0 if stopped else best_norm, True))
         return Front(tuple(entries), total, method)
+
+    def _near_zero(self, target_norm: float) -> float:
+        """The residual at or below which a plan is proven as found (see the notes)."""
+        size = max(target_norm, float(self.mag.max(initial=0.0)))
+        return max(min(ABS_TOL, REL_TOL * size), 1e-12 * size)
 
     def lightest(self, target: np.ndarray, parts: int, radius: float, *,
                  stock: np.ndarray | None = None, work: int = DEFAULT_WORK,
@@ -318,7 +405,7 @@ class PlacementSearch:
         stock : int array (n_items,), optional
             Parts of each item on hand for this query (see :meth:`front`).
         work : int
-            Work budget (candidate residuals evaluated).
+            Work budget (head nodes, grid cells and rows looked at).
         known : tuple of (position, item, count), optional
             A plan of ``parts`` parts within the radius known beforehand (the
             least residual one): the search starts from its mass.
@@ -349,7 +436,13 @@ class PlacementSearch:
             return self._selection(0, target, np.zeros(0, dtype=np.int64), value, value, True)
         finished = True
         if self.n:
-            found = self._lightest_with(k, t_real, radius, best_mass, best_value)
+            if k == 1:
+                found = self._lightest_single(t_real, radius, best_mass, best_value)
+            else:
+                found = self._run(k, t_real, radius=radius, best_mass=best_mass,
+                                  best_value=best_value)
+                if found is not None:
+                    found = (found[0], found[2], found[1])
             if found is None:
                 finished = False
             elif found[0] is not None:
@@ -358,10 +451,25 @@ class PlacementSearch:
             return None
         return self._selection(k, target, best_row, best_value, best_value, finished)
 
+    def _lightest_single(self, t_real: np.ndarray, radius: float, best_mass: float,
+                         best_value: float):
+        """The lightest single part within ``radius`` (see :meth:`lightest`):
+        (rows, mass, value), (None, ...) when none beats the known plan."""
+        self._spend(self.n)
+        values = self._norm(t_real + self.eff_real)
+        ok = (values <= radius) & self._in_stock()
+        better = ok & ((self.mass < best_mass - 1e-12)
+                       | ((self.mass <= best_mass + 1e-12) & (values < best_value)))
+        if not better.any():
+            return None, np.inf, np.inf
+        cand = np.nonzero(better)[0]
+        first = cand[np.lexsort((values[cand], self.mass[cand]))[0]]
+        return np.array([first]), float(self.mass[first]), float(values[first])
+
     def _begin(self, stock: np.ndarray | None, work: int) -> None:
         """Set the stock and the work budget of one query."""
-        self._stock = self.stock if stock is None else np.minimum(
-            np.asarray(stock, dtype=np.int64), self.stock)
+        self._stock = self.stock if stock is None else np.ascontiguousarray(np.minimum(
+            np.asarray(stock, dtype=np.int64), self.stock))
         self._work, self._work_limit = 0, int(work)
 
     def _spend(self, amount: int) -> bool:
@@ -375,7 +483,7 @@ class PlacementSearch:
 
     @property
     def work_done(self) -> int:
-        """Work counted by the last query (candidate residuals evaluated)."""
+        """Work counted by the last query (head nodes, grid cells and rows looked at)."""
         return self._work
 
     def rows_of(self, parts: PartList) -> np.ndarray:
@@ -386,290 +494,29 @@ class PlacementSearch:
         parts : tuple of (position, item, count)
             The parts (position and item as indices of the effects array).
         """
-        index = {(int(p), int(i)): r for r, (p, i) in enumerate(zip(self.pos_of, self.item_of))}
+        if self._index is None:
+            self._index = {(int(p), int(i)): r
+                           for r, (p, i) in enumerate(zip(self.pos_of, self.item_of))}
+        index = self._index
         return np.array([index[(p, i)] for p, i, c in parts for _ in range(c)], dtype=np.int64)
 
-    def _best_with(self, k: int, t_real: np.ndarray, bound: float):
-        """Best selection of exactly k parts below ``bound``; None if over budget."""
+    def _best_with(self, k: int, t_real: np.ndarray, bound: float, stop: float = 0.0):
+        """Best selection of exactly k parts below ``bound``: (rows or None, value,
+        stopped at a plan within ``stop``); None past the work budget."""
         if k == 1:
             values = np.where(self._in_stock(), self._norm(t_real + self.eff_real), np.inf)
             self._spend(self.n)
             i = int(np.argmin(values))
-            return (np.array([i]), float(values[i])) if np.isfinite(values[i]) else (None, np.inf)
-        if k == 2 and not self.pair_table_too_large:
-            a, b, sums = self._pair_table()
-            if len(a) == 0:
-                return None, np.inf
-            values = self._norm(t_real + sums)
-            if self._spend(len(a)):
-                return None
-            ok = feasible(np.stack([a, b], axis=1), self.pos_of, self.item_of, self.capacity,
-                          self._stock)
-            values = np.where(ok, values, np.inf)
-            i = int(np.argmin(values))
-            return ((np.array([a[i], b[i]]), float(values[i])) if np.isfinite(values[i])
-                    else (None, np.inf))
-        width = 1 if self.pair_table_too_large else 2
-        heads, head_sums = self._heads(k - width, k, t_real, bound)
-        if heads is None:
+            return ((np.array([i]), float(values[i]), False) if np.isfinite(values[i])
+                    else (None, np.inf, False))
+        found = self._run(k, t_real, bound=bound, stop=stop)
+        if found is None:
             return None
-        return self._complete(heads, head_sums, t_real, bound)
-
-    def _lightest_with(self, k: int, t_real: np.ndarray, radius: float, best_mass: float,
-                       best_value: float):
-        """Lightest selection of exactly k parts within ``radius``, lighter than
-        ``best_mass`` (ties: a smaller residual than ``best_value``); (rows, mass, value),
-        (None, ...) when there is none, None when over budget."""
-        if k <= 2 or self.pair_table_too_large and k == 1:
-            if k == 1:
-                rows = np.arange(self.n)[:, None]
-                sums = self.eff_real
-            elif not self.pair_table_too_large:
-                a, b, sums = self._pair_table()
-                rows = np.stack([a, b], axis=1)
-            else:
-                rows, sums = self._heads_mass(2, 2, t_real, radius, best_mass)
-                if rows is None:
-                    return None
-            return self._lightest_rows(rows, sums, t_real, radius, best_mass, best_value)
-        width = 1 if self.pair_table_too_large else 2
-        heads, head_sums = self._heads_mass(k - width, k, t_real, radius, best_mass)
-        if heads is None:
-            return None
-        cols, sums = self._tail_table()
-        if len(cols) == 0 or len(heads) == 0:
-            return None, np.inf, np.inf
-        head_mass = self.mass[heads].sum(axis=1)
-        order = np.lexsort((np.arange(len(heads)), head_mass))
-        heads, head_sums, head_mass = heads[order], head_sums[order], head_mass[order]
-        tail_mass = self.mass[cols].sum(axis=1)
-        by_mass = np.argsort(tail_mass, kind="stable")
-        cols, sums, tail_mass = cols[by_mass], sums[by_mass], tail_mass[by_mass]
-        best_row = None
-        for h, hs, hm in zip(heads, head_sums, head_mass):
-            room = best_mass - hm
-            if room < tail_mass[0] - 1e-12:
-                break                                    # heads come lightest first
-            stop = int(np.searchsorted(tail_mass, room, side="right"))
-            if self._spend(stop):
-                return None
-            values = self._norm(t_real + hs + sums[:stop])
-            hit = np.nonzero(values <= radius)[0]
-            if len(hit) == 0:
-                continue
-            masses = hm + tail_mass[hit]
-            pick = np.lexsort((values[hit], masses))
-            combos = np.concatenate([np.repeat(h[None, :], len(hit), axis=0), cols[hit]], axis=1)
-            ok = feasible(combos[pick], self.pos_of, self.item_of, self.capacity, self._stock)
-            if not ok.any():
-                continue
-            first = pick[int(np.argmax(ok))]
-            mass, value = float(masses[first]), float(values[hit[first]])
-            if mass < best_mass - 1e-12 or (mass <= best_mass + 1e-12 and value < best_value):
-                best_row, best_mass, best_value = combos[first], mass, value
-        return best_row, best_mass, best_value
-
-    def _lightest_rows(self, rows: np.ndarray, sums: np.ndarray, t_real: np.ndarray,
-                       radius: float, best_mass: float, best_value: float):
-        """The lightest feasible row of a table within ``radius`` (see `_lightest_with`)."""
-        if len(rows) == 0:
-            return None, np.inf, np.inf
-        if self._spend(len(rows)):
-            return None
-        values = self._norm(t_real + sums)
-        masses = self.mass[rows].sum(axis=1)
-        ok = (values <= radius) & feasible(rows, self.pos_of, self.item_of, self.capacity,
-                                           self._stock)
-        if rows.shape[1] == 1:
-            ok &= self._in_stock()[rows[:, 0]]
-        better = ok & ((masses < best_mass - 1e-12)
-                       | ((masses <= best_mass + 1e-12) & (values < best_value)))
-        if not better.any():
-            return None, np.inf, np.inf
-        cand = np.nonzero(better)[0]
-        first = cand[np.lexsort((values[cand], masses[cand]))[0]]
-        return rows[first], float(masses[first]), float(values[first])
-
-    def _heads_mass(self, size: int, k: int, t_real: np.ndarray, radius: float,
-                    best_mass: float):
-        """Every feasible head of ``size`` parts that could still give a plan of k parts
-        within ``radius`` lighter than ``best_mass``; (None, None) over budget."""
-        w_min = float(self.mass[self._in_stock()].min(initial=np.inf))
-
-        def keep(rows: np.ndarray, sums: np.ndarray) -> np.ndarray:
-            left = k - rows.shape[1]
-            return ((self._head_bound(sums, rows, k, t_real) <= radius)
-                    & (self.mass[rows].sum(axis=1) + left * w_min < best_mass + 1e-12))
-
-        rows = np.arange(self.n, dtype=np.int64)[:, None]
-        return self._grow(rows, self.eff_real, size, keep)
-
-    def _heads(self, size: int, k: int, t_real: np.ndarray, bound: float):
-        """All feasible heads of ``size`` parts that pass the remaining-part bound."""
-        if size == 1 or self.pair_table_too_large:
-            rows = np.arange(self.n, dtype=np.int64)[:, None]
-            sums = self.eff_real
-        else:
-            a, b, sums = self._pair_table()
-            rows = np.stack([a, b], axis=1)
-        return self._grow(rows, sums, size,
-                          lambda r, s: self._head_bound(s, r, k, t_real) < bound)
-
-    def _grow(self, rows: np.ndarray, sums: np.ndarray, size: int, keep):
-        """Heads grown to ``size`` parts, a placement at or after the last one at a time;
-        every head kept obeys capacity, the query's stock and ``keep(rows, sums)``.
-        (None, None) past the work budget or :data:`MAX_HEAD_ROWS`."""
-        ok = keep(rows, sums) & self._in_stock()[rows].all(axis=1)
-        ok &= feasible(rows, self.pos_of, self.item_of, self.capacity, self._stock)
-        rows, sums = rows[ok], sums[ok]
-        step = max(1, CHUNK_ROWS // max(1, self.n))
-        for _ in range(rows.shape[1], size):
-            new_rows, new_sums = [], []
-            for start in range(0, len(rows), step):
-                r = rows[start:start + step]
-                s = sums[start:start + len(r)]
-                ri, ci = np.nonzero(np.arange(self.n)[None, :] >= r[:, -1][:, None])
-                if self._spend(len(ri)):
-                    return None, None
-                grown = np.concatenate([r[ri], ci[:, None]], axis=1)
-                grown_sums = s[ri] + self.eff_real[ci]
-                ok = feasible(grown, self.pos_of, self.item_of, self.capacity, self._stock)
-                ok &= self._in_stock()[ci] & keep(grown, grown_sums)
-                new_rows.append(grown[ok])
-                new_sums.append(grown_sums[ok])
-                if sum(len(x) for x in new_rows) > MAX_HEAD_ROWS:
-                    return None, None
-            rows = (np.concatenate(new_rows) if new_rows
-                    else np.zeros((0, rows.shape[1] + 1), np.int64))
-            sums = np.concatenate(new_sums) if new_sums else np.zeros((0, sums.shape[1]))
-        return rows, sums
-
-    def _complete(self, heads: np.ndarray, head_sums: np.ndarray, t_real: np.ndarray,
-                  bound: float):
-        """Complete each head from the tail table; the best below ``bound``."""
-        cols, sums = self._tail_table()
-        if len(cols) == 0 or len(heads) == 0:
-            return None, np.inf
-        k = heads.shape[1] + cols.shape[1]
-        priority = self._head_bound(head_sums, heads, k, t_real)
-        order = np.argsort(priority, kind="stable")
-        heads, head_sums, priority = heads[order], head_sums[order], priority[order]
-        if len(heads) * len(cols) <= (DENSE_LIMIT_SMALL_TAIL if len(cols) <= DENSE_TAIL
-                                      else DENSE_LIMIT):
-            return self._complete_dense(heads, head_sums, priority, t_real, bound)
-        cols, sums, tree = self._tail()
-        best_row, best_value = None, bound
-        start = 0
-        while start < len(heads):
-            stop = start + CHUNK_ROWS
-            live = priority[start:stop] < best_value
-            h, hs = heads[start:stop][live], head_sums[start:stop][live]
-            start = stop
-            for n_neigh in (NEIGHBOURS_FIRST, NEIGHBOURS_SECOND, None):
-                if len(h) == 0:
-                    break
-                if n_neigh is None:
-                    if self._spend(len(h) * len(cols)):
-                        return None
-                    for row, head_sum in zip(h, hs):
-                        row_best = self._scan_row(row, t_real + head_sum, best_value)
-                        if row_best is not None and row_best[1] < best_value:
-                            best_row, best_value = row_best
-                    break
-                n_neigh = min(n_neigh, len(cols))
-                if self._spend(len(h) * n_neigh * 8):
-                    return None
-                # Threads pay off only on large batches of lookups.
-                dist, idx = tree.query(-(t_real + hs), k=n_neigh,
-                                       distance_upper_bound=best_value * self.widen,
-                                       workers=-1 if len(h) > 20000 else 1)
-                dist = dist.reshape(len(h), n_neigh)
-                idx = idx.reshape(len(h), n_neigh)
-                finite = np.isfinite(dist)
-                safe = np.where(finite, idx, 0)
-                combos = np.concatenate([np.repeat(h, n_neigh, axis=0),
-                                         cols[safe.ravel()]], axis=1)
-                ok = feasible(combos, self.pos_of, self.item_of, self.capacity,
-                               self._stock).reshape(len(h), n_neigh) & finite
-                if self.norm == "euclidean":
-                    value = dist
-                else:
-                    value = self._norm((t_real + np.repeat(hs, n_neigh, axis=0)
-                                        + sums[safe.ravel()])).reshape(len(h), n_neigh)
-                value = np.where(ok, value, np.inf)
-                choice = np.argmin(value, axis=1)
-                row_value = value[np.arange(len(h)), choice]
-                j = int(np.argmin(row_value))
-                if row_value[j] < best_value:
-                    best_row = np.concatenate([h[j], cols[idx[j, choice[j]]]])
-                    best_value = float(row_value[j])
-                # A completion beyond the last neighbour is at least dist_last / widen away
-                # in the chosen norm; rows not settled by that look further.
-                settled = row_value <= dist[:, -1] / self.widen
-                again = finite[:, -1] & ~settled & (n_neigh < len(cols))
-                h, hs = h[again], hs[again]
-        if best_row is None:
-            return None, np.inf
-        total = t_real + self.eff_real[best_row].sum(axis=0)
-        return best_row, float(self._norm(total[None, :])[0])
-
-    def _complete_dense(self, heads: np.ndarray, head_sums: np.ndarray, priority: np.ndarray,
-                        t_real: np.ndarray, bound: float):
-        """`_complete` for small tables: every head against every tail row, no k-d tree.
-
-        Heads come sorted by their bound; a chunk whose first bound is not
-        below the incumbent ends the scan.  Within a chunk the candidates
-        below the incumbent are checked for capacity and stock in order of
-        their residual, so the first feasible one is the chunk's best.
-        """
-        cols, sums = self._tail_table()
-        step = max(1, DENSE_CHUNK // len(cols))
-        best_row, best_value = None, bound
-        for start in range(0, len(heads), step):
-            if priority[start] >= best_value:
-                break
-            stop = start + step
-            live = priority[start:stop] < best_value
-            h, hs = heads[start:stop][live], head_sums[start:stop][live]
-            if self._spend(len(h) * len(cols)):
-                return None
-            total = (t_real + hs)[:, None, :] + sums[None, :, :]
-            values = self._norm(total.reshape(-1, total.shape[2])).reshape(len(h), len(cols))
-            hi, ci = np.nonzero(values < best_value)
-            if len(hi) == 0:
-                continue
-            order = np.argsort(values[hi, ci], kind="stable")
-            begin, size = 0, 64
-            while begin < len(order):
-                batch = order[begin:begin + size]
-                combos = np.concatenate([h[hi[batch]], cols[ci[batch]]], axis=1)
-                ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self._stock)
-                if ok.any():
-                    first = batch[int(np.argmax(ok))]
-                    best_row = combos[int(np.argmax(ok))]
-                    best_value = float(values[hi[first], ci[first]])
-                    break
-                begin, size = begin + size, size * 8
-        if best_row is None:
-            return None, np.inf
-        total = t_real + self.eff_real[best_row].sum(axis=0)
-        return best_row, float(self._norm(total[None, :])[0])
-
-    def _scan_row(self, row: np.ndarray, residual_head: np.ndarray, bound: float):
-        """Best feasible completion for one head, by a full scan of the tail table."""
-        cols, sums = self._tail_table()
-        value = self._norm(residual_head + sums)
-        candidates = np.nonzero(value < bound)[0]
-        if len(candidates) == 0:
-            return None
-        candidates = candidates[np.argsort(value[candidates], kind="stable")]
-        combos = np.concatenate([np.repeat(row[None, :], len(candidates), axis=0),
-                                 cols[candidates]], axis=1)
-        ok = feasible(combos, self.pos_of, self.item_of, self.capacity, self._stock)
-        if not ok.any():
-            return None
-        j = candidates[int(np.argmax(ok))]
-        return np.concatenate([row, cols[j]]), float(value[j])
+        rows, value, _, stopped = found
+        if rows is None:
+            return None, np.inf, False
+        total = t_real + self.eff_real[rows].sum(axis=0)
+        return rows, float(self._norm(total[None, :])[0]), stopped
 
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
@@ -677,12 +524,6 @@ class PlacementSearch:
             return np.linalg.norm(real_rows, axis=1)
         c = real_rows.shape[1] // 2
         return np.sqrt((real_rows[:, :c] ** 2 + real_rows[:, c:] ** 2).max(axis=1))
-
-    def _head_bound(self, sums: np.ndarray, rows: np.ndarray, k: int,
-                    t_real: np.ndarray) -> np.ndarray:
-        """Least residual any completion of these heads to k parts could reach."""
-        remaining = k - rows.shape[1]
-        return self._norm(t_real + sums) - remaining * self.mag[rows[:, -1]]
 
     # ----------------------------------------------------------------- output
     def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
@@ -748,3 +589,25 @@ def feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
                     same += item[:, c] == item[:, d]
             ok &= same <= stock[item[:, c]]
     return ok
+
+
+def _span(eff: np.ndarray) -> tuple[np.ndarray | None, np.ndarray]:
+    """An orthonormal basis of the span of the effects (None for one channel) and each
+    effect's real coordinates in it (real and imaginary part of each basis coordinate)."""
+    n, channels = eff.shape
+    if channels == 1 or n == 0:
+        return None, np.ascontiguousarray(_as_real(eff) if n else np.zeros((0, 2)))
+    _, singular, vh = np.linalg.svd(eff, full_matrices=False)
+    rank = max(1, int(np.sum(singular > 1e-13 * singular[0])))
+    basis = vh[:rank]
+    inside = eff @ basis.conj().T
+    coords = np.stack([inside.real, inside.imag], axis=2).reshape(n, 2 * rank)
+    return basis, np.ascontiguousarray(coords)
+
+
+def _multisets(n: int, width: int) -> int:
+    """Multisets of ``width`` of n placements: C(n + width - 1, width)."""
+    out = 1
+    for j in range(width):
+        out = out * (n + j) // (j + 1)
+    return out

@@ -78,19 +78,20 @@ class TabulatedSearch(PlacementSearch):
             self._levels = levels
         return self._levels
 
-    def _best_with(self, k: int, t_real: np.ndarray, bound: float):
-        """Best selection of exactly k parts: (placement rows, residual), by table lookup.
+    def _best_with(self, k: int, t_real: np.ndarray, bound: float, stop: float = 0.0):
+        """Best selection of exactly k parts: (placement rows, residual, False), by table
+        lookup (the least residual itself, never stopped short).
 
         The tables hold the selections of the full stock: a query with less
         stock is searched as usual.
         """
         if not self.tabulated or not np.array_equal(self._stock, self.stock):
-            return super()._best_with(k, t_real, bound)
+            return super()._best_with(k, t_real, bound, stop)
         rows, tree = self._tabulated_levels()[k - 1]
         if tree is None:
-            return None, np.inf
+            return None, np.inf, False
         distance, index = tree.query(-t_real)
-        return rows[index].astype(np.int64), float(distance)
+        return rows[index].astype(np.int64), float(distance), False
 
 
 def _selection_count_bound(n_placements: int, max_parts: int) -> int:
