@@ -48,7 +48,7 @@ from placer.blades import Blade, Disc, Limits
 from placer.errors import InputError, JobError
 from placer.geometry import equally_spaced_deg
 from placer.io.batchreadings import NON_FINITE, PLAIN_EXPECTED, PLAIN_NUMBER
-from placer.io.jobfile import plane_geometry, rotor_of
+from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
 from placer.io.tables import Table, printable, range_problem, read_toml
 from placer.job import Rotor
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT, MAX_SLOTS
@@ -58,9 +58,8 @@ ROTOR_EXTRA_KEYS = ("tolerance_gmm", "aim_share")
 DISC_KEYS = ("slots", "start_deg", "angles_deg", "unbalance", "couple")
 ARRANGE_KEYS = ("move",)
 LIMIT_KEYS = ("opposite_gmm", "neighbour_hz", "alternate_frequency", "couple_gmm2")
-TRIM_KEYS = ("name", "catalog", "radius_mm", "radii_mm", "positions", "start_deg",
-             "angles_deg", "blocked", "capacity", "max_parts", "aim_share", "accepts",
-             "add_only", "remove_only")
+TRIM_KEYS = GEOMETRY_KEYS + ("max_parts", "aim_share")
+"""Keys of [trim]: a plane's positions and catalogue, as in a job file, and its plan's."""
 BLADE_KEYS = ("id", "moment_gmm", "axial_moment_gmm2", "frequency_hz", "slot", "stays")
 """Keys of a [[blades]] entry, and the columns of a blade list (CSV)."""
 REQUIRED_COLUMNS = ("id", "moment_gmm")
@@ -108,9 +107,10 @@ def read_blade_file(path: Path, *, move: str | None = None) -> BladeJob:
     root = Table(read_toml(path, JobError, "blade file"), file, "", JobError)
     root.allow_only(TOP_KEYS)
     rotor_table = root.sub("rotor") or Table({}, file, "rotor", JobError)
-    if rotor_table.has("com_distances_mm"):
-        raise rotor_table.fail("com_distances_mm", "is for rotors of several planes",
-                               "no com_distances_mm: a bladed disc is one plane")
+    for key in ("com_distances_mm", "com_distances_in"):
+        if rotor_table.has(key):
+            raise rotor_table.fail(key, "is for rotors of several planes",
+                                   f"no {key}: a bladed disc is one plane")
     rotor = rotor_of(rotor_table, ROTOR_EXTRA_KEYS)
     if not rotor_table.has("name"):
         rotor = replace(rotor, name=path.stem)

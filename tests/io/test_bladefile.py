@@ -176,6 +176,8 @@ BAD_TOML = [
     ("unknown grade", _edit("tolerance_gmm = 20.0", 'grade = "G7"'), "rotor.grade"),
     ("lever distances", _edit("tolerance_gmm = 20.0", "com_distances_mm = [1.0, 2.0]"),
      "rotor.com_distances_mm"),
+    ("lever distances in inches", _edit("tolerance_gmm = 20.0", "com_distances_in = [1.0, 2.0]"),
+     "rotor.com_distances_in"),
     ("negative tolerance", _edit("tolerance_gmm = 20.0", "tolerance_gmm = -1.0"),
      "rotor.tolerance_gmm"),
     ("no trim catalogue", GOOD + '[trim]\ncatalog = "no-such-drawer"\nradius_mm = 90.0\n',
