@@ -16,6 +16,8 @@ The public API, by name (everything is importable from ``placer``)::
                   FieldResult, History, default_db_path
     Batches       read_template, read_readings, solve_readings, run_batch,
                   RotorReading, RotorOutcome
+    Blades        read_blade_file, arrange_blades, blades_dict, write_blade_sheet,
+                  BladeJob, BladeResult, TrimPlane, Blade, Disc, Limits
     Tolerances    permissible_residual_gmm, allocate_to_planes, parse_grade
     Engine        PlacementSearch
     JSON          json_text (strict JSON of any of the dicts above)
@@ -62,6 +64,12 @@ _HOME = {
     "read_template": "placer.io.batchresults", "read_readings": "placer.io.batchreadings",
     "solve_readings": "placer.batch", "run_batch": "placer.io.batchresults",
     "RotorReading": "placer.batch", "RotorOutcome": "placer.batch",
+    # blades
+    "read_blade_file": "placer.io.bladefile", "arrange_blades": "placer.arrange",
+    "blades_dict": "placer.io.jsonout", "write_blade_sheet": "placer.views.sheet.bladepage",
+    "BladeJob": "placer.arrange", "BladeResult": "placer.arrange",
+    "TrimPlane": "placer.arrange", "Blade": "placer.blades", "Disc": "placer.blades",
+    "Limits": "placer.blades",
     # tolerances
     "permissible_residual_gmm": "placer.tolerance", "allocate_to_planes": "placer.tolerance",
     "parse_grade": "placer.tolerance",

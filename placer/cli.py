@@ -238,6 +238,37 @@ def _parser() -> argparse.ArgumentParser:
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
     _engine_options(batch, None)
     _new_parser(sub)
+    blades = sub.add_parser("blades", help="arrange blades on a disc, proven, then trim",
+                            description="Read a blade file (TOML, or a CSV list of blades), "
+                                        "find which blade goes in which slot for the least "
+                                        "static unbalance (proven, or with a proven lower "
+                                        "bound), check it against the tolerance and plan "
+                                        "stock parts for what is left ([trim]).",
+                            epilog="Exit codes: 0 within tolerance (after the trim, when the "
+                                   "file has one) or no tolerance given, 1 outside, 2 bad "
+                                   "input, 3 stopped at --time-limit (nothing printed).")
+    blades.add_argument("file", metavar="FILE",
+                        help="blade file, .toml or .csv (see examples/fan-reblade.toml)")
+    blades.add_argument("--move", choices=("new", "fewest", "all"), default=None,
+                        help="new: only blades without a slot go into the empty slots; "
+                             "fewest: the fewest swaps into the tolerance; all: every blade "
+                             "not marked to stay may move (default: the file's [arrange] "
+                             "move, else all)")
+    blades.add_argument("--json", action="store_true",
+                        help="print one JSON object instead of the tables")
+    _engine_options(blades, DEFAULT_TIME_LIMIT_S)
+    blades.add_argument("--aim-share", type=float, default=None, metavar="S",
+                        help="share of the tolerance the trim aims at (default: [trim] "
+                             "aim_share, else [rotor] aim_share, else 0.7)")
+    blades.add_argument("--width", type=int, default=None, metavar="COLUMNS",
+                        help="columns of the terminal output (default: the terminal's, 80 "
+                             "when not a terminal)")
+    blades.add_argument("--sheet", metavar="FILE",
+                        help="also write the sheet to work from: the disc with every slot's "
+                             "blade, the table to tick off and the trim page; .pdf, or "
+                             ".png/.svg (NAME-1.png... per page); needs matplotlib")
+    blades.add_argument("--force", action="store_true",
+                        help="let --sheet replace files that exist")
     return parser
 
 
@@ -776,9 +807,42 @@ def _new(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _blades(args: argparse.Namespace) -> int:
+    from placer.arrange import arrange_blades
+    from placer.io.bladefile import read_blade_file
+
+    job = read_blade_file(Path(args.file), move=args.move)
+    if args.sheet is not None:
+        from placer.views.sheet.bladepage import blade_page_count
+        from placer.views.sheet.files import require_matplotlib, sheet_paths
+
+        require_matplotlib()
+        sheet_paths(Path(args.sheet), blade_page_count(job), force=args.force)
+    with _deadline(args.time_limit, "before the arrangement was final; nothing is printed"):
+        result = arrange_blades(job, effort=args.effort, aim_share=args.aim_share)
+    if args.json:
+        from placer.io.jsonout import blades_dict
+
+        print(json_text(blades_dict(result), indent=2))
+    else:
+        from placer.views.terminal.blades import render_blades
+        from placer.views.terminal.plain import finish
+
+        console = _plain_console(args.width)
+        render_blades(result, console)
+        finish(console)
+    if args.sheet is not None:
+        from placer.views.sheet.bladepage import write_blade_sheet
+
+        paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
+        print(f"placer: sheet written to {', '.join(dict.fromkeys(map(str, paths)))}",
+              file=sys.stderr)
+    return EXIT_OK if result.all_within else EXIT_OUTSIDE
+
+
 HANDLERS = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance, "field": _field,
             "machines": _machines, "history": _history, "trial": _trial, "batch": _batch,
-            "new": _new}
+            "new": _new, "blades": _blades}
 """The function that runs each command."""
 
 

@@ -81,3 +81,7 @@ RANGE_EXPECTED = "zero or a number between 1e-12 and 1e12 in size"
 
 MIN_WIDTH = 40
 """Narrowest terminal sheet [columns]."""
+
+MAX_SLOTS = 120
+"""Most slots (and blades) on one disc for ``placer blades``: the printed sheet names
+every blade round the disc, which stays legible up to this count."""

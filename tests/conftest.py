@@ -19,13 +19,16 @@ REQUIREMENT_KEYS = ("correction", "unbalance")
 
 
 def example_kind(path: Path) -> str:
-    """What a bundled example is: "session" (field readings), "template" or "job".
+    """What a bundled example is: "blades", "session" (field readings), "template" or "job".
 
-    A batch template is a job file whose planes carry no correction (each
-    row of the readings file brings them); a `placer solve` job has only
-    [rotor] and [[planes]] and a correction on every plane.
+    A blade file (`placer blades`) lists [[blades]]; a batch template is a job
+    file whose planes carry no correction (each row of the readings file brings
+    them); a `placer solve` job has only [rotor] and [[planes]] and a correction
+    on every plane.
     """
     data = tomllib.loads(path.read_text(encoding="utf-8"))
+    if "blades" in data:
+        return "blades"
     if not set(data) <= JOB_TABLES:
         return "session"
     if not any(k in plane for plane in data.get("planes", []) for k in REQUIREMENT_KEYS):

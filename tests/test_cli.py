@@ -298,10 +298,13 @@ def _flat(sheet: str) -> str:
 
 def test_every_example_has_an_intended_exit_code():
     assert sorted(EXPECTED_EXIT) == sorted(p.name for p in _example_jobs())
-    # The other examples are field-balancing session files (with readings) or
-    # batch templates (no correction: each readings row brings it), outside
-    # these `placer solve` checks; every template has its readings file.
+    # The other examples are field-balancing session files (with readings),
+    # blade files (`placer blades`, checked in test_cli_blades.py) or batch
+    # templates (no correction: each readings row brings it), outside these
+    # `placer solve` checks; every template has its readings file.
     for path in sorted(set(EXAMPLE_DIR.glob("*.toml")) - set(_example_jobs())):
+        if example_kind(path) == "blades":
+            continue
         if example_kind(path) == "session":
             assert "readings" in tomllib.loads(path.read_text(encoding="utf-8")), path.name
         else:

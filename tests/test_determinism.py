@@ -21,7 +21,7 @@ PACKAGE = Path(placer.__file__).resolve().parent
 REPO = PACKAGE.parent
 
 DECIDING = ["engine", "choice.py", "stock.py", "solve.py", "fieldplan.py", "batch",
-            "influence.py", "robust.py", "residual.py", "tolerance.py"]
+            "influence.py", "robust.py", "residual.py", "tolerance.py", "arrange.py"]
 """Where plans are decided."""
 CLOCK_ALLOWED = {("solve.py", "perf_counter")}
 """solve.py times each plane for the sheet's elapsed_s; nothing depends on it."""

@@ -5,6 +5,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from typing import Any
 
+from placer.arrange import BladeResult
 from placer.catalog import Catalog
 from placer.fieldresult import FieldOption, FieldResult
 from placer.geometry import angle_of_deg
@@ -425,3 +426,61 @@ def visits_list(visits: Sequence[VisitSummary]) -> list[dict[str, Any]]:
     """
     return [{"id": v.id, "started_at": v.started_at, "coefficient_source": v.coefficient_source,
              "condition": v.condition, "runs": v.runs, "result": v.result} for v in visits]
+
+
+def blades_dict(result: BladeResult) -> dict[str, Any]:
+    """The JSON object of ``placer blades --json``: the arrangement, its proof, the trim.
+
+    Parameters
+    ----------
+    result : BladeResult
+        The arranged blades (and the trim plane, when there is one).
+
+    Returns
+    -------
+    dict
+        The slot table, the residual unbalance (heavy spot) and couple, the
+        lower bound and proof, the swaps, the tolerance and verdicts, and the
+        trim plane as ``placer solve --json`` gives a plane (null without one).
+    """
+    job, arrangement = result.job, result.arrangement
+    rotor = job.rotor
+    swaps = arrangement.swaps
+    return {
+        "file": job.source,
+        "rotor": {"name": rotor.name, "mass_kg": rotor.mass_kg, "service_rpm": rotor.service_rpm,
+                  "grade_mm_s": rotor.grade_mm_s},
+        "angle_convention": f"degrees from the reference mark, counted {rotor.angle_sense}",
+        "move": job.move,
+        "slot_count": job.disc.slot_count,
+        "total_moment_gmm": result.total_moment_gmm,
+        "disc_unbalance": {"gmm": job.disc.unbalance_gmm,
+                           "angle_deg": job.disc.unbalance_angle_deg % 360.0},
+        "slots": [{"slot": row.slot, "angle_deg": float(row.angle_deg), "blade": row.blade.blade_id,
+                   "moment_gmm": row.blade.moment_gmm,
+                   "axial_moment_gmm2": row.blade.axial_moment_gmm2,
+                   "frequency_hz": row.blade.frequency_hz, "stays": row.stays,
+                   "from_slot": row.from_slot} for row in result.rows()],
+        "residual_gmm": float(arrangement.residual_gmm),
+        "residual_angle_deg": float(arrangement.residual_angle_deg),
+        "residual_is": "the heavy spot of the bladed disc",
+        "couple_gmm2": arrangement.couple_gmm2,
+        "couple_limit_gmm2": job.disc.limits.couple_gmm2,
+        "lower_bound_gmm": float(arrangement.lower_bound_gmm),
+        "proven": arrangement.proven,
+        "zero_shown": arrangement.zero_shown,
+        "method": arrangement.method,
+        "work": arrangement.work,
+        "swaps": None if swaps is None else [
+            {"step": k, "slots": [a, b], "blades": [in_a, in_b]}
+            for k, (a, b, in_a, in_b) in enumerate(result.swap_steps(), start=1)],
+        "swap_lower_bound": arrangement.swap_lower_bound,
+        "swaps_from_now": result.swaps_from_now(),
+        "tolerance_gmm": result.tolerance_gmm,
+        "tolerance_source": result.tolerance_source,
+        "permissible_gmm": result.permissible_gmm,
+        "arrangement_within_tolerance": result.within_tolerance,
+        "trim": None if result.trim is None else plane_dict(result.trim.planes[0]),
+        "within_tolerance": result.final_within,
+        "notes": list(result.notes),
+    }

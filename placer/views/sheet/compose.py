@@ -116,9 +116,20 @@ MIN_DRAW_IN = 2.8
 """Narrowest the rotor face is drawn when the tables need the room [in]."""
 
 
-def _cautions_top(drilling: bool) -> float:
+def cautions_top(drilling: bool) -> float:
     """Top of the safety box [in from the top of the page]; the box sits above the "as left"
-    lines and the sign-off."""
+    lines and the sign-off.
+
+    Parameters
+    ----------
+    drilling : bool
+        The plan drills a hole (the drilling caution makes the box taller).
+
+    Returns
+    -------
+    float
+        The top of the box when the page has room for it [in].
+    """
     return PAGE_IN[1] - FOOTER_IN - 0.55 - 0.25 - AS_LEFT_IN - _caution_height(drilling)
 
 
@@ -226,7 +237,8 @@ def _job_date(result: JobResult, when: date | None) -> date:
 
 
 def plane_page(result: JobResult, index: int, *, title: str | None = None,
-               when: date | None = None, dpi: float = PNG_DPI):
+               when: date | None = None, dpi: float = PNG_DPI,
+               sheet: tuple[int, int] | None = None):
     """One page of the sheet as a matplotlib Figure; returns (figure, drawing).
 
     ``index`` counts planes from 1.  The figure is at ``dpi`` (PNG_DPI by
@@ -246,6 +258,9 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
         Date printed; None for today.
     dpi : float
         Resolution of the figure [dots per inch].
+    sheet : (int, int) or None
+        The page's number and the pages in all, for the footer, when it is part
+        of a longer document; None for plane ``index`` of the job's planes.
 
     Returns
     -------
@@ -272,7 +287,7 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     sense, rotation = result.job.rotor.angle_sense, result.job.rotor.rotation
     mark = result.job.rotor.reference_mark
     drawing = draw_plane(ax, plane, sense, DRAW_IN, rotation, mark)
-    room = _cautions_top(drilling) - 0.12 - _lower(Page(None), 0.0, result, plane, facts) \
+    room = cautions_top(drilling) - 0.12 - _lower(Page(None), 0.0, result, plane, facts) \
         - 0.06 - top
 
     def side(on: Page, row_in: float) -> float:
@@ -311,8 +326,9 @@ def plane_page(result: JobResult, index: int, *, title: str | None = None,
     if key_below:
         below = draw_key(page, MARGIN_IN, below + 0.04, DRAW_IN, drawing, row_in, columns=2)
     end = _lower(page, max(below, side_end) + 0.06, result, plane, facts)
-    draw_cautions(page, max(end + 0.08, _cautions_top(drilling)), when, index,
-                  len(result.planes), Path(result.job.source).name, drilling, plane, result)
+    number, total = sheet or (index, len(result.planes))
+    draw_cautions(page, max(end + 0.08, cautions_top(drilling)), when, number, total,
+                  Path(result.job.source).name, drilling, plane, result)
     return fig, drawing
 
 

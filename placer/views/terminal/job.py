@@ -119,8 +119,28 @@ def _front_table(result: PlaneResult, units: UnitSystem) -> Table:
     return table
 
 
-def _plane_panel(index: int, result: PlaneResult, share: PlaneShare | None,
-                 job: JobResult, units: UnitSystem) -> Panel:
+def plane_panel(index: int, result: PlaneResult, share: PlaneShare | None,
+                job: JobResult, units: UnitSystem) -> Panel:
+    """One plane of the sheet: parts, residual, tolerance, aim, verdict, trade-off, notes.
+
+    Parameters
+    ----------
+    index : int
+        The plane's number (from 1).
+    result : PlaneResult
+        The solved plane.
+    share : PlaneShare or None
+        Its share of U_per, when the grade gives one.
+    job : JobResult
+        The solved job the plane belongs to.
+    units : UnitSystem
+        The units to show.
+
+    Returns
+    -------
+    Panel
+        The plane's panel, for a rich console.
+    """
     plane = result.plane
     geometry = plane.geometry
     info = Text()
@@ -215,7 +235,7 @@ def render_job(result: JobResult, console: Console) -> None:
         share = None
         if result.shares is not None:
             share = result.shares[i - 1]
-        console.print(_plane_panel(i, plane, share, result, units))
+        console.print(plane_panel(i, plane, share, result, units))
     for note in result.notes:
         console.print(Text(f"Note: {note}", style="bold yellow"))
     if all(p.within_tolerance is None for p in result.planes):
