@@ -524,9 +524,8 @@ def _tolerance(args: argparse.Namespace) -> int:
         parse_grade,
         permissible_residual_gmm,
     )
-    from placer.views.terminal.tolerance import tolerance_lines
-
     from placer.units import mm_from_in
+    from placer.views.terminal.tolerance import tolerance_lines
 
     mass_kg, radius_mm, units = _metric(args)
     distance_option = "distances_mm" if args.distances_mm else "distances_in"
@@ -642,13 +641,21 @@ def _machines(args: argparse.Namespace) -> int:
     if not path.exists():
         print(f"No history database yet at {path}; 'placer field SESSION --save' starts one.")
         return EXIT_OK
-    with History(path) as db:
-        rows = db.machines()
+    with History(path, read_only=True) as db:
+        _say_rolled_back(db)
+        rows, last = db.machines(), db.last_saved()
     if args.json:
         print(json_text(machines_list(rows), indent=2))
     else:
-        _print_plain(render_machines, args.width, rows, str(path))
+        _print_plain(render_machines, args.width, rows, str(path), last)
     return EXIT_OK
+
+
+def _say_rolled_back(db) -> None:
+    """Tell the user when opening the history rolled back a save left unfinished."""
+    if db.rolled_back:
+        print(f"placer: a save left unfinished in {db.path} was rolled back; the visits "
+              "saved before it are as they were", file=sys.stderr)
 
 
 def _history(args: argparse.Namespace) -> int:
@@ -667,9 +674,12 @@ def _history(args: argparse.Namespace) -> int:
         from placer.views.report import check_report_path
 
         check_report_path(Path(args.sheet), force=args.force)
-    with History(path) as db:
+    with History(path, read_only=args.remove is None) as db:
+        _say_rolled_back(db)
         visits = db.visits(args.machine)
-        known = [m.id for m in db.machines()]
+        machines = db.machines()
+        known = [m.id for m in machines]
+        last = db.last_saved()
         chosen = args.visit if args.visit is not None else args.remove
         if visits and chosen is not None:
             ids = [v.id for v in visits]
@@ -684,15 +694,21 @@ def _history(args: argparse.Namespace) -> int:
     if not visits:
         import difflib
 
+        with_visits = [m.id for m in machines if m.visits]
+        if args.machine in known:
+            raise InputError(f"machine '{args.machine}' has no visit stored", file=str(path),
+                             key="MACHINE", expected="a machine with visits: "
+                             + (", ".join(with_visits) or "none stored"))
         close = difflib.get_close_matches(args.machine, known, n=1)
-        raise InputError(f"no visits of machine '{args.machine}'", key="MACHINE",
-                         expected=(f"did you mean '{close[0]}'? " if close else "")
-                         + "one of: " + (", ".join(known) or "none stored"))
+        raise InputError(f"no machine '{args.machine}'"
+                         + (f"; did you mean '{close[0]}'?" if close else ""), file=str(path),
+                         key="MACHINE", expected="one of: " + (", ".join(known) or "none stored"))
     if args.visit is not None:
+        saved_at = next(v.saved_at for v in visits if v.id == args.visit)
         if args.json:
-            print(json_text(visit_dict(args.visit, record), indent=2))
+            print(json_text(visit_dict(args.visit, record, saved_at), indent=2))
         else:
-            _print_plain(render_visit, args.width, args.visit, record)
+            _print_plain(render_visit, args.width, args.visit, record, saved_at)
         if args.sheet is not None:
             from placer.views.report import write_report
             from placer.visitreport import visit_report
@@ -704,7 +720,7 @@ def _history(args: argparse.Namespace) -> int:
     if args.json:
         print(json_text(visits_list(visits), indent=2))
     else:
-        _print_plain(render_visits, args.width, args.machine, visits)
+        _print_plain(render_visits, args.width, args.machine, visits, last)
     return EXIT_OK
 
 
@@ -758,7 +774,13 @@ def _batch(args: argparse.Namespace) -> int:
 
 
 def _new(args: argparse.Namespace) -> int:
-    from placer.io.newfile import Starter, copy_examples, example_names, starter_text, write_new
+    from placer.io.newfile import (
+        Starter,
+        copy_examples,
+        example_names,
+        starter_text,
+        write_new,
+    )
 
     if args.kind is None:
         raise InputError("says nothing to write", option="kind",

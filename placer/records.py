@@ -6,10 +6,10 @@ database that stores them is :mod:`placer.io.history`.
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 from collections.abc import Callable, Sequence
-import dataclasses
 from dataclasses import dataclass, fields
 from datetime import datetime, timezone
 from typing import Any
@@ -18,8 +18,10 @@ import numpy as np
 
 from placer.errors import HistoryError
 from placer.fieldresult import FieldResult
-from placer.geometry import PlaneGeometry
+from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry
+from placer.readings import AMPLITUDE_UNITS, MEASURES, PHASE_SENSES
 from placer.residual import objective_of
+from placer.session import RUN_KINDS
 
 MASS_ROLES = ("trial", "fitted", "planned")
 """What a stored mass was: a trial weight, a part fitted for a run, or planned."""
@@ -255,6 +257,9 @@ class VisitSummary:
     kept : tuple of MassRecord
         Masses fitted for the runs that stayed on (trial weights left on,
         check-run parts), for what is on the rotor after the visit.
+    saved_at : str or None
+        When it was saved, ISO 8601 in UTC; None for a visit saved before
+        placer kept the time (schema version 4).
     """
 
     id: int
@@ -265,6 +270,30 @@ class VisitSummary:
     planned: tuple[MassRecord, ...]
     result: dict
     kept: tuple[MassRecord, ...] = ()
+    saved_at: str | None = None
+
+
+@dataclass(frozen=True)
+class LastSaved:
+    """The visit saved last in a history database, so that a technician can check a save.
+
+    Parameters
+    ----------
+    visit_id : int
+        Its number in the database.
+    machine_id : str
+        Its machine.
+    started_at : str
+        When the visit took place, ISO 8601.
+    saved_at : str or None
+        When it was saved, ISO 8601 in UTC; None for a visit saved before
+        placer kept the time.
+    """
+
+    visit_id: int
+    machine_id: str
+    started_at: str
+    saved_at: str | None
 
 
 def utc_label(started_at: str) -> str:
@@ -291,7 +320,10 @@ def utc_label(started_at: str) -> str:
         return when.date().isoformat()
     if when.tzinfo is None:
         return when.strftime("%Y-%m-%d %H:%M")
-    return when.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    try:
+        return when.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+    except OverflowError:  # its UTC time falls outside years 1 to 9999
+        return str(started_at)
 
 
 def check_record(record: VisitRecord) -> None:
@@ -312,6 +344,12 @@ def check_record(record: VisitRecord) -> None:
 
     if not record.machine_id:
         raise bad("machine_id", "a machine id")
+    for name, allowed in (("unit", tuple(AMPLITUDE_UNITS)), ("measure", tuple(MEASURES)),
+                          ("phase_sense", (*PHASE_SENSES, "none")),
+                          ("angle_sense", ANGLE_SENSES), ("rotation", (None, *ROTATIONS))):
+        if getattr(record, name) not in allowed:
+            raise bad(name, " or ".join(str(a) for a in allowed),
+                      f"is {getattr(record, name)!r}")
     try:
         datetime.fromisoformat(record.started_at)
     except (TypeError, ValueError):
@@ -319,6 +357,8 @@ def check_record(record: VisitRecord) -> None:
                   f"is {record.started_at!r}") from None
     n_channels, n_planes = len(record.channel_names), len(record.plane_names)
     for r, run in enumerate(record.runs):
+        if run.kind not in RUN_KINDS:
+            raise bad(f"runs[{r}].kind", " or ".join(RUN_KINDS), f"is {run.kind!r}")
         if len(run.readings) != n_channels or len(run.phasors) != n_channels:
             raise bad(f"runs[{r}].readings", f"{n_channels} readings and phasors, one per channel",
                       f"has {len(run.readings)} readings and {len(run.phasors)} phasors")

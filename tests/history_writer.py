@@ -157,6 +157,50 @@ def write_version_2_file(path: Path) -> None:
     connection.close()
 
 
+def kill_mid_save(db: Path, marker: Path, n_runs: int = 400, pause_at: int = 300) -> None:
+    """Start this file as a writer on ``db`` and kill it (SIGKILL) in the middle of its save.
+
+    On return the writer is dead with its transaction open: the file holds
+    spilled uncommitted pages and a hot journal beside it.
+    """
+    import signal
+    import subprocess
+
+    import pytest
+
+    size_before = db.stat().st_size
+    writer = subprocess.Popen([sys.executable, __file__, str(db), str(marker),
+                               str(pause_at), str(n_runs)],
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+    try:
+        deadline = time.monotonic() + 30
+        while not marker.exists():
+            if writer.poll() is not None:
+                pytest.fail(f"writer ended early: {writer.communicate()[1].decode()}")
+            if time.monotonic() > deadline:
+                pytest.fail("writer did not reach the middle of its transaction")
+            time.sleep(0.02)
+        pid, batches = marker.read_text().split()
+        assert (int(pid), int(batches)) == (writer.pid, pause_at)
+        # mid-write: the writer holds the write lock and a journal exists
+        probe = sqlite3.connect(db, timeout=0, isolation_level=None)
+        with pytest.raises(sqlite3.OperationalError, match="locked"):
+            probe.execute("BEGIN IMMEDIATE")
+        probe.close()
+        assert Path(f"{db}-journal").exists()
+        # the writer's small page cache has spilled uncommitted pages into the file
+        assert db.stat().st_size > size_before
+        os.kill(writer.pid, signal.SIGKILL)
+        writer.wait(timeout=10)
+    finally:
+        if writer.poll() is None:
+            writer.kill()
+            writer.wait()
+        writer.stdout.close()
+        writer.stderr.close()
+    assert writer.returncode == -signal.SIGKILL
+
+
 def main(db: str, marker: str, pause_at: str, n_runs: str) -> None:
     batches = 0
 

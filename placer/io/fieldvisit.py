@@ -50,7 +50,7 @@ def solve_visit(session: Session, db: Path | None = None,
             raise InputError(f"no history database at {path}", file=session.source,
                              key="solve.coefficients",
                              expected="a database with this machine's coefficients ({opt:db})")
-        with History(path) as history:
+        with History(path, read_only=True) as history:
             stored = history.latest_coefficients(session.machine_id,
                                                  [c.name for c in session.channels],
                                                  [p.geometry.name for p in session.planes])

@@ -51,6 +51,7 @@ BEGIN IMMEDIATE, UPSERT.  [XDG] ``$XDG_DATA_HOME``.
 from __future__ import annotations
 
 import json
+import math
 import os
 import sqlite3
 import sys
@@ -64,10 +65,14 @@ from typing import Any
 import numpy as np
 
 from placer.errors import HistoryError
-from placer.geometry import PlaneGeometry
+from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry
 from placer.influence import StoredCoefficients
-from placer.io.historyschema import MIGRATIONS, SCHEMA_V1, SCHEMA_VERSION
+from placer.io.historyfile import DAMAGED, open_to_read, open_to_write
+from placer.limits import MAX_MAGNITUDE, MAX_WHOLE
+from placer.readings import AMPLITUDE_UNITS, MEASURES
 from placer.records import (
+    MASS_ROLES,
+    LastSaved,
     MachineSummary,
     MassRecord,
     RunRecord,
@@ -78,7 +83,6 @@ from placer.records import (
 )
 
 DB_FILE_NAME = "history.sqlite"
-EXPECTED_FILE = "a placer history database"
 
 
 @contextmanager
@@ -133,32 +137,32 @@ def default_db_path() -> Path:
 
 
 class History:
-    """The history database, opened (and created if new) for reading and writing.
+    """The history database, opened to write (created if new) or to read.
 
     Parameters
     ----------
     path : Path
-        The database file; missing parent folders are created.
+        The database file; to write, missing parent folders are created.
+    read_only : bool
+        Open it to read only (``placer machines``, ``placer history``,
+        coefficients reused by a visit): the file is not changed in any way
+        (see :mod:`placer.io.historyfile`), and :meth:`save_visit` and
+        :meth:`remove_visit` are refused.
 
     Raises
     ------
     HistoryError
         The file is not a placer history database, was written by a newer
-        placer, or cannot be opened.
+        placer, is damaged, or cannot be opened.
     """
 
-    def __init__(self, path: Path) -> None:
+    def __init__(self, path: Path, *, read_only: bool = False) -> None:
         self.path = Path(path)
-        try:
-            self.path.parent.mkdir(parents=True, exist_ok=True)
-            self._conn = sqlite3.connect(self.path, timeout=10.0, isolation_level=None)
-        except (OSError, sqlite3.Error) as exc:
-            raise HistoryError(f"cannot open: {exc}", file=str(self.path)) from exc
-        try:
-            self._prepare()
-        except BaseException:
-            self._conn.close()
-            raise
+        opened = open_to_read(self.path) if read_only else open_to_write(self.path)
+        self._conn = opened.conn
+        self.read_only = opened.read_only
+        self.rolled_back = opened.rolled_back
+        """Whether a save left unfinished (a hot journal) was rolled back on opening."""
 
     def __enter__(self) -> History:
         return self
@@ -175,59 +179,10 @@ class History:
                expected: str | None = None) -> HistoryError:
         return HistoryError(detail, file=str(self.path), key=key, expected=expected)
 
-    def _prepare(self) -> None:
-        conn = self._conn
-        try:
-            conn.execute("PRAGMA foreign_keys = ON")
-            conn.execute("PRAGMA journal_mode = DELETE")
-            conn.execute("PRAGMA synchronous = FULL")
-            version = self._stored_version()
-            if version is not None and version >= SCHEMA_VERSION:
-                self._refuse_newer(version)
-                return
-            with _immediate(conn):
-                version = self._stored_version()
-                if version is None:
-                    # one statement at a time: executescript() would commit first
-                    for statement in SCHEMA_V1.split(";"):
-                        if statement.strip():
-                            conn.execute(statement)
-                    conn.execute("INSERT INTO schema_version VALUES (1)")
-                    version = 1
-                self._refuse_newer(version)
-                for step in range(version, SCHEMA_VERSION):
-                    if step not in MIGRATIONS:
-                        raise self._error(f"no migration from schema version {step}",
-                                          key="schema_version",
-                                          expected=f"schema version {SCHEMA_VERSION}")
-                    MIGRATIONS[step](conn)
-                conn.execute("UPDATE schema_version SET version = ?", (SCHEMA_VERSION,))
-        except sqlite3.DatabaseError as exc:
-            if getattr(exc, "sqlite_errorname", "") == "SQLITE_NOTADB":
-                raise self._error("is not a SQLite database", expected=EXPECTED_FILE) from exc
-            raise self._error(f"cannot open: {exc}") from exc
-
-    def _stored_version(self) -> int | None:
-        """The file's schema version, or None for a new, empty file."""
-        tables = {name for (name,) in self._conn.execute(
-            "SELECT name FROM sqlite_master WHERE type = 'table'")}
-        if not tables:
-            return None
-        if "schema_version" not in tables:
-            raise self._error("is a SQLite database of another program",
-                              expected=EXPECTED_FILE)
-        rows = self._conn.execute("SELECT version FROM schema_version").fetchall()
-        if len(rows) != 1 or not isinstance(rows[0][0], int):
-            raise self._error(f"schema_version holds {rows!r}", key="schema_version",
-                              expected="one integer version")
-        return rows[0][0]
-
-    def _refuse_newer(self, version: int) -> None:
-        if version > SCHEMA_VERSION:
-            raise self._error(
-                f"was written by a newer placer (schema version {version}; this placer "
-                f"reads up to {SCHEMA_VERSION}); update placer to use it",
-                key="schema_version", expected=f"schema version {SCHEMA_VERSION} or older")
+    def _refuse_read_only(self, what: str) -> None:
+        if self.read_only:
+            raise self._error(f"was opened to read only: cannot {what}",
+                              expected="History(path) to write")
 
     def save_visit(self, record: VisitRecord) -> int:
         """Store a visit, and its machine (new, or renamed), in one transaction.
@@ -249,6 +204,7 @@ class History:
             nothing of the visit is stored.
         """
         check_record(record)
+        self._refuse_read_only("save a visit")
         conn = self._conn
         try:
             with _immediate(conn):
@@ -266,14 +222,15 @@ class History:
         visit_id = conn.execute(
             "INSERT INTO visits (machine_id, started_at, session_file, unit, measure, "
             "phase_sense, angle_sense, coefficient_source, condition, result_json, "
-            "service_rpm, rotation, setup_json) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
+            "service_rpm, rotation, setup_json, saved_at) "
+            "VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
             (record.machine_id, record.started_at, record.session_file, record.unit,
              record.measure, record.phase_sense, record.angle_sense,
              record.coefficient_source,
              None if record.condition is None else float(record.condition),
              json.dumps(record.result, ensure_ascii=False),
              None if record.service_rpm is None else float(record.service_rpm),
-             record.rotation, json.dumps(record.setup, ensure_ascii=False))).lastrowid
+             record.rotation, json.dumps(record.setup, ensure_ascii=False), now)).lastrowid
         weights = record.channel_weights or (None,) * len(record.channel_names)
         conn.executemany(
             "INSERT INTO channels (visit_id, channel_index, name, weight) VALUES (?, ?, ?, ?)",
@@ -318,9 +275,10 @@ class History:
 
     def machines(self) -> list[MachineSummary]:
         """Every machine stored, by id, with its number of visits and the last one."""
-        rows = self._conn.execute(
+        rows = self._query(
             "SELECT m.id, m.name, COUNT(v.id), MAX(v.started_at) FROM machines AS m "
-            "LEFT JOIN visits AS v ON v.machine_id = m.id GROUP BY m.id ORDER BY m.id")
+            "LEFT JOIN visits AS v ON v.machine_id = m.id GROUP BY m.id ORDER BY m.id", (),
+            "machines.id:t machines.name:t visits.id:i visits.started_at:t?")
         return [MachineSummary(*row) for row in rows]
 
     def visits(self, machine_id: str) -> list[VisitSummary]:
@@ -336,19 +294,74 @@ class History:
         list of VisitSummary
             One per visit, ordered by start and then by id.
         """
-        rows = self._conn.execute(
+        rows = self._query(
             "SELECT v.id, v.started_at, v.coefficient_source, v.condition, "
-            "(SELECT COUNT(*) FROM runs AS r WHERE r.visit_id = v.id), v.result_json "
-            "FROM visits AS v WHERE v.machine_id = ? ORDER BY v.started_at, v.id",
-            (machine_id,)).fetchall()
+            "(SELECT COUNT(*) FROM runs AS r WHERE r.visit_id = v.id), v.result_json, "
+            "v.saved_at FROM visits AS v WHERE v.machine_id = ? ORDER BY v.started_at, v.id",
+            (machine_id,), "visits.id:i visits.started_at:t visits.coefficient_source:t "
+            "visits.condition:r? runs.id:i visits.result_json:t visits.saved_at:t?")
         out = []
-        for visit_id, started_at, source, condition, runs, result in rows:
+        for visit_id, started_at, source, condition, runs, result, saved_at in rows:
             masses = self._read_masses(visit_id)
             kept = tuple(m for run_id, group in masses.items() if run_id is not None
                          for m in group if not (m.role == "trial" and m.removed_after))
             out.append(VisitSummary(visit_id, started_at, source, condition, runs,
-                                    masses.get(None, ()), json.loads(result), kept))
+                                    masses.get(None, ()),
+                                    self._json(result, visit_id, "result_json"), kept,
+                                    saved_at))
         return out
+
+    def last_saved(self) -> LastSaved | None:
+        """The visit saved last (the highest id: SQLite gives each new row the next one).
+
+        Returns
+        -------
+        LastSaved or None
+            The visit, its machine, when it took place and when it was saved
+            (None for a visit saved before placer kept the time); None when
+            no visit is stored.
+        """
+        rows = self._query("SELECT id, machine_id, started_at, saved_at FROM visits "
+                           "ORDER BY id DESC LIMIT 1", (),
+                           "visits.id:i visits.machine_id:t visits.started_at:t visits.saved_at:t?")
+        return LastSaved(*rows[0]) if rows else None
+
+    def _query(self, sql: str, parameters: Sequence[Any], columns: str) -> list[tuple]:
+        """All rows of a read, each value checked against ``columns``.
+
+        ``columns`` names each selected value as ``table.column:kind``, kind
+        ``t`` text, ``i`` a whole number, ``r`` a number (finite, at most
+        :data:`placer.limits.MAX_MAGNITUDE` in size), ``?`` after it when
+        NULL is allowed.  A database that fails the read, or a value of
+        another kind (a damaged file), is reported naming the column.
+        """
+        try:
+            rows = self._conn.execute(sql, parameters).fetchall()
+        except sqlite3.DatabaseError as exc:
+            raise self._error(f"cannot be read: {exc}", expected=DAMAGED) from None
+        except UnicodeDecodeError:
+            raise self._error("is damaged: it holds text that is not UTF-8",
+                              expected=DAMAGED) from None
+        spec = [column.rsplit(":", 1) for column in columns.split()]
+        for row in rows:
+            for value, (name, kind) in zip(row, spec, strict=True):
+                if value is None and kind.endswith("?"):
+                    continue
+                if not _of_kind(value, kind[0]):
+                    raise self._error(f"holds {value!r} in {name}", key=name,
+                                      expected=f"{_KINDS[kind[0]]} ({DAMAGED})")
+        return rows
+
+    def _json(self, text: Any, visit_id: int, column: str, table: str = "visits") -> dict:
+        """A JSON object stored for a visit, read back; anything else is reported."""
+        try:
+            value = json.loads(text)
+        except (TypeError, ValueError):
+            value = None
+        if not isinstance(value, dict):
+            raise self._error(f"visit {visit_id}: {column} is not a JSON object",
+                              key=f"{table}.{column}", expected=DAMAGED)
+        return value
 
     def visit(self, visit_id: int) -> VisitRecord:
         """The full record of one visit, as it was saved.
@@ -368,46 +381,64 @@ class History:
         HistoryError
             No visit has this id.
         """
-        conn = self._conn
-        row = conn.execute(
+        rows = self._query(
             "SELECT v.machine_id, m.name, v.started_at, v.session_file, v.unit, v.measure, "
             "v.phase_sense, v.angle_sense, v.coefficient_source, v.condition, v.result_json, "
             "v.service_rpm, v.rotation, v.setup_json "
             "FROM visits AS v JOIN machines AS m ON m.id = v.machine_id WHERE v.id = ?",
-            (visit_id,)).fetchone()
-        if row is None:
+            (visit_id,), "visits.machine_id:t machines.name:t visits.started_at:t "
+            "visits.session_file:t visits.unit:t visits.measure:t visits.phase_sense:t "
+            "visits.angle_sense:t visits.coefficient_source:t visits.condition:r? "
+            "visits.result_json:t visits.service_rpm:r? visits.rotation:t? visits.setup_json:t?")
+        if not rows:
             raise self._error(f"no visit {visit_id}", key="visit_id",
                               expected="the id of a saved visit")
         (machine_id, machine_name, started_at, session_file, unit, measure, phase_sense,
-         angle_sense, source, condition, result_json, service_rpm, rotation, setup_json) = row
+         angle_sense, source, condition, result_json, service_rpm, rotation, setup_json) = rows[0]
         channel_names = self._names("channels", "channel_index", visit_id)
         plane_names = self._names("planes", "plane_index", visit_id)
-        weights = tuple(w for (w,) in conn.execute(
+        weights = tuple(w for (w,) in self._query(
             "SELECT weight FROM channels WHERE visit_id = ? ORDER BY channel_index",
-            (visit_id,)))
-        planes = conn.execute("SELECT name, geometry_json, catalog FROM planes WHERE "
-                              "visit_id = ? ORDER BY plane_index", (visit_id,)).fetchall()
-        geometries = tuple(None if g is None else _geometry_of(name, json.loads(g))
-                           for name, g, _ in planes)
+            (visit_id,), "channels.weight:r?"))
+        planes = self._query("SELECT name, geometry_json, catalog FROM planes WHERE "
+                             "visit_id = ? ORDER BY plane_index", (visit_id,),
+                             "planes.name:t planes.geometry_json:t? planes.catalog:t?")
+        geometries = tuple(
+            None if g is None else _geometry_of(name, self._json(g, visit_id, "geometry_json",
+                                                                 "planes"))
+            for name, g, _ in planes)
         masses = self._read_masses(visit_id)
-        runs = []
-        for run_id, name, kind in conn.execute(
-                "SELECT id, name, kind FROM runs WHERE visit_id = ? ORDER BY seq", (visit_id,)):
-            readings = conn.execute(
-                "SELECT amplitude, phase_deg, re, im FROM readings WHERE run_id = ? "
-                "ORDER BY channel_index", (run_id,)).fetchall()
-            runs.append(RunRecord(name, kind, tuple((a, p) for a, p, _, _ in readings),
-                                  tuple(complex(re, im) for _, _, re, im in readings),
-                                  masses.get(run_id, ())))
-        return VisitRecord(machine_id, machine_name, started_at, session_file, unit, measure,
-                           phase_sense, angle_sense, channel_names, plane_names, tuple(runs),
-                           self._read_coefficients(visit_id, len(channel_names),
-                                                   len(plane_names)),
-                           condition, source, masses.get(None, ()), json.loads(result_json),
-                           service_rpm, rotation,
-                           None if None in weights else weights, geometries,
-                           tuple(c for _, _, c in planes),
-                           json.loads(setup_json) if setup_json else {})
+        try:
+            runs = []
+            for run_id, name, kind in self._query(
+                    "SELECT id, name, kind FROM runs WHERE visit_id = ? ORDER BY seq",
+                    (visit_id,), "runs.id:i runs.name:t runs.kind:t"):
+                readings = self._query(
+                    "SELECT amplitude, phase_deg, re, im FROM readings WHERE run_id = ? "
+                    "ORDER BY channel_index", (run_id,),
+                    "readings.amplitude:r readings.phase_deg:r readings.re:r readings.im:r")
+                runs.append(RunRecord(name, kind, tuple((a, p) for a, p, _, _ in readings),
+                                      tuple(complex(re, im) for _, _, re, im in readings),
+                                      masses.get(run_id, ())))
+            record = VisitRecord(
+                machine_id, machine_name, started_at, session_file, unit, measure, phase_sense,
+                angle_sense, channel_names, plane_names, tuple(runs),
+                self._read_coefficients(visit_id, len(channel_names), len(plane_names)),
+                condition, source, masses.get(None, ()),
+                self._json(result_json, visit_id, "result_json"), service_rpm, rotation,
+                None if None in weights else weights, geometries,
+                tuple(c for _, _, c in planes),
+                self._json(setup_json, visit_id, "setup_json") if setup_json else {})
+            check_record(record)
+        except HistoryError as exc:
+            if exc.file:
+                raise
+            raise self._error(f"visit {visit_id}: {exc.key} {exc.detail}",
+                              key=f"visits.{exc.key}", expected=exc.expected) from None
+        except (TypeError, ValueError) as exc:
+            raise self._error(f"visit {visit_id} cannot be read: {exc}", expected=DAMAGED
+                              ) from None
+        return record
 
     def same_visit(self, record: VisitRecord) -> int | None:
         """The id of a stored visit with the same runs as ``record`` (a session saved twice).
@@ -430,10 +461,10 @@ class History:
             return [(r.name, r.kind, tuple(r.readings), tuple(r.masses)) for r in runs]
 
         wanted = runs_of(record.runs)
-        for (visit_id,) in self._conn.execute(
+        for (visit_id,) in self._query(
                 "SELECT v.id FROM visits AS v WHERE v.machine_id = ? AND (SELECT COUNT(*) "
                 "FROM runs AS r WHERE r.visit_id = v.id) = ? ORDER BY v.id",
-                (record.machine_id, len(record.runs))).fetchall():
+                (record.machine_id, len(record.runs)), "visits.id:i"):
             if self._names("channels", "channel_index", visit_id) != record.channel_names:
                 continue
             if self._names("planes", "plane_index", visit_id) != record.plane_names:
@@ -455,6 +486,7 @@ class History:
         HistoryError
             No visit has this id, or the database cannot be written.
         """
+        self._refuse_read_only("remove a visit")
         try:
             with _immediate(self._conn):
                 gone = self._conn.execute("DELETE FROM visits WHERE id = ?",
@@ -491,32 +523,44 @@ class History:
             (:func:`placer.influence.adapt_stored`).
         """
         wanted, planes = tuple(channel_names), tuple(plane_names)
-        candidates = self._conn.execute(
+        candidates = self._query(
             "SELECT v.id, v.started_at, v.unit, v.measure, v.angle_sense, v.rotation, "
             "v.service_rpm FROM visits AS v WHERE v.machine_id = ? AND EXISTS "
             "(SELECT 1 FROM coefficients AS c WHERE c.visit_id = v.id) "
-            "ORDER BY v.started_at DESC, v.id DESC", (machine_id,)).fetchall()
+            "ORDER BY v.started_at DESC, v.id DESC", (machine_id,),
+            "visits.id:i visits.started_at:t visits.unit:t visits.measure:t "
+            "visits.angle_sense:t visits.rotation:t? visits.service_rpm:r?")
         for visit_id, started_at, unit, measure, angle_sense, rotation, rpm in candidates:
             if self._names("channels", "channel_index", visit_id) != wanted:
                 continue
             if self._names("planes", "plane_index", visit_id) != planes:
                 continue
             matrix = self._read_coefficients(visit_id, len(wanted), len(planes))
+            for column, value, allowed in (("unit", unit, AMPLITUDE_UNITS),
+                                           ("measure", measure, MEASURES),
+                                           ("angle_sense", angle_sense, ANGLE_SENSES),
+                                           ("rotation", rotation, (None, *ROTATIONS))):
+                if value not in allowed:
+                    raise self._error(f"visit {visit_id}: {column} is {value!r}",
+                                      key=f"visits.{column}",
+                                      expected=" or ".join(map(str, allowed)))
             return StoredCoefficients(matrix, unit, measure, angle_sense, rotation, rpm,
                                       wanted, planes,
                                       f"visit {visit_id} of {utc_label(started_at)}")
         return None
 
     def _names(self, table: str, index: str, visit_id: int) -> tuple[str, ...]:
-        rows = self._conn.execute(
-            f"SELECT name FROM {table} WHERE visit_id = ? ORDER BY {index}", (visit_id,))
+        rows = self._query(
+            f"SELECT name FROM {table} WHERE visit_id = ? ORDER BY {index}", (visit_id,),
+            f"{table}.name:t")
         return tuple(name for (name,) in rows)
 
     def _read_coefficients(self, visit_id: int, n_channels: int,
                            n_planes: int) -> np.ndarray | None:
-        rows = self._conn.execute(
+        rows = self._query(
             "SELECT channel_index, plane_index, re, im FROM coefficients WHERE visit_id = ?",
-            (visit_id,)).fetchall()
+            (visit_id,), "coefficients.channel_index:i coefficients.plane_index:i "
+            "coefficients.re:r coefficients.im:r")
         if not rows:
             return None
         if len(rows) != n_channels * n_planes:
@@ -525,19 +569,49 @@ class History:
                               expected=f"{n_channels} × {n_planes} (channels × planes)")
         matrix = np.empty((n_channels, n_planes), dtype=complex)
         for i, j, re, im in rows:
+            for column, value, size in (("channel_index", i, n_channels),
+                                        ("plane_index", j, n_planes)):
+                if not 0 <= value < size:
+                    raise self._error(f"visit {visit_id}: a coefficient's {column} is {value!r}",
+                                      key=f"coefficients.{column}",
+                                      expected=f"0 to {size - 1}")
             matrix[i, j] = complex(re, im)
         return matrix
 
     def _read_masses(self, visit_id: int) -> dict[int | None, tuple[MassRecord, ...]]:
         """A visit's masses by run id (None: the planned correction), in saved order."""
         grouped: dict[int | None, list[MassRecord]] = {}
-        for row in self._conn.execute(
+        for row in self._query(
                 "SELECT run_id, plane_index, position, angle_deg, radius_mm, mass_g, item, "
                 "count, role, removed_after FROM masses WHERE visit_id = ? ORDER BY id",
-                (visit_id,)):
-            run_id, *values, removed_after = row
-            grouped.setdefault(run_id, []).append(MassRecord(*values, bool(removed_after)))
+                (visit_id,), "masses.run_id:i? masses.plane_index:i masses.position:i? "
+                "masses.angle_deg:r masses.radius_mm:r masses.mass_g:r masses.item:t? "
+                "masses.count:i masses.role:t masses.removed_after:i"):
+            run_id, *values, role, removed_after = row
+            if role not in MASS_ROLES or removed_after not in (0, 1) or values[-1] == 0:
+                raise self._error(f"visit {visit_id}: a mass with role {role!r}, count "
+                                  f"{values[-1]} and removed_after {removed_after!r}",
+                                  key="masses.role", expected=f"a role of {', '.join(MASS_ROLES)}"
+                                  f", a count other than 0, removed_after 0 or 1 ({DAMAGED})")
+            grouped.setdefault(run_id, []).append(MassRecord(*values, role,
+                                                             bool(removed_after)))
         return {run_id: tuple(masses) for run_id, masses in grouped.items()}
+
+
+_KINDS = {"t": "text", "i": f"a whole number of at most {MAX_WHOLE} in size",
+          "r": f"a number of at most {MAX_MAGNITUDE:g} in size"}
+"""What each kind of stored value must be (see :meth:`History._query`)."""
+
+
+def _of_kind(value: Any, kind: str) -> bool:
+    """Whether a value read from the file is of the kind ``t``, ``i`` or ``r``."""
+    if kind == "t":
+        return isinstance(value, str)
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return False
+    if kind == "i":
+        return isinstance(value, int) and abs(value) <= MAX_WHOLE
+    return math.isfinite(value) and abs(value) <= MAX_MAGNITUDE
 
 
 def _geometry_dict(geometry: PlaneGeometry) -> dict[str, Any]:

@@ -7,7 +7,8 @@ Schema (version :data:`SCHEMA_VERSION`)::
     visits(id PK, machine_id -> machines, started_at, session_file, unit,
            measure, phase_sense, angle_sense, coefficient_source, condition,
            result_json, service_rpm, rotation,        (these two from version 2)
-           setup_json)                                (from version 3)
+           setup_json,                                (from version 3)
+           saved_at)                                  (from version 4)
     channels(visit_id -> visits, channel_index, name, weight)   PK (visit_id, channel_index)
     planes(visit_id -> visits, plane_index, name, geometry_json, catalog)
                                                         PK (visit_id, plane_index)
@@ -25,7 +26,9 @@ positions (JSON: angles, radii, blocked, capacity, what each takes) and
 catalogue name, and the session's settings (``setup_json``: the rotor's name,
 mass and grade, the plane separation, norm, limit, part limit, the residual
 checks); NULL for the visits stored before, which then print without the
-rotor face.  A new file gets :data:`SCHEMA_V1` and is then brought
+rotor face.  Version 4 (:func:`migrate_3_to_4`) added when each visit was
+saved (UTC, ISO 8601; NULL for the visits stored before), so that a
+technician can see the last save landed.  A new file gets :data:`SCHEMA_V1` and is then brought
 up by the same :data:`MIGRATIONS` an older file goes through.
 
 References
@@ -40,7 +43,7 @@ import math
 import sqlite3
 from collections.abc import Callable
 
-SCHEMA_VERSION = 3
+SCHEMA_VERSION = 4
 """Schema version this placer writes; files of a newer version are refused."""
 
 _V1_PEAK_PER_MEASURE = {"peak": 1.0, "peak-to-peak": 0.5, "rms": math.sqrt(2.0)}
@@ -95,8 +98,20 @@ def migrate_2_to_3(conn: sqlite3.Connection) -> None:
     conn.execute("ALTER TABLE visits ADD COLUMN setup_json TEXT")
 
 
+def migrate_3_to_4(conn: sqlite3.Connection) -> None:
+    """Version 3 -> 4: when each visit was saved (NULL for the visits already stored).
+
+    Parameters
+    ----------
+    conn : sqlite3.Connection
+        The open database, inside the opening transaction.
+    """
+    conn.execute("ALTER TABLE visits ADD COLUMN saved_at TEXT")
+
+
 MIGRATIONS: dict[int, Callable[[sqlite3.Connection], None]] = {1: migrate_1_to_2,
-                                                                2: migrate_2_to_3}
+                                                                2: migrate_2_to_3,
+                                                                3: migrate_3_to_4}
 """Schema upgrades: ``MIGRATIONS[v](connection)`` turns version v into v + 1.
 
 Each runs inside the opening transaction (foreign keys on) and must leave
@@ -177,3 +192,7 @@ CREATE TABLE masses (
 CREATE INDEX masses_by_visit ON masses (visit_id);
 CREATE INDEX masses_by_run ON masses (run_id);
 """
+
+TABLES = ("schema_version", "machines", "visits", "channels", "planes", "runs", "readings",
+          "coefficients", "masses")
+"""The tables of every version (later versions add columns, not tables)."""

@@ -46,10 +46,10 @@ from placer.tolerance import parse_grade
 from placer.units import (
     LENGTH_UNITS,
     MASS_UNITS,
+    METRIC,
     ROTOR_MASS_UNITS,
     UNBALANCE_UNITS,
     UNIT_SYSTEMS,
-    METRIC,
 )
 
 ROTOR_KEYS = ("name", "mass_kg", "mass_lb", "service_rpm", "grade", "com_distances_mm",

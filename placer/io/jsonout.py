@@ -269,7 +269,8 @@ def _residual_dict(r) -> dict[str, Any]:
             "limit_source": r.limit_source, "within_limit": r.within, "notes": list(r.notes)}
 
 
-def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
+def visit_dict(visit_id: int, record: VisitRecord,
+               saved_at: str | None = None) -> dict[str, Any]:
     """The JSON object of ``placer history MACHINE --visit N``.
 
     Parameters
@@ -278,6 +279,8 @@ def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
         The visit's id.
     record : VisitRecord
         The visit as stored.
+    saved_at : str or None
+        When it was saved, ISO 8601 in UTC (None: not kept).
 
     Returns
     -------
@@ -295,7 +298,8 @@ def visit_dict(visit_id: int, record: VisitRecord) -> dict[str, Any]:
     return {
         "visit": visit_id, "machine": {"id": record.machine_id, "name": record.machine_name},
         "started_at": record.started_at, "started_at_utc": utc_label(record.started_at),
-        "session_file": record.session_file, "unit": record.unit, "measure": record.measure,
+        "saved_at": saved_at, "session_file": record.session_file, "unit": record.unit,
+        "measure": record.measure,
         "phase_sense": record.phase_sense, "angle_sense": record.angle_sense,
         "rotation": record.rotation, "service_rpm": record.service_rpm,
         "sensors": list(record.channel_names), "planes": list(record.plane_names),
@@ -422,10 +426,12 @@ def visits_list(visits: Sequence[VisitSummary]) -> list[dict[str, Any]]:
     Returns
     -------
     list of dict
-        Id, start, coefficient source, condition, runs and result of each.
+        Id, start, when saved (None: not kept), coefficient source, condition,
+        runs and result of each.
     """
-    return [{"id": v.id, "started_at": v.started_at, "coefficient_source": v.coefficient_source,
-             "condition": v.condition, "runs": v.runs, "result": v.result} for v in visits]
+    return [{"id": v.id, "started_at": v.started_at, "saved_at": v.saved_at,
+             "coefficient_source": v.coefficient_source, "condition": v.condition,
+             "runs": v.runs, "result": v.result} for v in visits]
 
 
 def blades_dict(result: BladeResult) -> dict[str, Any]:

@@ -12,23 +12,26 @@ a real process ended with SIGKILL.
 from __future__ import annotations
 
 import math
-import os
 import pickle
-import signal
 import sqlite3
 import subprocess
 import sys
-import time
 from dataclasses import FrozenInstanceError, replace
 from pathlib import Path
 
 import numpy as np
 import pytest
-from history_writer import make_visit, watch_connections, write_version_2_file
+from history_writer import (
+    kill_mid_save,
+    make_visit,
+    watch_connections,
+    write_version_2_file,
+)
 
 from placer.errors import HistoryError, PlacerError
-from placer.io import history
+from placer.io import history, historyfile
 from placer.io.history import History, default_db_path
+from placer.io.historyschema import SCHEMA_V1, SCHEMA_VERSION
 from placer.records import MachineSummary
 
 WRITER = Path(__file__).resolve().parents[1] / "history_writer.py"
@@ -217,17 +220,17 @@ def test_visit_survives_restart_in_new_process(db: Path, tmp_path: Path) -> None
 def test_schema_version_is_stored(db: Path) -> None:
     History(db).close()
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(4,)]
     assert connection.execute("PRAGMA journal_mode").fetchone() == ("delete",)
     connection.close()
-    assert history.SCHEMA_VERSION == 3
+    assert SCHEMA_VERSION == 4
 
 
 def test_newer_schema_version_is_refused(db: Path) -> None:
     with History(db) as h:
         h.save_visit(make_visit())
     connection = sqlite3.connect(db)
-    connection.execute("UPDATE schema_version SET version = 4")
+    connection.execute("UPDATE schema_version SET version = 5")
     connection.commit()
     connection.close()
     with pytest.raises(HistoryError, match="newer placer") as caught:
@@ -238,7 +241,7 @@ def test_newer_schema_version_is_refused(db: Path) -> None:
 
 
 def add_visit_notes(connection: sqlite3.Connection) -> None:
-    """A made-up migration 3 -> 4: a notes column on visits."""
+    """A made-up migration 4 -> 5: a notes column on visits."""
     connection.execute("ALTER TABLE visits ADD COLUMN notes TEXT NOT NULL DEFAULT ''")
 
 
@@ -247,15 +250,15 @@ def test_older_file_is_migrated(db: Path, tmp_path: Path,
     record = make_visit()
     with History(db) as h:
         visit_id = h.save_visit(record)
-    monkeypatch.setattr(history, "SCHEMA_VERSION", 4)
-    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 3: add_visit_notes})
+    monkeypatch.setattr(historyfile, "SCHEMA_VERSION", 5)
+    monkeypatch.setattr(historyfile, "MIGRATIONS", {**historyfile.MIGRATIONS, 4: add_visit_notes})
     with History(db) as h:
         assert h.visit(visit_id) == record
     fresh = tmp_path / "fresh.sqlite"
     History(fresh).close()
     for path in (db, fresh):
         connection = sqlite3.connect(path)
-        assert connection.execute("SELECT version FROM schema_version").fetchall() == [(4,)]
+        assert connection.execute("SELECT version FROM schema_version").fetchall() == [(5,)]
         columns = [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
         assert columns[-1] == "notes"
         connection.close()
@@ -264,12 +267,12 @@ def test_older_file_is_migrated(db: Path, tmp_path: Path,
 def test_missing_migration_leaves_file_unchanged(db: Path,
                                                  monkeypatch: pytest.MonkeyPatch) -> None:
     History(db).close()
-    monkeypatch.setattr(history, "SCHEMA_VERSION", 5)
-    monkeypatch.setattr(history, "MIGRATIONS", {**history.MIGRATIONS, 3: add_visit_notes})
-    with pytest.raises(HistoryError, match="no migration from schema version 4"):
+    monkeypatch.setattr(historyfile, "SCHEMA_VERSION", 6)
+    monkeypatch.setattr(historyfile, "MIGRATIONS", {**historyfile.MIGRATIONS, 4: add_visit_notes})
+    with pytest.raises(HistoryError, match="no migration from schema version 5"):
         History(db)
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(4,)]
     assert "notes" not in [row[1] for row in connection.execute("PRAGMA table_info(visits)")]
     connection.close()
 
@@ -278,7 +281,7 @@ def write_version_1_file(path: Path) -> None:
     """A history file as placer wrote it at schema version 1, by hand: one visit read
     in µm rms (stored then as peak values), coefficients, a result summary."""
     connection = sqlite3.connect(path)
-    for statement in history.SCHEMA_V1.split(";"):
+    for statement in SCHEMA_V1.split(";"):
         if statement.strip():
             connection.execute(statement)
     connection.execute("INSERT INTO schema_version VALUES (1)")
@@ -321,7 +324,7 @@ def test_version_1_file_is_migrated_to_the_visit_measure(db: Path) -> None:
     assert (rms.service_rpm, rms.rotation) == (None, None)
     assert (found.measure, found.service_rpm) == ("peak", None)  # the newest: visit 3
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(4,)]
     assert connection.execute("PRAGMA integrity_check").fetchall() == [("ok",)]
     connection.close()
 
@@ -341,7 +344,7 @@ def test_version_2_file_is_migrated_without_the_report_facts(db: Path) -> None:
     assert old.runs[1].masses[0].mass_g == 20.0 and old.planned[0].item == "M12"
     assert new == make_visit()
     connection = sqlite3.connect(db)
-    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(3,)]
+    assert connection.execute("SELECT version FROM schema_version").fetchall() == [(4,)]
     assert [row[1] for row in connection.execute("PRAGMA table_info(channels)")][-1] == "weight"
     assert connection.execute("PRAGMA integrity_check").fetchall() == [("ok",)]
     assert connection.execute("PRAGMA foreign_key_check").fetchall() == []
@@ -472,38 +475,7 @@ def test_writer_killed_mid_transaction_leaves_no_partial_visit(db: Path, tmp_pat
         committed_id = h.save_visit(committed)
     before = table_counts(db)
     size_before = db.stat().st_size
-    marker = tmp_path / "mid-write"
-    n_runs, pause_at = 400, 300
-    writer = subprocess.Popen([sys.executable, str(WRITER), str(db), str(marker),
-                               str(pause_at), str(n_runs)],
-                              stdout=subprocess.PIPE, stderr=subprocess.PIPE)
-    try:
-        deadline = time.monotonic() + 30
-        while not marker.exists():
-            if writer.poll() is not None:
-                pytest.fail(f"writer ended early: {writer.communicate()[1].decode()}")
-            if time.monotonic() > deadline:
-                pytest.fail("writer did not reach the middle of its transaction")
-            time.sleep(0.02)
-        pid, batches = marker.read_text().split()
-        assert (int(pid), int(batches)) == (writer.pid, pause_at)
-        # mid-write: the writer holds the write lock and a journal exists
-        probe = sqlite3.connect(db, timeout=0, isolation_level=None)
-        with pytest.raises(sqlite3.OperationalError, match="locked"):
-            probe.execute("BEGIN IMMEDIATE")
-        probe.close()
-        assert Path(f"{db}-journal").exists()
-        # the writer's small page cache has spilled uncommitted pages into the file
-        assert db.stat().st_size > size_before
-        os.kill(writer.pid, signal.SIGKILL)
-        writer.wait(timeout=10)
-    finally:
-        if writer.poll() is None:
-            writer.kill()
-            writer.wait()
-        writer.stdout.close()
-        writer.stderr.close()
-    assert writer.returncode == -signal.SIGKILL
+    kill_mid_save(db, tmp_path / "mid-write")
 
     connection = sqlite3.connect(db)  # the first read rolls the hot journal back
     assert connection.execute("PRAGMA integrity_check").fetchall() == [("ok",)]

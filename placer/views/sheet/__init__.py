@@ -23,7 +23,13 @@ from placer.views.sheet.convention import (
                                            rotation_clockwise,
 )
 from placer.views.sheet.face import draw_plane
-from placer.views.sheet.facts import PlaneDrawing, PlaneFace, SheetPage, fmt_gmm, plane_face
+from placer.views.sheet.facts import (
+                                           PlaneDrawing,
+                                           PlaneFace,
+                                           SheetPage,
+                                           fmt_gmm,
+                                           plane_face,
+)
 from placer.views.sheet.files import (
                                            MATPLOTLIB_MISSING,
                                            PNG_DPI,

@@ -42,7 +42,6 @@ from placer.views.wording import (
     cautions_for,
     drills,
     plane_radius_mm,
-    unbalance_text,
     units_of,
 )
 

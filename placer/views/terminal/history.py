@@ -18,6 +18,7 @@ from rich.table import Table
 from rich.text import Text
 
 from placer.records import (
+    LastSaved,
     MachineSummary,
     MassRecord,
     VisitRecord,
@@ -63,7 +64,44 @@ def vibration_figures(result: dict) -> tuple[str, bool] | None:
     return f"{significant(before)}→{significant(after)}" + ("*" if old else ""), old
 
 
-def render_visit(visit_id: int, record: VisitRecord, console: Console) -> None:
+def saved_text(saved_at: str | None) -> str:
+    """When a visit was saved, for people: "saved 2026-12-02 11:03 UTC".
+
+    Parameters
+    ----------
+    saved_at : str or None
+        ISO 8601 in UTC, as stored; None for a visit saved before placer kept it.
+
+    Returns
+    -------
+    str
+        The words.
+    """
+    return ("time of saving not kept (saved by an older placer)" if saved_at is None
+            else f"saved {utc_label(saved_at)}")
+
+
+def last_saved_text(last: LastSaved | None) -> str:
+    """The line that tells a technician which visit was saved last, and when.
+
+    Parameters
+    ----------
+    last : LastSaved or None
+        The visit saved last; None when the database holds none.
+
+    Returns
+    -------
+    str
+        The line.
+    """
+    if last is None:
+        return "No visit is saved in this database."
+    return (f"Saved last in this database: visit {last.visit_id} of {last.machine_id} "
+            f"(the visit of {utc_label(last.started_at)}), {saved_text(last.saved_at)}.")
+
+
+def render_visit(visit_id: int, record: VisitRecord, saved_at: str | None,
+                 console: Console) -> None:
     """Print one stored visit: runs with readings as read, coefficients, plan, result.
 
     Parameters
@@ -72,6 +110,8 @@ def render_visit(visit_id: int, record: VisitRecord, console: Console) -> None:
         The visit's id.
     record : VisitRecord
         The visit as stored.
+    saved_at : str or None
+        When it was saved, ISO 8601 (see :func:`saved_text`).
     console : Console
         The rich console to print on.
     """
@@ -79,7 +119,8 @@ def render_visit(visit_id: int, record: VisitRecord, console: Console) -> None:
     only = record.phase_sense == "none"
     head = Text()
     head.append(f"{record.machine_name} [{record.machine_id}]\n", style="bold")
-    head.append(f"Visit {visit_id} of {utc_label(record.started_at)}\n", style="bold")
+    head.append(f"Visit {visit_id} of {utc_label(record.started_at)}", style="bold")
+    head.append(f"; {saved_text(saved_at)}\n")
     speed = "speed not stored" if record.service_rpm is None else f"{record.service_rpm:g} r/min"
     phase = "no phase reference" if only else f"phase {record.phase_sense}"
     head.append(f"Readings: {unit}, {phase}; angles counted {record.angle_sense}"
@@ -140,7 +181,8 @@ def render_visit(visit_id: int, record: VisitRecord, console: Console) -> None:
     console.print(Panel(Group(*body), box=box.ROUNDED))
 
 
-def render_machines(machines: Sequence[MachineSummary], db_label: str, console: Console) -> None:
+def render_machines(machines: Sequence[MachineSummary], db_label: str,
+                    last: LastSaved | None, console: Console) -> None:
     """The machines of a history database, one row each (``placer machines``).
 
     Parameters
@@ -149,6 +191,8 @@ def render_machines(machines: Sequence[MachineSummary], db_label: str, console: 
         The machines.
     db_label : str
         The database, as named in the title.
+    last : LastSaved or None
+        The visit saved last (see :func:`last_saved_text`).
     console : Console
         The rich console to print on.
     """
@@ -159,10 +203,12 @@ def render_machines(machines: Sequence[MachineSummary], db_label: str, console: 
         table.add_row(m.id, m.name, str(m.visits), utc_label(m.last_visit) if m.last_visit
                       else "-")
     console.print(table)
+    console.print(Text(last_saved_text(last)))
 
 
-def render_visits(machine_id: str, visits: Sequence[VisitSummary], console: Console) -> None:
-    """A machine's visits, one row each (``placer history MACHINE``).
+def render_visits(machine_id: str, visits: Sequence[VisitSummary], last: LastSaved | None,
+                  console: Console) -> None:
+    """A machine's visits, one row each (``placer history MACHINE``), then the last save.
 
     Parameters
     ----------
@@ -170,6 +216,8 @@ def render_visits(machine_id: str, visits: Sequence[VisitSummary], console: Cons
         The machine's tag.
     visits : sequence of VisitSummary
         Its visits.
+    last : LastSaved or None
+        The visit saved last in the database (see :func:`last_saved_text`).
     console : Console
         The rich console to print on.
     """
@@ -203,3 +251,4 @@ def render_visits(machine_id: str, visits: Sequence[VisitSummary], console: Cons
     console.print(table)
     if old:
         console.print(Text(STORED_BEFORE, style="italic"))
+    console.print(Text(last_saved_text(last)))
