@@ -38,7 +38,7 @@ if str(REPO) not in sys.path:
 import numpy as np  # noqa: E402
 
 from placer.blades import Blade, Disc, Limits  # noqa: E402
-from placer.engine.arrangement.search import arrange  # noqa: E402
+from placer.engine.arrangement import arrange  # noqa: E402
 
 PUBLISHED = {5: 29.93, 6: 0.00, 7: 2.73, 8: 3.64, 9: 0.63, 10: 0.00, 11: 0.02, 12: 0.00,
              13: 0.04, 14: 0.00, 15: 0.00, 16: 0.02, 17: 0.05, 18: 0.00, 19: 0.05, 20: 0.00,

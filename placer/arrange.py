@@ -4,7 +4,7 @@ Pure: takes a :class:`BladeJob` (what a blade file says) and returns a
 :class:`BladeResult`.  Two stages:
 
 1. **Arrange** the blades on the slots with
-   :func:`placer.engine.arrangement.search.arrange`, in one of three ways
+   :func:`placer.engine.arrangement.arrange`, in one of three ways
    (:data:`MOVES`): only the new blades go into the empty slots (``"new"``,
    every blade already fitted stays); the fewest blade swaps from the rotor as
    it is that bring the static residual within the tolerance (``"fewest"``);
@@ -36,8 +36,8 @@ import numpy as np
 from placer import validate
 from placer.blades import ArrangementResult, Blade, Disc, check_blades
 from placer.catalog import Catalog
+from placer.engine.arrangement import DEFAULT_WORK, arrange
 from placer.engine.arrangement.moves import swaps_between
-from placer.engine.arrangement.search import DEFAULT_WORK, arrange
 from placer.errors import InputError
 from placer.geometry import PlaneGeometry, polar
 from placer.job import Job, PlaneJob, Rotor

@@ -7,7 +7,7 @@ weighed for its moment weight (mass times the radius of its centre of
 gravity, g·mm) and may carry an axial moment (mass times the axial offset of
 its centre of gravity from the disc's mid-plane, g·mm²) and a frequency (its
 first bending frequency, Hz).  The values here are checked when they are
-made; :func:`placer.engine.arrangement.search.arrange` turns them into an
+made; :func:`placer.engine.arrangement.arrange` turns them into an
 :class:`ArrangementResult`.
 """
 

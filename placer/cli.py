@@ -69,7 +69,9 @@ def _parser() -> argparse.ArgumentParser:
         description="Turn a rotor's required correction into stock parts on its fixed "
                     "positions (bolt holes, blades, rim slots): the proven least residual "
                     "for each number of parts, checked against ISO 21940-11 tolerances.",
-        epilog="Exit codes: 0 within tolerance, 1 a plane outside tolerance, 2 bad input.")
+        epilog="Exit codes: 0 within tolerance, 1 a plane outside tolerance, 2 bad input, 3 "
+               "stopped at the time limit, 4 (placer field) a plan from data that fails the "
+               "checks; each command's --help says what they mean for it.")
     from placer import __version__
 
     parser.add_argument("--version", action="version", version=f"placer {__version__}")

@@ -426,12 +426,19 @@ def adapt_stored(stored: StoredCoefficients, unit: str, measure: str, angle_sens
         stored.unit, stored.measure, unit, measure)
     mine = sense_against_rotation(angle_sense, rotation)
     theirs = sense_against_rotation(stored.angle_sense, stored.rotation)
-    if theirs is None:
-        if stored.angle_sense != angle_sense:
+    if theirs is None or mine is None:
+        # One of the two senses cannot be told from rotation: only the same words will do.
+        if stored.angle_sense != angle_sense and theirs is None:
             raise CoefficientMismatch(
                 f"is '{angle_sense}' but {stored.label} counted angles {stored.angle_sense} "
                 "and its sense of rotation was not stored", key="rotor.angle_sense",
                 expected=f"'{stored.angle_sense}', as in that visit")
+        if stored.angle_sense != angle_sense:
+            raise CoefficientMismatch(
+                f"is missing: angles are counted {angle_sense} here but {stored.label} counted "
+                f"them {theirs}", key="rotor.rotation",
+                expected="the sense of rotation (clockwise or counterclockwise), to relate the "
+                "two, or angles counted as in that visit")
     elif mine != theirs:
         matrix = matrix.conj()
     return matrix, notes

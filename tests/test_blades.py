@@ -8,12 +8,12 @@ import numpy as np
 import pytest
 
 from placer.blades import ArrangementResult, Blade, Disc, Limits, check_blades
+from placer.engine.arrangement import arrange
 from placer.engine.arrangement.model import (
     build_problems,
     neighbour_pairs,
     opposite_pairs,
 )
-from placer.engine.arrangement.search import arrange
 from placer.errors import InputError
 
 

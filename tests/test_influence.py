@@ -231,6 +231,24 @@ def test_stored_clockwise_without_rotation_is_refused_when_the_sense_differs():
     assert out[0, 0] == 0.002j
 
 
+def test_clockwise_angles_without_rotation_are_never_converted_silently():
+    """This visit counts angles clockwise and gives no rotation, the stored visit counted
+    against rotation: the two cannot be related without the rotation, so the stored
+    coefficients are refused rather than conjugated or not at a guess [InfluenceCoefficients]."""
+    old = stored([[0.002j]], sense="against rotation")
+    with pytest.raises(CoefficientMismatch) as caught:
+        adapt_stored(old, "mm/s", "peak", "clockwise", None, 1475.0)
+    assert caught.value.key == "rotor.rotation"
+    # With the rotation given, clockwise angles on a clockwise machine count with rotation:
+    # the other sense, so A becomes its conjugate.
+    out, _ = adapt_stored(old, "mm/s", "peak", "clockwise", "clockwise", 1475.0)
+    assert out[0, 0] == pytest.approx(-0.002j)
+    # The same words in both visits need no rotation.
+    same = stored([[0.002j]], sense="clockwise", rotation="clockwise")
+    out, _ = adapt_stored(same, "mm/s", "peak", "clockwise", None, 1475.0)
+    assert out[0, 0] == 0.002j
+
+
 def test_trial_mass_rule_of_thumb():
     # REFERENCES.md (from memory, widely quoted): m_t·r·ω² = 0.1·M·g.
     # 42 kg, 1480 r/min, r = 210 mm: ω = 154.985 rad/s,

@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 
 from placer.blades import Blade, Disc, Limits
+from placer.engine.arrangement import arrange
 from placer.engine.arrangement import exact as exact
-from placer.engine.arrangement.search import arrange
 from placer.errors import InputError
 
 # [FathiGinjupalli1993] Table 1, best deviation 1000·|Σw·e^{iθ}|/Σw of the

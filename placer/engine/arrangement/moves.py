@@ -29,6 +29,7 @@ import numpy as np
 
 from placer.blades import ArrangementResult, Blade
 from placer.engine.arrangement.model import Problem
+from placer.engine.arrangement.search import Solved, solve, to_result
 from placer.errors import InputError
 
 CHUNK = 20_000
@@ -238,7 +239,6 @@ def fewest_swaps(blades: tuple[Blade, ...], problems: list[Problem],
     InputError
         Missing or bad current arrangement or tolerance; no arrangement found.
     """
-    from placer.engine.arrangement.search import Solved, to_result
 
     start_user = _current(blades, problems[0], current, tolerance_gmm)
     phases = [_phase(problem, start_user[problem.order], tolerance_gmm, budget, seed)
@@ -269,7 +269,6 @@ def _phase(problem: Problem, start: np.ndarray, tolerance: float, budget: int, s
 
     ``ruled_out``: no arrangement within the tolerance is fewer swaps away.
     """
-    from placer.engine.arrangement.search import solve
 
     ruled_out, work = 0, 0
     for k in range(0, len(problem.free_slots) + 1):

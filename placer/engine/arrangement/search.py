@@ -1,6 +1,8 @@
 """Arrange blades on a disc: least static unbalance, proven where the work allows.
 
-One call, :func:`arrange`, takes the blades and the disc and returns an
+The search for the least residual (:func:`solve`, one problem per
+alternation phase); the entry point is :func:`placer.engine.arrangement.arrange`,
+which takes the blades and the disc and returns an
 :class:`placer.blades.ArrangementResult`.  It is deterministic: every budget
 counts work (half-arrangements and swaps scored), every random choice comes
 from a seeded generator, so the same input gives the same output on any
@@ -8,7 +10,7 @@ machine and under any load.
 
 The search, in order (see the Notes of each module):
 
-1. Zero by construction (:mod:`arrangement_exact`): with equally spaced slots,
+1. Zero by construction (:mod:`placer.engine.arrangement.exact`): with equally spaced slots,
    no disc unbalance and weights that are decimals, an arrangement whose
    residual is exactly zero is built when the weights fill regular polygons
    or an addition grid; the zero is checked in integer arithmetic.
@@ -34,12 +36,12 @@ unbalance to compare with U_per).
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Sequence
+from collections.abc import Sequence
 from dataclasses import dataclass, replace
 
 import numpy as np
 
-from placer.blades import ArrangementResult, Blade, Disc
+from placer.blades import ArrangementResult, Blade
 from placer.engine.arrangement import exact as exact
 from placer.engine.arrangement.local import (
     descend,
@@ -53,7 +55,7 @@ from placer.engine.arrangement.mitm import (
     rearrangement_bounds,
     search_frame,
 )
-from placer.engine.arrangement.model import Problem, build_problems
+from placer.engine.arrangement.model import Problem
 from placer.errors import InputError
 
 DEFAULT_WORK = 200_000_000
@@ -98,53 +100,6 @@ class Solved:
     zero_shown: bool
     method: str
     work: int
-
-
-def arrange(blades: Iterable[Blade], disc: Disc, *, work_budget: int = DEFAULT_WORK,
-            seed: int = 0, stop_gmm: float = 0.0,
-            current: Sequence[str] | None = None,
-            tolerance_gmm: float | None = None) -> ArrangementResult:
-    """The arrangement of ``blades`` on ``disc`` with the least static unbalance.
-
-    Parameters
-    ----------
-    blades : iterable of Blade
-        One blade per slot.
-    disc : Disc
-        Slots, the disc's own unbalance, pinned blades and limits.
-    work_budget : int
-        Most work units (half-arrangements and swaps scored) [-].
-    seed : int
-        Seed of every random choice [-].
-    stop_gmm : float
-        Stop early once the residual is at most this [g·mm] (0: search on).
-    current : sequence of str or None
-        For a rotor already assembled: the blade id in each slot now.  With
-        ``tolerance_gmm``, the fewest swaps that bring the residual within it.
-    tolerance_gmm : float or None
-        Permissible static residual [g·mm] for the fewest-swaps search.
-
-    Returns
-    -------
-    ArrangementResult
-
-    Raises
-    ------
-    InputError
-        Bad blades or disc, or no arrangement keeps the limits.
-
-    References
-    ----------
-    [FathiGinjupalli1993], [ISO21940-11].
-    """
-    blades = tuple(blades)
-    problems = build_problems(blades, disc)
-    if current is not None or tolerance_gmm is not None:
-        from placer.engine.arrangement.moves import fewest_swaps
-        return fewest_swaps(blades, problems, current, tolerance_gmm, work_budget, seed)
-    share = max(1, work_budget // len(problems))
-    answers = [solve(p, share, seed, stop_gmm) for p in problems]
-    return to_result(blades, problems, answers)
 
 
 def to_result(blades: tuple[Blade, ...], problems: list[Problem], answers: list[Solved],
@@ -274,7 +229,7 @@ def solve(problem: Problem, budget: int, seed: int, stop_gmm: float = 0.0) -> So
     ----------
     [HorowitzSahni1974], [RootsOfUnity] (module docstring).
     """
-    built = construct_zero(problem, seed)
+    built = construct_zero(problem)
     if built is not None:
         return Solved(built, abs(problem.residual(built)), 0.0, True, True,
                       "zero by construction", 0)
@@ -481,15 +436,13 @@ def norm_bound(problem: Problem) -> float:
     return exact.norm_lower_bound(problem.n, largest, problem.scale)
 
 
-def construct_zero(problem: Problem, seed: int) -> np.ndarray | None:
+def construct_zero(problem: Problem) -> np.ndarray | None:
     """A zero arrangement built from polygons or a grid that keeps the limits, or None.
 
     Parameters
     ----------
     problem : Problem
         The problem; only without pins and when :func:`exact_applies`.
-    seed : int
-        Unused (the construction is deterministic) [-].
 
     Returns
     -------
