@@ -85,3 +85,17 @@ MIN_WIDTH = 40
 MAX_SLOTS = 120
 """Most slots (and blades) on one disc for ``placer blades``: the printed sheet names
 every blade round the disc, which stays legible up to this count."""
+
+MAX_FILE_BYTES = 1_000_000
+"""Largest job, catalogue, session, batch template or blade file placer reads [bytes]
+(1 MB: the largest example is a few kB; a plane of 3600 positions with an angle each is
+about 30 kB).  Larger files, and anything that is not a regular file (a pipe, a device,
+a folder), are refused before they are read (placer's rule, common practice, no source)."""
+MAX_READINGS_BYTES = 64_000_000
+"""Largest readings file of ``placer batch`` [bytes] (64 MB: about a million rotors)."""
+MAX_NAME_BYTES = 255
+"""Longest part of a path placer opens [bytes]: NAME_MAX of Linux, macOS and Windows
+file systems (from memory); a longer name is refused with one line."""
+MAX_ECHO_CHARS = 40
+"""Most characters of a value from a file an error line repeats, and the longest text a
+closest-match hint looks at."""

@@ -68,7 +68,7 @@ CASES = {
     # --- catalogues
     "catalogue-name-unknown": Case({"job.toml": _job(catalog='"washer-steel"')},
                                    key="planes[2].catalog",
-                                   contains=("washer-steel", "did you mean 'washers-steel'",
+                                   contains=("washer-steel", "expected a bundled name (closest: 'washers-steel')",
                                              *BUNDLED_NAMES)),
     "catalogue-path-missing": Case({"job.toml": _job(catalog='"drawers/none.toml"')},
                                    key="planes[2].catalog", contains=("none.toml",)),

@@ -60,9 +60,10 @@ from typing import Any
 from placer.batch import RotorReading
 from placer.errors import InputError
 from placer.geometry import polar
+from placer.io.inputs import read_text
 from placer.io.tables import number_problem, printable, whole_number_text
 from placer.job import Job
-from placer.limits import MAX_WHOLE, RANGE_EXPECTED
+from placer.limits import MAX_READINGS_BYTES, MAX_WHOLE, RANGE_EXPECTED
 from placer.units import MASS_UNITS, UNBALANCE_UNITS
 
 MAGNITUDE_FACTORS = {**{f"mass_{unit}": factor for unit, factor in MASS_UNITS.items()},
@@ -131,15 +132,7 @@ def read_readings(path: Path, template: Job) -> list[RotorReading | RowError]:
     if suffix not in (".csv", ".jsonl"):
         raise InputError(f"is a '{suffix or 'no suffix'}' file", file=str(path),
                          expected="a readings file ending in .csv or .jsonl")
-    try:
-        text = path.read_bytes().decode("utf-8-sig")
-    except FileNotFoundError:
-        raise InputError("readings file not found", file=str(path)) from None
-    except IsADirectoryError:
-        raise InputError("is a folder, not a readings file", file=str(path)) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the readings file: {printable(str(exc))}",
-                         file=str(path)) from None
+    text = read_text(path, InputError, "readings file", MAX_READINGS_BYTES)
     rows = _csv_rows(text, path, template) if suffix == ".csv" else _jsonl_rows(text, template)
     return _mark_repeats(list(rows))
 

@@ -48,6 +48,7 @@ from placer.blades import Blade, Disc, Limits
 from placer.errors import InputError, JobError
 from placer.geometry import equally_spaced_deg
 from placer.io.batchreadings import NON_FINITE, PLAIN_EXPECTED, PLAIN_NUMBER
+from placer.io.inputs import read_text
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
 from placer.io.tables import Table, printable, range_problem, read_toml
 from placer.job import Rotor
@@ -301,18 +302,7 @@ def read_blade_list(path: Path) -> tuple[list[Blade], list[int | None], list[tup
         Naming the file, the line and the column, and what was expected.
     """
     file = str(path)
-    try:
-        text = path.read_bytes().decode("utf-8-sig")
-    except FileNotFoundError:
-        raise JobError("blade list not found", file=file, expected="an existing file") from None
-    except IsADirectoryError:
-        raise JobError("is a folder, not a blade list", file=file, expected="a file") from None
-    except UnicodeDecodeError as exc:
-        raise JobError(f"cannot read the blade list: byte {exc.start} is not UTF-8", file=file,
-                       expected="a text file in UTF-8") from None
-    except OSError as exc:
-        raise JobError(f"cannot read the blade list: {printable(str(exc.strerror or exc))}",
-                       file=file, expected="a readable file") from None
+    text = read_text(path, JobError, "blade list")
     reader = csv.reader(io.StringIO(text, newline=""))
     header = _csv_header(reader, file)
     blades, slots, stays = [], [], []
