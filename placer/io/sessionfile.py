@@ -198,7 +198,11 @@ def _visit_date(visit: Table | None) -> str | None:
     if isinstance(value, dt.datetime):
         if value.tzinfo is None:
             raise visit.fail("date", "has a time but no offset", expected)
-        return value.astimezone(dt.timezone.utc).isoformat(timespec="seconds")
+        try:
+            return value.astimezone(dt.timezone.utc).isoformat(timespec="seconds")
+        except OverflowError:  # 0001-01-01T00:30:00+01:00 is in year 0 in UTC
+            raise visit.fail("date", f"is {value.isoformat()}, outside the years 1 to 9999 "
+                             "in UTC", expected) from None
     if isinstance(value, dt.date):
         return value.isoformat()
     raise visit.fail("date", f"is {type(value).__name__}", expected)
