@@ -19,7 +19,7 @@ import sys
 from pathlib import Path
 
 from placer.errors import InputError, LimitReached, PlacerError, fill_options
-from placer.io.tables import json_text
+from placer.io.tables import json_text, whole_number_text
 from placer.limits import (
     DEFAULT_EFFORT,
     DEFAULT_SAMPLES,
@@ -29,6 +29,8 @@ from placer.limits import (
     MAX_MAGNITUDE,
     MAX_PARTS_LIMIT,
     MAX_SAMPLES,
+    MAX_SEED,
+    MAX_TIME_LIMIT_S,
     MIN_MAGNITUDE,
     MIN_SAMPLES,
     MIN_WIDTH,
@@ -353,9 +355,10 @@ def _engine_options(command: argparse.ArgumentParser, time_limit_s: float | None
 def _check(args: argparse.Namespace) -> None:
     """The options commands share, checked once, before any file is read."""
     time_limit = getattr(args, "time_limit", None)
-    if time_limit is not None and not (math.isfinite(time_limit) and time_limit > 0):
+    if time_limit is not None and not (math.isfinite(time_limit)
+                                       and 0 < time_limit <= MAX_TIME_LIMIT_S):
         raise InputError(f"is {time_limit:g}", option="time_limit_s",
-                         expected="a number of seconds above zero")
+                         expected=f"a number of seconds above zero, at most {MAX_TIME_LIMIT_S:g}")
     effort = getattr(args, "effort", None)
     if effort is not None and not (math.isfinite(effort) and 0 < effort <= MAX_EFFORT):
         raise InputError(f"is {effort:g}", option="effort",
@@ -378,6 +381,10 @@ def _check(args: argparse.Namespace) -> None:
     if samples is not None and not MIN_SAMPLES <= samples <= MAX_SAMPLES:
         raise InputError(f"is {samples}", option="samples",
                          expected=f"{MIN_SAMPLES} to {MAX_SAMPLES} draws")
+    seed = getattr(args, "seed", None)
+    if seed is not None and not 0 <= seed <= MAX_SEED:
+        raise InputError(f"is {whole_number_text(seed)}", option="seed",
+                         expected=f"a whole number from 0 to {MAX_SEED}")
     max_parts = getattr(args, "max_parts", None)
     if max_parts is not None and not 1 <= max_parts <= MAX_PARTS_LIMIT:
         raise InputError(f"is {max_parts}", option="max_parts",
@@ -895,6 +902,8 @@ def main(argv: list[str] | None = None) -> int:
         return int(exc.code or 0)
     if args.command is None:
         parser.print_help()
+        print(f"placer: error: no command given (expected one of: {', '.join(HANDLERS)})",
+              file=sys.stderr)
         return EXIT_BAD_INPUT
     try:
         _check(args)

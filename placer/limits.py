@@ -36,6 +36,9 @@ DEFAULT_TIME_LIMIT_S = 300.0
 """Wall-clock time a ``placer solve`` or ``placer field`` run may take before it stops
 with a message and prints nothing as final [s].  It never decides a result: what is
 proven is decided by the counted effort (:data:`DEFAULT_EFFORT`)."""
+MAX_TIME_LIMIT_S = 7 * 24 * 3600.0
+"""Longest time limit an option may ask for [s] (a week; the system timer refuses values
+past its ``time_t``)."""
 MAX_EFFORT = 1000.0
 """Largest effort an option may ask for."""
 
@@ -69,6 +72,10 @@ MIN_SAMPLES, MAX_SAMPLES = 10, 1_000_000
 """Range of the Monte Carlo draws an option may ask for."""
 DEFAULT_SEED = 2026
 """Seed of the Monte Carlo draws, so that runs repeat."""
+MAX_SEED = 2**32 - 1
+"""Largest seed an option may give (from 0; numpy's generators take any whole number of
+zero or more, [NumPyRandom] SeedSequence: "All integer values must be non-negative"; the
+32-bit ceiling is placer's choice)."""
 
 MAX_MAGNITUDE = 1e12
 """Largest size of any number in a placer input (see the module notes)."""
