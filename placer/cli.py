@@ -14,6 +14,7 @@ from __future__ import annotations
 import argparse
 import contextlib
 import math
+import os
 import signal
 import sys
 from pathlib import Path
@@ -54,6 +55,7 @@ FLAGS = {
 }
 """How the command line shows an argument the library names (see placer.errors)."""
 FLAGS["remove"] = "--remove"
+FLAGS.update(job="JOB", session="SESSION", template="TEMPLATE", readings="READINGS")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -352,8 +354,21 @@ def _engine_options(command: argparse.ArgumentParser, time_limit_s: float | None
 
 
 
+PATH_ARGUMENTS = ("job", "session", "file", "template", "readings", "sheet", "out", "db",
+                  "folder")
+"""Arguments that name a file or a folder, checked for names no file system takes."""
+
+
 def _check(args: argparse.Namespace) -> None:
     """The options commands share, checked once, before any file is read."""
+    from placer.io.inputs import NAME_EXPECTED, name_problem, shown_path
+
+    for name in PATH_ARGUMENTS:
+        value = getattr(args, name, None)
+        problem = None if value is None else name_problem(value)
+        if problem is not None:
+            raise InputError(f"the path {problem}", file=shown_path(str(value)),
+                             option=name, expected=NAME_EXPECTED)
     time_limit = getattr(args, "time_limit", None)
     if time_limit is not None and not (math.isfinite(time_limit)
                                        and 0 < time_limit <= MAX_TIME_LIMIT_S):
@@ -601,8 +616,6 @@ def _field(args: argparse.Namespace) -> int:
             sys.stdout.flush()
         except BrokenPipeError:
             # The reader went away (| head): the visit is still saved below.
-            import os
-
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         if pages is not None:
             from placer.views.report.output import write_pages
@@ -919,3 +932,10 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except BrokenPipeError:
         return EXIT_OK
+    except OSError as exc:  # a path the system refuses, wherever it was opened
+        from placer.io.inputs import shown_path
+
+        where = f"{shown_path(os.fsdecode(exc.filename))}: " if exc.filename else ""
+        print(f"placer: error: {where}{exc.strerror or type(exc).__name__} (expected a path "
+              "placer may read or write)", file=sys.stderr)
+        return EXIT_BAD_INPUT

@@ -525,8 +525,12 @@ def job_tolerances(job: Job) -> JobTolerances:
     notes: tuple[str, ...] = ()
     if all(given):
         u_per = permissible_residual_gmm(rotor.grade_mm_s, rotor.mass_kg, rotor.service_rpm)
-        shares = tuple(allocate_to_planes(u_per, [p.geometry.name for p in job.planes],
-                                          rotor.com_distances_mm))
+        try:
+            shares = tuple(allocate_to_planes(u_per, [p.geometry.name for p in job.planes],
+                                              rotor.com_distances_mm))
+        except ToleranceError as exc:  # the lever rule's, named as the job file has it
+            raise ToleranceError(exc.detail, file=job.source, key="rotor.com_distances_mm",
+                                 expected=exc.expected) from None
     elif any(given):
         notes = ("grade, the rotor's mass and service_rpm are all needed for a tolerance from "
                  "the balance quality grade; planes use their own tolerance only",)

@@ -47,7 +47,12 @@ from placer.arrange import MOVES, BladeJob, TrimPlane
 from placer.blades import Blade, Disc, Limits
 from placer.errors import InputError, JobError
 from placer.geometry import equally_spaced_deg
-from placer.io.batchreadings import CELL_BLANKS, NON_FINITE, PLAIN_EXPECTED, PLAIN_NUMBER
+from placer.io.batchreadings import (
+    CELL_BLANKS,
+    NON_FINITE,
+    PLAIN_EXPECTED,
+    PLAIN_NUMBER,
+)
 from placer.io.inputs import read_text
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
 from placer.io.tables import Table, printable, range_problem, read_toml
