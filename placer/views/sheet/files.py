@@ -29,7 +29,8 @@ def require_matplotlib() -> None:
     import importlib.util
 
     if importlib.util.find_spec("matplotlib") is None:
-        raise InputError(MATPLOTLIB_MISSING)
+        raise InputError(MATPLOTLIB_MISSING,
+                         expected="matplotlib installed (pip install matplotlib)")
 
 
 def sheet_paths(path: Path, n_planes: int, *, force: bool = False) -> list[Path]:
