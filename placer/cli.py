@@ -19,7 +19,7 @@ import signal
 import sys
 from pathlib import Path
 
-from placer.errors import InputError, LimitReached, PlacerError, fill_options
+from placer.errors import InputError, LimitReached, PlacerError, fill_options, shown
 from placer.io.tables import json_text, whole_number_text
 from placer.limits import (
     DEFAULT_EFFORT,
@@ -510,6 +510,7 @@ def _solve(args: argparse.Namespace) -> int:
         pages = write_sheet(result, Path(args.sheet), force=args.force)
         files = ", ".join(dict.fromkeys(str(page.path) for page in pages))
         print(f"placer: sheet written to {files}", file=sys.stderr)
+        _say_undrawn()
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
 
@@ -623,6 +624,7 @@ def _field(args: argparse.Namespace) -> int:
             files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
             print(f"placer: visit report written to {', '.join(map(str, files))}",
                   file=sys.stderr)
+            _say_undrawn()
         if db is not None:
             _save_once(db, record, session.machine_id, path)
     finally:
@@ -671,6 +673,17 @@ def _machines(args: argparse.Namespace) -> int:
     else:
         _print_plain(render_machines, args.width, rows, str(path), last)
     return EXIT_OK
+
+
+def _say_undrawn() -> None:
+    """Say once which text of a sheet just written had characters its font cannot draw."""
+    from placer.views.sheet.glyphs import REPLACEMENT, take_undrawn
+
+    texts = take_undrawn()
+    if texts:
+        others = f" (and {len(texts) - 1} other texts)" if len(texts) > 1 else ""
+        print(f"placer: note: the sheet's font cannot draw some characters of "
+              f"'{shown(texts[0])}'{others}; they are shown as '{REPLACEMENT}'", file=sys.stderr)
 
 
 def _say_rolled_back(db) -> None:
@@ -738,6 +751,7 @@ def _history(args: argparse.Namespace) -> int:
             files = write_report(visit_report(record), Path(args.sheet), force=args.force)
             print(f"placer: visit report written to {', '.join(map(str, files))}",
                   file=sys.stderr)
+            _say_undrawn()
         return EXIT_OK
     if args.json:
         print(json_text(visits_list(visits), indent=2))
@@ -881,6 +895,7 @@ def _blades(args: argparse.Namespace) -> int:
         paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
         print(f"placer: sheet written to {', '.join(dict.fromkeys(map(str, paths)))}",
               file=sys.stderr)
+        _say_undrawn()
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
 
@@ -920,6 +935,9 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_BAD_INPUT
     try:
         _check(args)
+        from placer.views.sheet.glyphs import take_undrawn
+
+        take_undrawn()  # nothing left from an earlier run in this process
         return HANDLERS[args.command](args)
     except LimitReached as exc:
         print(f"placer: stopped: {exc.one_line(FLAGS)}", file=sys.stderr)
