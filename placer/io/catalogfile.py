@@ -178,9 +178,10 @@ def resolve_catalog(reference: str, base_dir: Path, job_file: str, key: str) -> 
     candidate = Path(reference)
     if not candidate.is_absolute():
         candidate = base_dir / candidate
-    if _is_file(candidate):
-        return candidate
-    if reference.endswith(".toml") or "/" in reference or "\\" in reference:
+    explicit = reference.endswith(".toml") or "/" in reference or "\\" in reference
+    if _is_file(candidate) or explicit and _exists(candidate):
+        return candidate  # a folder or a pipe is refused by the reader, in one line
+    if explicit:
         raise CatalogError(f"catalogue file '{shown_path(str(candidate))}' not found", file=job_file,
                            key=key, expected="a path relative to the job file, or a bundled name")
     bundled = bundled_dir() / f"{reference}.toml"
@@ -192,6 +193,14 @@ def resolve_catalog(reference: str, base_dir: Path, job_file: str, key: str) -> 
     raise CatalogError(f"no catalogue file or bundled catalogue '{shown(reference)}'",
                        file=job_file, key=key,
                        expected=f"a bundled name{hint} or a file path; bundled: {', '.join(names)}")
+
+
+def _exists(path: Path) -> bool:
+    """Whether something is at ``path``; a path the system cannot look up has nothing."""
+    try:
+        return path.exists()
+    except (OSError, ValueError):
+        return False
 
 
 def _is_file(path: Path) -> bool:
