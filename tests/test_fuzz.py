@@ -66,15 +66,20 @@ TOML_SNIPPETS = ["0", "-1", "1e308", "-1e-308", "1e400", "nan", "inf", "-inf", "
                  "{ a = 1 }", '"G3"', '"../x.toml"', "[nan]", "[[]]", "9e9", '"\\u0000"', "720",
                  "[0, 0, 0]", "8", "mass_g", "gmm", "angle_deg", "capacity", HUGE_INT,
                  "-" + HUGE_INT, LONGEST_INT, "[" * 3000 + "]" * 3000,
-                 "{ a = " * 600 + "1" + " }" * 600, "1_000", "0x10", "1e-13", "5e-324"]
+                 "{ a = " * 600 + "1" + " }" * 600, "1_000", "0x10", "1e-13", "5e-324",
+                 # text on one line, dates, names no file system takes (issue 11)
+                 '"G6.3\\u2028"', '"x\\n"', '"\\u0085"', '"$x^$"', "0001-01-01T00:30:00+01:00",
+                 "9999-12-31T23:30:00-01:00", '"' + "n" * 300 + '"', '"' + "d" * 300 + '/x.toml"']
 CSV_SNIPPETS = ["", " ", "0", "-0", "-1", "1e308", "1e400", "1e-400", "nan", "NaN", "inf",
                 "-Infinity", "1_000", "0x10", "1.5.2", "\u0661\u0662", "12,5", '"12.5"',
                 HUGE_INT, LONGEST_INT, "WM-1", "W" * 50, "serial", "1_mass_g", "1_gmm",
-                "1_angle_deg", "2_gmm", "\x00", "'", '"', "\ufeff"]
+                "1_angle_deg", "2_gmm", "\x00", "'", '"', "\ufeff", "serial\u2028", "W\u2028",
+                "\u2029", "\x85"]
 JSON_SNIPPETS = ["0", "-0", "-0.0", "1e308", "1e400", "-1e400", "NaN", "Infinity",
                  "-Infinity", '""', '"12.5"', "null", "true", "[]", "{}", "[[]]", HUGE_INT,
                  "-" + HUGE_INT, LONGEST_INT, "[" * 100_000, "{" * 5000, '"serial"',
-                 '"planes"', '"mass_g"', '"gmm"', '"angle_deg"', '"x"', "1e-13", '"WM 1"']
+                 '"planes"', '"mass_g"', '"gmm"', '"angle_deg"', '"x"', "1e-13", '"WM 1"',
+                 '"B\\ud800"', '"\\udfff"', '"serial": "Z", "serial"', '"W\\u2028"']
 
 SOLVE_FILES = ["supply-fan.toml", "wheel-rim.toml", "blade-fan.toml", "adhesive-hub.toml",
                "pump-impeller-rework.toml"]
@@ -413,6 +418,28 @@ def test_fuzzed_batch_readings_csv(tmp_path, capsys, data):
 def test_fuzzed_batch_readings_jsonl(tmp_path, capsys, data):
     text = mutate_jsonl(rows_jsonl(), data)
     fuzz_once(capsys, tmp_path, "jsonl", text.encode("utf-8"), "readings-jsonl")
+
+
+@pytest.mark.parametrize("kind", ["job", "catalog", "session", "template", "csv", "jsonl"])
+@FUZZ
+@given(data=st.data())
+def test_fuzzed_files_with_a_byte_order_mark(tmp_path, capsys, kind, data):
+    # [Unicode] 23.8: EF BB BF may start any UTF-8 text; every kind reads it (issue 11).
+    if kind == "csv":
+        text = mutate_csv(rows_csv(), data)
+    elif kind == "jsonl":
+        text = mutate_jsonl(rows_jsonl(), data)
+    else:
+        text = mutate(BOM_SEEDS[kind](), data)
+    fuzz_once(capsys, tmp_path, kind, "\ufeff".encode() + text.encode("utf-8"), f"bom-{kind}")
+
+
+BOM_SEEDS = {
+    "job": lambda: (ROOT / "examples" / "supply-fan.toml").read_text(encoding="utf-8"),
+    "catalog": lambda: (ROOT / "catalogs" / "washers-steel.toml").read_text(encoding="utf-8"),
+    "session": lambda: (ROOT / "examples" / "exhaust-fan-visit.toml").read_text(encoding="utf-8"),
+    "template": lambda: ROWS_TEMPLATE,
+}
 
 
 # ---------------------------------------------------------------- random bytes
