@@ -39,7 +39,18 @@ NAME_EXPECTED = f"a name or a path of at most {MAX_NAME_BYTES} bytes per part"
 
 
 def size_text(limit_bytes: int) -> str:
-    """A byte limit as text: "1 MB", "64 MB" (decimal megabytes), else in bytes."""
+    """A byte limit as text: "1 MB", "64 MB" (decimal megabytes), else in bytes.
+
+    Parameters
+    ----------
+    limit_bytes : int
+        The limit [bytes].
+
+    Returns
+    -------
+    str
+        The limit for a message.
+    """
     if limit_bytes >= 1_000_000 and limit_bytes % 1_000_000 == 0:
         return f"{limit_bytes // 1_000_000} MB"
     return f"{limit_bytes} bytes"
@@ -158,8 +169,19 @@ def _open_error(exc: OSError, file: str, error: type[InputError], what: str,
 
 
 def shown_path(file: str) -> str:
-    """A path short enough for an error line: its first and last
-    :data:`placer.limits.MAX_ECHO_CHARS` characters when it is long, printable."""
+    """A path short enough for an error line.
+
+    Parameters
+    ----------
+    file : str
+        The path as given.
+
+    Returns
+    -------
+    str
+        Its first and last :data:`placer.limits.MAX_ECHO_CHARS` characters when it is
+        long, printable.
+    """
     if len(file) > 2 * MAX_ECHO_CHARS + 20:
         file = f"{file[:MAX_ECHO_CHARS]}...{file[-MAX_ECHO_CHARS:]}"
     return printable(file)
