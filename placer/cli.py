@@ -719,7 +719,7 @@ def _history(args: argparse.Namespace) -> int:
         if visits and chosen is not None:
             ids = [v.id for v in visits]
             if chosen not in ids:
-                raise InputError(f"machine '{args.machine}' has no visit {chosen}",
+                raise InputError(f"machine '{shown(args.machine)}' has no visit {chosen}",
                                  option="visit" if args.visit is not None else "remove",
                                  expected="one of its visits: " + ", ".join(map(str, ids)))
             if args.remove is not None:
@@ -727,16 +727,17 @@ def _history(args: argparse.Namespace) -> int:
                                      path)
             record = db.visit(args.visit)
     if not visits:
-        import difflib
+        from placer.io.tables import closest
 
         with_visits = [m.id for m in machines if m.visits]
         if args.machine in known:
-            raise InputError(f"machine '{args.machine}' has no visit stored", file=str(path),
+            raise InputError(f"machine '{shown(args.machine)}' has no visit stored",
+                             file=str(path),
                              key="MACHINE", expected="a machine with visits: "
                              + (", ".join(with_visits) or "none stored"))
-        close = difflib.get_close_matches(args.machine, known, n=1)
-        raise InputError(f"no machine '{args.machine}'"
-                         + (f"; did you mean '{close[0]}'?" if close else ""), file=str(path),
+        close = closest(args.machine, known)
+        raise InputError(f"no machine '{shown(args.machine)}'"
+                         + (f"; did you mean '{close}'?" if close else ""), file=str(path),
                          key="MACHINE", expected="one of: " + (", ".join(known) or "none stored"))
     if args.visit is not None:
         saved_at = next(v.saved_at for v in visits if v.id == args.visit)
