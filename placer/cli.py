@@ -19,7 +19,14 @@ import signal
 import sys
 from pathlib import Path
 
-from placer.errors import InputError, LimitReached, PlacerError, fill_options, shown
+from placer.errors import (
+    InputError,
+    LimitReached,
+    PlacerError,
+    fill_options,
+    printable,
+    shown,
+)
 from placer.io.tables import json_text, whole_number_text
 from placer.limits import (
     DEFAULT_EFFORT,
@@ -369,6 +376,13 @@ def _check(args: argparse.Namespace) -> None:
         if problem is not None:
             raise InputError(f"the path {problem}", file=shown_path(str(value)),
                              option=name, expected=NAME_EXPECTED)
+    if args.command == "new" and getattr(args, "name", None) is not None:
+        from placer.io.tables import LINE_EXPECTED, odd_character
+
+        odd = odd_character(args.name)
+        if odd is not None:
+            raise InputError(f"holds the character {printable(odd)}", option="name",
+                             expected=LINE_EXPECTED)
     time_limit = getattr(args, "time_limit", None)
     if time_limit is not None and not (math.isfinite(time_limit)
                                        and 0 < time_limit <= MAX_TIME_LIMIT_S):

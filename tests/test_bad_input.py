@@ -507,3 +507,11 @@ def test_no_command_prints_the_help_and_says_so_on_stderr(run_cli):
     assert len(lines) == 1 and lines[0].startswith("placer: error: no command given")
     for command in ("solve", "field", "batch", "blades", "new"):
         assert command in lines[0]
+
+
+def test_a_new_file_refuses_a_name_it_could_not_read_back(tmp_path, run_cli):
+    # `placer new` writes the name into the file; the reader refuses a line separator.
+    code, _, err = run_cli("new", "job", tmp_path / "new.toml", "--name", "fan\u2028B",
+                           "--positions", "12", "--radius-mm", "100")
+    assert code == 2 and len(err.splitlines()) == 1 and "--name" in err and "\\u2028" in err
+    assert not (tmp_path / "new.toml").exists()
