@@ -515,3 +515,22 @@ def test_a_new_file_refuses_a_name_it_could_not_read_back(tmp_path, run_cli):
                            "--positions", "12", "--radius-mm", "100")
     assert code == 2 and len(err.splitlines()) == 1 and "--name" in err and "\\u2028" in err
     assert not (tmp_path / "new.toml").exists()
+
+
+def test_an_os_error_anywhere_ends_as_one_line(tmp_path, run_cli, monkeypatch):
+    # A path the system refuses where no reader checked it first (here: the disk is full
+    # when the sheet is written) is one line naming the file, exit code 2.
+    import errno
+
+    import placer.views.sheet as sheet
+
+    def full(*args, **kwargs):
+        raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(tmp_path / "s.pdf"))
+
+    monkeypatch.setattr(sheet, "write_sheet", full)
+    (tmp_path / "job.toml").write_text(_job(), encoding="utf-8")
+    code, _, err = run_cli("solve", tmp_path / "job.toml", "--sheet", tmp_path / "s.pdf")
+    lines = err.strip().splitlines()
+    assert code == 2 and len(lines) == 1 and "Traceback" not in err
+    assert lines[0] == (f"placer: error: {tmp_path / 's.pdf'}: {os.strerror(errno.ENOSPC)} "
+                        "(expected a path placer may read or write)")
