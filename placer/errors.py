@@ -14,6 +14,8 @@ from __future__ import annotations
 import re
 from collections.abc import Mapping
 
+from placer.limits import MAX_ECHO_CHARS
+
 _OPTION = re.compile(r"\{opt:([a-z_]+)\}")
 """An argument named inside a message: ``{opt:force}``."""
 
@@ -29,6 +31,47 @@ def fill_options(text: str, flags: Mapping[str, str] | None = None) -> str:
         How to show an argument: its Python name -> what the user typed.
     """
     return _OPTION.sub(lambda m: (flags or {}).get(m.group(1), m.group(1)), text)
+
+
+def printable(text: str) -> str:
+    """``text`` with every character that is not printable written as its escape.
+
+    An error line must stay one line: line and paragraph separators
+    (``\\n``, ``\\r``, U+0085, U+2028, ...), other control and unassigned
+    characters from a file are shown as ``\\u2028`` etc. (:meth:`str.isprintable`).
+
+    Parameters
+    ----------
+    text : str
+        Text from a file or an argument.
+
+    Returns
+    -------
+    str
+        The text, on one line.
+    """
+    if text.isprintable():
+        return text
+    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] if ch != "'" else ch
+                   for ch in text)
+
+
+def shown(text: str, limit: int = MAX_ECHO_CHARS) -> str:
+    """``text`` as an error line repeats it: printable, at most ``limit`` characters and "...".
+
+    Parameters
+    ----------
+    text : str
+        Text from a file or an argument, of any length.
+    limit : int
+        Most characters kept (:data:`placer.limits.MAX_ECHO_CHARS`).
+
+    Returns
+    -------
+    str
+        The text, cut after ``limit`` characters (marked "..."), on one line.
+    """
+    return printable(text if len(text) <= limit else text[:limit] + "...")
 
 
 class PlacerError(Exception):

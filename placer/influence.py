@@ -172,7 +172,9 @@ def coefficients_from_runs(reference: np.ndarray, readings: np.ndarray,
     rank = np.linalg.matrix_rank(weights_gmm) if n_runs else 0
     if rank < n_planes:
         raise InputError(f"the trial runs move only {rank} of {n_planes} planes independently; "
-                         "each plane needs a trial run of its own", key="runs")
+                         "each plane needs a trial run of its own", key="runs",
+                         expected="at least one trial run per plane, the trial weights of "
+                                  "no run a combination of the others'")
     solution, *_ = np.linalg.lstsq(weights_gmm, delta, rcond=None)
     return checked_coefficients(solution.T, channel_weights)
 

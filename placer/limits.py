@@ -36,6 +36,9 @@ DEFAULT_TIME_LIMIT_S = 300.0
 """Wall-clock time a ``placer solve`` or ``placer field`` run may take before it stops
 with a message and prints nothing as final [s].  It never decides a result: what is
 proven is decided by the counted effort (:data:`DEFAULT_EFFORT`)."""
+MAX_TIME_LIMIT_S = 7 * 24 * 3600.0
+"""Longest time limit an option may ask for [s] (a week; the system timer refuses values
+past its ``time_t``)."""
 MAX_EFFORT = 1000.0
 """Largest effort an option may ask for."""
 
@@ -69,6 +72,10 @@ MIN_SAMPLES, MAX_SAMPLES = 10, 1_000_000
 """Range of the Monte Carlo draws an option may ask for."""
 DEFAULT_SEED = 2026
 """Seed of the Monte Carlo draws, so that runs repeat."""
+MAX_SEED = 2**32 - 1
+"""Largest seed an option may give (from 0; numpy's generators take any whole number of
+zero or more, [NumPyRandom] SeedSequence: "All integer values must be non-negative"; the
+32-bit ceiling is placer's choice)."""
 
 MAX_MAGNITUDE = 1e12
 """Largest size of any number in a placer input (see the module notes)."""
@@ -85,3 +92,17 @@ MIN_WIDTH = 40
 MAX_SLOTS = 120
 """Most slots (and blades) on one disc for ``placer blades``: the printed sheet names
 every blade round the disc, which stays legible up to this count."""
+
+MAX_FILE_BYTES = 1_000_000
+"""Largest job, catalogue, session, batch template or blade file placer reads [bytes]
+(1 MB: the largest example is a few kB; a plane of 3600 positions with an angle each is
+about 30 kB).  Larger files, and anything that is not a regular file (a pipe, a device,
+a folder), are refused before they are read (placer's rule, common practice, no source)."""
+MAX_READINGS_BYTES = 64_000_000
+"""Largest readings file of ``placer batch`` [bytes] (64 MB: about a million rotors)."""
+MAX_NAME_BYTES = 255
+"""Longest part of a path placer opens [bytes]: NAME_MAX of Linux, macOS and Windows
+file systems (from memory); a longer name is refused with one line."""
+MAX_ECHO_CHARS = 40
+"""Most characters of a value from a file an error line repeats, and the longest text a
+closest-match hint looks at."""

@@ -319,9 +319,10 @@ def utc_label(started_at: str) -> str:
     if len(started_at.strip()) == 10:
         return when.date().isoformat()
     if when.tzinfo is None:
-        return when.strftime("%Y-%m-%d %H:%M")
+        return when.isoformat(sep=" ", timespec="minutes")  # %Y drops year 1's zeros
     try:
-        return when.astimezone(timezone.utc).strftime("%Y-%m-%d %H:%M UTC")
+        return when.astimezone(timezone.utc).replace(tzinfo=None).isoformat(
+            sep=" ", timespec="minutes") + " UTC"
     except OverflowError:  # its UTC time falls outside years 1 to 9999
         return str(started_at)
 

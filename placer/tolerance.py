@@ -24,8 +24,9 @@ import numbers
 from collections.abc import Sequence
 from dataclasses import dataclass
 
-from placer.errors import ToleranceError
+from placer.errors import ToleranceError, shown
 from placer.job import Job
+from placer.limits import MAX_ECHO_CHARS
 
 __all__ = [
     "BALANCE_QUALITY_GRADES_MM_S",
@@ -106,8 +107,12 @@ _GRADE_LABELS: tuple[str, ...] = tuple(_grade_label(g) for g in BALANCE_QUALITY_
 _VALID_GRADES_TEXT = ", ".join(_GRADE_LABELS)
 
 
-def _unknown_grade(text: str, value: float | None) -> ToleranceError:
-    """Build the error for a grade that is not in the standard's list."""
+def _unknown_grade(text: str, value: float | None, hint: bool = True) -> ToleranceError:
+    """Build the error for a grade that is not in the standard's list (``hint``: with the
+    closest spelling and the nearest in value)."""
+    if not hint:
+        return ToleranceError(f"unknown balance quality grade '{text}'", key="grade",
+                              expected=f"one of the ISO 21940-11 grades {_VALID_GRADES_TEXT}")
     normalised = "G" + text if text and text[0] not in "Gg" else text.upper()
     has_value = value is not None and math.isfinite(value) and value > 0.0
 
@@ -180,6 +185,10 @@ def parse_grade(text_or_number: str | float) -> float:
         value = float(text_or_number)
         text = f"{value:g}"
     elif isinstance(text_or_number, str):
+        if len(text_or_number) > MAX_ECHO_CHARS or not text_or_number.replace(" ", "").isprintable():
+            # Too long to be a grade, or holding a control or line-separator character:
+            # named in a short printable form, compared with nothing.
+            raise _unknown_grade(shown(text_or_number), None, hint=False)
         text = "".join(text_or_number.split())
         digits = text[1:] if text[:1] in ("G", "g") else text
         try:
@@ -516,8 +525,12 @@ def job_tolerances(job: Job) -> JobTolerances:
     notes: tuple[str, ...] = ()
     if all(given):
         u_per = permissible_residual_gmm(rotor.grade_mm_s, rotor.mass_kg, rotor.service_rpm)
-        shares = tuple(allocate_to_planes(u_per, [p.geometry.name for p in job.planes],
-                                          rotor.com_distances_mm))
+        try:
+            shares = tuple(allocate_to_planes(u_per, [p.geometry.name for p in job.planes],
+                                              rotor.com_distances_mm))
+        except ToleranceError as exc:  # the lever rule's, named as the job file has it
+            raise ToleranceError(exc.detail, file=job.source, key="rotor.com_distances_mm",
+                                 expected=exc.expected) from None
     elif any(given):
         notes = ("grade, the rotor's mass and service_rpm are all needed for a tolerance from "
                  "the balance quality grade; planes use their own tolerance only",)

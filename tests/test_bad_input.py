@@ -68,7 +68,7 @@ CASES = {
     # --- catalogues
     "catalogue-name-unknown": Case({"job.toml": _job(catalog='"washer-steel"')},
                                    key="planes[2].catalog",
-                                   contains=("washer-steel", "did you mean 'washers-steel'",
+                                   contains=("washer-steel", "expected a bundled name (closest: 'washers-steel')",
                                              *BUNDLED_NAMES)),
     "catalogue-path-missing": Case({"job.toml": _job(catalog='"drawers/none.toml"')},
                                    key="planes[2].catalog", contains=("none.toml",)),
@@ -405,3 +405,132 @@ def test_trial_run_that_changed_nothing_prints_strict_json(run_cli, tmp_path):
     assert "Infinity" not in out and "NaN" not in out
     data = _strict(out)
     assert data["condition_number"] is None and data["plan_from_failed_data"] is True
+
+
+# ----------------------------------------------------------------------------------
+# Text values, dates and options (issue 11, the input side).  A single-line text value
+# (a name, a grade, an id) may not hold control or line-separator characters
+# ([Unicode] 5.8: U+2028, U+2029, U+0085 and the C0 controls end a line); a date whose
+# UTC value falls outside years 1 to 9999 cannot be held by Python's datetime
+# ([PythonDocs] datetime.MINYEAR and MAXYEAR); numpy's seed is a whole number of zero
+# or more ([NumPyRandom]).
+TEXT_CASES = {
+    "grade-line-separator-at-end": Case({"job.toml": _job(rotor={"grade": '"G6.3\\u2028"'})},
+                                        key="rotor.grade", contains=("\\u2028",)),
+    "grade-new-line-at-end": Case({"job.toml": _job(rotor={"grade": '"G6.3\\n"'})},
+                                  key="rotor.grade", contains=("\\n",)),
+    "grade-paragraph-separator": Case({"job.toml": _job(rotor={"grade": '"G\\u20296.3"'})},
+                                      key="rotor.grade", contains=("\\u2029",)),
+    "rotor-name-next-line-character": Case({"job.toml": _job(rotor={"name": '"fan\\u0085"'})},
+                                           key="rotor.name", contains=("\\x85",)),
+    "plane-name-new-line": Case({"job.toml": _job(name='"free\\nside"')}, key="planes[2].name"),
+    "catalogue-item-id-new-line": Case({"job.toml": DRAWER,
+                                        "drawer.toml": _catalog(("A\\n", "2.0"))},
+                                       file="drawer.toml", key="items[1].id"),
+    "catalogue-name-tab": Case({"job.toml": DRAWER, "drawer.toml": _catalog(("A", "2.0"))
+                                .replace('name = "test drawer"', 'name = "test\\tdrawer"')},
+                               file="drawer.toml", key="name"),
+    "visit-date-before-year-1-in-utc": _session_case(
+        "date = 2025-11-04T09:30:00Z", "date = 0001-01-01T00:30:00+01:00", "visit.date"),
+    "visit-date-after-year-9999-in-utc": _session_case(
+        "date = 2025-11-04T09:30:00Z", "date = 9999-12-31T23:30:00-01:00", "visit.date"),
+    "visit-date-text-before-year-1": _session_case(
+        "date = 2025-11-04T09:30:00Z", 'date = "0001-01-01T00:00:00+00:01"', "visit.date"),
+    "com-distances-both-zero": Case({"job.toml": _job(rotor={"com_distances_mm": "[0, 0]"})},
+                                    key="rotor.com_distances_mm"),
+    "seed-negative": Case({"job.toml": _job()}, args=("solve", "{job}", "--seed", "-1"),
+                          file=None, key="--seed", contains=("-1",)),
+    "seed-past-32-bits": Case({"job.toml": _job()},
+                              args=("solve", "{job}", "--seed", str(2**32)),
+                              file=None, key="--seed"),
+    "time-limit-past-a-week": Case({"job.toml": _job()},
+                                   args=("solve", "{job}", "--time-limit", "1e20"),
+                                   file=None, key="--time-limit"),
+}
+assert "date = 2025-11-04T09:30:00Z" in VISIT
+
+
+@pytest.mark.parametrize("case", TEXT_CASES.values(), ids=TEXT_CASES.keys())
+def test_text_dates_and_options(case, tmp_path, run_cli):
+    args = _prepare(case, tmp_path)
+    before = _snapshot(tmp_path)
+    code, out, err = run_cli(*args)
+    assert _snapshot(tmp_path) == before, "an input file was changed"
+    _check_error_line(case, code, out, err, tmp_path)
+
+
+def test_good_seeds_at_the_ends_of_the_range(tmp_path, run_cli):
+    (tmp_path / "job.toml").write_text(_job(), encoding="utf-8")
+    for seed in ("0", str(2**32 - 1)):
+        code, _, err = run_cli("solve", tmp_path / "job.toml", "--seed", seed, "--min-chance",
+                               "0.5", "--samples", "100", "--json")
+        assert code in (0, 1) and err == "", err
+
+
+@pytest.mark.parametrize("grade", ["G6.3 ", " g 6.3", "G 6.3"])
+def test_blanks_around_a_grade_are_still_accepted(grade, tmp_path, run_cli):
+    # parse_grade's documented forms: a leading G or g and blanks are allowed.
+    code, _, err = run_cli("tolerance", "--grade", grade, "--mass-kg", "10", "--rpm", "1500")
+    assert code == 0 and err == "", err
+
+
+def test_a_grade_of_ten_megabytes_is_refused_at_once(tmp_path, run_cli):
+    import time
+
+    grade = "G" * 10_000_000
+    start = time.perf_counter()
+    code, out, err = run_cli("tolerance", "--grade", grade, "--mass-kg", "10", "--rpm", "1500")
+    assert time.perf_counter() - start < 5.0
+    assert code == 2 and len(err.splitlines()) == 1 and len(err) < 400, err[:400]
+    assert "GGGG..." in err and "expected one of the ISO 21940-11 grades" in err
+    # In a file: as long as a file may be (1 MB), the same.
+    (tmp_path / "job.toml").write_text(_job(rotor={"grade": '"' + "G" * 900_000 + '"'}),
+                                       encoding="utf-8")
+    start = time.perf_counter()
+    code, out, err = run_cli("solve", tmp_path / "job.toml")
+    assert time.perf_counter() - start < 5.0
+    assert code == 2 and len(err.splitlines()) == 1 and len(err) < 600, err[:600]
+    assert "rotor.grade" in err
+
+
+def test_a_long_unknown_key_is_echoed_short(tmp_path, run_cli):
+    (tmp_path / "job.toml").write_text(_job(rotor={"k" * 100_000: "1"}), encoding="utf-8")
+    code, _, err = run_cli("solve", tmp_path / "job.toml")
+    assert code == 2 and len(err) < 600 and "kkk..." in err and "unknown key" in err
+
+
+def test_no_command_prints_the_help_and_says_so_on_stderr(run_cli):
+    code, out, err = run_cli()
+    assert code == 2
+    assert out.startswith("usage: placer")
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("placer: error: no command given")
+    for command in ("solve", "field", "batch", "blades", "new"):
+        assert command in lines[0]
+
+
+def test_a_new_file_refuses_a_name_it_could_not_read_back(tmp_path, run_cli):
+    # `placer new` writes the name into the file; the reader refuses a line separator.
+    code, _, err = run_cli("new", "job", tmp_path / "new.toml", "--name", "fan\u2028B",
+                           "--positions", "12", "--radius-mm", "100")
+    assert code == 2 and len(err.splitlines()) == 1 and "--name" in err and "\\u2028" in err
+    assert not (tmp_path / "new.toml").exists()
+
+
+def test_an_os_error_anywhere_ends_as_one_line(tmp_path, run_cli, monkeypatch):
+    # A path the system refuses where no reader checked it first (here: the disk is full
+    # when the sheet is written) is one line naming the file, exit code 2.
+    import errno
+
+    import placer.views.sheet as sheet
+
+    def full(*args, **kwargs):
+        raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC), str(tmp_path / "s.pdf"))
+
+    monkeypatch.setattr(sheet, "write_sheet", full)
+    (tmp_path / "job.toml").write_text(_job(), encoding="utf-8")
+    code, _, err = run_cli("solve", tmp_path / "job.toml", "--sheet", tmp_path / "s.pdf")
+    lines = err.strip().splitlines()
+    assert code == 2 and len(lines) == 1 and "Traceback" not in err
+    assert lines[0] == (f"placer: error: {tmp_path / 's.pdf'}: {os.strerror(errno.ENOSPC)} "
+                        "(expected a path placer may read or write)")

@@ -66,15 +66,20 @@ TOML_SNIPPETS = ["0", "-1", "1e308", "-1e-308", "1e400", "nan", "inf", "-inf", "
                  "{ a = 1 }", '"G3"', '"../x.toml"', "[nan]", "[[]]", "9e9", '"\\u0000"', "720",
                  "[0, 0, 0]", "8", "mass_g", "gmm", "angle_deg", "capacity", HUGE_INT,
                  "-" + HUGE_INT, LONGEST_INT, "[" * 3000 + "]" * 3000,
-                 "{ a = " * 600 + "1" + " }" * 600, "1_000", "0x10", "1e-13", "5e-324"]
+                 "{ a = " * 600 + "1" + " }" * 600, "1_000", "0x10", "1e-13", "5e-324",
+                 # text on one line, dates, names no file system takes (issue 11)
+                 '"G6.3\\u2028"', '"x\\n"', '"\\u0085"', '"$x^$"', "0001-01-01T00:30:00+01:00",
+                 "9999-12-31T23:30:00-01:00", '"' + "n" * 300 + '"', '"' + "d" * 300 + '/x.toml"']
 CSV_SNIPPETS = ["", " ", "0", "-0", "-1", "1e308", "1e400", "1e-400", "nan", "NaN", "inf",
                 "-Infinity", "1_000", "0x10", "1.5.2", "\u0661\u0662", "12,5", '"12.5"',
                 HUGE_INT, LONGEST_INT, "WM-1", "W" * 50, "serial", "1_mass_g", "1_gmm",
-                "1_angle_deg", "2_gmm", "\x00", "'", '"', "\ufeff"]
+                "1_angle_deg", "2_gmm", "\x00", "'", '"', "\ufeff", "serial\u2028", "W\u2028",
+                "\u2029", "\x85"]
 JSON_SNIPPETS = ["0", "-0", "-0.0", "1e308", "1e400", "-1e400", "NaN", "Infinity",
                  "-Infinity", '""', '"12.5"', "null", "true", "[]", "{}", "[[]]", HUGE_INT,
                  "-" + HUGE_INT, LONGEST_INT, "[" * 100_000, "{" * 5000, '"serial"',
-                 '"planes"', '"mass_g"', '"gmm"', '"angle_deg"', '"x"', "1e-13", '"WM 1"']
+                 '"planes"', '"mass_g"', '"gmm"', '"angle_deg"', '"x"', "1e-13", '"WM 1"',
+                 '"B\\ud800"', '"\\udfff"', '"serial": "Z", "serial"', '"W\\u2028"']
 
 SOLVE_FILES = ["supply-fan.toml", "wheel-rim.toml", "blade-fan.toml", "adhesive-hub.toml",
                "pump-impeller-rework.toml"]
@@ -415,6 +420,28 @@ def test_fuzzed_batch_readings_jsonl(tmp_path, capsys, data):
     fuzz_once(capsys, tmp_path, "jsonl", text.encode("utf-8"), "readings-jsonl")
 
 
+@pytest.mark.parametrize("kind", ["job", "catalog", "session", "template", "csv", "jsonl"])
+@FUZZ
+@given(data=st.data())
+def test_fuzzed_files_with_a_byte_order_mark(tmp_path, capsys, kind, data):
+    # [Unicode] 23.8: EF BB BF may start any UTF-8 text; every kind reads it (issue 11).
+    if kind == "csv":
+        text = mutate_csv(rows_csv(), data)
+    elif kind == "jsonl":
+        text = mutate_jsonl(rows_jsonl(), data)
+    else:
+        text = mutate(BOM_SEEDS[kind](), data)
+    fuzz_once(capsys, tmp_path, kind, "\ufeff".encode() + text.encode("utf-8"), f"bom-{kind}")
+
+
+BOM_SEEDS = {
+    "job": lambda: (ROOT / "examples" / "supply-fan.toml").read_text(encoding="utf-8"),
+    "catalog": lambda: (ROOT / "catalogs" / "washers-steel.toml").read_text(encoding="utf-8"),
+    "session": lambda: (ROOT / "examples" / "exhaust-fan-visit.toml").read_text(encoding="utf-8"),
+    "template": lambda: ROWS_TEMPLATE,
+}
+
+
 # ---------------------------------------------------------------- random bytes
 KINDS = ["job", "catalog", "session", "template", "csv", "jsonl"]
 
@@ -483,3 +510,92 @@ def test_time_bound_stops_a_hang():
         with time_bound(0.2):
             while True:
                 pass
+
+
+# ------------------------------------------------------------- numeric options
+OPTION_VALUES = ["-1", "0", "nan", "1e400", "99999999999999999999"]
+"""Bad values tried for every numeric option (placer's rule for bad input: exit 2 and one
+line, or a valid run; common practice, no source)."""
+OPTION_VALUES_LONG = OPTION_VALUES + ["-0", "inf", "-inf", "1e-400", "-1e308", "1e308",
+                                      "0.5", "-99999999999999999999", "4294967296", "1e12"]
+NO_CEILING_YET = {"--width"}
+"""Options whose ceiling is another change's: only values below the floor are tried."""
+
+
+def _numeric_options() -> list[tuple[str, str, int]]:
+    """(command path, flag, count of values) of every option that takes a number, found
+    in the parser itself so that a new option is fuzzed without a line here."""
+    import argparse
+
+    from placer.cli.options import build_parser
+
+    found = []
+
+    def walk(parser: argparse.ArgumentParser, path: str) -> None:
+        for action in parser._actions:
+            if isinstance(action, argparse._SubParsersAction):
+                for name, child in action.choices.items():
+                    walk(child, f"{path} {name}".strip())
+            elif action.option_strings and action.type in (int, float):
+                found.append((path, action.option_strings[0], action.nargs or 1))
+
+    walk(build_parser(), "")
+    return found
+
+
+def _base_argv(command: str, folder: Path) -> list[str]:
+    """A good run of ``command`` that reads little and solves fast."""
+    (folder / "t.toml").write_text(ROWS_TEMPLATE, encoding="utf-8")
+    (folder / "rows.csv").write_text(rows_csv(3), encoding="utf-8")
+    db = ["--db", str(folder / "none.sqlite")]
+    return {
+        "solve": ["solve", str(ROOT / "examples" / "supply-fan.toml"), "--effort", "0.01",
+                  "--samples", "100", "--json"],
+        "tolerance": ["tolerance", "--grade", "G6.3", "--mass-kg", "10", "--rpm", "1500"],
+        "field": ["field", str(ROOT / "examples" / "exhaust-fan-visit.toml"), "--json",
+                  "--max-parts", "2", "--effort", "0.01", *db],
+        "machines": ["machines", *db],
+        "history": ["history", "M1", *db],
+        "trial": ["trial", "--mass-kg", "10", "--rpm", "1500", "--radius-mm", "100"],
+        "batch": ["batch", str(folder / "t.toml"), str(folder / "rows.csv"), "--out",
+                  str(folder / "out"), "--force", "--jobs", "1", "--effort", "0.01"],
+        "new job": ["new", "job", str(folder / "new.toml"), "--force"],
+        "new session": ["new", "session", str(folder / "new.toml"), "--force"],
+        "new template": ["new", "template", str(folder / "new.toml"), "--force"],
+        "blades": ["blades", str(ROOT / "examples" / "fan-reblade.toml"), "--json",
+                   "--effort", "0.01"],
+    }[command]
+
+
+def _with_option(argv: list[str], flag: str, values: list[str]) -> list[str]:
+    """``argv`` with ``flag`` given ``values`` (its own value in ``argv`` dropped)."""
+    out, skip = [], 0
+    for arg in argv:
+        if skip:
+            skip -= 1
+        elif arg == flag:
+            skip = len(values)
+        else:
+            out.append(arg)
+    # "--x=-1" so that argparse does not take a negative number for an option.
+    return out + ([f"{flag}={values[0]}"] if len(values) == 1 else [flag, *values])
+
+
+@pytest.mark.parametrize("command, flag, count", _numeric_options(),
+                         ids=[f"{c}-{f}" for c, f, _ in _numeric_options()])
+def test_bad_values_of_every_numeric_option(tmp_path, capsys, command, flag, count):
+    values = OPTION_VALUES_LONG if LONG_RUN else OPTION_VALUES
+    if flag in NO_CEILING_YET:
+        values = [v for v in values if v.startswith("-") or v in ("0", "nan")]
+    for value in values:
+        TRIED["options"] += 1
+        argv = _with_option(_base_argv(command, tmp_path), flag, [value] * count)
+        code, err, out = run_cli(capsys, argv)
+        assert code in (0, 1, 2, 3, 4), f"exit {code} for {argv}"
+        assert "Traceback" not in err, argv
+        if code == 2:
+            lines = err.strip().splitlines()
+            assert len(lines) == 1 and lines[0].startswith("placer: error:"), (argv, err)
+            assert "expected" in lines[0], (argv, err)
+        elif out.startswith(("{", "[")):
+            strict_json(out)

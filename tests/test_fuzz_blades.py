@@ -14,7 +14,15 @@ from pathlib import Path
 
 from hypothesis import given
 from hypothesis import strategies as st
-from test_fuzz import FUZZ, check_outcome, mutate, mutate_csv, run_cli
+from test_fuzz import (
+    FUZZ,
+    TRIED,
+    check_outcome,
+    mutate,
+    mutate_csv,
+    report_counts,
+    run_cli,
+)
 
 ROOT = Path(__file__).resolve().parent.parent
 BLADE_FILE = (ROOT / "examples" / "fan-reblade.toml").read_text(encoding="utf-8")
@@ -28,7 +36,11 @@ A6,12502.5,-22.0,180.9,6,
 """
 
 
+__all__ = ["report_counts"]  # the module fixture that prints how many inputs were tried
+
+
 def _run(capsys, path: Path) -> None:
+    TRIED[f"blades{path.suffix}"] += 1
     code, err, out = run_cli(capsys, ["blades", path, "--json", "--effort", "0.001"])
     check_outcome(code, err, path, out)
 
@@ -46,6 +58,16 @@ def test_fuzzed_blade_files(tmp_path, capsys, data):
 def test_fuzzed_blade_lists(tmp_path, capsys, data):
     path = tmp_path / "blades.csv"
     path.write_text(mutate_csv(BLADE_LIST, data), encoding="utf-8")
+    _run(capsys, path)
+
+
+@FUZZ
+@given(st.data(), st.sampled_from([".toml", ".csv"]))
+def test_fuzzed_blade_files_with_a_byte_order_mark(tmp_path, capsys, data, suffix):
+    # [Unicode] 23.8: EF BB BF may start a UTF-8 text; both blade kinds read it.
+    text = mutate(BLADE_FILE, data) if suffix == ".toml" else mutate_csv(BLADE_LIST, data)
+    path = tmp_path / f"blades{suffix}"
+    path.write_bytes(b"\xef\xbb\xbf" + text.encode("utf-8"))
     _run(capsys, path)
 
 

@@ -11,6 +11,7 @@ marked as such.
 
 from __future__ import annotations
 
+import os
 import sys
 
 from placer.cli.common import (
@@ -25,7 +26,9 @@ from placer.cli.options import FLAGS, build_parser, check_options
 from placer.cli.shopcommands import COMMANDS as SHOP_COMMANDS
 from placer.errors import LimitReached, PlacerError
 
-HANDLERS = {**SHOP_COMMANDS, **FIELD_COMMANDS}
+HANDLERS = {name: {**SHOP_COMMANDS, **FIELD_COMMANDS}[name]
+            for name in ("solve", "catalogs", "tolerance", "field", "machines", "history",
+                         "trial", "batch", "new", "blades")}
 """The function that runs each command."""
 
 __all__ = ["EXIT_BAD_INPUT", "EXIT_LIMIT", "EXIT_OK", "EXIT_OUTSIDE", "EXIT_UNTRUSTED", "FLAGS",
@@ -57,9 +60,14 @@ def main(argv: list[str] | None = None) -> int:
         return int(exc.code or 0)
     if args.command is None:
         parser.print_help()
+        print(f"placer: error: no command given (expected one of: {', '.join(HANDLERS)})",
+              file=sys.stderr)
         return EXIT_BAD_INPUT
     try:
         check_options(args)
+        from placer.views.sheet.glyphs import take_undrawn
+
+        take_undrawn()  # nothing left from an earlier run in this process
         return HANDLERS[args.command](args)
     except LimitReached as exc:
         print(f"placer: stopped: {exc.one_line(FLAGS)}", file=sys.stderr)
@@ -72,3 +80,10 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except BrokenPipeError:
         return EXIT_OK
+    except OSError as exc:  # a path the system refuses, wherever it was opened
+        from placer.io.inputs import shown_path
+
+        where = f"{shown_path(os.fsdecode(exc.filename))}: " if exc.filename else ""
+        print(f"placer: error: {where}{exc.strerror or type(exc).__name__} (expected a path "
+              "placer may read or write)", file=sys.stderr)
+        return EXIT_BAD_INPUT

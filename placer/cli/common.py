@@ -10,7 +10,7 @@ import signal
 import sys
 from pathlib import Path
 
-from placer.errors import InputError, LimitReached
+from placer.errors import InputError, LimitReached, shown
 from placer.limits import (
     MAX_MAGNITUDE,
     MIN_MAGNITUDE,
@@ -145,6 +145,17 @@ def print_plain(render, width: int | None, *values) -> None:
     console = plain_console(width)
     render(*values, console)
     finish(console)
+
+
+def say_undrawn() -> None:
+    """Say once which text of a sheet just written had characters its font cannot draw."""
+    from placer.views.sheet.glyphs import REPLACEMENT, take_undrawn
+
+    texts = take_undrawn()
+    if texts:
+        others = f" (and {len(texts) - 1} other texts)" if len(texts) > 1 else ""
+        print(f"placer: note: the sheet's font cannot draw some characters of "
+              f"'{shown(texts[0])}'{others}; they are shown as '{REPLACEMENT}'", file=sys.stderr)
 
 
 def say_rolled_back(db) -> None:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from pathlib import Path
 
@@ -15,8 +16,9 @@ from placer.cli.common import (
     print_plain,
     rich_console,
     say_rolled_back,
+    say_undrawn,
 )
-from placer.errors import InputError
+from placer.errors import InputError, shown
 from placer.io.tables import json_text
 
 
@@ -63,8 +65,6 @@ def _field(args: argparse.Namespace) -> int:
             sys.stdout.flush()
         except BrokenPipeError:
             # The reader went away (| head): the visit is still saved below.
-            import os
-
             os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
         if pages is not None:
             from placer.views.report.output import write_pages
@@ -72,6 +72,7 @@ def _field(args: argparse.Namespace) -> int:
             files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
             print(f"placer: visit report written to {', '.join(map(str, files))}",
                   file=sys.stderr)
+            say_undrawn()
         if db is not None:
             _save_once(db, record, session.machine_id, path)
     finally:
@@ -148,7 +149,7 @@ def _history(args: argparse.Namespace) -> int:
         if visits and chosen is not None:
             ids = [v.id for v in visits]
             if chosen not in ids:
-                raise InputError(f"machine '{args.machine}' has no visit {chosen}",
+                raise InputError(f"machine '{shown(args.machine)}' has no visit {chosen}",
                                  option="visit" if args.visit is not None else "remove",
                                  expected="one of its visits: " + ", ".join(map(str, ids)))
             if args.remove is not None:
@@ -156,16 +157,17 @@ def _history(args: argparse.Namespace) -> int:
                                      path)
             record = db.visit(args.visit)
     if not visits:
-        import difflib
+        from placer.io.tables import closest
 
         with_visits = [m.id for m in machines if m.visits]
         if args.machine in known:
-            raise InputError(f"machine '{args.machine}' has no visit stored", file=str(path),
+            raise InputError(f"machine '{shown(args.machine)}' has no visit stored",
+                             file=str(path),
                              key="MACHINE", expected="a machine with visits: "
                              + (", ".join(with_visits) or "none stored"))
-        close = difflib.get_close_matches(args.machine, known, n=1)
-        raise InputError(f"no machine '{args.machine}'"
-                         + (f"; did you mean '{close[0]}'?" if close else ""), file=str(path),
+        close = closest(args.machine, known)
+        raise InputError(f"no machine '{shown(args.machine)}'"
+                         + (f"; did you mean '{close}'?" if close else ""), file=str(path),
                          key="MACHINE", expected="one of: " + (", ".join(known) or "none stored"))
     if args.visit is not None:
         saved_at = next(v.saved_at for v in visits if v.id == args.visit)
@@ -180,6 +182,7 @@ def _history(args: argparse.Namespace) -> int:
             files = write_report(visit_report(record), Path(args.sheet), force=args.force)
             print(f"placer: visit report written to {', '.join(map(str, files))}",
                   file=sys.stderr)
+            say_undrawn()
         return EXIT_OK
     if args.json:
         print(json_text(visits_list(visits), indent=2))

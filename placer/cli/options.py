@@ -7,7 +7,8 @@ import argparse
 import math
 
 from placer.cli.common import EXIT_BAD_INPUT
-from placer.errors import InputError
+from placer.errors import InputError, printable
+from placer.io.tables import whole_number_text
 from placer.limits import (
     DEFAULT_EFFORT,
     DEFAULT_SAMPLES,
@@ -16,6 +17,8 @@ from placer.limits import (
     MAX_EFFORT,
     MAX_PARTS_LIMIT,
     MAX_SAMPLES,
+    MAX_SEED,
+    MAX_TIME_LIMIT_S,
     MIN_SAMPLES,
     MIN_WIDTH,
 )
@@ -36,6 +39,7 @@ FLAGS = {
 
 
 FLAGS["remove"] = "--remove"
+FLAGS.update(job="JOB", session="SESSION", template="TEMPLATE", readings="READINGS")
 
 
 class _Parser(argparse.ArgumentParser):
@@ -333,6 +337,11 @@ def _engine_options(command: argparse.ArgumentParser, time_limit_s: float | None
                               f"result (default {default})")
 
 
+PATH_ARGUMENTS = ("job", "session", "file", "template", "readings", "sheet", "out", "db",
+                  "folder")
+"""Arguments that name a file or a folder, checked for names no file system takes."""
+
+
 def check_options(args: argparse.Namespace) -> None:
     """The options commands share, checked once, before any file is read.
 
@@ -341,10 +350,26 @@ def check_options(args: argparse.Namespace) -> None:
     args : argparse.Namespace
         The parsed command line.
     """
+    from placer.io.inputs import NAME_EXPECTED, name_problem, shown_path
+
+    for name in PATH_ARGUMENTS:
+        value = getattr(args, name, None)
+        problem = None if value is None else name_problem(value)
+        if problem is not None:
+            raise InputError(f"the path {problem}", file=shown_path(str(value)),
+                             option=name, expected=NAME_EXPECTED)
+    if args.command == "new" and getattr(args, "name", None) is not None:
+        from placer.io.tables import LINE_EXPECTED, odd_character
+
+        odd = odd_character(args.name)
+        if odd is not None:
+            raise InputError(f"holds the character {printable(odd)}", option="name",
+                             expected=LINE_EXPECTED)
     time_limit = getattr(args, "time_limit", None)
-    if time_limit is not None and not (math.isfinite(time_limit) and time_limit > 0):
+    if time_limit is not None and not (math.isfinite(time_limit)
+                                       and 0 < time_limit <= MAX_TIME_LIMIT_S):
         raise InputError(f"is {time_limit:g}", option="time_limit_s",
-                         expected="a number of seconds above zero")
+                         expected=f"a number of seconds above zero, at most {MAX_TIME_LIMIT_S:g}")
     effort = getattr(args, "effort", None)
     if effort is not None and not (math.isfinite(effort) and 0 < effort <= MAX_EFFORT):
         raise InputError(f"is {effort:g}", option="effort",
@@ -367,6 +392,10 @@ def check_options(args: argparse.Namespace) -> None:
     if samples is not None and not MIN_SAMPLES <= samples <= MAX_SAMPLES:
         raise InputError(f"is {samples}", option="samples",
                          expected=f"{MIN_SAMPLES} to {MAX_SAMPLES} draws")
+    seed = getattr(args, "seed", None)
+    if seed is not None and not 0 <= seed <= MAX_SEED:
+        raise InputError(f"is {whole_number_text(seed)}", option="seed",
+                         expected=f"a whole number from 0 to {MAX_SEED}")
     max_parts = getattr(args, "max_parts", None)
     if max_parts is not None and not 1 <= max_parts <= MAX_PARTS_LIMIT:
         raise InputError(f"is {max_parts}", option="max_parts",

@@ -14,6 +14,7 @@ from placer.cli.common import (
     deadline,
     metric_options,
     plain_console,
+    say_undrawn,
 )
 from placer.cli.options import FLAGS
 from placer.errors import InputError, fill_options
@@ -51,6 +52,7 @@ def _solve(args: argparse.Namespace) -> int:
         pages = write_sheet(result, Path(args.sheet), force=args.force)
         files = ", ".join(dict.fromkeys(str(page.path) for page in pages))
         print(f"placer: sheet written to {files}", file=sys.stderr)
+        say_undrawn()
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
 
@@ -226,6 +228,7 @@ def _blades(args: argparse.Namespace) -> int:
         paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
         print(f"placer: sheet written to {', '.join(dict.fromkeys(map(str, paths)))}",
               file=sys.stderr)
+        say_undrawn()
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
 

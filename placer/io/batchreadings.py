@@ -60,9 +60,17 @@ from typing import Any
 from placer.batch import RotorReading
 from placer.errors import InputError
 from placer.geometry import polar
-from placer.io.tables import number_problem, printable, whole_number_text
+from placer.io.inputs import read_text
+from placer.io.tables import (
+    LINE_EXPECTED,
+    number_problem,
+    odd_character,
+    printable,
+    shown,
+    whole_number_text,
+)
 from placer.job import Job
-from placer.limits import MAX_WHOLE, RANGE_EXPECTED
+from placer.limits import MAX_READINGS_BYTES, MAX_WHOLE, RANGE_EXPECTED
 from placer.units import MASS_UNITS, UNBALANCE_UNITS
 
 MAGNITUDE_FACTORS = {**{f"mass_{unit}": factor for unit, factor in MASS_UNITS.items()},
@@ -80,6 +88,9 @@ PLAIN_NUMBER = re.compile(r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-
 PLAIN_EXPECTED = "a plain decimal number such as 12.5, -3 or 1.25e3"
 NON_FINITE = frozenset(sign + word for sign in ("", "+", "-")
                        for word in ("nan", "inf", "infinity"))
+CELL_BLANKS = " \t"
+"""What is stripped around a CSV cell: spaces and tabs only (a line separator such as
+U+2028 is whitespace to :meth:`str.strip` but no blank a spreadsheet writes)."""
 JSON_INT_DIGITS = 30
 """JSON whole numbers longer than this are not converted (they are out of range anyway)."""
 
@@ -131,15 +142,7 @@ def read_readings(path: Path, template: Job) -> list[RotorReading | RowError]:
     if suffix not in (".csv", ".jsonl"):
         raise InputError(f"is a '{suffix or 'no suffix'}' file", file=str(path),
                          expected="a readings file ending in .csv or .jsonl")
-    try:
-        text = path.read_bytes().decode("utf-8-sig")
-    except FileNotFoundError:
-        raise InputError("readings file not found", file=str(path)) from None
-    except IsADirectoryError:
-        raise InputError("is a folder, not a readings file", file=str(path)) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the readings file: {printable(str(exc))}",
-                         file=str(path)) from None
+    text = read_text(path, InputError, "readings file", MAX_READINGS_BYTES)
     rows = _csv_rows(text, path, template) if suffix == ".csv" else _jsonl_rows(text, template)
     return _mark_repeats(list(rows))
 
@@ -218,7 +221,12 @@ def _csv_rows(text: str, path: Path, template: Job) -> Iterator[RotorReading | R
     except csv.Error as exc:
         raise InputError(f"header is not CSV: {printable(str(exc))}", file=file,
                          key="header", expected="comma-separated column names") from None
-    names = [name.strip() for name in header]
+    names = [name.strip(CELL_BLANKS) for name in header]
+    for name in names:
+        odd = odd_character(name)
+        if odd is not None:
+            raise InputError(f"holds the character {printable(odd)}", file=file,
+                             key=f"column '{shown(name)}'", expected=LINE_EXPECTED)
     serial_at, planes = _csv_header(names, file, template)
     end = reader.line_num
     while True:
@@ -232,9 +240,9 @@ def _csv_rows(text: str, path: Path, template: Job) -> Iterator[RotorReading | R
             yield RowError(start, None, f"not a CSV row: {exc}")
             continue
         end = reader.line_num
-        if not row or all(not cell.strip() for cell in row) and len(row) <= 1:
+        if not row or all(not cell.strip(CELL_BLANKS) for cell in row) and len(row) <= 1:
             continue
-        cells = [cell.strip() for cell in row]
+        cells = [cell.strip(CELL_BLANKS) for cell in row]
         serial = cells[serial_at] if serial_at < len(cells) else None
         serial = serial if serial and SERIAL_PATTERN.fullmatch(serial) else None
         if len(cells) != len(names):
@@ -263,8 +271,7 @@ def _serial_problem(serial: Any) -> str | None:
     if not serial:
         return "serial is missing"
     if not SERIAL_PATTERN.fullmatch(serial):
-        shown = serial if len(serial) <= 50 else serial[:47] + "..."
-        return f"serial '{shown}' is not a serial (expected {SERIAL_EXPECTED})"
+        return f"serial '{shown(serial)}' is not a serial (expected {SERIAL_EXPECTED})"
     return None
 
 
@@ -293,22 +300,21 @@ def _number(raw: Any, name: str, text: bool) -> float | str:
     if raw is None or raw == "":
         return f"{name} is missing"
     if isinstance(raw, str) and not text:
-        shown = raw if len(raw) <= 30 else raw[:27] + "..."
-        return f"{name} is the text '{shown}' (expected a JSON number, without quotes)"
+        return f"{name} is the text '{shown(raw)}' (expected a JSON number, without quotes)"
     if isinstance(raw, str):
-        shown = raw if len(raw) <= 30 else raw[:27] + "..."
+        echo = shown(raw)
         if raw.lower() in NON_FINITE:
             value = float(raw)
         elif PLAIN_NUMBER.fullmatch(raw):
             value = float(raw)  # a long string of digits overflows to inf, never raises
             if not math.isfinite(value):
-                return f"{name} is '{shown}' (expected {RANGE_EXPECTED})"
+                return f"{name} is '{echo}' (expected {RANGE_EXPECTED})"
         else:
             try:
                 float(raw)
             except (ValueError, OverflowError):
-                return f"{name} is '{shown}', not a number (expected {PLAIN_EXPECTED})"
-            return f"{name} is '{shown}', not a plain number (expected {PLAIN_EXPECTED})"
+                return f"{name} is '{echo}', not a number (expected {PLAIN_EXPECTED})"
+            return f"{name} is '{echo}', not a plain number (expected {PLAIN_EXPECTED})"
     elif isinstance(raw, _OutOfRange):
         return f"{name} is {raw.shown} (expected {RANGE_EXPECTED})"
     elif isinstance(raw, bool) or not isinstance(raw, (int, float)):
@@ -346,7 +352,11 @@ def _jsonl_rows(text: str, template: Job) -> Iterator[RotorReading | RowError]:
         if not line.strip():
             continue
         try:
-            data = json.loads(line, parse_int=_json_int, parse_float=_json_float)
+            data = json.loads(line, parse_int=_json_int, parse_float=_json_float,
+                              object_pairs_hook=_json_object)
+        except _BadObject as exc:
+            yield RowError(line_number, None, str(exc))
+            continue
         except json.JSONDecodeError as exc:
             yield RowError(line_number, None, f"not a JSON object: {exc.msg}")
             continue
@@ -382,6 +392,45 @@ def _jsonl_rows(text: str, template: Job) -> Iterator[RotorReading | RowError]:
             corrections.append(value)
         else:
             yield RotorReading(line_number, serial, tuple(corrections))
+
+
+class _BadObject(ValueError):
+    """A JSON object with a key given twice, or text that is not valid Unicode."""
+
+
+def _json_object(pairs: list[tuple[str, Any]]) -> dict[str, Any]:
+    """A JSON object of a readings line; refuses a key given twice and lone surrogates.
+
+    JSON escapes may write half of a UTF-16 surrogate pair alone (``"\\ud800"``),
+    which is no Unicode character and cannot be written to a UTF-8 file: refused
+    here, so that nothing after the reader sees one.
+
+    References
+    ----------
+    [RFC8259] section 4 ("The names within an object SHOULD be unique") and
+    section 8.2 (unpaired surrogates).
+    """
+    data: dict[str, Any] = {}
+    for key, value in pairs:
+        for text in (key, value) if isinstance(value, str) else (key,):
+            if _has_surrogate(text):
+                raise _BadObject(f"'{_escaped(key)}' holds a character that is not valid "
+                                 "Unicode (expected text without lone surrogates such as "
+                                 "\\ud800)")
+        if key in data:
+            raise _BadObject(f"key '{shown(key)}' appears twice in one object "
+                             "(expected each key once)")
+        data[key] = value
+    return data
+
+
+def _has_surrogate(text: str) -> bool:
+    return not text.isascii() and any("\ud800" <= ch <= "\udfff" for ch in text)
+
+
+def _escaped(text: str) -> str:
+    """``text`` shown in an error, lone surrogates as escapes."""
+    return shown(text.encode("utf-8", "backslashreplace").decode("utf-8"))
 
 
 def _json_plane(plane: Any, number: int, template: Job) -> complex | str:

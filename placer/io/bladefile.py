@@ -47,7 +47,13 @@ from placer.arrange import MOVES, BladeJob, TrimPlane
 from placer.blades import Blade, Disc, Limits
 from placer.errors import InputError, JobError
 from placer.geometry import equally_spaced_deg
-from placer.io.batchreadings import NON_FINITE, PLAIN_EXPECTED, PLAIN_NUMBER
+from placer.io.batchreadings import (
+    CELL_BLANKS,
+    NON_FINITE,
+    PLAIN_EXPECTED,
+    PLAIN_NUMBER,
+)
+from placer.io.inputs import read_text
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
 from placer.io.tables import Table, printable, range_problem, read_toml
 from placer.job import Rotor
@@ -301,18 +307,7 @@ def read_blade_list(path: Path) -> tuple[list[Blade], list[int | None], list[tup
         Naming the file, the line and the column, and what was expected.
     """
     file = str(path)
-    try:
-        text = path.read_bytes().decode("utf-8-sig")
-    except FileNotFoundError:
-        raise JobError("blade list not found", file=file, expected="an existing file") from None
-    except IsADirectoryError:
-        raise JobError("is a folder, not a blade list", file=file, expected="a file") from None
-    except UnicodeDecodeError as exc:
-        raise JobError(f"cannot read the blade list: byte {exc.start} is not UTF-8", file=file,
-                       expected="a text file in UTF-8") from None
-    except OSError as exc:
-        raise JobError(f"cannot read the blade list: {printable(str(exc.strerror or exc))}",
-                       file=file, expected="a readable file") from None
+    text = read_text(path, JobError, "blade list")
     reader = csv.reader(io.StringIO(text, newline=""))
     header = _csv_header(reader, file)
     blades, slots, stays = [], [], []
@@ -327,7 +322,7 @@ def read_blade_list(path: Path) -> tuple[list[Blade], list[int | None], list[tup
             raise JobError(f"not a CSV row: {printable(str(exc))}", file=file,
                            key=f"line {line}", expected="comma-separated values") from None
         end = reader.line_num
-        if all(not cell.strip() for cell in row):
+        if all(not cell.strip(CELL_BLANKS) for cell in row):
             continue
         if len(row) != len(header):
             raise JobError(f"has {len(row)} values, the header has {len(header)} columns",
@@ -335,7 +330,7 @@ def read_blade_list(path: Path) -> tuple[list[Blade], list[int | None], list[tup
         if len(blades) == MAX_SLOTS:
             raise JobError(f"has more than {MAX_SLOTS} blades", file=file, key=f"line {line}",
                            expected=f"at most {MAX_SLOTS} blades")
-        cells = dict(zip(header, (cell.strip() for cell in row)))
+        cells = dict(zip(header, (cell.strip(CELL_BLANKS) for cell in row)))
         blade, slot, stay = _csv_blade(cells, file, line)
         blades.append(blade)
         slots.append(slot)
@@ -350,7 +345,7 @@ def read_blade_list(path: Path) -> tuple[list[Blade], list[int | None], list[tup
 def _csv_header(reader, file: str) -> list[str]:
     expected = ("columns id, moment_gmm and optionally " + ", ".join(BLADE_KEYS[2:]))
     try:
-        names = [name.strip() for name in next(reader)]
+        names = [name.strip(CELL_BLANKS) for name in next(reader)]
     except StopIteration:
         raise JobError("is empty", file=file, key="header", expected=expected) from None
     except csv.Error as exc:

@@ -17,12 +17,12 @@ Format::
 
 from __future__ import annotations
 
-import difflib
 from pathlib import Path
 
 from placer.catalog import Catalog, Item
 from placer.errors import CatalogError
-from placer.io.tables import Table, quantity_key, read_toml
+from placer.io.inputs import NAME_EXPECTED, name_problem, shown_path
+from placer.io.tables import Table, closest, quantity_key, read_toml, shown
 from placer.units import MASS_UNITS
 
 ITEM_KEYS = ("id", *(quantity_key("mass", u) for u in MASS_UNITS), "stock", "description",
@@ -127,14 +127,14 @@ def read_catalog(path: Path) -> Catalog:
             id=item_id,
             mass_g=mass,
             stock=table.integer("stock", minimum=0),
-            description=table.text("description", default=""),
+            description=table.text("description", default="", multiline=True),
             fixing=_one_line(table, "fixing"),
             mass_tolerance_g=tolerance,
             source=source,
             catalog=name,
         ))
     return Catalog(name=name, items=tuple(items), source=source,
-                   description=root.text("description", default=""))
+                   description=root.text("description", default="", multiline=True))
 
 
 def _one_line(table: Table, key: str) -> str:
@@ -171,22 +171,44 @@ def resolve_catalog(reference: str, base_dir: Path, job_file: str, key: str) -> 
         When neither a file nor a bundled catalogue has that name; the
         message names the closest bundled name.
     """
+    problem = name_problem(reference)
+    if problem is not None:
+        raise CatalogError(f"the catalogue name {problem}", file=job_file, key=key,
+                           expected=NAME_EXPECTED)
     candidate = Path(reference)
     if not candidate.is_absolute():
         candidate = base_dir / candidate
-    if candidate.is_file():
-        return candidate
-    if reference.endswith(".toml") or "/" in reference or "\\" in reference:
-        raise CatalogError(f"catalogue file '{candidate}' not found", file=job_file, key=key,
-                           expected="a path relative to the job file, or a bundled name")
+    explicit = reference.endswith(".toml") or "/" in reference or "\\" in reference
+    if _is_file(candidate) or explicit and _exists(candidate):
+        return candidate  # a folder or a pipe is refused by the reader, in one line
+    if explicit:
+        raise CatalogError(f"catalogue file '{shown_path(str(candidate))}' not found", file=job_file,
+                           key=key, expected="a path relative to the job file, or a bundled name")
     bundled = bundled_dir() / f"{reference}.toml"
-    if bundled.is_file():
+    if _is_file(bundled):
         return bundled
     names = bundled_names()
-    close = difflib.get_close_matches(reference, names, n=1)
-    hint = f"did you mean '{close[0]}'? " if close else ""
-    raise CatalogError(f"no catalogue file or bundled catalogue '{reference}'", file=job_file,
-                       key=key, expected=f"{hint}a file path or one of: {', '.join(names)}")
+    close = closest(reference, names)
+    hint = f" (closest: '{close}')" if close else ""
+    raise CatalogError(f"no catalogue file or bundled catalogue '{shown(reference)}'",
+                       file=job_file, key=key,
+                       expected=f"a bundled name{hint} or a file path; bundled: {', '.join(names)}")
+
+
+def _exists(path: Path) -> bool:
+    """Whether something is at ``path``; a path the system cannot look up has nothing."""
+    try:
+        return path.exists()
+    except (OSError, ValueError):
+        return False
+
+
+def _is_file(path: Path) -> bool:
+    """Whether ``path`` is a file; a path the system cannot look up is not one."""
+    try:
+        return path.is_file()
+    except (OSError, ValueError):
+        return False
 
 
 def load_bundled(name: str) -> Catalog:

@@ -83,6 +83,8 @@ from placer.records import (
 )
 
 DB_FILE_NAME = "history.sqlite"
+WRITABLE = ("a history database placer may write: not locked by another program, on a disk "
+            "with room")
 
 
 @contextmanager
@@ -210,7 +212,7 @@ class History:
             with _immediate(conn):
                 visit_id = self._write_visit(record)
         except sqlite3.Error as exc:
-            raise self._error(f"cannot save the visit: {exc}") from exc
+            raise self._error(f"cannot save the visit: {exc}", expected=WRITABLE) from exc
         return visit_id
 
     def _write_visit(self, record: VisitRecord) -> int:
@@ -492,7 +494,8 @@ class History:
                 gone = self._conn.execute("DELETE FROM visits WHERE id = ?",
                                           (visit_id,)).rowcount
         except sqlite3.Error as exc:
-            raise self._error(f"cannot remove visit {visit_id}: {exc}") from exc
+            raise self._error(f"cannot remove visit {visit_id}: {exc}",
+                              expected=WRITABLE) from exc
         if gone != 1:
             raise self._error(f"no visit {visit_id}", key="visit_id",
                               expected="the id of a saved visit")

@@ -25,7 +25,7 @@ from placer.geometry import (
     polar,
 )
 from placer.io.catalogfile import read_catalog, resolve_catalog
-from placer.io.tables import Table, quantity_key, read_toml
+from placer.io.tables import Table, quantity_key, read_toml, shown
 from placer.job import (
     CORRECTION_BASES,
     DEFAULT_ANGLE_SENSE,
@@ -167,7 +167,7 @@ def _paperwork(t: Table | None) -> Paperwork:
             try:
                 value = dt.date.fromisoformat(value.strip())
             except ValueError:
-                raise t.fail("date", f"is '{value[:40]}'", expected) from None
+                raise t.fail("date", f"is '{shown(value)}'", expected) from None
         if isinstance(value, dt.datetime):
             value = value.date()
         if not isinstance(value, dt.date):
@@ -204,6 +204,8 @@ def rotor_of(t: Table, extra_keys: tuple[str, ...] = ()) -> Rotor:
         raw = t.data["grade"]
         if isinstance(raw, bool) or not isinstance(raw, (str, int, float)):
             raise t.fail("grade", "is not a grade", "a grade such as \"G6.3\"")
+        if isinstance(raw, str):
+            t.check_text("grade", raw)
         try:
             grade = parse_grade(raw)
         except ToleranceError as exc:

@@ -53,7 +53,7 @@ from placer.catalog import Catalog
 from placer.errors import InputError, SessionError
 from placer.geometry import ROTATIONS, polar
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
-from placer.io.tables import Table, quantity_key, read_toml
+from placer.io.tables import Table, quantity_key, read_toml, shown
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
 from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense
 from placer.residualcheck import ResidualCheck
@@ -194,11 +194,15 @@ def _visit_date(visit: Table | None) -> str | None:
             value = (dt.date.fromisoformat(value) if len(value.strip()) == 10
                      else dt.datetime.fromisoformat(value))
         except ValueError:
-            raise visit.fail("date", f"is '{value[:40]}'", expected) from None
+            raise visit.fail("date", f"is '{shown(value)}'", expected) from None
     if isinstance(value, dt.datetime):
         if value.tzinfo is None:
             raise visit.fail("date", "has a time but no offset", expected)
-        return value.astimezone(dt.timezone.utc).isoformat(timespec="seconds")
+        try:
+            return value.astimezone(dt.timezone.utc).isoformat(timespec="seconds")
+        except OverflowError:  # 0001-01-01T00:30:00+01:00 is in year 0 in UTC
+            raise visit.fail("date", f"is {value.isoformat()}, outside the years 1 to 9999 "
+                             "in UTC", expected) from None
     if isinstance(value, dt.date):
         return value.isoformat()
     raise visit.fail("date", f"is {type(value).__name__}", expected)

@@ -25,8 +25,18 @@ import tomllib
 from pathlib import Path
 from typing import Any
 
-from placer.errors import InputError
-from placer.limits import MAX_MAGNITUDE, MAX_WHOLE, MIN_MAGNITUDE, RANGE_EXPECTED
+from placer.errors import InputError, printable, shown
+from placer.io.inputs import read_text
+from placer.limits import (
+    MAX_ECHO_CHARS,
+    MAX_MAGNITUDE,
+    MAX_WHOLE,
+    MIN_MAGNITUDE,
+    RANGE_EXPECTED,
+)
+
+LINE_EXPECTED = "text on one line, without control or line-separator characters"
+"""What a single-line text value (a name, a grade, a serial) with such a character is told."""
 
 
 def number_problem(value: float) -> str | None:
@@ -71,27 +81,58 @@ def range_problem(value: float) -> tuple[str, str] | None:
     return None
 
 
-def printable(text: str) -> str:
-    """``text`` with every character that is not printable written as its escape.
+def odd_character(text: str, multiline: bool = False) -> str | None:
+    """The first character of ``text`` a text value may not hold, or None.
 
-    An error line must stay one line: line and paragraph separators
-    (``\\n``, ``\\r``, U+0085, U+2028, ...), other control and unassigned
-    characters from a file are shown as ``\\u2028`` etc. (:meth:`str.isprintable`).
+    Control characters, line and paragraph separators (U+2028, U+2029,
+    U+0085, ...), unassigned code points and lone surrogates
+    (:meth:`str.isprintable` is False for all of them) are refused; a
+    ``multiline`` text may hold new lines and tabs.
 
     Parameters
     ----------
     text : str
-        Text from a file or an argument.
+        The value.
+    multiline : bool
+        Allow ``\\n`` and ``\\t``.
 
     Returns
     -------
-    str
-        The text, on one line.
+    str or None
+        The character, or None when the text may be used.
     """
     if text.isprintable():
-        return text
-    return "".join(ch if ch.isprintable() else repr(ch)[1:-1] if ch != "'" else ch
-                   for ch in text)
+        return None
+    allowed = "\n\t" if multiline else ""
+    return next((ch for ch in text if not ch.isprintable() and ch not in allowed), None)
+
+
+def closest(text: str, choices: list[str] | tuple[str, ...]) -> str | None:
+    """The choice closest in spelling to ``text`` (difflib, similarity 0.6), or None.
+
+    A text longer than twice :data:`placer.limits.MAX_ECHO_CHARS` gets no hint: the
+    comparison grows with the square of its length, and such a text is no misspelling.
+
+    Parameters
+    ----------
+    text : str
+        What was given.
+    choices : list or tuple of str
+        What it may be.
+
+    Returns
+    -------
+    str or None
+        The closest choice.
+
+    References
+    ----------
+    [PythonDocs] :func:`difflib.get_close_matches`.
+    """
+    if len(text) > 2 * MAX_ECHO_CHARS:
+        return None
+    close = difflib.get_close_matches(text, choices, n=1)
+    return close[0] if close else None
 
 
 def whole_number_text(value: int) -> str:
@@ -152,7 +193,8 @@ def _finite(value: Any) -> Any:
 
 
 def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
-    """Parse a TOML file; any failure becomes one ``error`` naming the file.
+    """Parse a TOML file (read by :func:`placer.io.inputs.read_text`); any failure
+    becomes one ``error`` naming the file.
 
     Parameters
     ----------
@@ -171,25 +213,14 @@ def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
     Raises
     ------
     InputError
-        Of class ``error``: a missing, unreadable or non-UTF-8 file, bad
+        Of class ``error``: a file :func:`placer.io.inputs.read_text` refuses, bad
         TOML, nesting too deep, or a whole number out of range (with its key).
 
     References
     ----------
     [PythonDocs] (the 4300-digit limit on int/str conversion).
     """
-    try:
-        text = path.read_bytes().decode("utf-8")
-    except FileNotFoundError:
-        raise error(f"{what} not found", file=str(path), expected="an existing file") from None
-    except IsADirectoryError:
-        raise error(f"is a folder, not a {what}", file=str(path), expected="a file") from None
-    except UnicodeDecodeError as exc:
-        raise error(f"cannot read {what}: byte {exc.start} is not UTF-8", file=str(path),
-                    expected="a text file in UTF-8") from None
-    except OSError as exc:
-        raise error(f"cannot read {what}: {exc.strerror or exc}", file=str(path),
-                    expected="a readable file") from None
+    text = read_text(path, error, what)
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
@@ -303,10 +334,10 @@ class Table:
         """
         for name in self.data:
             if name not in allowed:
-                close = difflib.get_close_matches(name, allowed, n=1)
-                hint = (f"one of {', '.join(allowed)}; did you mean '{close[0]}'?" if close
+                close = closest(name, allowed)
+                hint = (f"one of {', '.join(allowed)}; did you mean '{close}'?" if close
                         else "one of " + ", ".join(allowed))
-                raise self.fail(name, "unknown key", hint)
+                raise self.fail(shown(name), "unknown key", hint)
 
     def has(self, name: str) -> bool:
         """Whether the table has the key ``name``.
@@ -323,7 +354,8 @@ class Table:
         """
         return name in self.data
 
-    def text(self, name: str, default: str | None = None, required: bool = False) -> str | None:
+    def text(self, name: str, default: str | None = None, required: bool = False,
+             multiline: bool = False) -> str | None:
         """The text at ``name``.
 
         Parameters
@@ -334,6 +366,9 @@ class Table:
             What a missing key gives.
         required : bool
             Refuse a missing key.
+        multiline : bool
+            Allow new lines and tabs (a description); names, grades, ids and
+            choices are text on one line.
 
         Returns
         -------
@@ -343,20 +378,45 @@ class Table:
         Raises
         ------
         InputError
-            A missing required key, a value that is not text, or text with
-            control characters other than new lines and tabs.
+            A missing required key, a value that is not text, or text with a
+            character :func:`odd_character` refuses.
         """
         if name not in self.data:
             if required:
                 raise self.fail(name, "missing", "a text value")
             return default
-        value = self.data[name]
+        return self.check_text(name, self.data[name], multiline)
+
+    def check_text(self, name: str, value: Any, multiline: bool = False) -> str:
+        """``value`` (found at ``name``) as text (see :meth:`text`).
+
+        Parameters
+        ----------
+        name : str
+            The key it was found at, for the message.
+        value : Any
+            The value.
+        multiline : bool
+            Allow new lines and tabs.
+
+        Returns
+        -------
+        str
+            The text.
+
+        Raises
+        ------
+        InputError
+            A value that is not text, or text with a character
+            :func:`odd_character` refuses.
+        """
         if not isinstance(value, str):
             raise self.fail(name, f"is {_kind(value)}", "a text value in quotes")
-        odd = next((ch for ch in value if not ch.isprintable() and ch not in "\n\t"), None)
+        odd = odd_character(value, multiline)
         if odd is not None:
             raise self.fail(name, f"holds the character {printable(odd)}",
-                            "text without control characters (new lines and tabs allowed)")
+                            "text without control characters (new lines and tabs allowed)"
+                            if multiline else LINE_EXPECTED)
         return value
 
     def number(self, name: str, default: float | None = None, required: bool = False,
@@ -696,7 +756,7 @@ def _kind(value: Any) -> str:
     if isinstance(value, float):
         return f"the number {value}"
     if isinstance(value, str):
-        return f"the text '{value[:40]}'"
+        return f"the text '{shown(value)}'"
     if isinstance(value, list):
         return "a list"
     if isinstance(value, dict):

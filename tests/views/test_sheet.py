@@ -733,7 +733,7 @@ def test_cli_without_matplotlib(tmp_path, capsys, monkeypatch):
     assert main(["solve", str(SUPPLY_FAN), "--sheet", str(tmp_path / "s.pdf")]) == 2
     assert capsys.readouterr().err == (
         "placer: error: --sheet needs matplotlib, which placer installs with it; it is "
-        "missing here: pip install matplotlib\n")
+        "missing here (expected matplotlib installed: pip install matplotlib)\n")
     assert not (tmp_path / "s.pdf").exists()
 
 

@@ -17,6 +17,7 @@ from typing import Any
 
 from placer.geometry import angle_of_deg
 from placer.views.sheet.convention import page_angle_deg, xy
+from placer.views.sheet.glyphs import draw_text
 from placer.views.sheet.labels import Room
 from placer.views.sheet.typeset import GREY, INK
 
@@ -133,15 +134,15 @@ def _frame(ax, rings: Sequence[float], ccw: bool, unit: str, room: Room) -> floa
         ax.plot([x0, x1], [y0, y1], color=GREY, lw=0.4 if deg else 0.9, zorder=1)
         tx, ty = xy(outer * 1.09, a)
         text = f"{deg}°"
-        ax.text(tx, ty, text, fontsize=SCALE_PT, ha="center", va="center", color=INK)
+        draw_text(ax, tx, ty, text, fontsize=SCALE_PT, ha="center", va="center", color=INK)
         room.take(room.centred(tx, ty, text, SCALE_PT))
     for k, r in enumerate(rings):
         text = f"{r:g}" + (f" {unit}" if k == len(rings) - 1 else "")
         w, h = room.size(text, SCALE_PT)
         x, y = xy(r, page_angle_deg(15.0, ccw))
         box = (x + 0.01 * outer, y - h / 2, x + 0.01 * outer + w, y + h / 2)
-        ax.text(box[0], y, text, fontsize=SCALE_PT, ha="left", va="center", color=GREY,
-                bbox=dict(boxstyle="square,pad=0.05", fc="white", ec="none"), zorder=2)
+        draw_text(ax, box[0], y, text, fontsize=SCALE_PT, ha="left", va="center", color=GREY,
+                  bbox=dict(boxstyle="square,pad=0.05", fc="white", ec="none"), zorder=2)
         room.take(box)
     return outer * 1.2
 
@@ -170,8 +171,8 @@ def _label(ax, room: Room, x: float, y: float, text: str, outer: float) -> None:
     cx, cy = (box[0] + box[2]) / 2, (box[1] + box[3]) / 2
     if math.hypot(cx - x, cy - y) > 2.5 * gap + max(w, h):
         ax.plot([x, cx], [y, cy], color=GREY, lw=0.5, zorder=2)
-    ax.text(cx, cy, text, fontsize=LABEL_PT, weight="bold", ha="center", va="center", zorder=6,
-            bbox=dict(boxstyle="square,pad=0.05", fc="white", ec="none"))
+    draw_text(ax, cx, cy, text, fontsize=LABEL_PT, weight="bold", ha="center", va="center",
+              zorder=6, bbox=dict(boxstyle="square,pad=0.05", fc="white", ec="none"))
     room.take(box)
 
 

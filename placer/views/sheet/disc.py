@@ -23,6 +23,7 @@ from placer.views.sheet.convention import (
     rotation_clockwise,
     xy,
 )
+from placer.views.sheet.glyphs import draw_text
 from placer.views.sheet.labels import (
     Room,
     align_for,
@@ -390,8 +391,8 @@ def _labels_level(ax, room: Room, rows: tuple[SlotRow, ...], page: list[float],
         if angle_gap_deg(a, wanted) > 3.0:
             start, end = xy(NUMBER_R + 0.06, wanted), xy(MARK_R - 0.02, a)
             ax.plot([start[0], end[0]], [start[1], end[1]], color=INK, lw=0.5, zorder=2)
-        ax.text(tx, ty, text, fontsize=MARK_PT, weight="bold" if strong else "normal", ha=ha,
-                va=va, zorder=5)
+        draw_text(ax, tx, ty, text, fontsize=MARK_PT, weight="bold" if strong else "normal",
+                  ha=ha, va=va, zorder=5)
         room.take(anchored_box(tx, ty, w, h, ha, va))
 
 

@@ -19,6 +19,7 @@ from placer.views.sheet.convention import (
     xy,
 )
 from placer.views.sheet.facts import PlaneDrawing, PlaneFace, plane_face
+from placer.views.sheet.glyphs import draw_text
 from placer.views.sheet.labels import (
     Box,
     Room,
@@ -335,9 +336,9 @@ def draw_plane(ax, result: PlaneResult | PlaneFace, angle_sense: str, width_in: 
         else:                                   # right after the number, no leader needed
             number_w, _ = room.size(str(number), number_pt, True)
             tx, ty = xy(number_r + number_w / 2 + 0.05, a)
-        ax.text(tx, ty, text, fontsize=PART_LABEL_PT, weight="bold", ha=ha, va=va,
-                multialignment="right" if ha == "right" else "left", zorder=6,
-                linespacing=1.15)
+        draw_text(ax, tx, ty, text, fontsize=PART_LABEL_PT, weight="bold", ha=ha, va=va,
+                  multialignment="right" if ha == "right" else "left", zorder=6,
+                  linespacing=1.15)
         box = anchored_box(tx, ty, w, h, ha, va)
         room.take(box)
         reach_bottom = max(reach_bottom, -box[1])

@@ -21,7 +21,7 @@ PNG_DPI = 150
 
 
 MATPLOTLIB_MISSING = ("{opt:sheet} needs matplotlib, which placer installs with it; it is "
-                      "missing here: pip install matplotlib")
+                      "missing here")
 
 
 def require_matplotlib() -> None:
@@ -29,7 +29,8 @@ def require_matplotlib() -> None:
     import importlib.util
 
     if importlib.util.find_spec("matplotlib") is None:
-        raise InputError(MATPLOTLIB_MISSING)
+        raise InputError(MATPLOTLIB_MISSING,
+                         expected="matplotlib installed: pip install matplotlib")
 
 
 def sheet_paths(path: Path, n_planes: int, *, force: bool = False) -> list[Path]:

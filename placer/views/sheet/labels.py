@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 
+from placer.views.sheet.glyphs import draw_text
 from placer.views.sheet.typeset import lines_in, text_width_in
 
 
@@ -280,8 +281,8 @@ def put_text(ax, room: Room, box: Box, text: str, size_pt: float, **kw) -> None:
     **kw
         Further text properties for matplotlib (weight, style, bbox, ...).
     """
-    ax.text((box[0] + box[2]) / 2, (box[1] + box[3]) / 2, text, fontsize=size_pt,
-            ha="center", va="center", zorder=6, **kw)
+    draw_text(ax, (box[0] + box[2]) / 2, (box[1] + box[3]) / 2, text, fontsize=size_pt,
+              ha="center", va="center", zorder=6, **kw)
     room.take(box)
 
 

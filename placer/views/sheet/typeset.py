@@ -4,6 +4,8 @@ from __future__ import annotations
 
 import functools
 
+from placer.views.sheet.glyphs import draw_text, drawable
+
 INK, GREY = "black", "0.45"
 """Ink for everything drawn, and the grey of secondary text and lines."""
 
@@ -51,7 +53,7 @@ class Page:
         if self.ax is None:
             return
         kw.setdefault("va", "top")
-        self.ax.text(x, y, s, fontsize=size, **kw)
+        draw_text(self.ax, x, y, s, fontsize=size, **kw)
 
     def rule(self, y: float, x0: float = MARGIN_IN, x1: float | None = None,
              lw: float = 0.6, **kw) -> None:
@@ -289,7 +291,8 @@ def text_width_in(text: str, size: float, bold: bool = False) -> float:
     from matplotlib.font_manager import FontProperties
 
     prop = FontProperties(weight="bold" if bold else "normal", size=size)
-    width, _, _ = text_to_path().get_text_width_height_descent(text, prop, ismath=False)
+    width, _, _ = text_to_path().get_text_width_height_descent(drawable(text, record=False),
+                                                               prop, ismath=False)
     return width / 72.0
 
 
