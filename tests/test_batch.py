@@ -459,40 +459,6 @@ def test_mass_columns_at_the_plane_radius(tmp_path, template):
     assert reading.line == 2 and reading.serial == "WM-M-1"
 
 
-@pytest.mark.parametrize("capacity, stock", [(3, 30), (1, 2), (2, 1)])
-def test_tabulated_front_equals_the_search(capacity, stock):
-    # The batch's table lookup against placer.engine.search's own head-and-pair search,
-    # every entry of the front, on the 12-hole washer plane (masses of
-    # catalogs/washers-steel.toml) and with capacity or stock binding.
-    from placer.engine.tabulated import TabulatedSearch
-
-    masses = np.array([1.02, 1.83, 3.57, 6.27, 11.30])
-    unit = 150.0 * np.exp(1j * np.radians(np.arange(12) * 30.0))
-    effects = -(unit[:, None] * masses[None, :])[:, :, None]
-    cap = np.full(12, capacity)
-    cap[4] = 0  # one blocked hole
-    stock_of = np.full(5, stock)
-    tabulated = TabulatedSearch(effects, cap, stock_of, 4)
-    searched = TabulatedSearch(effects, cap, stock_of, 4, tabulate_max=0)
-    assert tabulated.tabulated and not searched.tabulated
-    rng = np.random.default_rng(5)
-    for _ in range(30):
-        target = np.array([complex(*rng.normal(0.0, 2500.0, 2))])
-        fast, slow = tabulated.front(target), searched.front(target)
-        for a, b in zip(fast.entries, slow.entries):
-            assert a.residual_norm == pytest.approx(b.residual_norm, abs=1e-9)
-            assert a.proven and b.proven
-        for entry in fast.entries:
-            used_at = {}
-            for position, item, count in entry.parts:
-                used_at[position] = used_at.get(position, 0) + count
-            assert all(n <= cap[p] for p, n in used_at.items())
-            per_item = {}
-            for _, item, count in entry.parts:
-                per_item[item] = per_item.get(item, 0) + count
-            assert all(n <= stock for n in per_item.values())
-
-
 def test_template_reads_as_the_job_reader_reads_it(tmp_path):
     # read_template repeats read_job's steps; with corrections given, the two
     # must give the same job but for the corrections, which the batch zeroes.

@@ -5,8 +5,8 @@ How a rotor is solved (Notes)
 -----------------------------
 * Everything that does not depend on the correction is built once per
   process for the whole batch: per plane one
-  :class:`placer.engine.tabulated.TabulatedSearch` (placements, pair table;
-  for a small plane the table of all its selections), the plane's tolerance
+  :class:`placer.engine.search.PlacementSearch` (placements, the grid of
+  their pairs), the plane's tolerance
   (:func:`placer.tolerance.job_tolerances`, as for ``placer solve``) and its
   aim share.
 * Per rotor and plane only the target changes: the rotor's correction plus
@@ -36,7 +36,7 @@ import numpy as np
 
 from placer.choice import aim_of
 from placer.engine.arrays import PlaneArrays, option_of, plane_arrays
-from placer.engine.tabulated import TabulatedSearch
+from placer.engine.search import PlacementSearch
 from placer.errors import JobError
 from placer.job import Job, PlaneJob
 from placer.limits import DEFAULT_EFFORT
@@ -271,7 +271,7 @@ class BatchSolver:
                                "cannot serve the batch", file=template.source,
                                key=f"planes[{number}]",
                                expected="a plane whose parts do not change with the correction")
-            self.searches.append(TabulatedSearch(arrays.effects, arrays.capacity, arrays.stock,
+            self.searches.append(PlacementSearch(arrays.effects, arrays.capacity, arrays.stock,
                                                  plane.max_parts, masses=arrays.masses))
             self.arrays.append(arrays)
             # The target is linear in the correction: correction + its value at zero.
