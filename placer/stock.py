@@ -77,6 +77,9 @@ class PlanePlanner:
     drawer : dict of str to int, optional
         Parts left in each drawer (by stock key) when they are fewer than the
         catalogue's stock: a production line drawing its drawers down.
+    tradeoff : bool
+        Whether each choice keeps the whole trade-off (see
+        :func:`placer.choice.choose_plan`); a batch wants the plan alone.
     memo : dict
         The choices found so far, by the stock they were found with.
     """
@@ -89,6 +92,7 @@ class PlanePlanner:
     effort: float = DEFAULT_EFFORT
     parts: int | None = None
     drawer: dict[str, int] | None = None
+    tradeoff: bool = True
     memo: dict[tuple[int, ...], Choice] = field(default_factory=dict, repr=False)
 
     @classmethod
@@ -143,7 +147,7 @@ class PlanePlanner:
                 return known
         found = choose_plan(self.arrays, self.plane.max_parts, self.tolerance_gmm, self.aim,
                             effort=self.effort, search=self.search, stock=stock,
-                            parts=self.parts)
+                            parts=self.parts, tradeoff=self.tradeoff)
         self.memo[signature] = found
         return found
 

@@ -863,3 +863,38 @@ def test_parts_used_per_drawer_across_merged_catalogues(tmp_path):
     assert len(keys) == len(set(keys))
     assert ("shared drawer", "L") in keys
     assert all(catalog in ("shared drawer", "holes") for catalog, _ in keys)
+
+
+@pytest.mark.parametrize("positions, catalog, grade, max_parts, seed", [
+    (12, "washers-steel", '"G6.3"', 4, 11),
+    (36, "rim-clips-5g", '"G6.3"', 4, 12),
+    (24, "rim-clips-5g", '"G2.5"', 5, 13),
+    (12, "washers-steel", None, 4, 14),
+])
+def test_batch_plan_is_the_single_solve_plan(tmp_path, positions, catalog, grade, max_parts,
+                                             seed):
+    # The batch searches only up to the count it prints (no trade-off table): every
+    # rotor's plan, its kind (least residual or lightest) and residual must still be the
+    # plan `placer solve` chooses for that rotor alone (read_job + solve_job, the whole
+    # trade-off).  Seeded random rotors, with and without a tolerance.
+    rotor = ('[rotor]\nname = "Wrenmoor test hub"\nmass_kg = 8.0\nservice_rpm = 1480\n'
+             + (f"grade = {grade}\n" if grade else ""))
+    plane = (f'[[planes]]\nname = "hub"\nradius_mm = 150.0\npositions = {positions}\n'
+             f'capacity = 3\ncatalog = "{catalog}"\nmax_parts = {max_parts}\n')
+    (tmp_path / "t.toml").write_text(rotor + "\n" + plane, encoding="utf-8")
+    solver = BatchSolver(read_template(tmp_path / "t.toml"))
+    reach = (11.30 if catalog == "washers-steel" else 60.0) * 150.0
+    rng = random.Random(seed)
+    for i in range(20):
+        gmm, angle = round(rng.uniform(0.0, 3.0 * reach), 2), round(rng.uniform(0.0, 360.0), 1)
+        (tmp_path / "one.toml").write_text(
+            rotor + "\n" + plane + f"correction = {{ gmm = {gmm!r}, angle_deg = {angle!r} }}\n",
+            encoding="utf-8")
+        want = solve_job(read_job(tmp_path / "one.toml")).planes[0].chosen
+        reading = RotorReading(i + 2, f"R{i}", (gmm * complex(math.cos(math.radians(angle)),
+                                                                math.sin(math.radians(angle))),))
+        got = solver.solve(reading)[0].planes[0].option
+        assert [(p.position, p.item, p.count) for p in got.parts] == \
+            [(p.position, p.item, p.count) for p in want.parts]
+        assert got.kind == want.kind
+        assert got.residual_gmm == pytest.approx(want.residual_gmm, abs=1e-9)

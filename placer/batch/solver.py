@@ -317,7 +317,8 @@ class BatchSolver:
             aim = aim_of(tolerance, abs(arrays.target[0]), *self.shares[index])
             planners.append(PlanePlanner(plane, arrays, self.searches[index], tolerance, aim,
                                          self.effort,
-                                         drawer=None if drawer is None else drawer.left))
+                                         drawer=None if drawer is None else drawer.left,
+                                         tradeoff=False))
         choices = [planner.choice() for planner in planners]
         choices, together, _, short = share_stock(planners, choices, self.effort)
         planes = []

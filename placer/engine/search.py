@@ -323,7 +323,8 @@ class PlacementSearch:
 
     # ----------------------------------------------------------------- search
     def front(self, target: np.ndarray, max_parts: int | None = None, *,
-              stock: np.ndarray | None = None, work: int = DEFAULT_WORK) -> Front:
+              stock: np.ndarray | None = None, work: int = DEFAULT_WORK,
+              reach: float | None = None) -> Front:
         """Least residual for each part count 0 .. max_parts for this ``target``.
 
         Parameters
@@ -340,11 +341,16 @@ class PlacementSearch:
             Work budget of each part count (head nodes, grid cells and rows
             looked at); a count that would pass it is declined and left
             unproven.
+        reach : float, optional
+            Stop after the first part count whose entry's residual is at
+            most this [as the target]: the entries up to it are the same as
+            the whole front's (each count is searched below the best of
+            fewer parts), and the counts after it are not searched.
 
         Returns
         -------
         Front
-            Entries for k = 0 .. max_parts.
+            Entries for k = 0 .. max_parts (.. the count that reached ``reach``).
         """
         self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
@@ -357,6 +363,8 @@ class PlacementSearch:
         total = 0
         stop = self._near_zero(best_norm)
         for k in range(1, k_max + 1):
+            if reach is not None and entries[-1].residual_norm <= reach:
+                break
             if best_norm <= stop or self.n == 0:
                 entries.append(self._selection(k, target, best_rows[-1], best_norm,
                                                min(best_norm, entries[-1].lower_bound), True))
