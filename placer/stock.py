@@ -131,11 +131,7 @@ class PlanePlanner:
             Parts the plane may take from a drawer (by stock key); drawers not
             named keep the plane's own stock.
         """
-        stock = self.arrays.stock.copy()
-        for column, key in enumerate(self.keys()):
-            for limits in (self.drawer, caps):
-                if limits and key in limits:
-                    stock[column] = min(stock[column], limits[key])
+        stock = self.stock(caps)
         signature = tuple(int(v) for v in stock)
         if signature in self.memo:
             return self.memo[signature]
@@ -150,6 +146,22 @@ class PlanePlanner:
                             parts=self.parts, tradeoff=self.tradeoff)
         self.memo[signature] = found
         return found
+
+    def stock(self, caps: dict[str, int] | None = None) -> np.ndarray:
+        """Parts of each catalogue column the plane may take: its own stock, less what
+        is left in the drawers, at most ``caps[key]`` from each drawer named.
+
+        Parameters
+        ----------
+        caps : dict of str to int, optional
+            Parts the plane may take from a drawer (by stock key).
+        """
+        stock = self.arrays.stock.copy()
+        for column, key in enumerate(self.keys()):
+            for limits in (self.drawer, caps):
+                if limits and key in limits:
+                    stock[column] = min(stock[column], limits[key])
+        return stock
 
     def column_use(self, choice: Choice) -> list[int]:
         """Parts of each column the choice fits (parts taken off are not drawn from stock).

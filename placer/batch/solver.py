@@ -259,6 +259,7 @@ class BatchSolver:
         self.tolerances_gmm = tuple(p.tolerance_gmm for p in job_tolerances(template).planes)
         self.shares = tuple(aim_share_of(template, p, None) for p in template.planes)
         self.searches = []
+        self._narrowed: list[dict[tuple[bool, ...], PlacementSearch]] = []
         self.arrays: list[PlaneArrays] = []
         self.offsets_gmm: list[complex] = []
         for number, plane in enumerate(template.planes, start=1):
@@ -274,6 +275,7 @@ class BatchSolver:
             self.searches.append(PlacementSearch(arrays.effects, arrays.capacity, arrays.stock,
                                                  plane.max_parts, masses=arrays.masses))
             self.arrays.append(arrays)
+            self._narrowed.append({})
             # The target is linear in the correction: correction + its value at zero.
             self.offsets_gmm.append(complex(_row_plane(plane, 0j).further_correction_gmm))
 
@@ -287,6 +289,27 @@ class BatchSolver:
         for search in self.searches:
             if search.n:
                 search.front(np.array([2.5 * complex(search.mag.max())]))
+
+    def _search_for(self, index: int, stock: np.ndarray) -> PlacementSearch:
+        """The search of plane ``index`` over the items that ``stock`` still has.
+
+        A drawn-down drawer empties its items one by one; the placements of
+        an empty item can take no part, so a search built without them (its
+        grid of pairs smaller, its bounds tighter) gives the same least
+        residuals, found sooner.  One is built per set of items left, at
+        most once per item that runs out, and kept.
+        """
+        full = self.searches[index]
+        left = tuple(bool(v > 0) for v in stock)
+        if all(left[column] for column in range(len(left)) if full.stock[column] > 0):
+            return full
+        narrowed = self._narrowed[index]
+        if left not in narrowed:
+            arrays = self.arrays[index]
+            narrowed[left] = PlacementSearch(arrays.effects, arrays.capacity,
+                                             np.where(left, arrays.stock, 0), full.max_parts,
+                                             masses=arrays.masses)
+        return narrowed[left]
 
     def solve(self, reading: RotorReading,
               drawer: Drawer | None = None) -> tuple[RotorOutcome, dict[str, int]]:
@@ -319,6 +342,8 @@ class BatchSolver:
                                          self.effort,
                                          drawer=None if drawer is None else drawer.left,
                                          tradeoff=False))
+            if drawer is not None:
+                planners[-1].search = self._search_for(index, planners[-1].stock())
         choices = [planner.choice() for planner in planners]
         choices, together, _, short = share_stock(planners, choices, self.effort)
         planes = []
