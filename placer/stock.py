@@ -118,9 +118,12 @@ class PlanePlanner:
                                  masses=arrays.masses)
         return cls(plane, arrays, search, tolerance_gmm, aim, effort, parts)
 
+    def __post_init__(self) -> None:
+        self._keys = tuple(item.stock_key for item in self.plane.catalog.items)
+
     def keys(self) -> tuple[str, ...]:
         """The drawer of each of the plane's catalogue columns."""
-        return tuple(item.stock_key for item in self.plane.catalog.items)
+        return self._keys
 
     def choice(self, caps: dict[str, int] | None = None) -> Choice:
         """The plane's choice with at most ``caps[key]`` parts from each drawer named.

@@ -42,7 +42,7 @@ from placer.job import Job, PlaneJob
 from placer.limits import DEFAULT_EFFORT
 from placer.plan import LIGHTEST, PlanOption
 from placer.solve import aim_share_of
-from placer.stock import PlanePlanner, share_stock
+from placer.stock import PlanePlanner, share_stock, shared_stock_groups
 from placer.tolerance import job_tolerances
 
 
@@ -258,6 +258,9 @@ class BatchSolver:
         self.effort = float(effort)
         self.tolerances_gmm = tuple(p.tolerance_gmm for p in job_tolerances(template).planes)
         self.shares = tuple(aim_share_of(template, p, None) for p in template.planes)
+        # Planes that draw on one drawer are planned together (placer.stock); with none
+        # there is nothing to share.
+        self.shares_stock = bool(shared_stock_groups(template.planes))
         self.searches = []
         self._narrowed: list[dict[tuple[bool, ...], PlacementSearch]] = []
         self.arrays: list[PlaneArrays] = []
@@ -345,7 +348,9 @@ class BatchSolver:
             if drawer is not None:
                 planners[-1].search = self._search_for(index, planners[-1].stock())
         choices = [planner.choice() for planner in planners]
-        choices, together, _, short = share_stock(planners, choices, self.effort)
+        together, short = set(), ()
+        if self.shares_stock:
+            choices, together, _, short = share_stock(planners, choices, self.effort)
         planes = []
         for index, (planner, choice) in enumerate(zip(planners, choices)):
             option = option_of(planner.plane, choice.chosen, planner.arrays)

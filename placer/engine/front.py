@@ -86,8 +86,11 @@ def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFF
         before, entry = entries[k - 1], entries[k]
         if entry.residual_norm > before.residual_norm:
             entry = replace(before, part_count=k)
-        entries[k] = replace(entry, proven=entry.proven and before.proven,
-                             lower_bound=min(entry.lower_bound, before.lower_bound))
+        proven = entry.proven and before.proven
+        lower = min(entry.lower_bound, before.lower_bound)
+        if proven != entry.proven or lower != entry.lower_bound:
+            entry = replace(entry, proven=proven, lower_bound=lower)
+        entries[k] = entry
     return entries, front.work, method
 
 

@@ -359,6 +359,17 @@ class PlacementSearch:
         best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
         best_norm = float(self._norm(t_real[None, :])[0])
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
+
+        def entry(k: int, lower: float, proven: bool) -> Selection:
+            """Entry k: the best rows so far (the last entry's, unless they changed)."""
+            last = entries[-1]
+            if entries_rows[-1] is best_rows[-1]:
+                return Selection(k, last.parts, last.residual, last.residual_norm,
+                                 float(lower), proven, last.mass)
+            entries_rows.append(best_rows[-1])
+            return self._selection(k, target, best_rows[-1], best_norm, lower, proven)
+
+        entries_rows = [best_rows[0]]
         method = "exact"
         total = 0
         stop = self._near_zero(best_norm)
@@ -366,15 +377,14 @@ class PlacementSearch:
             if reach is not None and entries[-1].residual_norm <= reach:
                 break
             if best_norm <= stop or self.n == 0:
-                entries.append(self._selection(k, target, best_rows[-1], best_norm,
-                                               min(best_norm, entries[-1].lower_bound), True))
+                entries.append(entry(k, min(best_norm, entries[-1].lower_bound), True))
                 continue
             self._work = 0
             found = self._best_with(k, t_real, best_norm, stop)
             total += self._work
             if found is None:
                 method = "exact (not proven past its budget)"
-                entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, False))
+                entries.append(entry(k, 0.0, False))
                 continue
             row, value, stopped = found
             if row is not None and value < best_norm:
@@ -382,8 +392,7 @@ class PlacementSearch:
                 best_norm = value
             # Every k-part selection that could beat best_norm was examined, unless the
             # search stopped at a plan within the proof tolerance of zero.
-            entries.append(self._selection(k, target, best_rows[-1], best_norm,
-                                           0.0 if stopped else best_norm, True))
+            entries.append(entry(k, 0.0 if stopped else best_norm, True))
         return Front(tuple(entries), total, method)
 
     def _near_zero(self, target_norm: float) -> float:
@@ -529,6 +538,11 @@ class PlacementSearch:
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
         if self.norm == "euclidean":
+            if real_rows.shape[1] == 2:
+                # One channel: the same sum of squares np.linalg.norm forms, without its
+                # overhead (the bits are the same: one addition, one square root).
+                x, y = real_rows[:, 0], real_rows[:, 1]
+                return np.sqrt(x * x + y * y)
             return np.linalg.norm(real_rows, axis=1)
         c = real_rows.shape[1] // 2
         return np.sqrt((real_rows[:, :c] ** 2 + real_rows[:, c:] ** 2).max(axis=1))
