@@ -24,7 +24,7 @@ Scaling: the same line with 12, 36 and 72 positions and 5 sizes
 ("washers-steel") or 12 sizes ("rim-clips-5g", 5 to 60 g), capacity 3, up to
 4 parts, ``jobs=1``: the batch rate, and the time of one front
 (``BatchSolver.solve`` alone, the median) beside the time of the
-first rotor, which pays for building the tables and their k-d trees (both
+first rotor, which pays for building the grid of pairs (both
 over the first 40 rows; "steady /s" is 1000 / median).  "rotors/s" is the
 whole batch of that case, first rotor included.  "per CPU-s" is rows over the CPU time of this
 process and its workers: it is less disturbed than the wall-clock rate by
