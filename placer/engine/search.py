@@ -67,6 +67,7 @@ neighbours.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -248,10 +249,12 @@ class PlacementSearch:
                              f"(rank {self.coords.shape[1] // 2}, {self.n_channels} channels)")
         span_mag = np.linalg.norm(self.coords, axis=1)
         # Suffix maxima: no placement from i on is larger in the span than this.
+        self._mag_max = float(self.mag.max(initial=0.0))
         self.span_mag = np.ascontiguousarray(np.maximum.accumulate(span_mag[::-1])[::-1]
                                              if self.n else span_mag)
         self._tables: dict[int, tuple | None] = {}
         self._index: dict[tuple[int, int], int] | None = None
+        self._lists: tuple[list[int], list[int]] | None = None
         self._stock = self.stock
         self._work = 0
         self._work_limit = DEFAULT_WORK
@@ -357,7 +360,7 @@ class PlacementSearch:
         target = np.atleast_1d(np.asarray(target, dtype=complex))
         t_real = _as_real(target[None, :])[0]
         best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
-        best_norm = float(self._norm(t_real[None, :])[0])
+        best_norm = self._norm_of(t_real)
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
 
         def entry(k: int, lower: float, proven: bool) -> Selection:
@@ -397,7 +400,7 @@ class PlacementSearch:
 
     def _near_zero(self, target_norm: float) -> float:
         """The residual at or below which a plan is proven as found (see the notes)."""
-        size = max(target_norm, float(self.mag.max(initial=0.0)))
+        size = max(target_norm, self._mag_max)
         return max(min(ABS_TOL, REL_TOL * size), 1e-12 * size)
 
     def lightest(self, target: np.ndarray, parts: int, radius: float, *,
@@ -439,15 +442,15 @@ class PlacementSearch:
         t_real = _as_real(target[None, :])[0]
         k = int(parts)
         # Sums in another order differ in the last bits: a plan exactly at the radius counts.
-        size = max(float(self._norm(t_real[None, :])[0]), float(self.mag.max(initial=0.0)))
+        size = max(self._norm_of(t_real), self._mag_max)
         radius = float(radius) * (1.0 + 1e-12) + 1e-12 * size
         best_row, best_mass, best_value = None, np.inf, np.inf
         if known is not None:
             best_row = self.rows_of(known)
             best_mass = float(self.mass[best_row].sum())
-            best_value = float(self._norm((t_real + self.eff_real[best_row].sum(axis=0))[None, :])[0])
+            best_value = self._norm_of(t_real + self.eff_real[best_row].sum(axis=0))
         if k == 0:
-            value = float(self._norm(t_real[None, :])[0])
+            value = self._norm_of(t_real)
             if value > radius:
                 return None
             return self._selection(0, target, np.zeros(0, dtype=np.int64), value, value, True)
@@ -533,7 +536,15 @@ class PlacementSearch:
         if rows is None:
             return None, np.inf, False
         total = t_real + self.eff_real[rows].sum(axis=0)
-        return rows, float(self._norm(total[None, :])[0]), stopped
+        return rows, self._norm_of(total), stopped
+
+    def _norm_of(self, real: np.ndarray) -> float:
+        """The chosen norm of one real vector (real parts, then imaginary), as :meth:`_norm`."""
+        if self.norm == "euclidean" and len(real) == 2:
+            # The same products, sum and square root as _norm, in Python floats.
+            x, y = float(real[0]), float(real[1])
+            return math.sqrt(x * x + y * y)
+        return float(self._norm(real[None, :])[0])
 
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
@@ -551,12 +562,19 @@ class PlacementSearch:
     def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
                    lower: float, proven: bool) -> Selection:
         counts: dict[tuple[int, int], int] = {}
-        for placement in row:
-            key = (int(self.pos_of[placement]), int(self.item_of[placement]))
-            counts[key] = counts.get(key, 0) + 1
+        if len(row):
+            if self._lists is None:
+                self._lists = (self.pos_of.tolist(), self.item_of.tolist())
+            pos, item = self._lists
+            for placement in np.asarray(row).tolist():
+                key = (pos[placement], item[placement])
+                counts[key] = counts.get(key, 0) + 1
         parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
         residual = residual_of(target, self.effects, parts)
-        value = float(self._norm(_as_real(residual[None, :]))[0])
+        if len(residual) == 1:
+            value = self._norm_of(np.array([residual[0].real, residual[0].imag]))
+        else:
+            value = self._norm_of(_as_real(residual[None, :])[0])
         mass = float(self.mass[np.asarray(row, dtype=np.int64)].sum()) if len(row) else 0.0
         return Selection(k, parts, residual, value, float(lower), proven, mass)
 
