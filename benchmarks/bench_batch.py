@@ -24,7 +24,7 @@ Scaling: the same line with 12, 36 and 72 positions and 5 sizes
 ("washers-steel") or 12 sizes ("rim-clips-5g", 5 to 60 g), capacity 3, up to
 4 parts, ``jobs=1``: the batch rate, and the time of one front
 (``BatchSolver.solve`` alone, the median) beside the time of the
-first rotor, which pays for building the tables and their k-d trees (both
+first rotor, which pays for building the grid of pairs (both
 over the first 40 rows; "steady /s" is 1000 / median).  "rotors/s" is the
 whole batch of that case, first rotor included.  "per CPU-s" is rows over the CPU time of this
 process and its workers: it is less disturbed than the wall-clock rate by
@@ -62,6 +62,8 @@ from placer.io.catalogfile import read_catalog, resolve_catalog  # noqa: E402
 
 TARGET_PER_CORE = 500.0
 """Rotors per second per core the batch is meant to reach on the 12-hole line."""
+SCALING_TARGETS = {("12", "5"): 5000.0, ("36", "12"): 300.0, ("72", "12"): 60.0}
+"""Rotors per CPU-second on one core the scaling cases are meant to reach (issue 10)."""
 
 
 def template_text(positions: int, catalog: str) -> str:
@@ -181,6 +183,7 @@ def side_by_side(args: argparse.Namespace, argv: list[str]) -> int:
     sources = {"base": str(Path(args.baseline).resolve()), "new": str(REPO)}
     print("$ python benchmarks/bench_batch.py " + " ".join(argv))
     rates: dict[str, dict[tuple[str, str], list[float]]] = {"base": {}, "new": {}}
+    per_cpu: dict[str, dict[tuple[str, str], list[float]]] = {"base": {}, "new": {}}
     for round_ in range(args.rounds):
         for engine, source in sources.items():
             command = [sys.executable, str(Path(__file__).resolve()), "--source", source,
@@ -193,12 +196,20 @@ def side_by_side(args: argparse.Namespace, argv: list[str]) -> int:
                 cells = line.split()
                 if len(cells) == 8 and cells[0].isdigit():
                     rates[engine].setdefault((cells[0], cells[1]), []).append(float(cells[6]))
-    print(f"\nrotors/s on one core (whole batch, median over {args.rounds} round(s))")
-    print(f"{'positions':>9} {'sizes':>5} {'base':>9} {'new':>9} {'new/base':>8}")
+                    per_cpu[engine].setdefault((cells[0], cells[1]), []).append(float(cells[7]))
+    print(f"\nrotors/s on one core (whole batch, median over {args.rounds} round(s)): wall "
+          "clock, and per CPU-second of the process")
+    print(f"{'positions':>9} {'sizes':>5} {'base':>9} {'new':>9} {'new/base':>8} "
+          f"{'base CPU':>9} {'new CPU':>9} {'new/base':>8} {'target':>7}")
     for key, base in rates["base"].items():
         new = rates["new"].get(key, [])
         b, n = statistics.median(base), statistics.median(new) if new else float("nan")
-        print(f"{key[0]:>9} {key[1]:>5} {b:>9.0f} {n:>9.0f} {n / b:>8.2f}")
+        bc = statistics.median(per_cpu["base"][key])
+        nc = statistics.median(per_cpu["new"][key]) if new else float("nan")
+        target = SCALING_TARGETS.get(key)
+        verdict = "" if target is None else f"{target:.0f} {'pass' if nc >= target else 'FAIL'}"
+        print(f"{key[0]:>9} {key[1]:>5} {b:>9.0f} {n:>9.0f} {n / b:>8.2f} {bc:>9.0f} {nc:>9.0f} "
+              f"{nc / bc:>8.2f} {verdict:>7}")
     return 0
 
 

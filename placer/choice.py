@@ -179,7 +179,8 @@ def _mass(search: PlacementSearch, entry: Selection) -> float:
 
 def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None, aim: Aim, *,
                 effort: float = DEFAULT_EFFORT, search: PlacementSearch | None = None,
-                stock: np.ndarray | None = None, parts: int | None = None) -> Choice:
+                stock: np.ndarray | None = None, parts: int | None = None,
+                tradeoff: bool = True) -> Choice:
     """Plan one plane by the rule of the module notes.
 
     Parameters
@@ -201,6 +202,14 @@ def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None
     parts : int, optional
         Choose the plan of this many parts instead (the lightest within the
         aim when that count reaches it, else the least residual).
+    tradeoff : bool
+        Whether the whole trade-off is wanted (the front to ``max_parts`` and
+        the lightest plans of every count past the chosen one).  Without it
+        the front ends at the first count that reaches the aim: the plan
+        chosen is the same (the rule never looks past that count when one
+        reaches the aim, and each count's entry depends only on the counts
+        before it), only ``front`` and ``lighter`` are shorter (a batch
+        prints the plan alone).
 
     Returns
     -------
@@ -209,7 +218,8 @@ def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None
     if search is None:
         search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, max_parts,
                                  masses=arrays.masses)
-    front, work, method = exact_front(arrays, max_parts, effort, search, stock)
+    end_at = None if tradeoff or parts is not None else aim.radius_gmm
+    front, work, method = exact_front(arrays, max_parts, effort, search, stock, end_at)
     residuals = [e.residual_norm for e in front]
     budget = int(DEFAULT_WORK * effort)
     proven = all(e.proven for e in front)

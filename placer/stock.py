@@ -77,6 +77,9 @@ class PlanePlanner:
     drawer : dict of str to int, optional
         Parts left in each drawer (by stock key) when they are fewer than the
         catalogue's stock: a production line drawing its drawers down.
+    tradeoff : bool
+        Whether each choice keeps the whole trade-off (see
+        :func:`placer.choice.choose_plan`); a batch wants the plan alone.
     memo : dict
         The choices found so far, by the stock they were found with.
     """
@@ -89,6 +92,7 @@ class PlanePlanner:
     effort: float = DEFAULT_EFFORT
     parts: int | None = None
     drawer: dict[str, int] | None = None
+    tradeoff: bool = True
     memo: dict[tuple[int, ...], Choice] = field(default_factory=dict, repr=False)
 
     @classmethod
@@ -114,9 +118,12 @@ class PlanePlanner:
                                  masses=arrays.masses)
         return cls(plane, arrays, search, tolerance_gmm, aim, effort, parts)
 
+    def __post_init__(self) -> None:
+        self._keys = tuple(item.stock_key for item in self.plane.catalog.items)
+
     def keys(self) -> tuple[str, ...]:
         """The drawer of each of the plane's catalogue columns."""
-        return tuple(item.stock_key for item in self.plane.catalog.items)
+        return self._keys
 
     def choice(self, caps: dict[str, int] | None = None) -> Choice:
         """The plane's choice with at most ``caps[key]`` parts from each drawer named.
@@ -127,11 +134,7 @@ class PlanePlanner:
             Parts the plane may take from a drawer (by stock key); drawers not
             named keep the plane's own stock.
         """
-        stock = self.arrays.stock.copy()
-        for column, key in enumerate(self.keys()):
-            for limits in (self.drawer, caps):
-                if limits and key in limits:
-                    stock[column] = min(stock[column], limits[key])
+        stock = self.stock(caps)
         signature = tuple(int(v) for v in stock)
         if signature in self.memo:
             return self.memo[signature]
@@ -143,9 +146,25 @@ class PlanePlanner:
                 return known
         found = choose_plan(self.arrays, self.plane.max_parts, self.tolerance_gmm, self.aim,
                             effort=self.effort, search=self.search, stock=stock,
-                            parts=self.parts)
+                            parts=self.parts, tradeoff=self.tradeoff)
         self.memo[signature] = found
         return found
+
+    def stock(self, caps: dict[str, int] | None = None) -> np.ndarray:
+        """Parts of each catalogue column the plane may take: its own stock, less what
+        is left in the drawers, at most ``caps[key]`` from each drawer named.
+
+        Parameters
+        ----------
+        caps : dict of str to int, optional
+            Parts the plane may take from a drawer (by stock key).
+        """
+        stock = self.arrays.stock.copy()
+        for column, key in enumerate(self.keys()):
+            for limits in (self.drawer, caps):
+                if limits and key in limits:
+                    stock[column] = min(stock[column], limits[key])
+        return stock
 
     def column_use(self, choice: Choice) -> list[int]:
         """Parts of each column the choice fits (parts taken off are not drawn from stock).

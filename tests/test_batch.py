@@ -459,40 +459,6 @@ def test_mass_columns_at_the_plane_radius(tmp_path, template):
     assert reading.line == 2 and reading.serial == "WM-M-1"
 
 
-@pytest.mark.parametrize("capacity, stock", [(3, 30), (1, 2), (2, 1)])
-def test_tabulated_front_equals_the_search(capacity, stock):
-    # The batch's table lookup against placer.engine.search's own head-and-pair search,
-    # every entry of the front, on the 12-hole washer plane (masses of
-    # catalogs/washers-steel.toml) and with capacity or stock binding.
-    from placer.engine.tabulated import TabulatedSearch
-
-    masses = np.array([1.02, 1.83, 3.57, 6.27, 11.30])
-    unit = 150.0 * np.exp(1j * np.radians(np.arange(12) * 30.0))
-    effects = -(unit[:, None] * masses[None, :])[:, :, None]
-    cap = np.full(12, capacity)
-    cap[4] = 0  # one blocked hole
-    stock_of = np.full(5, stock)
-    tabulated = TabulatedSearch(effects, cap, stock_of, 4)
-    searched = TabulatedSearch(effects, cap, stock_of, 4, tabulate_max=0)
-    assert tabulated.tabulated and not searched.tabulated
-    rng = np.random.default_rng(5)
-    for _ in range(30):
-        target = np.array([complex(*rng.normal(0.0, 2500.0, 2))])
-        fast, slow = tabulated.front(target), searched.front(target)
-        for a, b in zip(fast.entries, slow.entries):
-            assert a.residual_norm == pytest.approx(b.residual_norm, abs=1e-9)
-            assert a.proven and b.proven
-        for entry in fast.entries:
-            used_at = {}
-            for position, item, count in entry.parts:
-                used_at[position] = used_at.get(position, 0) + count
-            assert all(n <= cap[p] for p, n in used_at.items())
-            per_item = {}
-            for _, item, count in entry.parts:
-                per_item[item] = per_item.get(item, 0) + count
-            assert all(n <= stock for n in per_item.values())
-
-
 def test_template_reads_as_the_job_reader_reads_it(tmp_path):
     # read_template repeats read_job's steps; with corrections given, the two
     # must give the same job but for the corrections, which the batch zeroes.
@@ -897,3 +863,38 @@ def test_parts_used_per_drawer_across_merged_catalogues(tmp_path):
     assert len(keys) == len(set(keys))
     assert ("shared drawer", "L") in keys
     assert all(catalog in ("shared drawer", "holes") for catalog, _ in keys)
+
+
+@pytest.mark.parametrize("positions, catalog, grade, max_parts, seed", [
+    (12, "washers-steel", '"G6.3"', 4, 11),
+    (36, "rim-clips-5g", '"G6.3"', 4, 12),
+    (24, "rim-clips-5g", '"G2.5"', 5, 13),
+    (12, "washers-steel", None, 4, 14),
+])
+def test_batch_plan_is_the_single_solve_plan(tmp_path, positions, catalog, grade, max_parts,
+                                             seed):
+    # The batch searches only up to the count it prints (no trade-off table): every
+    # rotor's plan, its kind (least residual or lightest) and residual must still be the
+    # plan `placer solve` chooses for that rotor alone (read_job + solve_job, the whole
+    # trade-off).  Seeded random rotors, with and without a tolerance.
+    rotor = ('[rotor]\nname = "Wrenmoor test hub"\nmass_kg = 8.0\nservice_rpm = 1480\n'
+             + (f"grade = {grade}\n" if grade else ""))
+    plane = (f'[[planes]]\nname = "hub"\nradius_mm = 150.0\npositions = {positions}\n'
+             f'capacity = 3\ncatalog = "{catalog}"\nmax_parts = {max_parts}\n')
+    (tmp_path / "t.toml").write_text(rotor + "\n" + plane, encoding="utf-8")
+    solver = BatchSolver(read_template(tmp_path / "t.toml"))
+    reach = (11.30 if catalog == "washers-steel" else 60.0) * 150.0
+    rng = random.Random(seed)
+    for i in range(20):
+        gmm, angle = round(rng.uniform(0.0, 3.0 * reach), 2), round(rng.uniform(0.0, 360.0), 1)
+        (tmp_path / "one.toml").write_text(
+            rotor + "\n" + plane + f"correction = {{ gmm = {gmm!r}, angle_deg = {angle!r} }}\n",
+            encoding="utf-8")
+        want = solve_job(read_job(tmp_path / "one.toml")).planes[0].chosen
+        reading = RotorReading(i + 2, f"R{i}", (gmm * complex(math.cos(math.radians(angle)),
+                                                                math.sin(math.radians(angle))),))
+        got = solver.solve(reading)[0].planes[0].option
+        assert [(p.position, p.item, p.count) for p in got.parts] == \
+            [(p.position, p.item, p.count) for p in want.parts]
+        assert got.kind == want.kind
+        assert got.residual_gmm == pytest.approx(want.residual_gmm, abs=1e-9)

@@ -122,3 +122,44 @@ def test_resume_keeps_the_drawer_where_it_was(tmp_path):
     assert again == expected
     assert summary.short_from == whole.short_from
     assert summary.drawers_left == whole.drawers_left
+
+
+def test_random_line_drawn_down_against_single_jobs(tmp_path):
+    # A longer seeded line whose six drawers empty one after another: the batch plans
+    # with a search built without the items that ran out; each rotor's plan must be the
+    # plan of its own job file (placer solve) with the catalogue's stock set by hand to
+    # what the rotors before it left.
+    import random
+
+    masses = [2.0, 3.5, 5.0, 8.0, 12.0, 20.0]
+    stock = [6, 5, 4, 4, 3, 2]
+
+    def catalogue(left: list[int]) -> str:
+        return 'name = "line clips"\n' + "".join(
+            f'[[items]]\nid = "C{i}"\nmass_g = {m}\nstock = {n}\n'
+            for i, (m, n) in enumerate(zip(masses, left)))
+
+    template = TEMPLATE.replace("positions = 12", "positions = 24").replace(
+        "max_parts = 3", "max_parts = 4").replace('"drawer.toml"', '"clips.toml"')
+    (tmp_path / "clips.toml").write_text(catalogue(stock), encoding="utf-8")
+    (tmp_path / "hub.toml").write_text(template, encoding="utf-8")
+    rng = random.Random(31)
+    rows = [(f"L{i}", round(rng.uniform(2.0, 45.0), 2), round(rng.uniform(0.0, 360.0), 1))
+            for i in range(30)]
+    readings = [RotorReading(i + 2, s, (polar(m * 150.0, a),)) for i, (s, m, a) in
+                enumerate(rows)]
+    outcomes = list(solve_readings(read_template(tmp_path / "hub.toml"), readings, jobs=1))
+    left = list(stock)
+    for outcome, (serial, mass, angle) in zip(outcomes, rows):
+        (tmp_path / "clips.toml").write_text(catalogue(left), encoding="utf-8")
+        (tmp_path / "job.toml").write_text(template + f"correction = {{ mass_g = {mass}, "
+                                           f"angle_deg = {angle} }}\n", encoding="utf-8")
+        expected = solve_job(read_job(tmp_path / "job.toml")).planes[0].chosen
+        got = outcome.planes[0].option
+        assert [(p.position, p.item, p.count) for p in got.parts] == \
+            [(p.position, p.item, p.count) for p in expected.parts], serial
+        for p in got.parts:
+            left[int(p.item[1:])] -= p.count
+        assert min(left) >= 0
+    # The drawers ran out along the line (the narrowed searches were used).
+    assert sum(left) < sum(stock) // 2 and left.count(0) >= 2

@@ -5,8 +5,8 @@ How a rotor is solved (Notes)
 -----------------------------
 * Everything that does not depend on the correction is built once per
   process for the whole batch: per plane one
-  :class:`placer.engine.tabulated.TabulatedSearch` (placements, pair table;
-  for a small plane the table of all its selections), the plane's tolerance
+  :class:`placer.engine.search.PlacementSearch` (placements, the grid of
+  their pairs), the plane's tolerance
   (:func:`placer.tolerance.job_tolerances`, as for ``placer solve``) and its
   aim share.
 * Per rotor and plane only the target changes: the rotor's correction plus
@@ -36,13 +36,13 @@ import numpy as np
 
 from placer.choice import aim_of
 from placer.engine.arrays import PlaneArrays, option_of, plane_arrays
-from placer.engine.tabulated import TabulatedSearch
+from placer.engine.search import PlacementSearch
 from placer.errors import JobError
 from placer.job import Job, PlaneJob
 from placer.limits import DEFAULT_EFFORT
 from placer.plan import LIGHTEST, PlanOption
 from placer.solve import aim_share_of
-from placer.stock import PlanePlanner, share_stock
+from placer.stock import PlanePlanner, share_stock, shared_stock_groups
 from placer.tolerance import job_tolerances
 
 
@@ -258,7 +258,11 @@ class BatchSolver:
         self.effort = float(effort)
         self.tolerances_gmm = tuple(p.tolerance_gmm for p in job_tolerances(template).planes)
         self.shares = tuple(aim_share_of(template, p, None) for p in template.planes)
+        # Planes that draw on one drawer are planned together (placer.stock); with none
+        # there is nothing to share.
+        self.shares_stock = bool(shared_stock_groups(template.planes))
         self.searches = []
+        self._narrowed: list[dict[tuple[bool, ...], PlacementSearch]] = []
         self.arrays: list[PlaneArrays] = []
         self.offsets_gmm: list[complex] = []
         for number, plane in enumerate(template.planes, start=1):
@@ -271,9 +275,10 @@ class BatchSolver:
                                "cannot serve the batch", file=template.source,
                                key=f"planes[{number}]",
                                expected="a plane whose parts do not change with the correction")
-            self.searches.append(TabulatedSearch(arrays.effects, arrays.capacity, arrays.stock,
+            self.searches.append(PlacementSearch(arrays.effects, arrays.capacity, arrays.stock,
                                                  plane.max_parts, masses=arrays.masses))
             self.arrays.append(arrays)
+            self._narrowed.append({})
             # The target is linear in the correction: correction + its value at zero.
             self.offsets_gmm.append(complex(_row_plane(plane, 0j).further_correction_gmm))
 
@@ -287,6 +292,27 @@ class BatchSolver:
         for search in self.searches:
             if search.n:
                 search.front(np.array([2.5 * complex(search.mag.max())]))
+
+    def _search_for(self, index: int, stock: np.ndarray) -> PlacementSearch:
+        """The search of plane ``index`` over the items that ``stock`` still has.
+
+        A drawn-down drawer empties its items one by one; the placements of
+        an empty item can take no part, so a search built without them (its
+        grid of pairs smaller, its bounds tighter) gives the same least
+        residuals, found sooner.  One is built per set of items left, at
+        most once per item that runs out, and kept.
+        """
+        full = self.searches[index]
+        left = tuple(bool(v > 0) for v in stock)
+        if all(left[column] for column in range(len(left)) if full.stock[column] > 0):
+            return full
+        narrowed = self._narrowed[index]
+        if left not in narrowed:
+            arrays = self.arrays[index]
+            narrowed[left] = PlacementSearch(arrays.effects, arrays.capacity,
+                                             np.where(left, arrays.stock, 0), full.max_parts,
+                                             masses=arrays.masses)
+        return narrowed[left]
 
     def solve(self, reading: RotorReading,
               drawer: Drawer | None = None) -> tuple[RotorOutcome, dict[str, int]]:
@@ -317,9 +343,14 @@ class BatchSolver:
             aim = aim_of(tolerance, abs(arrays.target[0]), *self.shares[index])
             planners.append(PlanePlanner(plane, arrays, self.searches[index], tolerance, aim,
                                          self.effort,
-                                         drawer=None if drawer is None else drawer.left))
+                                         drawer=None if drawer is None else drawer.left,
+                                         tradeoff=False))
+            if drawer is not None:
+                planners[-1].search = self._search_for(index, planners[-1].stock())
         choices = [planner.choice() for planner in planners]
-        choices, together, _, short = share_stock(planners, choices, self.effort)
+        together, short = set(), ()
+        if self.shares_stock:
+            choices, together, _, short = share_stock(planners, choices, self.effort)
         planes = []
         for index, (planner, choice) in enumerate(zip(planners, choices)):
             option = option_of(planner.plane, choice.chosen, planner.arrays)

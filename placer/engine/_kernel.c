@@ -656,7 +656,7 @@ static int load_doubles(PyObject *seq, double *out, int size, const char *what) 
  *   query      = (t, tf, perp2, stock, k, maxnorm, lightest, bound_or_radius, stop,
  *                 best_mass, best_value, work_limit)
  * Returns (status, rows, value, mass, work): status 0 done (rows None if nothing beat the
- * incumbent), 1 over budget. */
+ * incumbent), 1 over budget, 2 stopped at a plan within `stop` (not every head examined). */
 static PyObject *k_search(PyObject *self, PyObject *args) {
     PyObject *table, *placements, *query;
     if (!PyArg_ParseTuple(args, "O!O!O!", &PyTuple_Type, &table, &PyTuple_Type, &placements,
@@ -769,7 +769,8 @@ static PyObject *k_search(PyObject *self, PyObject *args) {
     PyObject *best = PyTuple_New(s.k);
     if (!best) goto done;
     for (int j = 0; j < s.k; j++) PyTuple_SET_ITEM(best, j, PyLong_FromLong(s.best[j]));
-    result = Py_BuildValue("(iNddL)", 0, best, s.lightest ? s.best_val : s.U,
+    result = Py_BuildValue("(iNddL)", s.status == ST_STOP ? ST_STOP : 0, best,
+                           s.lightest ? s.best_val : s.U,
                            s.lightest ? s.best_mass : 0.0, (long long)s.work);
 done:
     free(counts);

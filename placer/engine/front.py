@@ -40,7 +40,8 @@ def is_proven(found: float, lower_bound: float) -> bool:
 
 def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFFORT,
                 search: PlacementSearch | None = None,
-                stock: np.ndarray | None = None) -> tuple[list[Selection], int, str]:
+                stock: np.ndarray | None = None,
+                reach: float | None = None) -> tuple[list[Selection], int, str]:
     """The front of one plane, proven where the search finishes within its effort.
 
     A part count the search declines (past its work budget) keeps the plan
@@ -59,6 +60,9 @@ def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFF
         A search built once for these arrays (batches); default a new one.
     stock : int array, optional
         Parts of each column on hand for this plane (default the arrays').
+    reach : float, optional
+        End the front at the first part count whose least residual is at most
+        this (:meth:`PlacementSearch.front`); default the whole front.
 
     Returns
     -------
@@ -72,7 +76,8 @@ def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFF
     if search is None:
         search = PlacementSearch(arrays.effects, arrays.capacity, arrays.stock, max_parts,
                                  masses=arrays.masses)
-    front = search.front(arrays.target, stock=stock, work=int(DEFAULT_WORK * effort))
+    front = search.front(arrays.target, stock=stock, work=int(DEFAULT_WORK * effort),
+                         reach=reach)
     entries = list(front.entries)
     method = ("exact search" if all(entry.proven for entry in entries)
               else "exact search (not proven past its budget)")
@@ -81,8 +86,11 @@ def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFF
         before, entry = entries[k - 1], entries[k]
         if entry.residual_norm > before.residual_norm:
             entry = replace(before, part_count=k)
-        entries[k] = replace(entry, proven=entry.proven and before.proven,
-                             lower_bound=min(entry.lower_bound, before.lower_bound))
+        proven = entry.proven and before.proven
+        lower = min(entry.lower_bound, before.lower_bound)
+        if proven != entry.proven or lower != entry.lower_bound:
+            entry = replace(entry, proven=proven, lower_bound=lower)
+        entries[k] = entry
     return entries, front.work, method
 
 

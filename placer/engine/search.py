@@ -67,6 +67,7 @@ neighbours.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -248,10 +249,12 @@ class PlacementSearch:
                              f"(rank {self.coords.shape[1] // 2}, {self.n_channels} channels)")
         span_mag = np.linalg.norm(self.coords, axis=1)
         # Suffix maxima: no placement from i on is larger in the span than this.
+        self._mag_max = float(self.mag.max(initial=0.0))
         self.span_mag = np.ascontiguousarray(np.maximum.accumulate(span_mag[::-1])[::-1]
                                              if self.n else span_mag)
         self._tables: dict[int, tuple | None] = {}
         self._index: dict[tuple[int, int], int] | None = None
+        self._lists: tuple[list[int], list[int]] | None = None
         self._stock = self.stock
         self._work = 0
         self._work_limit = DEFAULT_WORK
@@ -323,7 +326,8 @@ class PlacementSearch:
 
     # ----------------------------------------------------------------- search
     def front(self, target: np.ndarray, max_parts: int | None = None, *,
-              stock: np.ndarray | None = None, work: int = DEFAULT_WORK) -> Front:
+              stock: np.ndarray | None = None, work: int = DEFAULT_WORK,
+              reach: float | None = None) -> Front:
         """Least residual for each part count 0 .. max_parts for this ``target``.
 
         Parameters
@@ -340,33 +344,50 @@ class PlacementSearch:
             Work budget of each part count (head nodes, grid cells and rows
             looked at); a count that would pass it is declined and left
             unproven.
+        reach : float, optional
+            Stop after the first part count whose entry's residual is at
+            most this [as the target]: the entries up to it are the same as
+            the whole front's (each count is searched below the best of
+            fewer parts), and the counts after it are not searched.
 
         Returns
         -------
         Front
-            Entries for k = 0 .. max_parts.
+            Entries for k = 0 .. max_parts (.. the count that reached ``reach``).
         """
         self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
         target = np.atleast_1d(np.asarray(target, dtype=complex))
         t_real = _as_real(target[None, :])[0]
         best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
-        best_norm = float(self._norm(t_real[None, :])[0])
+        best_norm = self._norm_of(t_real)
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
+
+        def entry(k: int, lower: float, proven: bool) -> Selection:
+            """Entry k: the best rows so far (the last entry's, unless they changed)."""
+            last = entries[-1]
+            if entries_rows[-1] is best_rows[-1]:
+                return Selection(k, last.parts, last.residual, last.residual_norm,
+                                 float(lower), proven, last.mass)
+            entries_rows.append(best_rows[-1])
+            return self._selection(k, target, best_rows[-1], best_norm, lower, proven)
+
+        entries_rows = [best_rows[0]]
         method = "exact"
         total = 0
         stop = self._near_zero(best_norm)
         for k in range(1, k_max + 1):
+            if reach is not None and entries[-1].residual_norm <= reach:
+                break
             if best_norm <= stop or self.n == 0:
-                entries.append(self._selection(k, target, best_rows[-1], best_norm,
-                                               min(best_norm, entries[-1].lower_bound), True))
+                entries.append(entry(k, min(best_norm, entries[-1].lower_bound), True))
                 continue
             self._work = 0
             found = self._best_with(k, t_real, best_norm, stop)
             total += self._work
             if found is None:
                 method = "exact (not proven past its budget)"
-                entries.append(self._selection(k, target, best_rows[-1], best_norm, 0.0, False))
+                entries.append(entry(k, 0.0, False))
                 continue
             row, value, stopped = found
             if row is not None and value < best_norm:
@@ -374,13 +395,12 @@ class PlacementSearch:
                 best_norm = value
             # Every k-part selection that could beat best_norm was examined, unless the
             # search stopped at a plan within the proof tolerance of zero.
-            entries.append(self._selection(k, target, best_rows[-1], best_norm,
-                                           0.0 if stopped else best_norm, True))
+            entries.append(entry(k, 0.0 if stopped else best_norm, True))
         return Front(tuple(entries), total, method)
 
     def _near_zero(self, target_norm: float) -> float:
         """The residual at or below which a plan is proven as found (see the notes)."""
-        size = max(target_norm, float(self.mag.max(initial=0.0)))
+        size = max(target_norm, self._mag_max)
         return max(min(ABS_TOL, REL_TOL * size), 1e-12 * size)
 
     def lightest(self, target: np.ndarray, parts: int, radius: float, *,
@@ -422,15 +442,15 @@ class PlacementSearch:
         t_real = _as_real(target[None, :])[0]
         k = int(parts)
         # Sums in another order differ in the last bits: a plan exactly at the radius counts.
-        size = max(float(self._norm(t_real[None, :])[0]), float(self.mag.max(initial=0.0)))
+        size = max(self._norm_of(t_real), self._mag_max)
         radius = float(radius) * (1.0 + 1e-12) + 1e-12 * size
         best_row, best_mass, best_value = None, np.inf, np.inf
         if known is not None:
             best_row = self.rows_of(known)
             best_mass = float(self.mass[best_row].sum())
-            best_value = float(self._norm((t_real + self.eff_real[best_row].sum(axis=0))[None, :])[0])
+            best_value = self._norm_of(t_real + self.eff_real[best_row].sum(axis=0))
         if k == 0:
-            value = float(self._norm(t_real[None, :])[0])
+            value = self._norm_of(t_real)
             if value > radius:
                 return None
             return self._selection(0, target, np.zeros(0, dtype=np.int64), value, value, True)
@@ -516,11 +536,24 @@ class PlacementSearch:
         if rows is None:
             return None, np.inf, False
         total = t_real + self.eff_real[rows].sum(axis=0)
-        return rows, float(self._norm(total[None, :])[0]), stopped
+        return rows, self._norm_of(total), stopped
+
+    def _norm_of(self, real: np.ndarray) -> float:
+        """The chosen norm of one real vector (real parts, then imaginary), as :meth:`_norm`."""
+        if self.norm == "euclidean" and len(real) == 2:
+            # The same products, sum and square root as _norm, in Python floats.
+            x, y = float(real[0]), float(real[1])
+            return math.sqrt(x * x + y * y)
+        return float(self._norm(real[None, :])[0])
 
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
         if self.norm == "euclidean":
+            if real_rows.shape[1] == 2:
+                # One channel: the same sum of squares np.linalg.norm forms, without its
+                # overhead (the bits are the same: one addition, one square root).
+                x, y = real_rows[:, 0], real_rows[:, 1]
+                return np.sqrt(x * x + y * y)
             return np.linalg.norm(real_rows, axis=1)
         c = real_rows.shape[1] // 2
         return np.sqrt((real_rows[:, :c] ** 2 + real_rows[:, c:] ** 2).max(axis=1))
@@ -529,12 +562,19 @@ class PlacementSearch:
     def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
                    lower: float, proven: bool) -> Selection:
         counts: dict[tuple[int, int], int] = {}
-        for placement in row:
-            key = (int(self.pos_of[placement]), int(self.item_of[placement]))
-            counts[key] = counts.get(key, 0) + 1
+        if len(row):
+            if self._lists is None:
+                self._lists = (self.pos_of.tolist(), self.item_of.tolist())
+            pos, item = self._lists
+            for placement in np.asarray(row).tolist():
+                key = (pos[placement], item[placement])
+                counts[key] = counts.get(key, 0) + 1
         parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
         residual = residual_of(target, self.effects, parts)
-        value = float(self._norm(_as_real(residual[None, :]))[0])
+        if len(residual) == 1:
+            value = self._norm_of(np.array([residual[0].real, residual[0].imag]))
+        else:
+            value = self._norm_of(_as_real(residual[None, :])[0])
         mass = float(self.mass[np.asarray(row, dtype=np.int64)].sum()) if len(row) else 0.0
         return Selection(k, parts, residual, value, float(lower), proven, mass)
 

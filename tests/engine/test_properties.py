@@ -20,7 +20,6 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-
 from search_modes import NEAR_ZERO
 
 from placer.engine.search import PlacementSearch
@@ -282,31 +281,3 @@ def test_batch_records_recomputed_by_hand(numbers, rows):
         for p in plane["fitted"]:  # the listed part is the job's own position and item
             assert p["angle_deg"] == pytest.approx(angles[p["position"] - 1] % 360.0)
             assert p["mass_g"] == masses[int(p["item"][1:])]
-
-
-def small_instances():
-    """Instances brute force enumerates in milliseconds: at most 18 placements, 3 parts."""
-    return instances(max_positions=6, max_items=3, max_magnitude=120.0, max_parts=3)
-
-
-@SETTINGS
-@given(small_instances())
-def test_batch_table_path_against_enumeration(inst):
-    # The batch's fast path (every selection tabulated, one k-d tree query per
-    # part count) against brute-force enumeration of every plan (tests/oracle.py).
-    from oracle import brute_front
-
-    from placer.engine.tabulated import TabulatedSearch
-
-    angles, radii, masses, capacity, stock, target, k = inst
-    effects = effects_of(angles, radii, masses)
-    search = TabulatedSearch(effects, capacity, stock, k)
-    assert search.tabulated or search.n == 0
-    front = search.front(np.array([target]))
-    truth = brute_front(effects, np.array([target]), capacity, stock, k)
-    scale = max(abs(target), float(radii.max() * masses.max()))
-    for entry, best in zip(front.entries, truth):
-        assert entry.residual_norm == pytest.approx(best, rel=1e-9, abs=1e-9 * scale)
-        again = by_hand_gmm(target, entry.parts, angles, radii, masses)
-        assert abs(again) == pytest.approx(entry.residual_norm, rel=1e-9, abs=1e-9 * scale)
-        assert entry.proven
