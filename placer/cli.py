@@ -795,10 +795,9 @@ def _new(args: argparse.Namespace) -> int:
         for path in copy_examples(args.names, Path(args.folder), force=args.force):
             print(f"placer: wrote {path}", file=sys.stderr)
         return EXIT_OK
-    path = Path(args.file)
-    if path.exists() and not args.force:
-        raise InputError(f"'{path}' exists", option="file",
-                         expected="a new file name, or {opt:force} to replace it")
+    from placer.io.outputs import check_target
+
+    path = check_target(Path(args.file), "file", force=args.force)  # before any question
     imperial = args.units == "imperial" or (args.units is None and args.radius_in is not None)
     answers = {"name": args.name, "positions": args.positions,
                "radius": args.radius_in if args.radius_in is not None else args.radius_mm,

@@ -90,6 +90,10 @@ class JobError(InputError):
     """A job file is missing, unreadable or holds a bad value."""
 
 
+class OutputError(InputError):
+    """An output file cannot be written where asked; what was there is unchanged."""
+
+
 class CatalogError(InputError):
     """A catalogue file or name is missing, unreadable or holds a bad value."""
 

@@ -85,3 +85,8 @@ MIN_WIDTH = 40
 MAX_SLOTS = 120
 """Most slots (and blades) on one disc for ``placer blades``: the printed sheet names
 every blade round the disc, which stays legible up to this count."""
+
+MAX_NAME_BYTES = 255
+"""Longest name of one file or folder that placer writes [bytes, encoded as the file
+system encodes it]: NAME_MAX of Linux and of the common file systems (ext4, XFS, APFS,
+NTFS counts 255 UTF-16 units), see REFERENCES.md [POSIX]."""

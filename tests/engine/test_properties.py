@@ -20,7 +20,6 @@ import numpy as np
 import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
-
 from search_modes import NEAR_ZERO
 
 from placer.engine.search import PlacementSearch

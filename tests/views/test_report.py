@@ -24,7 +24,6 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-
 from layoutcheck import overlapping
 from sessions import rect, session_toml, write
 
