@@ -569,6 +569,10 @@ def _field(args: argparse.Namespace) -> int:
 
         check_report_path(Path(args.sheet), force=args.force)
     path = _db(args)
+    if args.save and args.db:
+        from placer.io.outputs import check_target
+
+        check_target(path, "db", force=True)     # the history is added to, never replaced
     with _deadline(args.time_limit, "before the plan was final; nothing is printed or saved"):
         result = solve_visit(session, path, effort=args.effort)
     db = record = None
