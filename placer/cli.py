@@ -581,6 +581,10 @@ def _field(args: argparse.Namespace) -> int:
         db, record = open_for_saving(result, path)
     try:
         pages = _report_pages(result, record) if args.sheet is not None else None
+        if pages is not None:       # every page's file checked before anything is printed
+            from placer.views.sheet.files import sheet_paths
+
+            sheet_paths(Path(args.sheet), len(pages), force=args.force)
         if args.json:
             from placer.io.jsonout import field_dict
 

@@ -78,7 +78,8 @@ from __future__ import annotations
 import hashlib
 import os
 import time
-from collections.abc import Callable
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
 from dataclasses import asdict, dataclass
 from pathlib import Path
 from typing import Any, TextIO
@@ -93,7 +94,7 @@ from placer.batch import (
     solve_readings,
     usable_cores,
 )
-from placer.errors import InputError
+from placer.errors import InputError, OutputError
 from placer.io.batchreadings import RowError, read_readings
 from placer.io.batchrecords import csv_header, csv_row, outcome_record, record_parts
 from placer.io.batchresume import (
@@ -110,7 +111,7 @@ from placer.io.batchresume import (
     text_digest,
 )
 from placer.io.jobfile import read_job
-from placer.io.outputs import check_target, replacing, write_text
+from placer.io.outputs import check_target, reason, replacing, write_text
 from placer.io.tables import json_text
 from placer.limits import DEFAULT_EFFORT
 
@@ -311,64 +312,78 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
     errors = [row for row in rows if isinstance(row, RowError)]
     errors_text = "".join(csv_line(cells) for cells in [["line", "serial", "message"]] + [
         [str(row.line), row.serial or "", row.message] for row in errors])
-    log = None
-    if resume:
-        if os.path.lexists(paths.results_jsonl):
-            log = read_log(paths.results_jsonl, digest, n_planes)
-            check_unchanged(log.records, rows, paths.results_jsonl)
-        check_outputs(paths, log, n_planes, errors_text)
-    done: list[dict[str, Any]] = [] if log is None else log.records
-    run = _start_log(paths.results_jsonl, log, digest, readings_path, errors_text, force)
-    write_text(paths.errors_csv, errors_text, "out", force=True, what="errors file")
-    paths.summary_json.unlink(missing_ok=True)
-    tally = BatchTally(template)
-    for record in done:
-        tally.add(record["within_tolerance"], record_parts(record), record["serial"],
-                  [(d["catalog"], d["item"], d["count"]) for d in record.get("drawer_left", [])],
-                  bool(record.get("full_drawer")))
-    done_serials = {record["serial"] for record in done}
-    todo = [row for row in rows
-            if isinstance(row, RotorReading) and row.serial not in done_serials]
-    already = sum(1 for row in rows if isinstance(row, RotorReading)
-                  and row.serial in done_serials)
-    table = [csv_line(csv_header(n_planes))] + [csv_line(csv_row(record)) for record in done]
-    write_text(paths.results_csv, "".join(table), "out", force=True, what="results table")
-    del table
-    ready = None if progress is None else (lambda: progress(0, len(todo)))
-    stopped: BaseException | None = None
-    # The table is written whole at the end, or when the batch is stopped (time limit,
-    # Ctrl-C); the log keeps every rotor as it is solved, for --resume after a kill.
-    with paths.results_jsonl.open("a", encoding="utf-8", newline="\n") as jsonl, replacing(
-            paths.results_csv, "out", force=True, text=True, what="results table") as table:
-        table.write(csv_line(csv_header(n_planes)))
+    with _one_line(paths):
+        log = None
+        if resume:
+            if os.path.lexists(paths.results_jsonl):
+                log = read_log(paths.results_jsonl, digest, n_planes)
+                check_unchanged(log.records, rows, paths.results_jsonl)
+            check_outputs(paths, log, n_planes, errors_text)
+        done: list[dict[str, Any]] = [] if log is None else log.records
+        run = _start_log(paths.results_jsonl, log, digest, readings_path, errors_text, force)
+        write_text(paths.errors_csv, errors_text, "out", force=True, what="errors file")
+        paths.summary_json.unlink(missing_ok=True)
+        tally = BatchTally(template)
         for record in done:
-            table.write(csv_line(csv_row(record)))
-        try:
-            outcomes = solve_readings(template, todo, jobs, effort, start_method=start_method,
-                                      used=drawer_use(template, done), on_ready=ready)
-            for count, outcome in enumerate(outcomes, start=1):
-                record = outcome_record(outcome, digest)
-                _write_line(jsonl, json_text(record) + "\n")
+            left = [(d["catalog"], d["item"], d["count"]) for d in record.get("drawer_left", [])]
+            tally.add(record["within_tolerance"], record_parts(record), record["serial"], left,
+                      bool(record.get("full_drawer")))
+        done_serials = {record["serial"] for record in done}
+        todo = [row for row in rows
+                if isinstance(row, RotorReading) and row.serial not in done_serials]
+        already = sum(1 for row in rows if isinstance(row, RotorReading)
+                      and row.serial in done_serials)
+        table = [csv_line(csv_header(n_planes))] + [csv_line(csv_row(record)) for record in done]
+        write_text(paths.results_csv, "".join(table), "out", force=True, what="results table")
+        del table
+        ready = None if progress is None else (lambda: progress(0, len(todo)))
+        stopped: BaseException | None = None
+        # The table is written whole at the end, or when the batch is stopped (time limit,
+        # Ctrl-C); the log keeps every rotor as it is solved, for --resume after a kill.
+        with paths.results_jsonl.open("a", encoding="utf-8", newline="\n") as jsonl, replacing(
+                paths.results_csv, "out", force=True, text=True, what="results table") as table:
+            table.write(csv_line(csv_header(n_planes)))
+            for record in done:
                 table.write(csv_line(csv_row(record)))
-                tally.add_outcome(outcome)
-                if progress is not None:
-                    progress(count, len(todo))
-        except BaseException as exc:        # noqa: BLE001 - the rotors so far are kept
-            stopped = exc
-        jsonl.flush()
-        os.fsync(jsonl.fileno())     # the log is on the disk before the table that shows it
-    if stopped is not None:
-        raise stopped
-    summary = tally.summary(rows_read=len(rows), already_done=already, errors=len(errors),
-                            elapsed_s=time.perf_counter() - started,
-                            jobs=processes_used(jobs, len(todo)))
-    document = {"run": run, "template": str(template_path), "template_digest": digest,
-                "readings": str(readings_path), **asdict(summary),
-                "solved_now": len(todo),
-                "outputs": {k: str(v) for k, v in asdict(paths).items()}}
-    write_text(paths.summary_json, json_text(document, indent=2) + "\n", "out", force=True,
-               what="summary")
+            try:
+                outcomes = solve_readings(template, todo, jobs, effort, start_method=start_method,
+                                          used=drawer_use(template, done), on_ready=ready)
+                for count, outcome in enumerate(outcomes, start=1):
+                    record = outcome_record(outcome, digest)
+                    _write_line(jsonl, json_text(record) + "\n")
+                    table.write(csv_line(csv_row(record)))
+                    tally.add_outcome(outcome)
+                    if progress is not None:
+                        progress(count, len(todo))
+            except BaseException as exc:        # noqa: BLE001 - the rotors so far are kept
+                stopped = exc
+            jsonl.flush()
+            os.fsync(jsonl.fileno())     # the log is on the disk before the table that shows it
+        if stopped is not None:
+            raise stopped
+        summary = tally.summary(rows_read=len(rows), already_done=already, errors=len(errors),
+                                elapsed_s=time.perf_counter() - started,
+                                jobs=processes_used(jobs, len(todo)))
+        document = {"run": run, "template": str(template_path), "template_digest": digest,
+                    "readings": str(readings_path), **asdict(summary),
+                    "solved_now": len(todo),
+                    "outputs": {k: str(v) for k, v in asdict(paths).items()}}
+        write_text(paths.summary_json, json_text(document, indent=2) + "\n", "out", force=True,
+                   what="summary")
     return summary, paths
+
+
+@contextmanager
+def _one_line(paths: BatchPaths) -> Iterator[None]:
+    """An operating-system error while the outputs are read or written, as one line."""
+    try:
+        yield
+    except OSError as exc:
+        name = exc.filename or paths.results_jsonl
+        raise OutputError(f"'{name}' could not be read or written ({reason(exc)}); the "
+                          f"rotors solved so far are kept in '{paths.results_jsonl}'",
+                          option="out", expected="room and write access in its folder, then "
+                                                 "{opt:resume}") from None
 
 
 def _start_log(path: Path, log: RunLog | None, digest: str, readings_path: Path,

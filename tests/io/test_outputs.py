@@ -345,3 +345,28 @@ def _no_stray_cwd_files(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
     yield
     shutil.rmtree(tmp_path / "elsewhere", ignore_errors=True)
+
+
+def test_a_full_disk_in_the_middle_of_a_batch_is_one_line(tmp_path, capsys, monkeypatch):
+    # The log is appended row by row; ENOSPC from the third append [POSIX].
+    import placer.io.batchresults as batchresults
+
+    calls = []
+    real = batchresults._write_line
+
+    def full_on_third(handle, text):
+        calls.append(text)
+        if len(calls) == 3:
+            raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
+        real(handle, text)
+
+    monkeypatch.setattr(batchresults, "_write_line", full_on_third)
+    prefix = tmp_path / "run"
+    code = main(["batch", str(EXAMPLES / "fan-line-template.toml"),
+                 str(EXAMPLES / "fan-line-readings.csv"), "--jobs", "1", "--out", str(prefix)])
+    _, err = capsys.readouterr()
+    assert code == 2 and err.count("\n") == 1 and "the disk is full" in err, err
+    assert "--resume" in err and "Traceback" not in err
+    # The two rotors logged before are in the table written when the batch stopped.
+    assert Path(f"{prefix}.csv").read_text(encoding="utf-8").count("\n") == 1 + 2
+    assert leftovers(tmp_path) == []

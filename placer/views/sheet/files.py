@@ -2,9 +2,9 @@
 
 A ``.pdf`` holds every plane, one page each.  A ``.png`` or ``.svg`` holds one page: a
 one-plane job writes the path given, a job with several planes writes ``NAME-1.png``,
-``NAME-2.png``... beside it, one per plane.  Every file is written through :mod:`placer.io.outputs`: whole or not
-at all, never over a file without ``force``.  matplotlib is imported only when a sheet is
-written, never when placer starts.
+``NAME-2.png``... beside it, one per plane.  Every file is written through
+:mod:`placer.io.outputs`: whole or not at all, never over a file without ``force``.
+matplotlib is imported only when a sheet is written, never when placer starts.
 """
 
 from __future__ import annotations
