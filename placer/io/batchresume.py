@@ -70,7 +70,13 @@ def file_digest(path: Path) -> str:
 
 
 def text_digest(text: str) -> str:
-    """:func:`file_digest` of a file holding ``text`` (UTF-8)."""
+    """:func:`file_digest` of a file holding ``text`` (UTF-8).
+
+    Parameters
+    ----------
+    text : str
+        The file's text.
+    """
     return hashlib.sha256(text.encode("utf-8")).hexdigest()[:DIGEST_CHARS]
 
 
@@ -95,7 +101,15 @@ def run_header(template: str, readings: str, errors_csv: str, version: str) -> d
 
 
 def errors_line(run: str, errors_csv: str) -> dict[str, Any]:
-    """A log line saying the run wrote an errors file of this digest."""
+    """A log line saying the run wrote an errors file of this digest.
+
+    Parameters
+    ----------
+    run : str
+        The run's name (line 1 of the log).
+    errors_csv : str
+        :func:`text_digest` of the errors file.
+    """
     return {LOG_KEY: LOG_VERSION, "run": run, "errors_csv": errors_csv}
 
 
@@ -203,7 +217,13 @@ def check_outputs(paths, log: RunLog | None, n_planes: int, errors_text: str) ->
 
 
 def csv_line(cells: list[str]) -> str:
-    """One line of a CSV file as placer writes it (RFC 4180 quoting, ``\\n`` ending)."""
+    """One line of a CSV file as placer writes it (RFC 4180 quoting, ``\\n`` ending).
+
+    Parameters
+    ----------
+    cells : list of str
+        The line's cells.
+    """
     out = io.StringIO()
     csv.writer(out, lineterminator="\n").writerow(cells)
     return out.getvalue()
