@@ -292,6 +292,33 @@ def test_awkward_targets(tmp_path, capsys, monkeypatch, history_db, command, sit
         assert code == 2, err
 
 
+@pytest.mark.parametrize("situation", SITUATIONS)
+def test_awkward_targets_on_resume(tmp_path, capsys, monkeypatch, situation):
+    """batch --resume: as above; a file that is not the run's is refused and kept."""
+    monkeypatch.delenv("FORCE_COLOR", raising=False)
+    root = tmp_path / "work"
+    root.mkdir()
+    target = place(situation, root, "batch --out", False)
+    before = snapshot(root)
+    try:
+        code = main(["batch", str(EXAMPLES / "fan-line-template.toml"),
+                     str(EXAMPLES / "fan-line-readings.csv"), "--jobs", "1", "--out",
+                     str(target), "--resume"])
+    finally:
+        if situation == "read-only folder":
+            (root / "ro").chmod(0o755)
+    out, err = capsys.readouterr()
+    OUTCOMES["tried"] += 1
+    assert code in (0, 1, 2) and "Traceback" not in err + out
+    if code == 2:
+        assert err.count("\n") == 1 and err.startswith("placer: error: "), err
+    changed = [k for k, v in before.items() if snapshot(root).get(k) != v]
+    OUTCOMES["changed without --force"] += bool(changed)
+    assert changed == [] and leftovers(root) == []
+    if situation == "existing":
+        assert "was not written by this batch run" in err
+
+
 def test_full_disk_after_printing_says_the_sheet_was_not_written(tmp_path, capsys,
                                                                  monkeypatch):
     target = tmp_path / "plan.pdf"
@@ -330,16 +357,6 @@ def test_full_disk_is_one_line_for_every_writer(tmp_path, capsys, monkeypatch, a
     assert leftovers(tmp_path) == []
 
 
-def test_report_the_counts():
-    """The awkward-target matrix ran with no traceback and no file changed without --force
-    (run after it in file order; the counts are printed with -s)."""
-    if OUTCOMES["tried"]:
-        print(f"\noutput situations tried: {OUTCOMES['tried']}, tracebacks: "
-              f"{OUTCOMES['tracebacks']}, files changed without --force: "
-              f"{OUTCOMES['changed without --force']}")
-        assert OUTCOMES["changed without --force"] == 0
-
-
 @pytest.fixture(autouse=True)
 def _no_stray_cwd_files(tmp_path, monkeypatch):
     monkeypatch.chdir(tmp_path)
@@ -370,3 +387,13 @@ def test_a_full_disk_in_the_middle_of_a_batch_is_one_line(tmp_path, capsys, monk
     # The two rotors logged before are in the table written when the batch stopped.
     assert Path(f"{prefix}.csv").read_text(encoding="utf-8").count("\n") == 1 + 2
     assert leftovers(tmp_path) == []
+
+
+def test_report_the_counts():
+    """The awkward-target matrix ran with no traceback and no file changed without --force
+    (run after it in file order; the counts are printed with -s)."""
+    if OUTCOMES["tried"]:
+        print(f"\noutput situations tried: {OUTCOMES['tried']}, tracebacks: "
+              f"{OUTCOMES['tracebacks']}, files changed without --force: "
+              f"{OUTCOMES['changed without --force']}")
+        assert OUTCOMES["changed without --force"] == 0
