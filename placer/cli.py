@@ -715,15 +715,15 @@ def _history(args: argparse.Namespace) -> int:
                          key="MACHINE", expected="one of: " + (", ".join(known) or "none stored"))
     if args.visit is not None:
         saved_at = next(v.saved_at for v in visits if v.id == args.visit)
+        pages = _history_pages(record, Path(args.sheet), args.force) if args.sheet else None
         if args.json:
             print(json_text(visit_dict(args.visit, record, saved_at), indent=2))
         else:
             _print_plain(render_visit, args.width, args.visit, record, saved_at)
-        if args.sheet is not None:
-            from placer.views.report import write_report
-            from placer.visitreport import visit_report
+        if pages is not None:
+            from placer.views.report.output import write_pages
 
-            files = write_report(visit_report(record), Path(args.sheet), force=args.force)
+            files = write_pages(pages, Path(args.sheet), record.machine_name, force=args.force)
             print(f"placer: visit report written to {', '.join(map(str, files))}",
                   file=sys.stderr)
         return EXIT_OK
@@ -732,6 +732,18 @@ def _history(args: argparse.Namespace) -> int:
     else:
         _print_plain(render_visits, args.width, args.machine, visits, last)
     return EXIT_OK
+
+
+def _history_pages(record, path: Path, force: bool):
+    """A stored visit's report pages, drawn and their files checked before anything is
+    printed."""
+    from placer.views.report.pages import report_pages
+    from placer.views.sheet.files import sheet_paths
+    from placer.visitreport import visit_report
+
+    pages = report_pages(visit_report(record))
+    sheet_paths(path, len(pages), force=force)
+    return pages
 
 
 def _print_plain(render, width: int | None, *values) -> None:

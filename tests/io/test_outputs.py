@@ -319,6 +319,21 @@ def test_awkward_targets_on_resume(tmp_path, capsys, monkeypatch, situation):
         assert "was not written by this batch run" in err
 
 
+@pytest.mark.parametrize("command", ["field", "history"])
+def test_a_later_page_file_is_refused_before_anything_is_printed(tmp_path, capsys, history_db,
+                                                                 command):
+    # A report of several pages as PNG writes r-1.png, r-2.png...; r-3.png is the user's.
+    (tmp_path / "r-3.png").write_bytes(b"keep me")
+    argv = (["field", str(EXAMPLES / "blower-visit.toml"), "--db", str(tmp_path / "none.db")]
+            if command == "field" else ["history", "FPM-B2", "--visit", "1", "--db",
+                                        str(history_db)])
+    code = main(argv + ["--sheet", str(tmp_path / "r.png")])
+    out, err = capsys.readouterr()
+    assert code == 2 and out == "" and err.count("\n") == 1 and "r-3.png" in err, err
+    assert (tmp_path / "r-3.png").read_bytes() == b"keep me"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["r-3.png"]
+
+
 def test_full_disk_after_printing_says_the_sheet_was_not_written(tmp_path, capsys,
                                                                  monkeypatch):
     target = tmp_path / "plan.pdf"
