@@ -111,7 +111,7 @@ from placer.io.batchresume import (
     text_digest,
 )
 from placer.io.jobfile import read_job
-from placer.io.outputs import check_target, reason, replacing, write_text
+from placer.io.outputs import check_target, reason, replacing, shown, write_text
 from placer.io.tables import json_text
 from placer.limits import DEFAULT_EFFORT
 
@@ -379,7 +379,7 @@ def _one_line(paths: BatchPaths) -> Iterator[None]:
     try:
         yield
     except OSError as exc:
-        name = exc.filename or paths.results_jsonl
+        name = shown(exc.filename or paths.results_jsonl)
         raise OutputError(f"'{name}' could not be read or written ({reason(exc)}); the "
                           f"rotors solved so far are kept in '{paths.results_jsonl}'",
                           option="out", expected="room and write access in its folder, then "

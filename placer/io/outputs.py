@@ -42,7 +42,7 @@ part and the suffix)."""
 
 _REASONS = {errno.ENOSPC: "the disk is full", errno.EDQUOT: "the disk quota is used up",
             errno.EACCES: "permission denied", errno.EPERM: "permission denied",
-            errno.EROFS: "the file system is read-only", errno.ENAMETOOLONG: "a name is too long",
+            errno.EROFS: "the file system is read-only", errno.ENAMETOOLONG: "the name or the path is too long",
             errno.EISDIR: "a folder is in the way", errno.ENOTDIR: "a file is in the way",
             errno.ELOOP: "too many links", errno.EIO: "an input/output error"}
 """What an operating-system error means for a file being written, in plain words."""
@@ -61,8 +61,26 @@ def reason(exc: OSError) -> str:
     return (exc.strerror or str(exc) or type(exc).__name__).lower()
 
 
+_SHOWN_CHARS = 60
+"""Characters shown of each end of a path too long to name whole in a message."""
+
+
+def shown(path: Path) -> str:
+    """A path as a message names it: whole, or its two ends when it is very long.
+
+    Parameters
+    ----------
+    path : Path
+        The path.
+    """
+    text = str(path)
+    if len(text) <= 3 * _SHOWN_CHARS:
+        return text
+    return f"{text[:_SHOWN_CHARS]}...{text[-_SHOWN_CHARS:]} ({len(text)} characters)"
+
+
 def _fail(path: Path, detail: str, option: str, expected: str) -> OutputError:
-    return OutputError(f"'{path}' {detail}", option=option, expected=expected)
+    return OutputError(f"'{shown(path)}' {detail}", option=option, expected=expected)
 
 
 def check_name(path: Path, option: str) -> None:
@@ -109,18 +127,27 @@ def check_folder(folder: Path, option: str) -> None:
     """
     folder = Path(folder)
     check_name(folder, option)
+    try:
+        _check_folder(folder, option)
+    except OSError as exc:      # a path the system cannot look up (too long, a loop)
+        raise _fail(folder, f"cannot be looked up ({reason(exc)})", option,
+                    "a shorter path to an existing folder") from None
+
+
+def _check_folder(folder: Path, option: str) -> None:
     if not folder.is_dir():
         up = folder
         while not up.exists() and up != up.parent:
             up = up.parent
         if up.exists() and not up.is_dir():
             raise _fail(up, "is a file, not a folder", option, "a file in an existing folder")
-        raise OutputError(f"folder '{folder}' does not exist", option=option,
+        raise OutputError(f"folder '{shown(folder)}' does not exist", option=option,
                           expected="a file in an existing folder")
     try:
         handle, probe = tempfile.mkstemp(dir=folder, prefix=".placer.", suffix=TEMPORARY_SUFFIX)
     except OSError as exc:
-        raise OutputError(f"cannot write in folder '{folder}': {reason(exc)}", option=option,
+        raise OutputError(f"cannot write in folder '{shown(folder)}': {reason(exc)}",
+                          option=option,
                           expected="a folder placer may write in") from None
     os.close(handle)
     os.unlink(probe)
@@ -153,6 +180,14 @@ def check_target(path: Path, option: str, *, force: bool = False) -> Path:
     path = Path(path)
     check_name(path, option)
     check_folder(path.parent, option)
+    try:
+        return _check_file(path, option, force)
+    except OSError as exc:
+        raise _fail(path, f"cannot be looked up ({reason(exc)})", option,
+                    "a shorter path in an existing folder") from None
+
+
+def _check_file(path: Path, option: str, force: bool) -> Path:
     if path.is_dir():
         raise _fail(path, "is a folder", option, "a file name")
     if path.is_symlink() and not path.exists():
@@ -257,7 +292,7 @@ def replacing(path: Path, option: str, *, force: bool = False, text: bool = Fals
 def _not_written(path: Path, exc: OSError, option: str, what: str) -> OutputError:
     before = ("the file there before is unchanged" if os.path.lexists(path)
               else "no file was left there")
-    return OutputError(f"the {what} '{path}' was not written ({reason(exc)}); {before}",
+    return OutputError(f"the {what} '{shown(path)}' was not written ({reason(exc)}); {before}",
                        option=option, expected="room and write access in its folder")
 
 

@@ -131,6 +131,16 @@ def test_the_longest_name_the_system_takes_is_written(tmp_path):
         check_target(tmp_path / ("é" * 128), "file")
 
 
+def test_a_path_longer_than_the_system_takes_is_one_line(tmp_path):
+    # Each part fits NAME_MAX, the whole exceeds PATH_MAX (4096 bytes on Linux, from
+    # memory): the system answers ENAMETOOLONG [POSIX].
+    deep = tmp_path.joinpath(*["d" * 250] * 20) / "x.pdf"
+    with pytest.raises(OutputError) as caught:
+        check_target(deep, "sheet")
+    line = caught.value.one_line()
+    assert "too long" in line and "\n" not in line and len(line) < 400
+
+
 @pytest.mark.parametrize("make, fragment", [
     (lambda d: (d / "t").mkdir(), "is a folder"),
     (lambda d: (d / "t").symlink_to(d / "nowhere"), "which does not exist"),
