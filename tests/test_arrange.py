@@ -18,13 +18,7 @@ from dataclasses import replace
 import numpy as np
 import pytest
 
-from placer.arrange import (
-    BladeJob,
-    TrimPlane,
-    arrange_blades,
-    blade_tolerance,
-    swaps_to,
-)
+from placer.arrange import BladeJob, TrimPlane, arrange_blades, blade_tolerance, swaps_to
 from placer.blades import Blade, Disc, Limits
 from placer.catalog import Catalog, Item
 from placer.errors import InputError

@@ -24,6 +24,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
+
 from layoutcheck import overlapping
 from sessions import rect, session_toml, write
 
