@@ -333,18 +333,16 @@ def run_batch(template_path: Path, readings_path: Path, prefix: Path | None = No
                 if isinstance(row, RotorReading) and row.serial not in done_serials]
         already = sum(1 for row in rows if isinstance(row, RotorReading)
                       and row.serial in done_serials)
-        table = [csv_line(csv_header(n_planes))] + [csv_line(csv_row(record)) for record in done]
-        write_text(paths.results_csv, "".join(table), "out", force=True, what="results table")
-        del table
+        kept = [csv_line(csv_header(n_planes))] + [csv_line(csv_row(record)) for record in done]
+        write_text(paths.results_csv, "".join(kept), "out", force=True, what="results table")
         ready = None if progress is None else (lambda: progress(0, len(todo)))
         stopped: BaseException | None = None
         # The table is written whole at the end, or when the batch is stopped (time limit,
         # Ctrl-C); the log keeps every rotor as it is solved, for --resume after a kill.
         with paths.results_jsonl.open("a", encoding="utf-8", newline="\n") as jsonl, replacing(
                 paths.results_csv, "out", force=True, text=True, what="results table") as table:
-            table.write(csv_line(csv_header(n_planes)))
-            for record in done:
-                table.write(csv_line(csv_row(record)))
+            table.writelines(kept)
+            del kept
             try:
                 outcomes = solve_readings(template, todo, jobs, effort, start_method=start_method,
                                           used=drawer_use(template, done), on_ready=ready)

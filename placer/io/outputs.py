@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import errno
 import os
+import stat
 import tempfile
 from collections.abc import Iterator
 from contextlib import contextmanager
@@ -200,9 +201,28 @@ def _check_file(path: Path, option: str, force: bool) -> Path:
 
 
 def _temporary(path: Path) -> tuple[int, str]:
-    """A new file beside ``path``: its descriptor and name."""
+    """A new file beside ``path``: its descriptor and name.
+
+    It gets the permissions of the file it replaces, or those ``open()`` gives a new
+    file (0o666 less the umask [POSIX]), not the owner-only ones of a temporary file.
+    """
     name = os.fsencode(path.name)[:_NAME_KEPT_BYTES].decode(errors="ignore")
-    return tempfile.mkstemp(dir=path.parent, prefix=f".{name}.", suffix=TEMPORARY_SUFFIX)
+    handle, temporary = tempfile.mkstemp(dir=path.parent, prefix=f".{name}.",
+                                         suffix=TEMPORARY_SUFFIX)
+    try:
+        try:
+            mode = stat.S_IMODE(os.stat(path).st_mode)
+        except OSError:
+            mask = os.umask(0)
+            os.umask(mask)
+            mode = 0o666 & ~mask
+        if hasattr(os, "fchmod"):
+            os.fchmod(handle, mode)
+    except BaseException:
+        os.close(handle)
+        os.unlink(temporary)
+        raise
+    return handle, temporary
 
 
 def _put_in_place(temporary: str, path: Path, option: str, force: bool) -> None:

@@ -63,6 +63,21 @@ def test_a_new_file_is_written_whole(tmp_path):
     assert leftovers(tmp_path) == []
 
 
+def test_a_new_file_has_the_permissions_open_gives_and_a_replaced_one_keeps_its_own(tmp_path):
+    # open(O_CREAT) gives 0o666 less the umask [POSIX]; a temporary file is 0o600.
+    mask = os.umask(0o022)
+    try:
+        new = write_text(tmp_path / "new.txt", "x", "file")
+        assert new.stat().st_mode & 0o777 == 0o644
+        kept = tmp_path / "kept.txt"
+        kept.write_text("old")
+        kept.chmod(0o640)
+        write_text(kept, "new", "file", force=True)
+        assert kept.stat().st_mode & 0o777 == 0o640
+    finally:
+        os.umask(mask)
+
+
 def test_an_existing_file_is_kept_without_force_and_replaced_with_it(tmp_path):
     target = tmp_path / "a.txt"
     target.write_text("keep me")
