@@ -223,7 +223,8 @@ def _parser() -> argparse.ArgumentParser:
                                        "PREFIX.errors.csv, the summary to PREFIX.summary.json.",
                            epilog="Exit codes: 0 every rotor solved and within tolerance, 1 a "
                                   "rotor outside tolerance or a bad row, 2 bad template or "
-                                  "readings file, or outputs that exist.")
+                                  "readings file, or outputs that exist or cannot be "
+                                  "written.")
     batch.add_argument("template", metavar="TEMPLATE",
                        help="job file (TOML) of the rotor type; planes need no correction")
     batch.add_argument("readings", metavar="READINGS", help="readings file, .csv or .jsonl")
@@ -236,7 +237,8 @@ def _parser() -> argparse.ArgumentParser:
     again = batch.add_mutually_exclusive_group()
     again.add_argument("--resume", action="store_true",
                        help="keep the rotors already in PREFIX.jsonl and solve the rest "
-                            "(refused when a kept rotor's readings changed since)")
+                            "(refused when a kept rotor's readings changed since, or an "
+                            "output is not this run's)")
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
     _engine_options(batch, None)
     _new_parser(sub)
