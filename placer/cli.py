@@ -428,6 +428,13 @@ def _console(width: int | None = None):
     return Console(width=width, highlight=False)
 
 
+def _shown(path: Path) -> str:
+    """A path written in a message, on one line (see placer.io.outputs.shown)."""
+    from placer.io.outputs import shown
+
+    return shown(path)
+
+
 def _db(args: argparse.Namespace) -> Path:
     from placer.io.history import default_db_path
 
@@ -488,7 +495,7 @@ def _solve(args: argparse.Namespace) -> int:
         from placer.views.sheet import write_sheet
 
         pages = write_sheet(result, Path(args.sheet), force=args.force)
-        files = ", ".join(dict.fromkeys(str(page.path) for page in pages))
+        files = ", ".join(dict.fromkeys(_shown(page.path) for page in pages))
         print(f"placer: sheet written to {files}", file=sys.stderr)
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
@@ -611,7 +618,7 @@ def _field(args: argparse.Namespace) -> int:
             from placer.views.report.output import write_pages
 
             files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
-            print(f"placer: visit report written to {', '.join(map(str, files))}",
+            print(f"placer: visit report written to {', '.join(map(_shown, files))}",
                   file=sys.stderr)
         if db is not None:
             _save_once(db, record, session.machine_id, path)
@@ -641,7 +648,7 @@ def _save_once(db, record, machine_id: str, path: Path) -> None:
               f"first ('placer history {machine_id} --remove {same} --force')", file=sys.stderr)
         return
     visit_id = db.save_visit(record)
-    print(f"placer: visit {visit_id} of {machine_id} saved in {path}", file=sys.stderr)
+    print(f"placer: visit {visit_id} of {machine_id} saved in {_shown(path)}", file=sys.stderr)
 
 
 def _machines(args: argparse.Namespace) -> int:
@@ -666,7 +673,7 @@ def _machines(args: argparse.Namespace) -> int:
 def _say_rolled_back(db) -> None:
     """Tell the user when opening the history rolled back a save left unfinished."""
     if db.rolled_back:
-        print(f"placer: a save left unfinished in {db.path} was rolled back; the visits "
+        print(f"placer: a save left unfinished in {_shown(db.path)} was rolled back; the visits "
               "saved before it are as they were", file=sys.stderr)
 
 
@@ -726,7 +733,7 @@ def _history(args: argparse.Namespace) -> int:
             from placer.views.report.output import write_pages
 
             files = write_pages(pages, Path(args.sheet), record.machine_name, force=args.force)
-            print(f"placer: visit report written to {', '.join(map(str, files))}",
+            print(f"placer: visit report written to {', '.join(map(_shown, files))}",
                   file=sys.stderr)
         return EXIT_OK
     if args.json:
@@ -767,7 +774,7 @@ def _remove_visit(db, args: argparse.Namespace, visit, path: Path) -> int:
         raise InputError(f"{what} would be removed for good", option="remove",
                          expected="{opt:force} with it to remove it")
     db.remove_visit(visit.id)
-    print(f"placer: {what} removed from {path}", file=sys.stderr)
+    print(f"placer: {what} removed from {_shown(path)}", file=sys.stderr)
     return EXIT_OK
 
 
@@ -815,7 +822,7 @@ def _new(args: argparse.Namespace) -> int:
             print("\n".join(f"  {name}" for name in example_names()))
             return EXIT_OK
         for path in copy_examples(args.names, Path(args.folder), force=args.force):
-            print(f"placer: wrote {path}", file=sys.stderr)
+            print(f"placer: wrote {_shown(path)}", file=sys.stderr)
         return EXIT_OK
     from placer.io.outputs import check_target
 
@@ -847,8 +854,9 @@ def _new(args: argparse.Namespace) -> int:
                     planes=answers["planes"] or 1, units="imperial" if imperial else "metric")
     write_new(path, starter_text(start), force=args.force)
     command = {"job": "solve", "session": "field", "template": "batch"}[args.kind]
-    print(f"placer: wrote {path}; fill in the lines marked FILL IN, then: placer {command} "
-          f"{path}" + (" READINGS.csv" if args.kind == "template" else ""), file=sys.stderr)
+    print(f"placer: wrote {_shown(path)}; fill in the lines marked FILL IN, then: placer "
+          f"{command} {_shown(path)}" + (" READINGS.csv" if args.kind == "template" else ""),
+          file=sys.stderr)
     return EXIT_OK
 
 
@@ -880,7 +888,7 @@ def _blades(args: argparse.Namespace) -> int:
         from placer.views.sheet.bladepage import write_blade_sheet
 
         paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
-        print(f"placer: sheet written to {', '.join(dict.fromkeys(map(str, paths)))}",
+        print(f"placer: sheet written to {', '.join(dict.fromkeys(map(_shown, paths)))}",
               file=sys.stderr)
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 

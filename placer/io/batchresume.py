@@ -35,6 +35,7 @@ from placer.batch import (
 from placer.errors import InputError, OutputError
 from placer.io.batchreadings import RowError
 from placer.io.batchrecords import csv_header, csv_row
+from placer.io.outputs import shown
 from placer.io.tables import printable
 
 LOG_KEY = "placer_batch"
@@ -136,7 +137,8 @@ class RunLog:
 
 
 def _not_this_run(path: Path, detail: str = "") -> OutputError:
-    return OutputError(f"'{path}' was not written by this batch run{detail}", option="out",
+    return OutputError(f"'{shown(path)}' was not written by this batch run{detail}",
+                       option="out",
                        expected="outputs placer wrote for these files, {opt:force} to start "
                                 "again, or another {opt:out}")
 

@@ -32,6 +32,7 @@ from pathlib import Path
 from typing import IO
 
 from placer.errors import OutputError
+from placer.io.tables import printable
 from placer.limits import MAX_NAME_BYTES
 
 TEMPORARY_SUFFIX = ".part"
@@ -67,14 +68,15 @@ _SHOWN_CHARS = 60
 
 
 def shown(path: Path) -> str:
-    """A path as a message names it: whole, or its two ends when it is very long.
+    """A path as a message names it, on one line: control characters escaped
+    (:func:`placer.io.tables.printable`), and only its two ends when it is very long.
 
     Parameters
     ----------
     path : Path
         The path.
     """
-    text = str(path)
+    text = printable(str(path))
     if len(text) <= 3 * _SHOWN_CHARS:
         return text
     return f"{text[:_SHOWN_CHARS]}...{text[-_SHOWN_CHARS:]} ({len(text)} characters)"
@@ -102,8 +104,8 @@ def check_name(path: Path, option: str) -> None:
     for part in Path(path).parts:
         size = len(os.fsencode(part))
         if size > MAX_NAME_BYTES:
-            shown = part if len(part) <= 40 else part[:30] + "..."
-            raise OutputError(f"a name in the path is {size} bytes long ('{shown}')",
+            start = printable(part if len(part) <= 40 else part[:30] + "...")
+            raise OutputError(f"a name in the path is {size} bytes long ('{start}')",
                               option=option,
                               expected=f"names of at most {MAX_NAME_BYTES} bytes")
 
@@ -192,7 +194,8 @@ def _check_file(path: Path, option: str, force: bool) -> Path:
     if path.is_dir():
         raise _fail(path, "is a folder", option, "a file name")
     if path.is_symlink() and not path.exists():
-        raise _fail(path, f"is a link to '{os.readlink(path)}', which does not exist", option,
+        raise _fail(path, f"is a link to '{shown(os.readlink(path))}', which does not exist",
+                    option,
                     "a file name that is not a broken link")
     if path.exists() and not force:
         raise _fail(path, "exists already", option,

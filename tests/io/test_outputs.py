@@ -234,7 +234,7 @@ SUFFIX = {"solve --sheet": ".pdf", "field --sheet": ".pdf", "history --sheet": "
           "new example --folder": "", "field --save --db": ".db"}
 
 SITUATIONS = ["existing", "folder", "dangling link", "missing folder", "long name",
-              "read-only folder", "through a file", "new"]
+              "read-only folder", "through a file", "new line in the name", "new"]
 
 
 def place(situation: str, root: Path, command: str, is_folder: bool) -> Path:
@@ -261,6 +261,8 @@ def place(situation: str, root: Path, command: str, is_folder: bool) -> Path:
         return root / "missing" / name
     if situation == "long name":
         return root / ("L" * 300 + SUFFIX[command])
+    if situation == "new line in the name":      # every message stays one line
+        return root / ("two\nlines\u2028" + SUFFIX[command])
     if situation == "read-only folder":
         folder = root / "ro"
         folder.mkdir()
@@ -306,6 +308,7 @@ def test_awkward_targets(tmp_path, capsys, monkeypatch, history_db, command, sit
         assert len(lines) == 1 and lines[0].startswith("placer: error: "), err
     else:
         assert all(line.startswith("placer: ") and "error" not in line for line in lines), err
+        assert len(err.split("\n")) == len(lines) + 1         # no line broken inside
     after = snapshot(root)
     changed = [k for k, v in before.items() if after.get(k) != v]
     if not force:
