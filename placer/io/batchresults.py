@@ -75,7 +75,6 @@ good now is simply solved.
 
 from __future__ import annotations
 
-import hashlib
 import os
 import time
 from collections.abc import Callable, Iterator
@@ -217,7 +216,7 @@ def template_digest(path: Path) -> str:
     ----------
     [FIPS180-4] (SHA-256).
     """
-    return hashlib.sha256(Path(path).read_bytes()).hexdigest()[:12]
+    return file_digest(path)
 
 
 def _write_line(handle: TextIO, text: str) -> None:
