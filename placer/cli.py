@@ -218,8 +218,9 @@ def _parser() -> argparse.ArgumentParser:
     batch = sub.add_parser("batch", help="plan rotor after rotor of one type from a readings file",
                            description="Solve every rotor of a readings file (CSV or JSON lines: "
                                        "serial and each plane's correction) against a template "
-                                       "job file; results are written as they are found to "
-                                       "PREFIX.csv and PREFIX.jsonl, bad rows to "
+                                       "job file; each result goes to the log PREFIX.jsonl "
+                                       "as it is found, the table PREFIX.csv is written "
+                                       "whole at the end (or when stopped), bad rows to "
                                        "PREFIX.errors.csv, the summary to PREFIX.summary.json.",
                            epilog="Exit codes: 0 every rotor solved and within tolerance, 1 a "
                                   "rotor outside tolerance or a bad row, 2 bad template or "

@@ -1,9 +1,9 @@
-"""Results of ``placer batch``: written row by row, resumed, summed up.
+"""Results of ``placer batch``: logged row by row, resumed, written whole, summed up.
 
 The I/O edge of :mod:`placer.batch` (which stays pure): it reads the
 template and the readings (:mod:`placer.io.jobfile`,
-:mod:`placer.io.batchreadings`), writes every result as it is found, and
-the summary at the end.
+:mod:`placer.io.batchreadings`), logs every result as it is found, and
+writes the table and the summary at the end.
 
 Template
 --------
