@@ -42,9 +42,13 @@ _NAME_KEPT_BYTES = MAX_NAME_BYTES - 40
 """Bytes of the target's name kept in the temporary name (room for ``.``, the random
 part and the suffix)."""
 
-_REASONS = {errno.ENOSPC: "the disk is full", errno.EDQUOT: "the disk quota is used up",
+_EDQUOT = getattr(errno, "EDQUOT", errno.ENOSPC)
+"""Disk quota exceeded (not every system names it)."""
+
+_REASONS = {errno.ENOSPC: "the disk is full", _EDQUOT: "the disk quota is used up",
             errno.EACCES: "permission denied", errno.EPERM: "permission denied",
-            errno.EROFS: "the file system is read-only", errno.ENAMETOOLONG: "the name or the path is too long",
+            errno.EROFS: "the file system is read-only",
+            errno.ENAMETOOLONG: "the name or the path is too long",
             errno.EISDIR: "a folder is in the way", errno.ENOTDIR: "a file is in the way",
             errno.ELOOP: "too many links", errno.EIO: "an input/output error"}
 """What an operating-system error means for a file being written, in plain words."""
@@ -239,7 +243,7 @@ def _put_in_place(temporary: str, path: Path, option: str, force: bool) -> None:
         raise _fail(path, "exists already (it appeared while placer was writing)", option,
                     "a new file name, or {opt:force} to replace it") from None
     except OSError as exc:        # a file system without hard links
-        if exc.errno in (errno.ENOSPC, errno.EDQUOT, errno.EROFS, errno.EACCES):
+        if exc.errno in (errno.ENOSPC, _EDQUOT, errno.EROFS, errno.EACCES):
             raise
         if os.path.lexists(path):
             raise _fail(path, "exists already", option,
