@@ -23,6 +23,8 @@ import shutil
 from pathlib import Path
 
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 
 from placer.cli import main
 from placer.errors import InputError, OutputError
@@ -430,6 +432,42 @@ def test_a_full_disk_in_the_middle_of_a_batch_is_one_line(tmp_path, capsys, monk
     # The two rotors logged before are in the table written when the batch stopped.
     assert Path(f"{prefix}.csv").read_text(encoding="utf-8").count("\n") == 1 + 2
     assert leftovers(tmp_path) == []
+
+
+NAME_PARTS = st.lists(st.one_of(
+    st.sampled_from(["", ".", "..", " ", "-", "~", "*", "?", "'", '"', "\n", "\r", "\t",
+                     "\u2028", "\x7f", "é", "ß", "中", "\U0001f600", ".pdf", ".toml",
+                     "\udcff", "L" * 120]),
+    st.text(min_size=1, max_size=8)), min_size=1, max_size=4)
+"""Pieces of awkward file names: dots, control characters, wide characters, a byte
+that is not UTF-8 (U+DCFF, as Python names it), long runs."""
+
+
+@settings(max_examples=60, deadline=None, derandomize=True, database=None,
+          suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(pieces=NAME_PARTS, force=st.booleans())
+def test_any_name_for_a_new_file(capsys, pieces, force):
+    """``placer new job NAME`` with a drawn name: written whole, or one line and exit 2;
+    the file already in the folder never changes without --force."""
+    import tempfile
+
+    name = "".join(pieces).replace("/", "_").replace("\x00", "_")
+    with tempfile.TemporaryDirectory() as folder:
+        root = Path(folder)
+        (root / "keep.toml").write_text("keep me\n")
+        before = snapshot(root)
+        capsys.readouterr()
+        code = main(["new", "job", str(root / name), "--positions", "4", "--radius-mm", "50"]
+                    + (["--force"] if force else []))
+        out, err = capsys.readouterr()
+        OUTCOMES["tried"] += 1
+        assert code in (0, 2) and "Traceback" not in err
+        assert err.count("\n") == 1 and len(err.splitlines()) == 1, err
+        changed = [k for k, v in before.items() if snapshot(root).get(k) != v]
+        if not force:
+            OUTCOMES["changed without --force"] += bool(changed)
+            assert changed == []
+        assert leftovers(root) == []
 
 
 def test_report_the_counts():
