@@ -22,7 +22,7 @@ The public API, by name (everything is importable from ``placer``)::
     Engine        PlacementSearch
     JSON          json_text (strict JSON of any of the dicts above)
     Errors        PlacerError, InputError, JobError, CatalogError, ToleranceError,
-                  SessionError, HistoryError, CoefficientMismatch
+                  SessionError, HistoryError, CoefficientMismatch, OutputError
 
 Example (see the README, "Using placer from Python")::
 
@@ -79,7 +79,7 @@ _HOME = {
     "PlacerError": "placer.errors", "InputError": "placer.errors", "JobError": "placer.errors",
     "CatalogError": "placer.errors", "ToleranceError": "placer.errors",
     "SessionError": "placer.errors", "HistoryError": "placer.errors",
-    "CoefficientMismatch": "placer.errors",
+    "CoefficientMismatch": "placer.errors", "OutputError": "placer.errors",
 }
 """Where each public name lives."""
 

@@ -11,6 +11,8 @@ the command line renders those as flags (``--force``, see
 
 from __future__ import annotations
 
+import os
+
 import re
 from collections.abc import Mapping
 
@@ -74,6 +76,26 @@ def shown(text: str, limit: int = MAX_ECHO_CHARS) -> str:
     return printable(text if len(text) <= limit else text[:limit] + "...")
 
 
+def shown_path(file: str | os.PathLike) -> str:
+    """A path short enough for an error line.
+
+    Parameters
+    ----------
+    file : str or os.PathLike
+        The path as given.
+
+    Returns
+    -------
+    str
+        Its first and last :data:`placer.limits.MAX_ECHO_CHARS` characters when it is
+        long, printable.
+    """
+    file = os.fsdecode(file)
+    if len(file) > 2 * MAX_ECHO_CHARS + 20:
+        file = f"{file[:MAX_ECHO_CHARS]}...{file[-MAX_ECHO_CHARS:]}"
+    return printable(file)
+
+
 class PlacerError(Exception):
     """Base class of every error placer raises on purpose.
 
@@ -131,6 +153,10 @@ class InputError(PlacerError, ValueError):
 
 class JobError(InputError):
     """A job file is missing, unreadable or holds a bad value."""
+
+
+class OutputError(InputError):
+    """An output file cannot be written where asked; what was there is unchanged."""
 
 
 class CatalogError(InputError):

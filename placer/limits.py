@@ -101,8 +101,10 @@ a folder), are refused before they are read (placer's rule, common practice, no 
 MAX_READINGS_BYTES = 64_000_000
 """Largest readings file of ``placer batch`` [bytes] (64 MB: about a million rotors)."""
 MAX_NAME_BYTES = 255
-"""Longest part of a path placer opens [bytes]: NAME_MAX of Linux, macOS and Windows
-file systems (from memory); a longer name is refused with one line."""
+"""Longest name of one file or folder placer opens or writes [bytes, encoded as the file
+system encodes it]: NAME_MAX of Linux and of the common file systems (ext4, XFS, APFS;
+NTFS counts 255 UTF-16 units), see REFERENCES.md [POSIX]; a longer name is refused with
+one line."""
 MAX_ECHO_CHARS = 40
 """Most characters of a value from a file an error line repeats, and the longest text a
 closest-match hint looks at."""

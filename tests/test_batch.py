@@ -92,7 +92,9 @@ def readings_csv(rows, header: str = "serial,1_gmm,1_angle_deg,2_gmm,2_angle_deg
 
 
 def records(path: Path) -> list[dict]:
-    return [json.loads(line) for line in path.read_text(encoding="utf-8").splitlines()]
+    """The rotors of a results log (its lines without the run's own key)."""
+    lines = [json.loads(line) for line in path.read_text(encoding="utf-8").splitlines()]
+    return [line for line in lines if "placer_batch" not in line]
 
 
 def plan_of(record_plane: dict) -> list[tuple[int, str, int]]:
@@ -295,7 +297,11 @@ def test_resume_after_interruption(tmp_path, batch_files):
     # The process was killed in the middle of writing row 9: cut that line in half.
     data = jsonl.read_bytes()
     lines = data.split(b"\n")
-    jsonl.write_bytes(b"\n".join(lines[:8]) + b"\n" + lines[8][: len(lines[8]) // 2])
+    # Line 1 is the run's header, then the rotors.
+    jsonl.write_bytes(b"\n".join(lines[:9]) + b"\n" + lines[9][: len(lines[9]) // 2])
+    # Its table was last written whole before then (at most the rotors kept).
+    table = Path(str(prefix) + ".csv")
+    table.write_bytes(b"".join(table.read_bytes().splitlines(keepends=True)[:1 + 8]))
     resumed, paths = run_batch(template, readings, prefix=prefix, jobs=1, resume=True)
     got = records(jsonl)
     assert [r["serial"] for r in got] == [serial for serial, _ in rows]  # each exactly once

@@ -108,17 +108,27 @@ def test_two_processes_give_what_one_gives(tmp_path):
     assert [o.full_drawer is None for o in one] == [o.full_drawer is None for o in two]
 
 
+def rotors(path) -> list[dict]:
+    """The rotors of a results log (its lines without the run's own key)."""
+    lines = [json.loads(line) for line in path.read_text().splitlines()]
+    return [line for line in lines if "placer_batch" not in line]
+
+
 def test_resume_keeps_the_drawer_where_it_was(tmp_path):
     template, readings = write(tmp_path)
     whole, paths = run_batch(template, readings, tmp_path / "whole", jobs=1)
-    expected = [json.loads(line) for line in paths.results_jsonl.read_text().splitlines()]
+    expected = rotors(paths.results_jsonl)
     assert whole.short_from is not None
     assert [(p.item, p.count) for p in whole.drawers_left] == [("H", 0)]
     # Interrupted after three rotors (their lines kept), then carried on.
     _, part = run_batch(template, readings, tmp_path / "part", jobs=1)
-    cut_to(part.results_jsonl, 3)
+    lines = part.results_jsonl.read_bytes().split(b"\n")
+    cut_to(part.results_jsonl, len(b"\n".join(lines[:4])) + 1)   # the run's header, 3 rotors
+    table = part.results_csv.read_bytes().splitlines(keepends=True)
+    part.results_csv.write_bytes(b"".join(table[:1 + 3]))     # its table as last written
     summary, part = run_batch(template, readings, tmp_path / "part", jobs=1, resume=True)
-    again = [json.loads(line) for line in part.results_jsonl.read_text().splitlines()]
+    assert summary.already_done == 3
+    again = rotors(part.results_jsonl)
     assert again == expected
     assert summary.short_from == whole.short_from
     assert summary.drawers_left == whole.drawers_left

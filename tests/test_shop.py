@@ -146,7 +146,7 @@ def test_batch_readings_in_ounces_match_grams(run_cli, tmp_path):
         code, _, err = run_cli("batch", template, readings, "--jobs", "1")
         assert code == 0, err
     rows = [[json.loads(line) for line in path.with_suffix(".results.jsonl").read_text()
-             .splitlines()] for path in (ounces, grams)]
+             .splitlines() if '"placer_batch"' not in line] for path in (ounces, grams)]
     for a, b in zip(*rows):
         assert a["planes"][0]["parts"] == b["planes"][0]["parts"]
 

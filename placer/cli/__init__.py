@@ -81,7 +81,7 @@ def main(argv: list[str] | None = None) -> int:
     except BrokenPipeError:
         return EXIT_OK
     except OSError as exc:  # a path the system refuses, wherever it was opened
-        from placer.io.inputs import shown_path
+        from placer.errors import shown_path
 
         where = f"{shown_path(os.fsdecode(exc.filename))}: " if exc.filename else ""
         print(f"placer: error: {where}{exc.strerror or type(exc).__name__} (expected a path "

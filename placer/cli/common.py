@@ -10,7 +10,7 @@ import signal
 import sys
 from pathlib import Path
 
-from placer.errors import InputError, LimitReached, shown
+from placer.errors import InputError, LimitReached, shown, shown_path
 from placer.limits import (
     MAX_MAGNITUDE,
     MIN_MAGNITUDE,
@@ -167,5 +167,6 @@ def say_rolled_back(db) -> None:
         The history just opened.
     """
     if db.rolled_back:
-        print(f"placer: a save left unfinished in {db.path} was rolled back; the visits "
+        print(f"placer: a save left unfinished in {shown_path(db.path)} was rolled back; the "
+              "visits "
               "saved before it are as they were", file=sys.stderr)

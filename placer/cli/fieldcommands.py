@@ -18,7 +18,7 @@ from placer.cli.common import (
     say_rolled_back,
     say_undrawn,
 )
-from placer.errors import InputError, shown
+from placer.errors import InputError, shown, shown_path
 from placer.io.tables import json_text
 
 
@@ -40,6 +40,10 @@ def _field(args: argparse.Namespace) -> int:
 
         check_report_path(Path(args.sheet), force=args.force)
     path = db_path(args)
+    if args.save and args.db:
+        from placer.io.outputs import check_target
+
+        check_target(path, "db", force=True)     # the history is added to, never replaced
     with deadline(args.time_limit, "before the plan was final; nothing is printed or saved"):
         result = solve_visit(session, path, effort=args.effort)
     db = record = None
@@ -48,6 +52,10 @@ def _field(args: argparse.Namespace) -> int:
         db, record = open_for_saving(result, path)
     try:
         pages = _report_pages(result, record) if args.sheet is not None else None
+        if pages is not None:       # every page's file checked before anything is printed
+            from placer.views.sheet.files import sheet_paths
+
+            sheet_paths(Path(args.sheet), len(pages), force=args.force)
         if args.json:
             from placer.io.jsonout import field_dict
 
@@ -70,7 +78,7 @@ def _field(args: argparse.Namespace) -> int:
             from placer.views.report.output import write_pages
 
             files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
-            print(f"placer: visit report written to {', '.join(map(str, files))}",
+            print(f"placer: visit report written to {', '.join(map(shown_path, files))}",
                   file=sys.stderr)
             say_undrawn()
         if db is not None:
@@ -101,7 +109,8 @@ def _save_once(db, record, machine_id: str, path: Path) -> None:
               f"first ('placer history {machine_id} --remove {same} --force')", file=sys.stderr)
         return
     visit_id = db.save_visit(record)
-    print(f"placer: visit {visit_id} of {machine_id} saved in {path}", file=sys.stderr)
+    print(f"placer: visit {visit_id} of {machine_id} saved in {shown_path(path)}",
+          file=sys.stderr)
 
 
 def _machines(args: argparse.Namespace) -> int:
@@ -171,16 +180,16 @@ def _history(args: argparse.Namespace) -> int:
                          key="MACHINE", expected="one of: " + (", ".join(known) or "none stored"))
     if args.visit is not None:
         saved_at = next(v.saved_at for v in visits if v.id == args.visit)
+        pages = _history_pages(record, Path(args.sheet), args.force) if args.sheet else None
         if args.json:
             print(json_text(visit_dict(args.visit, record, saved_at), indent=2))
         else:
             print_plain(render_visit, args.width, args.visit, record, saved_at)
-        if args.sheet is not None:
-            from placer.views.report import write_report
-            from placer.visitreport import visit_report
+        if pages is not None:
+            from placer.views.report.output import write_pages
 
-            files = write_report(visit_report(record), Path(args.sheet), force=args.force)
-            print(f"placer: visit report written to {', '.join(map(str, files))}",
+            files = write_pages(pages, Path(args.sheet), record.machine_name, force=args.force)
+            print(f"placer: visit report written to {', '.join(map(shown_path, files))}",
                   file=sys.stderr)
             say_undrawn()
         return EXIT_OK
@@ -189,6 +198,18 @@ def _history(args: argparse.Namespace) -> int:
     else:
         print_plain(render_visits, args.width, args.machine, visits, last)
     return EXIT_OK
+
+
+def _history_pages(record, path: Path, force: bool):
+    """A stored visit's report pages, drawn and their files checked before anything is
+    printed."""
+    from placer.views.report.pages import report_pages
+    from placer.views.sheet.files import sheet_paths
+    from placer.visitreport import visit_report
+
+    pages = report_pages(visit_report(record))
+    sheet_paths(path, len(pages), force=force)
+    return pages
 
 
 def _remove_visit(db, args: argparse.Namespace, visit, path: Path) -> int:
@@ -201,7 +222,7 @@ def _remove_visit(db, args: argparse.Namespace, visit, path: Path) -> int:
         raise InputError(f"{what} would be removed for good", option="remove",
                          expected="{opt:force} with it to remove it")
     db.remove_visit(visit.id)
-    print(f"placer: {what} removed from {path}", file=sys.stderr)
+    print(f"placer: {what} removed from {shown_path(path)}", file=sys.stderr)
     return EXIT_OK
 
 

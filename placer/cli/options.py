@@ -206,12 +206,14 @@ def build_parser() -> argparse.ArgumentParser:
     batch = sub.add_parser("batch", help="plan rotor after rotor of one type from a readings file",
                            description="Solve every rotor of a readings file (CSV or JSON lines: "
                                        "serial and each plane's correction) against a template "
-                                       "job file; results are written as they are found to "
-                                       "PREFIX.csv and PREFIX.jsonl, bad rows to "
+                                       "job file; each result goes to the log PREFIX.jsonl "
+                                       "as it is found, the table PREFIX.csv is written "
+                                       "whole at the end (or when stopped), bad rows to "
                                        "PREFIX.errors.csv, the summary to PREFIX.summary.json.",
                            epilog="Exit codes: 0 every rotor solved and within tolerance, 1 a "
                                   "rotor outside tolerance or a bad row, 2 bad template or "
-                                  "readings file, or outputs that exist.")
+                                  "readings file, or outputs that exist or cannot be "
+                                  "written.")
     batch.add_argument("template", metavar="TEMPLATE",
                        help="job file (TOML) of the rotor type; planes need no correction")
     batch.add_argument("readings", metavar="READINGS", help="readings file, .csv or .jsonl")
@@ -224,7 +226,8 @@ def build_parser() -> argparse.ArgumentParser:
     again = batch.add_mutually_exclusive_group()
     again.add_argument("--resume", action="store_true",
                        help="keep the rotors already in PREFIX.jsonl and solve the rest "
-                            "(refused when a kept rotor's readings changed since)")
+                            "(refused when a kept rotor's readings changed since, or an "
+                            "output is not this run's)")
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
     _engine_options(batch, None)
     _new_parser(sub)
@@ -350,7 +353,8 @@ def check_options(args: argparse.Namespace) -> None:
     args : argparse.Namespace
         The parsed command line.
     """
-    from placer.io.inputs import NAME_EXPECTED, name_problem, shown_path
+    from placer.errors import shown_path
+    from placer.io.inputs import NAME_EXPECTED, name_problem
 
     for name in PATH_ARGUMENTS:
         value = getattr(args, name, None)

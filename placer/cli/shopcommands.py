@@ -17,7 +17,7 @@ from placer.cli.common import (
     say_undrawn,
 )
 from placer.cli.options import FLAGS
-from placer.errors import InputError, fill_options
+from placer.errors import InputError, fill_options, shown_path
 from placer.io.tables import json_text
 
 
@@ -50,7 +50,7 @@ def _solve(args: argparse.Namespace) -> int:
         from placer.views.sheet import write_sheet
 
         pages = write_sheet(result, Path(args.sheet), force=args.force)
-        files = ", ".join(dict.fromkeys(str(page.path) for page in pages))
+        files = ", ".join(dict.fromkeys(shown_path(page.path) for page in pages))
         print(f"placer: sheet written to {files}", file=sys.stderr)
         say_undrawn()
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
@@ -160,12 +160,11 @@ def _new(args: argparse.Namespace) -> int:
             print("\n".join(f"  {name}" for name in example_names()))
             return EXIT_OK
         for path in copy_examples(args.names, Path(args.folder), force=args.force):
-            print(f"placer: wrote {path}", file=sys.stderr)
+            print(f"placer: wrote {shown_path(path)}", file=sys.stderr)
         return EXIT_OK
-    path = Path(args.file)
-    if path.exists() and not args.force:
-        raise InputError(f"'{path}' exists", option="file",
-                         expected="a new file name, or {opt:force} to replace it")
+    from placer.io.outputs import check_target
+
+    path = check_target(Path(args.file), "file", force=args.force)  # before any question
     imperial = args.units == "imperial" or (args.units is None and args.radius_in is not None)
     answers = {"name": args.name, "positions": args.positions,
                "radius": args.radius_in if args.radius_in is not None else args.radius_mm,
@@ -193,8 +192,9 @@ def _new(args: argparse.Namespace) -> int:
                     planes=answers["planes"] or 1, units="imperial" if imperial else "metric")
     write_new(path, starter_text(start), force=args.force)
     command = {"job": "solve", "session": "field", "template": "batch"}[args.kind]
-    print(f"placer: wrote {path}; fill in the lines marked FILL IN, then: placer {command} "
-          f"{path}" + (" READINGS.csv" if args.kind == "template" else ""), file=sys.stderr)
+    print(f"placer: wrote {shown_path(path)}; fill in the lines marked FILL IN, then: placer "
+          f"{command} {shown_path(path)}" + (" READINGS.csv" if args.kind == "template" else ""),
+          file=sys.stderr)
     return EXIT_OK
 
 
@@ -226,7 +226,7 @@ def _blades(args: argparse.Namespace) -> int:
         from placer.views.sheet.bladepage import write_blade_sheet
 
         paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
-        print(f"placer: sheet written to {', '.join(dict.fromkeys(map(str, paths)))}",
+        print(f"placer: sheet written to {', '.join(dict.fromkeys(map(shown_path, paths)))}",
               file=sys.stderr)
         say_undrawn()
     return EXIT_OK if result.all_within else EXIT_OUTSIDE

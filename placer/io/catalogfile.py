@@ -21,7 +21,8 @@ from pathlib import Path
 
 from placer.catalog import Catalog, Item
 from placer.errors import CatalogError
-from placer.io.inputs import NAME_EXPECTED, name_problem, shown_path
+from placer.errors import shown_path
+from placer.io.inputs import NAME_EXPECTED, name_problem
 from placer.io.tables import Table, closest, quantity_key, read_toml, shown
 from placer.units import MASS_UNITS
 

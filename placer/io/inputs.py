@@ -30,8 +30,8 @@ import os
 import stat
 from pathlib import Path
 
-from placer.errors import InputError, printable
-from placer.limits import MAX_ECHO_CHARS, MAX_FILE_BYTES, MAX_NAME_BYTES
+from placer.errors import InputError, shown_path
+from placer.limits import MAX_FILE_BYTES, MAX_NAME_BYTES
 
 BOM = b"\xef\xbb\xbf"
 """The byte-order mark U+FEFF in UTF-8 ([Unicode] 23.8)."""
@@ -168,20 +168,3 @@ def _open_error(exc: OSError, file: str, error: type[InputError], what: str,
                  expected=regular)
 
 
-def shown_path(file: str) -> str:
-    """A path short enough for an error line.
-
-    Parameters
-    ----------
-    file : str
-        The path as given.
-
-    Returns
-    -------
-    str
-        Its first and last :data:`placer.limits.MAX_ECHO_CHARS` characters when it is
-        long, printable.
-    """
-    if len(file) > 2 * MAX_ECHO_CHARS + 20:
-        file = f"{file[:MAX_ECHO_CHARS]}...{file[-MAX_ECHO_CHARS:]}"
-    return printable(file)

@@ -1,21 +1,21 @@
 """Starting files for ``placer new``: a commented job, field session or batch template,
 and copies of the bundled examples.
 
-Every file is written beside its final name and then renamed, so that a file is
-either whole or not there; an existing file is never replaced without ``force``.
+Every file is written through :mod:`placer.io.outputs` (beside its final name, then
+renamed), so that a file is either whole or not there; an existing file is never
+replaced without ``force``.
 The files written are read back by the readers in tests, so that what ``placer new``
 writes is what ``placer solve``, ``field`` and ``batch`` take.
 """
 
 from __future__ import annotations
 
-import os
-import tempfile
 from dataclasses import dataclass
 from pathlib import Path
 
 from placer.errors import InputError
 from placer.io.catalogfile import bundled_names, package_data_dir
+from placer.io.outputs import check_folder, check_target, write_text
 from placer.limits import MAX_POSITIONS
 from placer.units import UNIT_SYSTEMS
 
@@ -204,7 +204,7 @@ def starter_text(start: Starter) -> str:
     return "\n".join(lines) + "\n"
 
 
-def write_new(path: Path, text: str, force: bool = False) -> Path:
+def write_new(path: Path, text: str, force: bool = False, option: str = "file") -> Path:
     """Write ``text`` to ``path`` atomically (beside it, then renamed).
 
     Parameters
@@ -215,6 +215,8 @@ def write_new(path: Path, text: str, force: bool = False) -> Path:
         Its text.
     force : bool
         Replace a file that exists.
+    option : str
+        The argument the path came from, for a message.
 
     Returns
     -------
@@ -223,29 +225,12 @@ def write_new(path: Path, text: str, force: bool = False) -> Path:
 
     Raises
     ------
-    InputError
-        The file exists without ``force``, or its folder does not.
-
-    References
-    ----------
-    [PythonDocs] ``os.replace`` is atomic on POSIX within one file system.
+    OutputError
+        The file exists without ``force``, its folder does not, or it cannot be
+        written (:func:`placer.io.outputs.check_target`); nothing is changed then.
     """
-    path = Path(path)
-    if path.exists() and not force:
-        raise InputError(f"'{path}' exists", option="file",
-                         expected="a new file name, or {opt:force} to replace it")
-    if not path.parent.is_dir():
-        raise InputError(f"folder '{path.parent}' does not exist", option="file",
-                         expected="a file in an existing folder")
-    handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", dir=path.parent)
-    try:
-        with os.fdopen(handle, "w", encoding="utf-8", newline="\n") as stream:
-            stream.write(text)
-        os.replace(temporary, path)
-    except BaseException:
-        Path(temporary).unlink(missing_ok=True)
-        raise
-    return path
+    path = check_target(Path(path), option, force=force)
+    return write_text(path, text, option, force=force)
 
 
 def example_names() -> list[str]:
@@ -283,7 +268,8 @@ def copy_examples(names: list[str], folder: Path, force: bool = False) -> list[P
     Raises
     ------
     InputError
-        An unknown name (with the list), or a file that exists without ``force``.
+        An unknown name (with the list); OutputError a file that exists without
+        ``force`` or a folder placer cannot write in.
     """
     known = example_names()
     chosen = []
@@ -298,14 +284,11 @@ def copy_examples(names: list[str], folder: Path, force: bool = False) -> list[P
         chosen.append(match)
     chosen = list(dict.fromkeys(chosen))
     folder = Path(folder)
-    targets = [folder / name for name in chosen]
-    for target in targets:
-        if target.exists() and not force:
-            raise InputError(f"'{target}' exists", option="example",
-                             expected="another folder, or {opt:force} to replace it")
+    check_folder(folder, "folder")
+    targets = [check_target(folder / name, "folder", force=force) for name in chosen]
     source = package_data_dir("examples")
-    return [write_new(target, (source / target.name).read_text(encoding="utf-8"), force=True)
-            for target in targets]
+    return [write_new(target, (source / target.name).read_text(encoding="utf-8"), force=force,
+                      option="folder") for target in targets]
 
 
 def catalog_names() -> list[str]:

@@ -142,7 +142,7 @@ def test_existing_file_is_refused_without_force(supply_fan, tmp_path):
         write_sheet(supply_fan, target)
     assert caught.value.option == "sheet"
     assert caught.value.one_line({"sheet": "--sheet", "force": "--force"}).endswith(
-        "(expected a new file name, or --force)")
+        "(expected a new file name, or --force to replace it)")
     assert target.read_bytes() == b"keep me"
     write_sheet(supply_fan, target, force=True)
     assert target.read_bytes().startswith(b"%PDF")

@@ -2,18 +2,17 @@
 
 A ``.pdf`` holds every page.  A ``.png`` or ``.svg`` holds one page: a
 report of one page writes the path given, a longer one ``NAME-1.png``,
-``NAME-2.png``... beside it.  Every file is written beside its target under
-a temporary name and then renamed over it, so that a reader never sees half
-a report; files that exist are refused unless ``force``.
+``NAME-2.png``... beside it.  Every file is written through
+:mod:`placer.io.outputs`: beside its target, then renamed over it, so that a
+reader never sees half a report; files that exist are refused unless ``force``.
 """
 
 from __future__ import annotations
 
-import os
-import tempfile
 from datetime import date
 from pathlib import Path
 
+from placer.io.outputs import replacing
 from placer.views.report.pages import ReportPage, report_pages
 from placer.views.sheet.files import PNG_DPI, require_matplotlib, sheet_paths
 from placer.visitreport import VisitReport
@@ -37,19 +36,6 @@ def check_report_path(path: Path, *, force: bool = False) -> None:
     """
     require_matplotlib()
     sheet_paths(Path(path), 1, force=force)
-
-
-def _replace_with(target: Path, write) -> None:
-    """Call ``write(stream)`` on a temporary file beside ``target``, then rename it over."""
-    handle, name = tempfile.mkstemp(dir=target.parent, prefix=f".{target.name}.",
-                                    suffix=".part")
-    try:
-        with os.fdopen(handle, "wb") as stream:
-            write(stream)
-        os.replace(name, target)
-    except BaseException:
-        Path(name).unlink(missing_ok=True)
-        raise
 
 
 def write_report(report: VisitReport, path: Path, *, when: date | None = None,
@@ -115,9 +101,10 @@ def write_pages(pages: list[ReportPage], path: Path, title: str, *,
                 for page in pages:
                     pdf.savefig(page.figure)
 
-        _replace_with(targets[0], write_pdf)
+        with replacing(targets[0], "sheet", force=force, what="visit report") as stream:
+            write_pdf(stream)
         return [targets[0]]
     for page, target in zip(pages, targets):
-        _replace_with(target, lambda stream, fig=page.figure: fig.savefig(
-            stream, format=suffix[1:], dpi=PNG_DPI))
+        with replacing(target, "sheet", force=force, what="visit report") as stream:
+            page.figure.savefig(stream, format=suffix[1:], dpi=PNG_DPI)
     return targets

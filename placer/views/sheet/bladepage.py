@@ -16,12 +16,11 @@ target and then renamed into place, so a sheet is never left half written.
 
 from __future__ import annotations
 
-import os
 from datetime import date
 from pathlib import Path
 
 from placer.arrange import BladeJob, BladeResult, blade_tolerance
-from placer.errors import InputError
+from placer.io.outputs import replacing
 from placer.views.bladewording import (
     BLADE_STEP,
     FROM_TEXT,
@@ -617,36 +616,10 @@ def write_blade_sheet(result: BladeResult, path: Path, *, when: date | None = No
                 for fig in figures:
                     pdf.savefig(fig)
 
-        _publish(paths[0], save, force)
+        with replacing(paths[0], "sheet", force=force, what="sheet") as stream:
+            save(stream)
         return [paths[0]] * total
     for fig, target in zip(figures, paths):
-        _publish(target, lambda stream, fig=fig, target=target: fig.savefig(
-            stream, format=target.suffix.lower()[1:], dpi=PNG_DPI), force)
+        with replacing(target, "sheet", force=force, what="sheet") as stream:
+            fig.savefig(stream, format=target.suffix.lower()[1:], dpi=PNG_DPI)
     return paths
-
-
-def _publish(target: Path, save, force: bool) -> None:
-    """Write through ``save`` to a file beside ``target``, then move it into place.
-
-    Without ``force`` an existing target is never replaced, even one that
-    appeared while the sheet was drawn.
-    """
-    temporary = target.with_name(f".{target.name}.{os.getpid()}.part")
-    try:
-        with open(temporary, "wb") as stream:
-            save(stream)
-        if force:
-            os.replace(temporary, target)
-            return
-        try:
-            os.link(temporary, target)
-        except FileExistsError:
-            raise InputError(f"'{target}' exists", option="sheet",
-                             expected="a new file name, or {opt:force}") from None
-        except OSError:             # a file system without hard links
-            if target.exists():
-                raise InputError(f"'{target}' exists", option="sheet",
-                                 expected="a new file name, or {opt:force}") from None
-            os.replace(temporary, target)
-    finally:
-        temporary.unlink(missing_ok=True)

@@ -12,6 +12,7 @@ from collections.abc import Sequence
 from datetime import date
 from pathlib import Path
 
+from placer.io.outputs import replacing
 from placer.plan import JobResult, PlaneResult
 from placer.views.sheet.blocks import (
     KEY_ROW_IN,
@@ -363,22 +364,21 @@ def write_sheet(result: JobResult, path: Path, *, title: str | None = None,
     require_matplotlib()
     paths = sheet_paths(Path(path), len(result.planes), force=force)
     when = _job_date(result, when)
-    mode = "wb" if force else "xb"
     pages = [plane_page(result, i, title=title, when=when)
              for i in range(1, len(result.planes) + 1)]
     written = []
     if paths[0].suffix.lower() == ".pdf":
         from matplotlib.backends.backend_pdf import PdfPages
 
-        with open(paths[0], mode) as stream, PdfPages(stream, metadata={
-                "Title": f"Fitting sheet: {title or result.job.rotor.name}",
-                "Creator": "placer"}) as pdf:
+        with replacing(paths[0], "sheet", force=force, what="sheet") as stream, PdfPages(
+                stream, metadata={"Title": f"Fitting sheet: {title or result.job.rotor.name}",
+                                  "Creator": "placer"}) as pdf:
             for fig, _ in pages:
                 pdf.savefig(fig)
         written = [SheetPage(paths[0], i, d) for i, (_, d) in enumerate(pages, start=1)]
     else:
         for i, ((fig, drawing), target) in enumerate(zip(pages, paths), start=1):
-            with open(target, mode) as stream:
+            with replacing(target, "sheet", force=force, what="sheet") as stream:
                 fig.savefig(stream, format=target.suffix.lower()[1:], dpi=PNG_DPI)
             written.append(SheetPage(target, i, drawing))
     return written

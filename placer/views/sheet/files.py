@@ -2,8 +2,9 @@
 
 A ``.pdf`` holds every plane, one page each.  A ``.png`` or ``.svg`` holds one page: a
 one-plane job writes the path given, a job with several planes writes ``NAME-1.png``,
-``NAME-2.png``... beside it, one per plane.  matplotlib is imported only when a sheet is
-written, never when placer starts.
+``NAME-2.png``... beside it, one per plane.  Every file is written through
+:mod:`placer.io.outputs`: whole or not at all, never over a file without ``force``.
+matplotlib is imported only when a sheet is written, never when placer starts.
 """
 
 from __future__ import annotations
@@ -11,6 +12,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from placer.errors import InputError
+from placer.io.outputs import check_target
 
 SUFFIXES = (".pdf", ".png", ".svg")
 """File types the sheet is written as."""
@@ -53,22 +55,18 @@ def sheet_paths(path: Path, n_planes: int, *, force: bool = False) -> list[Path]
     Raises
     ------
     InputError
-        Unknown suffix, missing folder, or a file that exists without ``force``.
+        Unknown suffix; or (OutputError) a target placer cannot or may not write
+        (:func:`placer.io.outputs.check_target`).
     """
     path = Path(path)
     suffix = path.suffix.lower()
     if suffix not in SUFFIXES:
         raise InputError(f"'{path.name}' has no known suffix", option="sheet",
                          expected=".pdf, .png or .svg")
-    if not path.parent.is_dir():
-        raise InputError(f"folder '{path.parent}' does not exist", option="sheet",
-                         expected="a file in an existing folder")
     if suffix == ".pdf" or n_planes == 1:
         paths = [path]
     else:
         paths = [path.with_name(f"{path.stem}-{i}{path.suffix}") for i in range(1, n_planes + 1)]
     for p in paths:
-        if p.exists() and not force:
-            raise InputError(f"'{p}' exists", option="sheet",
-                             expected="a new file name, or {opt:force}")
+        check_target(p, "sheet", force=force)
     return paths
