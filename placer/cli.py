@@ -3,7 +3,8 @@
 Exit codes: 0 every plane within tolerance (or none given); 1 a plane is
 outside its tolerance (the least-residual plan is still printed); 2 bad
 input, with one line on stderr naming the file, the key and what was
-expected; 3 stopped at the time limit; 4 (``placer field``) a plan made from
+expected; 3 stopped at the time or memory limit (--time-limit, --memory-limit; every
+command has both); 4 (``placer field``) a plan made from
 data that fails the checks (a weak trial run, poorly separated planes, an
 amplitude-only construction whose circles do not meet): the plan is printed,
 marked as such.
@@ -12,24 +13,29 @@ marked as such.
 from __future__ import annotations
 
 import argparse
-import contextlib
 import math
-import signal
 import sys
 from pathlib import Path
 
+from placer.budget import command_budget, doing, memory_stop, paused
 from placer.errors import InputError, LimitReached, PlacerError, fill_options
 from placer.io.tables import json_text
 from placer.limits import (
+    DEFAULT_BATCH_TIME_LIMIT_S,
     DEFAULT_EFFORT,
+    DEFAULT_MEMORY_LIMIT_MB,
     DEFAULT_SAMPLES,
     DEFAULT_SEED,
     DEFAULT_TIME_LIMIT_S,
     MAX_EFFORT,
     MAX_MAGNITUDE,
+    MAX_MEMORY_LIMIT_MB,
     MAX_PARTS_LIMIT,
     MAX_SAMPLES,
+    MAX_TIME_LIMIT_S,
+    MAX_WIDTH,
     MIN_MAGNITUDE,
+    MIN_MEMORY_LIMIT_MB,
     MIN_SAMPLES,
     MIN_WIDTH,
 )
@@ -49,6 +55,7 @@ FLAGS = {
     "units": "--units", "positions": "--positions", "planes": "--planes", "catalog": "--catalog",
     "name": "--name", "radius": "--radius-mm or --radius-in", "file": "FILE",
     "example": "NAME", "folder": "--folder", "kind": "KIND",
+    "memory_limit_mb": "--memory-limit",
 }
 """How the command line shows an argument the library names (see placer.errors)."""
 FLAGS["remove"] = "--remove"
@@ -70,7 +77,8 @@ def _parser() -> argparse.ArgumentParser:
                     "positions (bolt holes, blades, rim slots): the proven least residual "
                     "for each number of parts, checked against ISO 21940-11 tolerances.",
         epilog="Exit codes: 0 within tolerance, 1 a plane outside tolerance, 2 bad input, 3 "
-               "stopped at the time limit, 4 (placer field) a plan from data that fails the "
+               "stopped at the time or memory limit (every command takes --time-limit and "
+               "--memory-limit), 4 (placer field) a plan from data that fails the "
                "checks; each command's --help says what they mean for it.")
     from placer import __version__
 
@@ -115,6 +123,7 @@ def _parser() -> argparse.ArgumentParser:
     cats.add_argument("name", metavar="NAME", nargs="?", help="bundled name or file path")
     cats.add_argument("--json", action="store_true", help="print JSON instead of a table")
     _units_option(cats)
+    _budget_options(cats)
 
     tol = sub.add_parser("tolerance", help="permissible residual unbalance from a grade",
                          description="U_per = 1000·G·m/ω per ISO 21940-11, and its share per "
@@ -135,6 +144,7 @@ def _parser() -> argparse.ArgumentParser:
                          "at it")
     _units_option(tol)
     tol.add_argument("--json", action="store_true", help="print JSON instead of text")
+    _budget_options(tol)
     field = sub.add_parser("field", help="plan from vibration readings of trial runs",
                            description="Read a session file (reference run, trial runs, "
                                        "optional check run), work out the influence "
@@ -182,6 +192,7 @@ def _parser() -> argparse.ArgumentParser:
     machines.add_argument("--width", type=int, default=None, metavar="COLUMNS",
                           help="width of the table in columns (default: the terminal's, 80 "
                                "when not a terminal)")
+    _budget_options(machines)
     history = sub.add_parser("history", help="show one machine's visits, or one visit",
                              description="Show a machine's stored visits: date (UTC), "
                                          "coefficients, what is on the rotor after each and "
@@ -206,6 +217,7 @@ def _parser() -> argparse.ArgumentParser:
                               "or .svg, as 'placer field --sheet')")
     history.add_argument("--force", action="store_true",
                          help="let --sheet overwrite files that exist; confirm --remove")
+    _budget_options(history)
 
     trial = sub.add_parser("trial", help="suggest a trial mass before the first trial run",
                            description="Trial mass whose centrifugal force is 10 % of the "
@@ -214,6 +226,7 @@ def _parser() -> argparse.ArgumentParser:
     trial.add_argument("--rpm", required=True, type=float, help="speed of the trial run [r/min]")
     _radius_options(trial, required=True, text="radius the trial weight goes on")
     _units_option(trial)
+    _budget_options(trial)
 
     batch = sub.add_parser("batch", help="plan rotor after rotor of one type from a readings file",
                            description="Solve every rotor of a readings file (CSV or JSON lines: "
@@ -238,7 +251,7 @@ def _parser() -> argparse.ArgumentParser:
                        help="keep the rotors already in PREFIX.jsonl and solve the rest "
                             "(refused when a kept rotor's readings changed since)")
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
-    _engine_options(batch, None)
+    _engine_options(batch, DEFAULT_BATCH_TIME_LIMIT_S)
     _new_parser(sub)
     blades = sub.add_parser("blades", help="arrange blades on a disc, proven, then trim",
                             description="Read a blade file (TOML, or a CSV list of blades), "
@@ -324,6 +337,7 @@ def _new_parser(sub) -> None:
         one.add_argument("--planes", type=int, choices=(1, 2), help="correction planes")
         _units_option(one)
         one.add_argument("--force", action="store_true", help="replace FILE if it exists")
+        _budget_options(one)
     example = kinds.add_parser("example", help="copy bundled examples into a folder",
                                description="Copy bundled example files (jobs, sessions, a "
                                            "batch template and its readings) into a folder; "
@@ -332,30 +346,48 @@ def _new_parser(sub) -> None:
                          help="example names (supply-fan or supply-fan.toml), or all")
     example.add_argument("--folder", default=".", help="where to copy them (default: here)")
     example.add_argument("--force", action="store_true", help="replace files that exist")
+    _budget_options(example)
 
 
-def _engine_options(command: argparse.ArgumentParser, time_limit_s: float | None) -> None:
-    """--effort (what is proven; counted, so every run gives the same answer) and
-    --time-limit (when the whole command stops, printing nothing as final)."""
+def _engine_options(command: argparse.ArgumentParser, time_limit_s: float) -> None:
+    """--effort (what is proven; counted, so every run gives the same answer), and the
+    command's budget (:func:`_budget_options`)."""
     command.add_argument("--effort", type=float, default=DEFAULT_EFFORT, metavar="X",
                          help="how hard the exact search works before it leaves a part count "
                               "unproven, as a multiple of the default (work is counted, not "
                               f"timed: the same input gives the same answer; default "
                               f"{DEFAULT_EFFORT:g})")
-    default = ("no limit" if time_limit_s is None else f"{time_limit_s:g} s")
+    _budget_options(command, time_limit_s)
+
+
+def _budget_options(command: argparse.ArgumentParser,
+                    time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> None:
+    """--time-limit and --memory-limit: when the whole command stops (every command)."""
     command.add_argument("--time-limit", type=float, default=time_limit_s, metavar="SECONDS",
                          help="stop the whole command after this long, with a message and "
                               "exit code 3, printing nothing as final; it never changes a "
-                              f"result (default {default})")
-
+                              f"result (default {time_limit_s:g} s)")
+    command.add_argument("--memory-limit", type=float, default=DEFAULT_MEMORY_LIMIT_MB,
+                         metavar="MB", dest="memory_limit",
+                         help="stop the command, with a message and exit code 3, when it "
+                              "would take more memory than this (each worker process of a "
+                              f"batch has its own; default {DEFAULT_MEMORY_LIMIT_MB:g} MB)")
 
 
 def _check(args: argparse.Namespace) -> None:
     """The options commands share, checked once, before any file is read."""
     time_limit = getattr(args, "time_limit", None)
-    if time_limit is not None and not (math.isfinite(time_limit) and time_limit > 0):
+    if time_limit is not None and not (math.isfinite(time_limit)
+                                       and 0 < time_limit <= MAX_TIME_LIMIT_S):
         raise InputError(f"is {time_limit:g}", option="time_limit_s",
-                         expected="a number of seconds above zero")
+                         expected=f"a number of seconds above zero and at most "
+                                  f"{MAX_TIME_LIMIT_S:g}")
+    memory = getattr(args, "memory_limit", None)
+    if memory is not None and not (math.isfinite(memory)
+                                   and MIN_MEMORY_LIMIT_MB <= memory <= MAX_MEMORY_LIMIT_MB):
+        raise InputError(f"is {memory:g}", option="memory_limit_mb",
+                         expected=f"megabytes from {MIN_MEMORY_LIMIT_MB:g} to "
+                                  f"{MAX_MEMORY_LIMIT_MB:g}")
     effort = getattr(args, "effort", None)
     if effort is not None and not (math.isfinite(effort) and 0 < effort <= MAX_EFFORT):
         raise InputError(f"is {effort:g}", option="effort",
@@ -368,8 +400,9 @@ def _check(args: argparse.Namespace) -> None:
     if parts is not None and not 0 <= parts <= MAX_PARTS_LIMIT:
         raise InputError(f"is {parts}", option="parts", expected=f"0 to {MAX_PARTS_LIMIT}")
     width = getattr(args, "width", None)
-    if width is not None and width < MIN_WIDTH:
-        raise InputError(f"is {width}", option="width", expected=f"at least {MIN_WIDTH} columns")
+    if width is not None and not MIN_WIDTH <= width <= MAX_WIDTH:
+        raise InputError(f"is {width}", option="width",
+                         expected=f"{MIN_WIDTH} to {MAX_WIDTH} columns")
     chance = getattr(args, "min_chance", None)
     if chance is not None and not 0.0 <= chance <= 1.0:
         raise InputError(f"is {chance:g}", option="min_chance",
@@ -390,32 +423,6 @@ def _positive(*pairs: tuple[str, float]) -> None:
         if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
             raise InputError(f"is {value:g}", option=name,
                              expected="a number above zero, between 1e-12 and 1e12")
-
-
-@contextlib.contextmanager
-def _deadline(seconds: float | None, what: str):
-    """Stop the block with :class:`LimitReached` after ``seconds`` of wall-clock time.
-
-    The limit never decides a result: what is proven is decided by the
-    counted effort.  It only ends a run that takes too long, before anything
-    is printed as final.
-    """
-    if seconds is None or not hasattr(signal, "setitimer"):
-        yield
-        return
-
-    def stop(signum, frame):
-        raise LimitReached(f"the time limit of {seconds:g} s was reached {what}",
-                           option="time_limit_s", expected="a larger {opt:time_limit_s}, or "
-                           "a smaller {opt:effort}")
-
-    previous = signal.signal(signal.SIGALRM, stop)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
-    try:
-        yield
-    finally:
-        signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
 
 
 def _console(width: int | None = None):
@@ -468,9 +475,9 @@ def _solve(args: argparse.Namespace) -> int:
         require_matplotlib()
         sheet_paths(Path(args.sheet), len(job.planes), force=args.force)
     errors = FittingErrors(samples=args.samples, seed=args.seed, min_chance=args.min_chance)
-    with _deadline(args.time_limit, "before the plans were final; nothing is printed"):
-        result = solve_job(job, effort=args.effort, errors=errors, aim_share=args.aim_share,
-                           parts=args.parts)
+    result = solve_job(job, effort=args.effort, errors=errors, aim_share=args.aim_share,
+                       parts=args.parts)
+    doing("while printing the plans")
     if args.json:
         from placer.io.jsonout import job_dict
 
@@ -484,6 +491,9 @@ def _solve(args: argparse.Namespace) -> int:
         finish(console)
     if args.sheet is not None:
         from placer.views.sheet import write_sheet
+
+        doing("while drawing the sheet; the plans printed are final, the sheet is not "
+              "written")
 
         pages = write_sheet(result, Path(args.sheet), force=args.force)
         files = ", ".join(dict.fromkeys(str(page.path) for page in pages))
@@ -569,14 +579,14 @@ def _field(args: argparse.Namespace) -> int:
 
         check_report_path(Path(args.sheet), force=args.force)
     path = _db(args)
-    with _deadline(args.time_limit, "before the plan was final; nothing is printed or saved"):
-        result = solve_visit(session, path, effort=args.effort)
+    result = solve_visit(session, path, effort=args.effort)
     db = record = None
     if args.save:
         # Opened before anything is printed: a file that is not a history is refused here.
         db, record = open_for_saving(result, path)
     try:
         pages = _report_pages(result, record) if args.sheet is not None else None
+        doing("while printing the plan; nothing is saved")
         if args.json:
             from placer.io.jsonout import field_dict
 
@@ -600,10 +610,13 @@ def _field(args: argparse.Namespace) -> int:
         if pages is not None:
             from placer.views.report.output import write_pages
 
+            doing("while writing the visit report; the plan printed is final, the report is "
+                  "not written and nothing is saved")
             files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
             print(f"placer: visit report written to {', '.join(map(str, files))}",
                   file=sys.stderr)
         if db is not None:
+            doing("while saving the visit; the plan printed is final, the visit is not saved")
             _save_once(db, record, session.machine_id, path)
     finally:
         if db is not None:
@@ -762,9 +775,8 @@ def _batch(args: argparse.Namespace) -> int:
     from placer.io.batchresults import run_batch
     from placer.views.terminal.batch import progress_display, render_summary
 
-    with progress_display(sys.stderr) as progress, _deadline(
-            args.time_limit, "; the rotors solved so far are in the results, and "
-            "--resume carries on"):
+    doing("; the rotors solved so far are in the results, and {opt:resume} carries on")
+    with progress_display(sys.stderr) as progress:
         summary, paths = run_batch(Path(args.template), Path(args.readings),
                                    Path(args.out) if args.out else None, jobs=args.jobs,
                                    resume=args.resume, force=args.force,
@@ -812,9 +824,10 @@ def _new(args: argparse.Namespace) -> int:
                  "radius": (f"Their radius [{unit}]", positive_number, None),
                  "catalog": ("Catalogue", str, "wheel-clips-oz" if imperial else "washers-steel"),
                  "planes": ("Correction planes (1 or 2)", whole_number, 1)}
-        for key, (question, convert, default) in asked.items():
-            if answers[key] is None:
-                answers[key] = ask(question, convert, default)
+        with paused():  # waiting for a person's answers is not a runaway
+            for key, (question, convert, default) in asked.items():
+                if answers[key] is None:
+                    answers[key] = ask(question, convert, default)
     for key, option in (("positions", "positions"), ("radius", "radius")):
         if answers[key] is None:
             raise InputError("missing", option=option,
@@ -842,8 +855,8 @@ def _blades(args: argparse.Namespace) -> int:
 
         require_matplotlib()
         sheet_paths(Path(args.sheet), blade_page_count(job), force=args.force)
-    with _deadline(args.time_limit, "before the arrangement was final; nothing is printed"):
-        result = arrange_blades(job, effort=args.effort, aim_share=args.aim_share)
+    result = arrange_blades(job, effort=args.effort, aim_share=args.aim_share)
+    doing("while printing the arrangement")
     if args.json:
         from placer.io.jsonout import blades_dict
 
@@ -858,11 +871,18 @@ def _blades(args: argparse.Namespace) -> int:
     if args.sheet is not None:
         from placer.views.sheet.bladepage import write_blade_sheet
 
+        doing("while drawing the sheet; the arrangement printed is final, the sheet is not "
+              "written")
         paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
         print(f"placer: sheet written to {', '.join(dict.fromkeys(map(str, paths)))}",
               file=sys.stderr)
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
+
+_FIRST = {"solve": "before the plans were final; nothing is printed",
+          "field": "before the plan was final; nothing is printed or saved",
+          "blades": "before the arrangement was final; nothing is printed"}
+"""What a command does first, for the message when it stops at a limit."""
 
 HANDLERS = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance, "field": _field,
             "machines": _machines, "history": _history, "trial": _trial, "batch": _batch,
@@ -882,7 +902,7 @@ def main(argv: list[str] | None = None) -> int:
     -------
     int
         0 within tolerance, 1 a plane (or rotor) outside it, 2 bad input or no
-        command, 3 stopped at the time limit (nothing printed as final), 4 a
+        command, 3 stopped at the time or memory limit (nothing printed as final), 4 a
         field plan from data that fails the checks, 130 interrupted.
     """
     from placer.views.terminal.plain import ascii_safe
@@ -898,7 +918,15 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_BAD_INPUT
     try:
         _check(args)
-        return HANDLERS[args.command](args)
+        with command_budget(getattr(args, "time_limit", DEFAULT_TIME_LIMIT_S),
+                            getattr(args, "memory_limit", DEFAULT_MEMORY_LIMIT_MB), _FIRST.get(
+                args.command, "before it was done; nothing is printed"),
+                remedy="a smaller {opt:effort}" if hasattr(args, "effort") else "a smaller job"):
+            return HANDLERS[args.command](args)
+    except MemoryError:
+        # The block has given its memory back (and the limit is lifted) by now.
+        print(f"placer: stopped: {memory_stop().one_line(FLAGS)}", file=sys.stderr)
+        return EXIT_LIMIT
     except LimitReached as exc:
         print(f"placer: stopped: {exc.one_line(FLAGS)}", file=sys.stderr)
         return EXIT_LIMIT
