@@ -49,6 +49,7 @@ from __future__ import annotations
 
 import csv
 import io
+import itertools
 import json
 import math
 import re
@@ -60,9 +61,10 @@ from typing import Any
 from placer.batch import RotorReading
 from placer.errors import InputError
 from placer.geometry import polar
+from placer.io.sizes import check_count
 from placer.io.tables import number_problem, printable, whole_number_text
 from placer.job import Job
-from placer.limits import MAX_WHOLE, RANGE_EXPECTED
+from placer.limits import MAX_BATCH_ROWS, MAX_WHOLE, RANGE_EXPECTED
 from placer.units import MASS_UNITS, UNBALANCE_UNITS
 
 MAGNITUDE_FACTORS = {**{f"mass_{unit}": factor for unit, factor in MASS_UNITS.items()},
@@ -141,7 +143,11 @@ def read_readings(path: Path, template: Job) -> list[RotorReading | RowError]:
         raise InputError(f"cannot read the readings file: {printable(str(exc))}",
                          file=str(path)) from None
     rows = _csv_rows(text, path, template) if suffix == ".csv" else _jsonl_rows(text, template)
-    return _mark_repeats(list(rows))
+    kept = list(itertools.islice(rows, MAX_BATCH_ROWS + 1))
+    if kept:
+        check_count(len(kept), MAX_BATCH_ROWS, "rotors", file=str(path),
+                    key=f"line {kept[-1].line}")
+    return _mark_repeats(kept)
 
 
 @dataclass(frozen=True)

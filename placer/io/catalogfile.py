@@ -22,7 +22,9 @@ from pathlib import Path
 
 from placer.catalog import Catalog, Item
 from placer.errors import CatalogError
+from placer.io.sizes import check_count
 from placer.io.tables import Table, quantity_key, read_toml
+from placer.limits import MAX_ITEMS
 from placer.units import MASS_UNITS
 
 ITEM_KEYS = ("id", *(quantity_key("mass", u) for u in MASS_UNITS), "stock", "description",
@@ -98,7 +100,10 @@ def read_catalog(path: Path) -> Catalog:
     items = []
     seen: set[str] = set()
     source = str(path.resolve())
-    for table in root.tables("items", required=True):
+    tables = root.tables("items", required=True)
+    check_count(len(tables), MAX_ITEMS, "catalogue items", file=root.file, key="items",
+                error=CatalogError)
+    for table in tables:
         table.allow_only(ITEM_KEYS)
         item_id = table.text("id", required=True)
         if not item_id.strip():
