@@ -12,7 +12,8 @@ A ``SIGALRM`` timer (``setitimer``) raises at the next Python step once the
 time is up.  Compiled code sees it too: the exact search's kernel checks for
 signals inside its loops (``PyErr_CheckSignals``), and the few long numpy
 calls (the field search's span) are kept short by the size limits checked
-before any work (README, "Limits").  The timer is paused while ``placer
+before any work (README, "Limits").  CP-SAT gets a wall-clock cap a second
+past the timer (:func:`wall_clock_cap_s`).  The timer is paused while ``placer
 new`` waits for answers on a terminal (:func:`paused`): waiting for a person
 is not a runaway.
 
@@ -178,6 +179,20 @@ def _deadline(seconds: float | None, remedy: str) -> Iterator[None]:
     finally:
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, previous)
+
+
+def wall_clock_cap_s() -> float | None:
+    """A wall-clock cap for a compiled solver that cannot see the timer (CP-SAT) [s].
+
+    CP-SAT does not return to Python until it is done, so the command's timer
+    cannot stop it; given this cap as its ``max_time_in_seconds``, it returns a
+    second after the timer has fired, and the pending timer stops the command
+    at once, so that the cap never decides a result.  None when no timer runs.
+    """
+    if not hasattr(signal, "getitimer"):
+        return None
+    left, _ = signal.getitimer(signal.ITIMER_REAL)
+    return left + 1.0 if left > 0 else None
 
 
 @contextlib.contextmanager

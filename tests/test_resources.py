@@ -208,6 +208,20 @@ def test_solve_of_eight_planes_at_max_parts_eight_stops_at_its_time_limit(tmp_pa
     assert seconds < ceiling_s(2)
 
 
+def test_shared_stock_model_stops_at_its_time_limit(tmp_path):
+    # Eight planes share drawers of one part each: the CP-SAT model plans them together,
+    # at effort 1000 allowed 5000 deterministic seconds; the time limit still holds.
+    cat = tmp_path / "short.toml"
+    cat.write_text('name = "short"\n' + "".join(
+        f'[[items]]\nid = "i{i}"\nmass_g = {1.0 + 1.7 * i:.2f}\nstock = 1\n'
+        for i in range(12)), encoding="utf-8")
+    path = job_file(tmp_path, MAX_PLANES, 6, 6, catalog=str(cat))
+    code, out, err, seconds = run("solve", path, "--effort", 1000, "--time-limit", 2)
+    assert code == 3 and out == ""
+    one_line(err, "placer: stopped: --time-limit")
+    assert seconds < ceiling_s(2)
+
+
 def test_batch_stops_at_its_time_limit_with_workers(tmp_path):
     cat = catalogue(tmp_path, MAX_ITEMS)
     template = job_file(tmp_path, MAX_PLANES, 57, 8, catalog=str(cat), template=True,
