@@ -46,6 +46,7 @@ from __future__ import annotations
 import contextlib
 import os
 import signal
+import time
 from collections.abc import Iterator
 
 from placer.errors import LimitReached
@@ -163,7 +164,13 @@ def _warm_blas() -> None:
 
 @contextlib.contextmanager
 def _deadline(seconds: float | None, remedy: str) -> Iterator[None]:
+    """The timer; a timer already running (a caller's own) that fires first stays in
+    charge, and one that fires later is set again, for the time it has left, after."""
     if seconds is None or not hasattr(signal, "setitimer"):
+        yield
+        return
+    outer_left, _ = signal.getitimer(signal.ITIMER_REAL)
+    if 0 < outer_left <= seconds:
         yield
         return
 
@@ -172,6 +179,7 @@ def _deadline(seconds: float | None, remedy: str) -> Iterator[None]:
                            option="time_limit_s",
                            expected=f"a larger {{opt:time_limit_s}}, or {remedy}")
 
+    started = time.monotonic()
     previous = signal.signal(signal.SIGALRM, stop)
     signal.setitimer(signal.ITIMER_REAL, seconds)
     try:
@@ -179,6 +187,9 @@ def _deadline(seconds: float | None, remedy: str) -> Iterator[None]:
     finally:
         signal.setitimer(signal.ITIMER_REAL, 0)
         signal.signal(signal.SIGALRM, previous)
+        if outer_left > 0:
+            signal.setitimer(signal.ITIMER_REAL,
+                             max(outer_left - (time.monotonic() - started), 1e-3))
 
 
 def wall_clock_cap_s() -> float | None:

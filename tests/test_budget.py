@@ -60,3 +60,22 @@ def test_the_memory_limit_is_set_for_the_block_and_lifted_after():
             np.empty(600 * 2**20, dtype=np.uint8)  # 600 MB at once: past the limit
     assert resource.getrlimit(resource.RLIMIT_DATA) == before
     assert "the memory limit of 500 MB was reached" in str(memory_stop())
+
+
+def test_a_callers_own_timer_is_kept():
+    # The caller's timer (1 s) fires before the command's (300 s): it stays in charge;
+    # one that fires later (600 s) runs on after the command, less the time it took.
+    import signal
+
+    previous = signal.signal(signal.SIGALRM, lambda *_: None)
+    try:
+        signal.setitimer(signal.ITIMER_REAL, 1.0)
+        with command_budget(300.0, None):
+            assert signal.getitimer(signal.ITIMER_REAL)[0] <= 1.0
+        signal.setitimer(signal.ITIMER_REAL, 600.0)
+        with command_budget(300.0, None):
+            assert 299.0 < signal.getitimer(signal.ITIMER_REAL)[0] <= 300.0
+        assert 599.0 < signal.getitimer(signal.ITIMER_REAL)[0] <= 600.0
+    finally:
+        signal.setitimer(signal.ITIMER_REAL, 0)
+        signal.signal(signal.SIGALRM, previous)
