@@ -28,6 +28,7 @@ from placer.limits import (
     MAX_ITEMS,
     MAX_PLANES,
     MAX_SENSORS,
+    MAX_TRIAL_RUNS,
     MAX_WIDTH,
     MIN_MEMORY_LIMIT_MB,
 )
@@ -136,6 +137,18 @@ def test_field_of_many_sensors_is_refused(tmp_path):
     code, _, err, _ = run("field", path)
     assert code == 2
     one_line(err, "sensors", f"at most {MAX_SENSORS} sensors")
+
+
+def test_field_of_many_trial_runs_is_refused(run_cli, tmp_path):
+    rng = np.random.default_rng(2)
+    a = (rng.normal(size=(2, 2)) + 1j * rng.normal(size=(2, 2))) * 0.01
+    trials = tuple((k % 2, 20.0, 1 + k % 4, True) for k in range(MAX_TRIAL_RUNS + 1))
+    path = tmp_path / "visit.toml"
+    path.write_text(session_toml(a, np.array([rect(900, 70), rect(600, 250)]),
+                                 trials=trials), encoding="utf-8")
+    code, _, err = run_cli("field", path)
+    assert code == 2
+    one_line(err, str(path), "runs", f"at most {MAX_TRIAL_RUNS} trial runs")
 
 
 def test_field_search_too_large_is_refused(tmp_path):
