@@ -35,7 +35,7 @@ from placer.influence import (
     static_couple,
 )
 from placer.job import ExistingPart
-from placer.limits import DEFAULT_EFFORT, DEFAULT_WORK
+from placer.limits import DEFAULT_EFFORT, DEFAULT_WORK, MAX_FIELD_CELLS
 from placer.onrotor import plan_view
 from placer.plan import FittedPart
 from placer.residual import objective_of
@@ -163,6 +163,7 @@ def field_search(session: Session, matrix: np.ndarray,
             column_stock.append(int(arrays.stock[k]))
         blocks.append(PlaneBlock(p, arrays, first_row, np.array(columns), existing))
         first_row += arrays.effects.shape[0]
+    _check_size(session, first_row, len(column_stock))
     effects = np.zeros((first_row, len(column_stock), len(session.channels)), dtype=complex)
     capacity = np.zeros(first_row, dtype=np.int64)
     for b in blocks:
@@ -174,6 +175,29 @@ def field_search(session: Session, matrix: np.ndarray,
     search = PlacementSearch(effects, capacity, np.array(column_stock, dtype=np.int64),
                              session.max_parts, norm=FIELD_NORMS[session.norm])
     return search, blocks
+
+
+PEAK_BYTES_PER_CELL = 112
+"""Memory the coupled search takes at its peak per cell (position x column x sensor)
+[bytes]: measured 100 to 103 (8 planes of 3600 positions, 13 and 27 sensors; VmHWM less
+the interpreter's), with a margin."""
+
+
+def _check_size(session: Session, rows: int, columns: int) -> None:
+    """Refuse a coupled search larger than :data:`placer.limits.MAX_FIELD_CELLS`, before
+    its arrays are made (naming the session's planes); then take its peak memory once
+    and give it back, so that a memory limit stops it here, not inside LAPACK (which
+    writes to stderr when it cannot get its workspace)."""
+    cells = rows * columns * len(session.channels)
+    if cells > MAX_FIELD_CELLS:
+        raise InputError(f"make a coupled search of {rows} positions x {columns} catalogue "
+                         f"items x {len(session.channels)} sensors = {cells} cells",
+                         file=session.source, key="planes",
+                         expected=f"at most {MAX_FIELD_CELLS} cells, placer's limit: fewer "
+                                  "positions, catalogue items or sensors")
+    # Untouched pages cost no time; a MemoryError here is the command's memory limit.
+    probe = np.empty(cells * PEAK_BYTES_PER_CELL, dtype=np.uint8)
+    del probe
 
 
 def _predicted(session: Session, parts, matrix: np.ndarray, now: np.ndarray) -> np.ndarray:

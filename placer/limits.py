@@ -33,12 +33,28 @@ MAX_CAPACITY = 12
 """Most parts stacked on one position."""
 
 DEFAULT_TIME_LIMIT_S = 300.0
-"""Wall-clock time a ``placer solve`` or ``placer field`` run may take before it stops
-with a message and prints nothing as final [s].  It never decides a result: what is
-proven is decided by the counted effort (:data:`DEFAULT_EFFORT`)."""
+"""Wall-clock time a placer command (every one but ``placer batch``) may take before it
+stops with a message and prints nothing as final [s] (``--time-limit``).  It never
+decides a result: what is proven is decided by the counted effort
+(:data:`DEFAULT_EFFORT`)."""
+DEFAULT_BATCH_TIME_LIMIT_S = 3600.0
+"""Wall-clock time a whole ``placer batch`` may take [s]: an hour, far above a day's
+readings of a production line; what is solved by then is kept, and ``--resume`` carries
+on."""
 MAX_TIME_LIMIT_S = 7 * 24 * 3600.0
 """Longest time limit an option may ask for [s] (a week; the system timer refuses values
 past its ``time_t``)."""
+DEFAULT_MEMORY_LIMIT_MB = 2048.0
+"""Memory a placer command may take on top of what Python holds at its start [MB]
+(``--memory-limit``; each worker process of a batch has its own).  The examples take
+at most about 300 MB (a printed blade sheet); 2 GB leaves a margin of more than six
+times and fits a shop's laptop."""
+MIN_MEMORY_LIMIT_MB = 400.0
+"""Smallest memory limit an option may ask for [MB]: every example runs in 250 MB (the
+numerical libraries take about 150 MB to load), so that a command never stops while
+they load (OpenBLAS does not fail cleanly there, see :mod:`placer.budget`)."""
+MAX_MEMORY_LIMIT_MB = 1_048_576.0
+"""Largest memory limit an option may ask for [MB] (a terabyte)."""
 MAX_EFFORT = 1000.0
 """Largest effort an option may ask for."""
 
@@ -88,6 +104,31 @@ RANGE_EXPECTED = "zero or a number between 1e-12 and 1e12 in size"
 
 MIN_WIDTH = 40
 """Narrowest terminal sheet [columns]."""
+MAX_WIDTH = 1000
+"""Widest terminal sheet [columns]: the sheet is drawn whole in memory, so its width
+is bounded (a wide monitor shows about 400)."""
+
+MAX_PLANES = 8
+"""Most correction planes in a job, batch template or field session.  Shop work uses
+one or two, long rotors up to four or five (common practice, no source); eight is also
+the most the coupled field search takes (its span has at most 2 x 8 real coordinates,
+``placer/engine/_kernel.c``, MAXD)."""
+MAX_SENSORS = 32
+"""Most sensors (readings per run) in a field session; shop work uses one to four per
+bearing (common practice, no source)."""
+MAX_RUNS = 64
+"""Most runs (reference, trial and check runs) in a field session."""
+MAX_TRIAL_RUNS = 32
+"""Most trial runs in a field session (one or two per plane in shop work)."""
+MAX_FIELD_CELLS = 4_000_000
+"""Largest coupled field search: positions of every plane x catalogue items (columns)
+x sensors.  Its arrays take about 16 bytes a cell a copy, several copies, so that the
+largest stays well inside the default memory limit."""
+MAX_ITEMS = 100
+"""Most items in one catalogue (shop catalogues list 5 to 30 sizes)."""
+MAX_BATCH_ROWS = 100_000
+"""Most rows (rotors) in one batch readings file: far above a day's production; a
+longer series goes in several files."""
 
 MAX_SLOTS = 120
 """Most slots (and blades) on one disc for ``placer blades``: the printed sheet names

@@ -49,7 +49,11 @@ def test_deciding_modules_read_no_clock():
     # And the integer model is told to be repeatable ([CPSAT]).
     model = (PACKAGE / "engine" / "model.py").read_text(encoding="utf-8")
     assert "max_deterministic_time" in model and "num_workers = 1" in model
-    assert "max_time_in_seconds" not in model
+    # Its one wall-clock cap lies a second past the command's own timer
+    # (placer.budget.wall_clock_cap_s): the timer stops the command first, so the cap
+    # decides nothing (tests/test_budget.py).
+    assert model.count("max_time_in_seconds") == 1
+    assert "max_time_in_seconds = cap" in model and "cap = wall_clock_cap_s()" in model
 
 
 def _solve_json(job: Path, env: dict[str, str]) -> dict:

@@ -3,7 +3,8 @@
 Exit codes: 0 every plane within tolerance (or none given); 1 a plane is
 outside its tolerance (the least-residual plan is still printed); 2 bad
 input, with one line on stderr naming the file, the key and what was
-expected; 3 stopped at the time limit; 4 (``placer field``) a plan made from
+expected; 3 stopped at the time or memory limit (--time-limit, --memory-limit; every
+command has both); 4 (``placer field``) a plan made from
 data that fails the checks (a weak trial run, poorly separated planes, an
 amplitude-only construction whose circles do not meet): the plan is printed,
 marked as such.
@@ -14,6 +15,7 @@ from __future__ import annotations
 import os
 import sys
 
+from placer.budget import command_budget, memory_stop
 from placer.cli.common import (
     EXIT_BAD_INPUT,
     EXIT_LIMIT,
@@ -25,11 +27,17 @@ from placer.cli.fieldcommands import COMMANDS as FIELD_COMMANDS
 from placer.cli.options import FLAGS, build_parser, check_options
 from placer.cli.shopcommands import COMMANDS as SHOP_COMMANDS
 from placer.errors import LimitReached, PlacerError
+from placer.limits import DEFAULT_MEMORY_LIMIT_MB, DEFAULT_TIME_LIMIT_S
 
 HANDLERS = {name: {**SHOP_COMMANDS, **FIELD_COMMANDS}[name]
             for name in ("solve", "catalogs", "tolerance", "field", "machines", "history",
                          "trial", "batch", "new", "blades")}
 """The function that runs each command."""
+
+FIRST = {"solve": "before the plans were final; nothing is printed",
+         "field": "before the plan was final; nothing is printed or saved",
+         "blades": "before the arrangement was final; nothing is printed"}
+"""What a command does first, for the message when it stops at a limit."""
 
 __all__ = ["EXIT_BAD_INPUT", "EXIT_LIMIT", "EXIT_OK", "EXIT_OUTSIDE", "EXIT_UNTRUSTED", "FLAGS",
            "HANDLERS", "main"]
@@ -47,7 +55,7 @@ def main(argv: list[str] | None = None) -> int:
     -------
     int
         0 within tolerance, 1 a plane (or rotor) outside it, 2 bad input or no
-        command, 3 stopped at the time limit (nothing printed as final), 4 a
+        command, 3 stopped at the time or memory limit (nothing printed as final), 4 a
         field plan from data that fails the checks, 130 interrupted.
     """
     from placer.views.terminal.plain import ascii_safe
@@ -68,7 +76,16 @@ def main(argv: list[str] | None = None) -> int:
         from placer.views.sheet.glyphs import take_undrawn
 
         take_undrawn()  # nothing left from an earlier run in this process
-        return HANDLERS[args.command](args)
+        with command_budget(getattr(args, "time_limit", DEFAULT_TIME_LIMIT_S),
+                            getattr(args, "memory_limit", DEFAULT_MEMORY_LIMIT_MB),
+                            FIRST.get(args.command, "before it was done; nothing is printed"),
+                            remedy="a smaller {opt:effort}" if hasattr(args, "effort")
+                            else "a smaller job"):
+            return HANDLERS[args.command](args)
+    except MemoryError:
+        # The block has given its memory back (and the limit is lifted) by now.
+        print(f"placer: stopped: {memory_stop().one_line(FLAGS)}", file=sys.stderr)
+        return EXIT_LIMIT
     except LimitReached as exc:
         print(f"placer: stopped: {exc.one_line(FLAGS)}", file=sys.stderr)
         return EXIT_LIMIT

@@ -1,16 +1,14 @@
-"""What every command shares: exit codes, the deadline, consoles, the history path and
-the rotor options of tolerance and trial."""
+"""What every command shares: exit codes, consoles, the history path, the rotor options of
+tolerance and trial, and the notes said after a command's work."""
 
 from __future__ import annotations
 
 import argparse
-import contextlib
 import math
-import signal
 import sys
 from pathlib import Path
 
-from placer.errors import InputError, LimitReached, shown, shown_path
+from placer.errors import InputError, shown, shown_path
 from placer.limits import (
     MAX_MAGNITUDE,
     MIN_MAGNITUDE,
@@ -27,39 +25,6 @@ def check_positive(*pairs: tuple[str, float]) -> None:
         if not (math.isfinite(value) and MIN_MAGNITUDE <= value <= MAX_MAGNITUDE):
             raise InputError(f"is {value:g}", option=name,
                              expected="a number above zero, between 1e-12 and 1e12")
-
-
-@contextlib.contextmanager
-def deadline(seconds: float | None, what: str):
-    """Stop the block with :class:`LimitReached` after ``seconds`` of wall-clock time.
-
-    The limit never decides a result: what is proven is decided by the
-    counted effort.  It only ends a run that takes too long, before anything
-    is printed as final.
-
-    Parameters
-    ----------
-    seconds : float or None
-        The limit [s]; None for none.
-    what : str
-        How the stop message ends (what was not finished, what is kept).
-    """
-    if seconds is None or not hasattr(signal, "setitimer"):
-        yield
-        return
-
-    def stop(signum, frame):
-        raise LimitReached(f"the time limit of {seconds:g} s was reached {what}",
-                           option="time_limit_s", expected="a larger {opt:time_limit_s}, or "
-                           "a smaller {opt:effort}")
-
-    previous = signal.signal(signal.SIGALRM, stop)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
-    try:
-        yield
-    finally:
-        signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
 
 
 def rich_console(width: int | None = None):

@@ -7,12 +7,12 @@ import os
 import sys
 from pathlib import Path
 
+from placer.budget import doing
 from placer.cli.common import (
     EXIT_OK,
     EXIT_OUTSIDE,
     EXIT_UNTRUSTED,
     db_path,
-    deadline,
     print_plain,
     rich_console,
     say_rolled_back,
@@ -44,8 +44,7 @@ def _field(args: argparse.Namespace) -> int:
         from placer.io.outputs import check_target
 
         check_target(path, "db", force=True)     # the history is added to, never replaced
-    with deadline(args.time_limit, "before the plan was final; nothing is printed or saved"):
-        result = solve_visit(session, path, effort=args.effort)
+    result = solve_visit(session, path, effort=args.effort)
     db = record = None
     if args.save:
         # Opened before anything is printed: a file that is not a history is refused here.
@@ -56,6 +55,7 @@ def _field(args: argparse.Namespace) -> int:
             from placer.views.sheet.files import sheet_paths
 
             sheet_paths(Path(args.sheet), len(pages), force=args.force)
+        doing("while printing the plan; nothing is saved")
         if args.json:
             from placer.io.jsonout import field_dict
 
@@ -77,11 +77,14 @@ def _field(args: argparse.Namespace) -> int:
         if pages is not None:
             from placer.views.report.output import write_pages
 
+            doing("while writing the visit report; the plan printed is final, the report is "
+                  "not written and nothing is saved")
             files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
             print(f"placer: visit report written to {', '.join(map(shown_path, files))}",
                   file=sys.stderr)
             say_undrawn()
         if db is not None:
+            doing("while saving the visit; the plan printed is final, the visit is not saved")
             _save_once(db, record, session.machine_id, path)
     finally:
         if db is not None:

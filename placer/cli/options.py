@@ -10,15 +10,20 @@ from placer.cli.common import EXIT_BAD_INPUT
 from placer.errors import InputError, printable
 from placer.io.tables import whole_number_text
 from placer.limits import (
+    DEFAULT_BATCH_TIME_LIMIT_S,
     DEFAULT_EFFORT,
+    DEFAULT_MEMORY_LIMIT_MB,
     DEFAULT_SAMPLES,
     DEFAULT_SEED,
     DEFAULT_TIME_LIMIT_S,
     MAX_EFFORT,
+    MAX_MEMORY_LIMIT_MB,
     MAX_PARTS_LIMIT,
     MAX_SAMPLES,
     MAX_SEED,
     MAX_TIME_LIMIT_S,
+    MAX_WIDTH,
+    MIN_MEMORY_LIMIT_MB,
     MIN_SAMPLES,
     MIN_WIDTH,
 )
@@ -34,6 +39,7 @@ FLAGS = {
     "units": "--units", "positions": "--positions", "planes": "--planes", "catalog": "--catalog",
     "name": "--name", "radius": "--radius-mm or --radius-in", "file": "FILE",
     "example": "NAME", "folder": "--folder", "kind": "KIND",
+    "memory_limit_mb": "--memory-limit",
 }
 """How the command line shows an argument the library names (see placer.errors)."""
 
@@ -58,7 +64,8 @@ def build_parser() -> argparse.ArgumentParser:
                     "positions (bolt holes, blades, rim slots): the proven least residual "
                     "for each number of parts, checked against ISO 21940-11 tolerances.",
         epilog="Exit codes: 0 within tolerance, 1 a plane outside tolerance, 2 bad input, 3 "
-               "stopped at the time limit, 4 (placer field) a plan from data that fails the "
+               "stopped at the time or memory limit (every command takes --time-limit and "
+               "--memory-limit), 4 (placer field) a plan from data that fails the "
                "checks; each command's --help says what they mean for it.")
     from placer import __version__
 
@@ -103,6 +110,7 @@ def build_parser() -> argparse.ArgumentParser:
     cats.add_argument("name", metavar="NAME", nargs="?", help="bundled name or file path")
     cats.add_argument("--json", action="store_true", help="print JSON instead of a table")
     _units_option(cats)
+    _budget_options(cats)
 
     tol = sub.add_parser("tolerance", help="permissible residual unbalance from a grade",
                          description="U_per = 1000·G·m/ω per ISO 21940-11, and its share per "
@@ -123,6 +131,7 @@ def build_parser() -> argparse.ArgumentParser:
                          "at it")
     _units_option(tol)
     tol.add_argument("--json", action="store_true", help="print JSON instead of text")
+    _budget_options(tol)
     field = sub.add_parser("field", help="plan from vibration readings of trial runs",
                            description="Read a session file (reference run, trial runs, "
                                        "optional check run), work out the influence "
@@ -170,6 +179,7 @@ def build_parser() -> argparse.ArgumentParser:
     machines.add_argument("--width", type=int, default=None, metavar="COLUMNS",
                           help="width of the table in columns (default: the terminal's, 80 "
                                "when not a terminal)")
+    _budget_options(machines)
     history = sub.add_parser("history", help="show one machine's visits, or one visit",
                              description="Show a machine's stored visits: date (UTC), "
                                          "coefficients, what is on the rotor after each and "
@@ -194,6 +204,7 @@ def build_parser() -> argparse.ArgumentParser:
                               "or .svg, as 'placer field --sheet')")
     history.add_argument("--force", action="store_true",
                          help="let --sheet overwrite files that exist; confirm --remove")
+    _budget_options(history)
 
     trial = sub.add_parser("trial", help="suggest a trial mass before the first trial run",
                            description="Trial mass whose centrifugal force is 10 % of the "
@@ -202,6 +213,7 @@ def build_parser() -> argparse.ArgumentParser:
     trial.add_argument("--rpm", required=True, type=float, help="speed of the trial run [r/min]")
     _radius_options(trial, required=True, text="radius the trial weight goes on")
     _units_option(trial)
+    _budget_options(trial)
 
     batch = sub.add_parser("batch", help="plan rotor after rotor of one type from a readings file",
                            description="Solve every rotor of a readings file (CSV or JSON lines: "
@@ -229,7 +241,7 @@ def build_parser() -> argparse.ArgumentParser:
                             "(refused when a kept rotor's readings changed since, or an "
                             "output is not this run's)")
     again.add_argument("--force", action="store_true", help="overwrite existing outputs")
-    _engine_options(batch, None)
+    _engine_options(batch, DEFAULT_BATCH_TIME_LIMIT_S)
     _new_parser(sub)
     blades = sub.add_parser("blades", help="arrange blades on a disc, proven, then trim",
                             description="Read a blade file (TOML, or a CSV list of blades), "
@@ -315,6 +327,7 @@ def _new_parser(sub) -> None:
         one.add_argument("--planes", type=int, choices=(1, 2), help="correction planes")
         _units_option(one)
         one.add_argument("--force", action="store_true", help="replace FILE if it exists")
+        _budget_options(one)
     example = kinds.add_parser("example", help="copy bundled examples into a folder",
                                description="Copy bundled example files (jobs, sessions, a "
                                            "batch template and its readings) into a folder; "
@@ -323,21 +336,32 @@ def _new_parser(sub) -> None:
                          help="example names (supply-fan or supply-fan.toml), or all")
     example.add_argument("--folder", default=".", help="where to copy them (default: here)")
     example.add_argument("--force", action="store_true", help="replace files that exist")
+    _budget_options(example)
 
 
-def _engine_options(command: argparse.ArgumentParser, time_limit_s: float | None) -> None:
-    """--effort (what is proven; counted, so every run gives the same answer) and
-    --time-limit (when the whole command stops, printing nothing as final)."""
+def _engine_options(command: argparse.ArgumentParser, time_limit_s: float) -> None:
+    """--effort (what is proven; counted, so every run gives the same answer), and the
+    command's budget (:func:`_budget_options`)."""
     command.add_argument("--effort", type=float, default=DEFAULT_EFFORT, metavar="X",
                          help="how hard the exact search works before it leaves a part count "
                               "unproven, as a multiple of the default (work is counted, not "
                               f"timed: the same input gives the same answer; default "
                               f"{DEFAULT_EFFORT:g})")
-    default = ("no limit" if time_limit_s is None else f"{time_limit_s:g} s")
+    _budget_options(command, time_limit_s)
+
+
+def _budget_options(command: argparse.ArgumentParser,
+                    time_limit_s: float = DEFAULT_TIME_LIMIT_S) -> None:
+    """--time-limit and --memory-limit: when the whole command stops (every command)."""
     command.add_argument("--time-limit", type=float, default=time_limit_s, metavar="SECONDS",
                          help="stop the whole command after this long, with a message and "
                               "exit code 3, printing nothing as final; it never changes a "
-                              f"result (default {default})")
+                              f"result (default {time_limit_s:g} s)")
+    command.add_argument("--memory-limit", type=float, default=DEFAULT_MEMORY_LIMIT_MB,
+                         metavar="MB", dest="memory_limit",
+                         help="stop the command, with a message and exit code 3, when it "
+                              "would take more memory than this (each worker process of a "
+                              f"batch has its own; default {DEFAULT_MEMORY_LIMIT_MB:g} MB)")
 
 
 PATH_ARGUMENTS = ("job", "session", "file", "template", "readings", "sheet", "out", "db",
@@ -374,6 +398,12 @@ def check_options(args: argparse.Namespace) -> None:
                                        and 0 < time_limit <= MAX_TIME_LIMIT_S):
         raise InputError(f"is {time_limit:g}", option="time_limit_s",
                          expected=f"a number of seconds above zero, at most {MAX_TIME_LIMIT_S:g}")
+    memory = getattr(args, "memory_limit", None)
+    if memory is not None and not (math.isfinite(memory)
+                                   and MIN_MEMORY_LIMIT_MB <= memory <= MAX_MEMORY_LIMIT_MB):
+        raise InputError(f"is {memory:g}", option="memory_limit_mb",
+                         expected=f"megabytes from {MIN_MEMORY_LIMIT_MB:.0f} to "
+                                  f"{MAX_MEMORY_LIMIT_MB:.0f}")
     effort = getattr(args, "effort", None)
     if effort is not None and not (math.isfinite(effort) and 0 < effort <= MAX_EFFORT):
         raise InputError(f"is {effort:g}", option="effort",
@@ -386,8 +416,9 @@ def check_options(args: argparse.Namespace) -> None:
     if parts is not None and not 0 <= parts <= MAX_PARTS_LIMIT:
         raise InputError(f"is {parts}", option="parts", expected=f"0 to {MAX_PARTS_LIMIT}")
     width = getattr(args, "width", None)
-    if width is not None and width < MIN_WIDTH:
-        raise InputError(f"is {width}", option="width", expected=f"at least {MIN_WIDTH} columns")
+    if width is not None and not MIN_WIDTH <= width <= MAX_WIDTH:
+        raise InputError(f"is {width}", option="width",
+                         expected=f"{MIN_WIDTH} to {MAX_WIDTH} columns")
     chance = getattr(args, "min_chance", None)
     if chance is not None and not 0.0 <= chance <= 1.0:
         raise InputError(f"is {chance:g}", option="min_chance",

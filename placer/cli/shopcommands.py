@@ -7,11 +7,11 @@ import argparse
 import sys
 from pathlib import Path
 
+from placer.budget import doing, paused
 from placer.cli.common import (
     EXIT_OK,
     EXIT_OUTSIDE,
     check_positive,
-    deadline,
     metric_options,
     plain_console,
     say_undrawn,
@@ -32,9 +32,9 @@ def _solve(args: argparse.Namespace) -> int:
         require_matplotlib()
         sheet_paths(Path(args.sheet), len(job.planes), force=args.force)
     errors = FittingErrors(samples=args.samples, seed=args.seed, min_chance=args.min_chance)
-    with deadline(args.time_limit, "before the plans were final; nothing is printed"):
-        result = solve_job(job, effort=args.effort, errors=errors, aim_share=args.aim_share,
-                           parts=args.parts)
+    result = solve_job(job, effort=args.effort, errors=errors, aim_share=args.aim_share,
+                       parts=args.parts)
+    doing("while printing the plans")
     if args.json:
         from placer.io.jsonout import job_dict
 
@@ -49,6 +49,8 @@ def _solve(args: argparse.Namespace) -> int:
     if args.sheet is not None:
         from placer.views.sheet import write_sheet
 
+        doing("while drawing the sheet; the plans printed are final, the sheet is not "
+              "written")
         pages = write_sheet(result, Path(args.sheet), force=args.force)
         files = ", ".join(dict.fromkeys(shown_path(page.path) for page in pages))
         print(f"placer: sheet written to {files}", file=sys.stderr)
@@ -129,9 +131,8 @@ def _batch(args: argparse.Namespace) -> int:
     from placer.io.batchresults import run_batch
     from placer.views.terminal.batch import progress_display, render_summary
 
-    with progress_display(sys.stderr) as progress, deadline(
-            args.time_limit, "; the rotors solved so far are in the results, and "
-            "--resume carries on"):
+    doing("; the rotors solved so far are in the results, and {opt:resume} carries on")
+    with progress_display(sys.stderr) as progress:
         summary, paths = run_batch(Path(args.template), Path(args.readings),
                                    Path(args.out) if args.out else None, jobs=args.jobs,
                                    resume=args.resume, force=args.force,
@@ -178,9 +179,10 @@ def _new(args: argparse.Namespace) -> int:
                  "radius": (f"Their radius [{unit}]", positive_number, None),
                  "catalog": ("Catalogue", str, "wheel-clips-oz" if imperial else "washers-steel"),
                  "planes": ("Correction planes (1 or 2)", whole_number, 1)}
-        for key, (question, convert, default) in asked.items():
-            if answers[key] is None:
-                answers[key] = ask(question, convert, default)
+        with paused():  # waiting for a person's answers is not a runaway
+            for key, (question, convert, default) in asked.items():
+                if answers[key] is None:
+                    answers[key] = ask(question, convert, default)
     for key, option in (("positions", "positions"), ("radius", "radius")):
         if answers[key] is None:
             raise InputError("missing", option=option,
@@ -209,8 +211,8 @@ def _blades(args: argparse.Namespace) -> int:
 
         require_matplotlib()
         sheet_paths(Path(args.sheet), blade_page_count(job), force=args.force)
-    with deadline(args.time_limit, "before the arrangement was final; nothing is printed"):
-        result = arrange_blades(job, effort=args.effort, aim_share=args.aim_share)
+    result = arrange_blades(job, effort=args.effort, aim_share=args.aim_share)
+    doing("while printing the arrangement")
     if args.json:
         from placer.io.jsonout import blades_dict
 
@@ -225,6 +227,8 @@ def _blades(args: argparse.Namespace) -> int:
     if args.sheet is not None:
         from placer.views.sheet.bladepage import write_blade_sheet
 
+        doing("while drawing the sheet; the arrangement printed is final, the sheet is not "
+              "written")
         paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
         print(f"placer: sheet written to {', '.join(dict.fromkeys(map(shown_path, paths)))}",
               file=sys.stderr)

@@ -29,6 +29,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from placer.budget import wall_clock_cap_s
 from placer.engine.search import PartList
 from placer.limits import DEFAULT_EFFORT, DEFAULT_MODEL_EFFORT
 
@@ -197,6 +198,9 @@ class _Built:
         solver.parameters.max_deterministic_time = max(0.05, DEFAULT_MODEL_EFFORT * effort)
         solver.parameters.num_workers = 1
         solver.parameters.random_seed = 0
+        cap = wall_clock_cap_s()  # past the command's time limit: stops it, decides nothing
+        if cap is not None:
+            solver.parameters.max_time_in_seconds = cap
         status = solver.Solve(self.model)
         return solver, status
 

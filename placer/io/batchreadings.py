@@ -49,6 +49,7 @@ from __future__ import annotations
 
 import csv
 import io
+import itertools
 import json
 import math
 import re
@@ -61,6 +62,7 @@ from placer.batch import RotorReading
 from placer.errors import InputError
 from placer.geometry import polar
 from placer.io.inputs import read_text
+from placer.io.sizes import check_count
 from placer.io.tables import (
     LINE_EXPECTED,
     number_problem,
@@ -70,7 +72,7 @@ from placer.io.tables import (
     whole_number_text,
 )
 from placer.job import Job
-from placer.limits import MAX_READINGS_BYTES, MAX_WHOLE, RANGE_EXPECTED
+from placer.limits import MAX_BATCH_ROWS, MAX_READINGS_BYTES, MAX_WHOLE, RANGE_EXPECTED
 from placer.units import MASS_UNITS, UNBALANCE_UNITS
 
 MAGNITUDE_FACTORS = {**{f"mass_{unit}": factor for unit, factor in MASS_UNITS.items()},
@@ -144,7 +146,11 @@ def read_readings(path: Path, template: Job) -> list[RotorReading | RowError]:
                          expected="a readings file ending in .csv or .jsonl")
     text = read_text(path, InputError, "readings file", MAX_READINGS_BYTES)
     rows = _csv_rows(text, path, template) if suffix == ".csv" else _jsonl_rows(text, template)
-    return _mark_repeats(list(rows))
+    kept = list(itertools.islice(rows, MAX_BATCH_ROWS + 1))
+    if kept:
+        check_count(len(kept), MAX_BATCH_ROWS, "rotors", file=str(path),
+                    key=f"line {kept[-1].line}")
+    return _mark_repeats(kept)
 
 
 @dataclass(frozen=True)

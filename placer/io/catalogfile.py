@@ -23,7 +23,9 @@ from placer.catalog import Catalog, Item
 from placer.errors import CatalogError
 from placer.errors import shown_path
 from placer.io.inputs import NAME_EXPECTED, name_problem
+from placer.io.sizes import check_count
 from placer.io.tables import Table, closest, quantity_key, read_toml, shown
+from placer.limits import MAX_ITEMS
 from placer.units import MASS_UNITS
 
 ITEM_KEYS = ("id", *(quantity_key("mass", u) for u in MASS_UNITS), "stock", "description",
@@ -99,7 +101,10 @@ def read_catalog(path: Path) -> Catalog:
     items = []
     seen: set[str] = set()
     source = str(path.resolve())
-    for table in root.tables("items", required=True):
+    tables = root.tables("items", required=True)
+    check_count(len(tables), MAX_ITEMS, "catalogue items", file=root.file, key="items",
+                error=CatalogError)
+    for table in tables:
         table.allow_only(ITEM_KEYS)
         item_id = table.text("id", required=True)
         if not item_id.strip():

@@ -25,6 +25,7 @@ from placer.geometry import (
     polar,
 )
 from placer.io.catalogfile import read_catalog, resolve_catalog
+from placer.io.sizes import check_count
 from placer.io.tables import Table, quantity_key, read_toml, shown
 from placer.job import (
     CORRECTION_BASES,
@@ -40,6 +41,7 @@ from placer.limits import (
     DEFAULT_MAX_PARTS,
     MAX_CAPACITY,
     MAX_PARTS_LIMIT,
+    MAX_PLANES,
     MAX_POSITIONS,
 )
 from placer.tolerance import parse_grade
@@ -121,7 +123,9 @@ def read_job(path: Path, *, template: bool = False) -> Job:
                                "(without them)")
     catalogs: dict[Path, Catalog] = {}
     planes = []
-    for table in root.tables("planes", required=True):
+    tables = root.tables("planes", required=True)
+    check_count(len(tables), MAX_PLANES, "planes", file=root.file, key="planes", error=JobError)
+    for table in tables:
         planes.append(_plane(table, path.parent, catalogs, basis, template, rotor))
     if rotor.com_distances_mm is not None and len(rotor.com_distances_mm) != len(planes):
         key = next(k for k in ("com_distances_mm", "com_distances_in") if rotor_table.has(k))

@@ -53,8 +53,16 @@ from placer.catalog import Catalog
 from placer.errors import InputError, SessionError
 from placer.geometry import ROTATIONS, polar
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
+from placer.io.sizes import check_count
 from placer.io.tables import Table, quantity_key, read_toml, shown
-from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT
+from placer.limits import (
+    DEFAULT_MAX_PARTS,
+    MAX_PARTS_LIMIT,
+    MAX_PLANES,
+    MAX_RUNS,
+    MAX_SENSORS,
+    MAX_TRIAL_RUNS,
+)
 from placer.readings import MEASURES, PHASE_SENSES, canonical_unit, phase_in_rotor_sense
 from placer.residualcheck import ResidualCheck
 from placer.session import (
@@ -131,7 +139,16 @@ def read_session(path: Path) -> Session:
                             "lag, lead, or none (a meter without a phase reference)")
 
     channels = []
-    for t in root.tables("sensors", required=True):
+    sensor_tables = root.tables("sensors", required=True)
+    plane_tables = root.tables("planes", required=True)
+    run_tables = root.tables("runs", required=True)
+    trials = sum(t.data.get("kind") == "trial" for t in run_tables)
+    for count, limit, noun, key in ((len(sensor_tables), MAX_SENSORS, "sensors", "sensors"),
+                                    (len(plane_tables), MAX_PLANES, "planes", "planes"),
+                                    (len(run_tables), MAX_RUNS, "runs", "runs"),
+                                    (trials, MAX_TRIAL_RUNS, "trial runs", "runs")):
+        check_count(count, limit, noun, file=file, key=key, error=SessionError)
+    for t in sensor_tables:
         t.allow_only(("name", "weight"))
         channels.append(Channel(t.text("name", default=t.path),
                                 t.number("weight", default=1.0, positive=True)))
@@ -141,7 +158,7 @@ def read_session(path: Path) -> Session:
 
     catalogs: dict[Path, Catalog] = {}
     planes = []
-    for t in root.tables("planes", required=True):
+    for t in plane_tables:
         t.allow_only(FIELD_PLANE_KEYS)
         geometry, catalog = plane_geometry(t, path.parent, catalogs)
         planes.append(FieldPlane(geometry, catalog))
@@ -160,8 +177,7 @@ def read_session(path: Path) -> Session:
                                "the speed of the runs [r/min], checked against the stored "
                                "coefficients' speed (coefficients = \"stored\")")
     convert = _Converter(phase, rotor.angle_sense, rotation)
-    runs = tuple(_run(t, convert, len(channels), planes)
-                 for t in root.tables("runs", required=True))
+    runs = tuple(_run(t, convert, len(channels), planes) for t in run_tables)
     _check_runs(root, runs, len(planes), coefficients)
     _check_fitted(root, runs, planes)
     if phase == NO_PHASE:

@@ -22,6 +22,7 @@ from __future__ import annotations
 import numpy as np
 from ortools.sat.python import cp_model
 
+from placer.budget import wall_clock_cap_s
 from placer.engine.arrangement.mitm import MAX_HALF, make_frame, search_sample
 from placer.engine.arrangement.model import Problem
 
@@ -225,6 +226,9 @@ def feasible_start(problem: Problem, seed: int) -> np.ndarray | None | bool:
     solver.parameters.num_workers = 1
     solver.parameters.random_seed = seed
     solver.parameters.max_deterministic_time = CPSAT_DETERMINISTIC_S
+    cap = wall_clock_cap_s()  # past the command's time limit: stops it, decides nothing
+    if cap is not None:
+        solver.parameters.max_time_in_seconds = cap
     status = solver.Solve(model)
     if status in (cp_model.OPTIMAL, cp_model.FEASIBLE):
         return np.array([solver.Value(s) for s in slot], dtype=np.int64)
