@@ -552,6 +552,7 @@ def _base_argv(command: str, folder: Path) -> list[str]:
         "tolerance": ["tolerance", "--grade", "G6.3", "--mass-kg", "10", "--rpm", "1500"],
         "field": ["field", str(ROOT / "examples" / "exhaust-fan-visit.toml"), "--json",
                   "--max-parts", "2", "--effort", "0.01", *db],
+        "catalogs": ["catalogs", "washers-steel"],
         "machines": ["machines", *db],
         "history": ["history", "M1", *db],
         "trial": ["trial", "--mass-kg", "10", "--rpm", "1500", "--radius-mm", "100"],
@@ -560,6 +561,7 @@ def _base_argv(command: str, folder: Path) -> list[str]:
         "new job": ["new", "job", str(folder / "new.toml"), "--force"],
         "new session": ["new", "session", str(folder / "new.toml"), "--force"],
         "new template": ["new", "template", str(folder / "new.toml"), "--force"],
+        "new example": ["new", "example", "supply-fan", "--folder", str(folder), "--force"],
         "blades": ["blades", str(ROOT / "examples" / "fan-reblade.toml"), "--json",
                    "--effort", "0.01"],
     }[command]
