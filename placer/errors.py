@@ -12,7 +12,6 @@ the command line renders those as flags (``--force``, see
 from __future__ import annotations
 
 import os
-
 import re
 from collections.abc import Mapping
 

@@ -573,7 +573,7 @@ def test_json_lines_numbers_at_the_edges_are_bad_rows(tmp_path, quick_files):
 def test_outputs_are_strict_json_even_for_a_non_finite_value():
     # json.dumps writes float("inf") as Infinity, which RFC 8259 forbids;
     # json_text writes null instead.
-    from placer.io.tables import json_text
+    from placer.io.values import json_text
 
     text = json_text({"residual_gmm": float("inf"), "x": [float("nan"), -0.0, 1.5]})
     assert strict_json(text) == {"residual_gmm": None, "x": [None, -0.0, 1.5]}

@@ -19,7 +19,7 @@ from placer.cli.common import (
     say_undrawn,
 )
 from placer.errors import InputError, shown, shown_path
-from placer.io.tables import json_text
+from placer.io.values import json_text
 
 
 def _field(args: argparse.Namespace) -> int:
@@ -169,7 +169,7 @@ def _history(args: argparse.Namespace) -> int:
                                      path)
             record = db.visit(args.visit)
     if not visits:
-        from placer.io.tables import closest
+        from placer.io.values import closest
 
         with_visits = [m.id for m in machines if m.visits]
         if args.machine in known:

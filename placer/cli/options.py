@@ -8,7 +8,7 @@ import math
 
 from placer.cli.common import EXIT_BAD_INPUT
 from placer.errors import InputError, printable
-from placer.io.tables import whole_number_text
+from placer.io.values import whole_number_text
 from placer.limits import (
     DEFAULT_BATCH_TIME_LIMIT_S,
     DEFAULT_EFFORT,
@@ -387,7 +387,7 @@ def check_options(args: argparse.Namespace) -> None:
             raise InputError(f"the path {problem}", file=shown_path(str(value)),
                              option=name, expected=NAME_EXPECTED)
     if args.command == "new" and getattr(args, "name", None) is not None:
-        from placer.io.tables import LINE_EXPECTED, odd_character
+        from placer.io.values import LINE_EXPECTED, odd_character
 
         odd = odd_character(args.name)
         if odd is not None:

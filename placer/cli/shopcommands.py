@@ -18,7 +18,7 @@ from placer.cli.common import (
 )
 from placer.cli.options import FLAGS
 from placer.errors import InputError, fill_options, shown_path
-from placer.io.tables import json_text
+from placer.io.values import json_text
 
 
 def _solve(args: argparse.Namespace) -> int:

@@ -59,16 +59,14 @@ from pathlib import Path
 from typing import Any
 
 from placer.batch import RotorReading
-from placer.errors import InputError
+from placer.errors import InputError, printable, shown
 from placer.geometry import polar
 from placer.io.inputs import read_text
 from placer.io.sizes import check_count
-from placer.io.tables import (
+from placer.io.values import (
     LINE_EXPECTED,
     number_problem,
     odd_character,
-    printable,
-    shown,
     whole_number_text,
 )
 from placer.job import Job

@@ -93,7 +93,7 @@ from placer.batch import (
     solve_readings,
     usable_cores,
 )
-from placer.errors import InputError, OutputError
+from placer.errors import InputError, OutputError, shown_path
 from placer.io.batchreadings import RowError, read_readings
 from placer.io.batchrecords import csv_header, csv_row, outcome_record, record_parts
 from placer.io.batchresume import (
@@ -110,9 +110,8 @@ from placer.io.batchresume import (
     text_digest,
 )
 from placer.io.jobfile import read_job
-from placer.errors import shown_path
 from placer.io.outputs import check_target, reason, replacing, write_text
-from placer.io.tables import json_text
+from placer.io.values import json_text
 from placer.limits import DEFAULT_EFFORT
 
 

@@ -32,11 +32,9 @@ from typing import Any
 from placer.batch import (
     RotorReading,
 )
-from placer.errors import InputError, OutputError
+from placer.errors import InputError, OutputError, printable, shown_path
 from placer.io.batchreadings import RowError
 from placer.io.batchrecords import csv_header, csv_row
-from placer.errors import shown_path
-from placer.io.tables import printable
 
 LOG_KEY = "placer_batch"
 """The key that marks a line of ``PREFIX.jsonl`` as the run's own (not a rotor)."""

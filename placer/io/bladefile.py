@@ -53,9 +53,10 @@ from placer.io.batchreadings import (
     PLAIN_EXPECTED,
     PLAIN_NUMBER,
 )
-from placer.io.inputs import read_text
+from placer.io.inputs import read_text, read_toml
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
-from placer.io.tables import Table, printable, range_problem, read_toml
+from placer.io.tables import Table, printable
+from placer.io.values import range_problem
 from placer.job import Rotor
 from placer.limits import DEFAULT_MAX_PARTS, MAX_PARTS_LIMIT, MAX_SLOTS
 

@@ -20,11 +20,11 @@ from __future__ import annotations
 from pathlib import Path
 
 from placer.catalog import Catalog, Item
-from placer.errors import CatalogError
-from placer.errors import shown_path
-from placer.io.inputs import NAME_EXPECTED, name_problem
+from placer.errors import CatalogError, shown_path
+from placer.io.inputs import NAME_EXPECTED, name_problem, read_toml
 from placer.io.sizes import check_count
-from placer.io.tables import Table, closest, quantity_key, read_toml, shown
+from placer.io.tables import Table, quantity_key, shown
+from placer.io.values import closest
 from placer.limits import MAX_ITEMS
 from placer.units import MASS_UNITS
 

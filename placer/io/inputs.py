@@ -28,10 +28,13 @@ from __future__ import annotations
 import errno
 import os
 import stat
+import tomllib
 from pathlib import Path
+from typing import Any
 
 from placer.errors import InputError, shown_path
-from placer.limits import MAX_FILE_BYTES, MAX_NAME_BYTES
+from placer.io.values import whole_number_text
+from placer.limits import MAX_FILE_BYTES, MAX_NAME_BYTES, MAX_WHOLE, RANGE_EXPECTED
 
 BOM = b"\xef\xbb\xbf"
 """The byte-order mark U+FEFF in UTF-8 ([Unicode] 23.8)."""
@@ -168,3 +171,61 @@ def _open_error(exc: OSError, file: str, error: type[InputError], what: str,
                  expected=regular)
 
 
+def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
+    """Parse a TOML file (read by :func:`placer.io.inputs.read_text`); any failure
+    becomes one ``error`` naming the file.
+
+    Parameters
+    ----------
+    path : Path
+        The file.
+    error : type of InputError
+        The reader's error class (JobError, CatalogError, SessionError).
+    what : str
+        What the file is, for the message ("job file").
+
+    Returns
+    -------
+    dict
+        The parsed file.
+
+    Raises
+    ------
+    InputError
+        Of class ``error``: a file :func:`placer.io.inputs.read_text` refuses, bad
+        TOML, nesting too deep, or a whole number out of range (with its key).
+
+    References
+    ----------
+    [PythonDocs] (the 4300-digit limit on int/str conversion).
+    """
+    text = read_text(path, error, what)
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise error(f"not valid TOML: {exc}", file=str(path),
+                    expected="TOML syntax at that line and column") from None
+    except RecursionError:
+        raise error(f"cannot read {what}: lists or tables nested too deeply", file=str(path),
+                    expected="a few levels of [ ] and { } at most") from None
+    except ValueError:
+        # tomllib turns digits into int() itself; past 4300 digits that refuses.
+        raise error(f"cannot read {what}: a whole number has more than 4300 digits",
+                    file=str(path), expected=RANGE_EXPECTED) from None
+    _check_whole_numbers(data, str(path), error)
+    return data
+
+
+def _check_whole_numbers(data: dict[str, Any], file: str, error: type[InputError]) -> None:
+    """Refuse any whole number past :data:`MAX_WHOLE`, naming its key path."""
+    stack: list[tuple[str, Any]] = [("", data)]
+    while stack:
+        path, value = stack.pop()
+        if isinstance(value, dict):
+            stack.extend(reversed([(f"{path}.{k}" if path else k, v)
+                                   for k, v in value.items()]))
+        elif isinstance(value, list):
+            stack.extend(reversed([(f"{path}[{i + 1}]", v) for i, v in enumerate(value)]))
+        elif isinstance(value, int) and not isinstance(value, bool) and abs(value) > MAX_WHOLE:
+            raise error(f"is {whole_number_text(value)}", file=file, key=path,
+                        expected=RANGE_EXPECTED)

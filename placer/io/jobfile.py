@@ -25,8 +25,9 @@ from placer.geometry import (
     polar,
 )
 from placer.io.catalogfile import read_catalog, resolve_catalog
+from placer.io.inputs import read_toml
 from placer.io.sizes import check_count
-from placer.io.tables import Table, quantity_key, read_toml, shown
+from placer.io.tables import Table, quantity_key, shown
 from placer.job import (
     CORRECTION_BASES,
     DEFAULT_ANGLE_SENSE,

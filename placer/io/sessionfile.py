@@ -52,9 +52,10 @@ import numpy as np
 from placer.catalog import Catalog
 from placer.errors import InputError, SessionError
 from placer.geometry import ROTATIONS, polar
+from placer.io.inputs import read_toml
 from placer.io.jobfile import GEOMETRY_KEYS, plane_geometry, rotor_of
 from placer.io.sizes import check_count
-from placer.io.tables import Table, quantity_key, read_toml, shown
+from placer.io.tables import Table, quantity_key, shown
 from placer.limits import (
     DEFAULT_MAX_PARTS,
     MAX_PARTS_LIMIT,

@@ -1,255 +1,33 @@
 """Reading typed values out of parsed TOML tables, with errors that name file and key.
 
-Used by every reader (job, catalogue, session, batch template).  Each getter
-raises the reader's error class with the file, the key path and what was
-expected.
-
-Every number is held to the range of :mod:`placer.limits`;
-:func:`read_toml` checks the whole numbers of a file as it parses it, so that
-one of thousands of digits is reported with its key instead of failing float
-conversion later; :func:`number_problem` is the one range rule, used here
-and by the CSV and JSON-lines readers of ``placer batch``.
+Used by every reader (job, catalogue, session, batch template, blade file).
+Each getter raises the reader's error class with the file, the key path and
+what was expected. Every number is held to the one range rule of
+:mod:`placer.io.values`; :func:`placer.io.inputs.read_toml` has already
+checked the file's whole numbers as it parsed it.
 
 References
 ----------
 [PythonDocs] ``sys.int_info.str_digits_check_threshold`` (4300-digit limit on
-int/str conversion); [RFC8259] section 6 for :func:`json_text`.
+int/str conversion).
 """
 
 from __future__ import annotations
 
-import difflib
-import json
-import math
-import tomllib
-from pathlib import Path
 from typing import Any
 
 from placer.errors import InputError, printable, shown
-from placer.io.inputs import read_text
+from placer.io.values import (
+    LINE_EXPECTED,
+    closest,
+    odd_character,
+    range_problem,
+    whole_number_text,
+)
 from placer.limits import (
-    MAX_ECHO_CHARS,
-    MAX_MAGNITUDE,
     MAX_WHOLE,
-    MIN_MAGNITUDE,
     RANGE_EXPECTED,
 )
-
-LINE_EXPECTED = "text on one line, without control or line-separator characters"
-"""What a single-line text value (a name, a grade, a serial) with such a character is told."""
-
-
-def number_problem(value: float) -> str | None:
-    """Why a float cannot be used as an input number, or None when it can.
-
-    Non-finite values and values outside the range of :mod:`placer.limits`
-    are refused; the text completes "<key> is ...".
-
-    Parameters
-    ----------
-    value : float
-        The number.
-
-    Returns
-    -------
-    str or None
-        "<value> (expected ...)", or None for a usable number.
-    """
-    problem = range_problem(value)
-    return None if problem is None else f"{problem[0]} (expected {problem[1]})"
-
-
-def range_problem(value: float) -> tuple[str, str] | None:
-    """(the value as shown, what was expected) when ``value`` is not finite or out of
-    the range of :mod:`placer.limits`; None when it can be used.
-
-    Parameters
-    ----------
-    value : float
-        The number.
-
-    Returns
-    -------
-    (str, str) or None
-        The value as text and what was expected; None for a usable number.
-    """
-    if not math.isfinite(value):
-        return f"{value}", "a finite number"
-    size = abs(value)
-    if size > MAX_MAGNITUDE or 0.0 < size < MIN_MAGNITUDE:
-        return f"{value:g}", RANGE_EXPECTED
-    return None
-
-
-def odd_character(text: str, multiline: bool = False) -> str | None:
-    """The first character of ``text`` a text value may not hold, or None.
-
-    Control characters, line and paragraph separators (U+2028, U+2029,
-    U+0085, ...), unassigned code points and lone surrogates
-    (:meth:`str.isprintable` is False for all of them) are refused; a
-    ``multiline`` text may hold new lines and tabs.
-
-    Parameters
-    ----------
-    text : str
-        The value.
-    multiline : bool
-        Allow ``\\n`` and ``\\t``.
-
-    Returns
-    -------
-    str or None
-        The character, or None when the text may be used.
-    """
-    if text.isprintable():
-        return None
-    allowed = "\n\t" if multiline else ""
-    return next((ch for ch in text if not ch.isprintable() and ch not in allowed), None)
-
-
-def closest(text: str, choices: list[str] | tuple[str, ...]) -> str | None:
-    """The choice closest in spelling to ``text`` (difflib, similarity 0.6), or None.
-
-    A text longer than twice :data:`placer.limits.MAX_ECHO_CHARS` gets no hint: the
-    comparison grows with the square of its length, and such a text is no misspelling.
-
-    Parameters
-    ----------
-    text : str
-        What was given.
-    choices : list or tuple of str
-        What it may be.
-
-    Returns
-    -------
-    str or None
-        The closest choice.
-
-    References
-    ----------
-    [PythonDocs] :func:`difflib.get_close_matches`.
-    """
-    if len(text) > 2 * MAX_ECHO_CHARS:
-        return None
-    close = difflib.get_close_matches(text, choices, n=1)
-    return close[0] if close else None
-
-
-def whole_number_text(value: int) -> str:
-    """A whole number as text, shortened to its digit count when it is long.
-
-    Parameters
-    ----------
-    value : int
-        The number.
-
-    Returns
-    -------
-    str
-        Its digits below 10**15 in size, else "a whole number of about N digits".
-    """
-    if abs(value) < 10**15:
-        return str(value)
-    digits = int(abs(value).bit_length() * 0.30102999566398120) + 1
-    return f"a whole number of about {digits} digits"
-
-
-def json_text(value: Any, indent: int | None = None) -> str:
-    """Strict JSON text of ``value``: NaN and ±infinity are written as null.
-
-    :func:`json.dumps` writes them as ``NaN`` / ``Infinity``, which no JSON
-    parser but Python's accepts.
-
-    Parameters
-    ----------
-    value : Any
-        Anything :func:`json.dumps` takes (dicts, lists, tuples, numbers, text).
-    indent : int or None
-        Indentation of nested values; None for one line.
-
-    Returns
-    -------
-    str
-        The JSON text, non-ASCII characters kept.
-
-    References
-    ----------
-    RFC 8259, section 6 (numbers: "Infinity and NaN are not permitted").
-    """
-    try:  # the usual case, all finite: no walk over the value
-        return json.dumps(value, indent=indent, ensure_ascii=False, allow_nan=False)
-    except ValueError:
-        return json.dumps(_finite(value), indent=indent, ensure_ascii=False, allow_nan=False)
-
-
-def _finite(value: Any) -> Any:
-    if isinstance(value, float):
-        return value if math.isfinite(value) else None
-    if isinstance(value, dict):
-        return {k: _finite(v) for k, v in value.items()}
-    if isinstance(value, (list, tuple)):
-        return [_finite(v) for v in value]
-    return value
-
-
-def read_toml(path: Path, error: type[InputError], what: str) -> dict[str, Any]:
-    """Parse a TOML file (read by :func:`placer.io.inputs.read_text`); any failure
-    becomes one ``error`` naming the file.
-
-    Parameters
-    ----------
-    path : Path
-        The file.
-    error : type of InputError
-        The reader's error class (JobError, CatalogError, SessionError).
-    what : str
-        What the file is, for the message ("job file").
-
-    Returns
-    -------
-    dict
-        The parsed file.
-
-    Raises
-    ------
-    InputError
-        Of class ``error``: a file :func:`placer.io.inputs.read_text` refuses, bad
-        TOML, nesting too deep, or a whole number out of range (with its key).
-
-    References
-    ----------
-    [PythonDocs] (the 4300-digit limit on int/str conversion).
-    """
-    text = read_text(path, error, what)
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise error(f"not valid TOML: {exc}", file=str(path),
-                    expected="TOML syntax at that line and column") from None
-    except RecursionError:
-        raise error(f"cannot read {what}: lists or tables nested too deeply", file=str(path),
-                    expected="a few levels of [ ] and { } at most") from None
-    except ValueError:
-        # tomllib turns digits into int() itself; past 4300 digits that refuses.
-        raise error(f"cannot read {what}: a whole number has more than 4300 digits",
-                    file=str(path), expected=RANGE_EXPECTED) from None
-    _check_whole_numbers(data, str(path), error)
-    return data
-
-
-def _check_whole_numbers(data: dict[str, Any], file: str, error: type[InputError]) -> None:
-    """Refuse any whole number past :data:`MAX_WHOLE`, naming its key path."""
-    stack: list[tuple[str, Any]] = [("", data)]
-    while stack:
-        path, value = stack.pop()
-        if isinstance(value, dict):
-            stack.extend(reversed([(f"{path}.{k}" if path else k, v)
-                                   for k, v in value.items()]))
-        elif isinstance(value, list):
-            stack.extend(reversed([(f"{path}[{i + 1}]", v) for i, v in enumerate(value)]))
-        elif isinstance(value, int) and not isinstance(value, bool) and abs(value) > MAX_WHOLE:
-            raise error(f"is {whole_number_text(value)}", file=file, key=path,
-                        expected=RANGE_EXPECTED)
 
 
 class Table:
