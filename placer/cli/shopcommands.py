@@ -88,6 +88,7 @@ def _catalogs(args: argparse.Namespace) -> int:
 
 def _tolerance(args: argparse.Namespace) -> int:
     from placer.io.jsonout import tolerance_dict
+    from placer.errors import ToleranceError
     from placer.tolerance import (
         allocate_to_planes,
         parse_grade,
@@ -102,7 +103,10 @@ def _tolerance(args: argparse.Namespace) -> int:
     check_positive(("rpm", args.rpm), *(((distance_option, d) for d in raw) if raw else ()))
     distances = None if raw is None else (
         raw if args.distances_mm else [mm_from_in(d) for d in raw])
-    grade = parse_grade(args.grade)
+    try:
+        grade = parse_grade(args.grade)
+    except ToleranceError as exc:   # the grade came from --grade, not from a file's key
+        raise ToleranceError(exc.detail, option="grade", expected=exc.expected) from None
     u_per = permissible_residual_gmm(grade, mass_kg, args.rpm)
     names = ["A"] if args.planes == 1 else ["A", "B"]
     if distances is not None and args.planes != 2:
