@@ -22,13 +22,16 @@ from pathlib import Path
 from placer.arrange import BladeJob, BladeResult, blade_tolerance
 from placer.io.outputs import replacing
 from placer.views.bladewording import (
-    BLADE_STEP,
-    FROM_TEXT,
     MOVE_TEXT,
     limit_texts,
     proof_text,
-    row_status,
     verdict_text,
+)
+from placer.views.sheet.bladetable import (
+    draw_slot_tables,
+    slot_columns,
+    table_plan,
+    table_size_pt,
 )
 from placer.views.sheet.blocks import KEY_TEXT
 from placer.views.sheet.compose import cautions_top, draw_cautions, plane_page
@@ -238,67 +241,6 @@ def _result(page: Page, x: float, y: float, w: float, result: BladeResult,
     return y + height + 0.06
 
 
-TABLE_GAP_IN = 0.15
-"""Space between the parts of a slot table set side by side [in]."""
-
-
-def _slot_columns(job: BladeJob) -> list[tuple[str, str, list[str]]]:
-    """The slot table's columns: (heading, alignment, every text a cell of it may hold).
-
-    From the job alone, so that the table's layout (and the page count) is known
-    before the blades are arranged.
-    """
-    blades, n = job.blades, job.disc.slot_count
-    columns = [("Slot", "r", [str(n)])]
-    if n <= LEVEL_UP_TO:
-        columns.append(("Angle °", "r", ["359.9"]))
-    columns += [("Blade", "l", [b.blade_id for b in blades]),
-                ("Moment g·mm", "r", [fmt_gmm(b.moment_gmm) for b in blades])]
-    if any(b.frequency_hz is not None for b in blades):
-        columns.append(("Hz", "r", [f"{b.frequency_hz:.1f}" for b in blades
-                                    if b.frequency_hz is not None]))
-    if any(b.axial_moment_gmm2 is not None for b in blades):
-        columns.append(("Axial g·mm²", "r", [fmt_gmm(b.axial_moment_gmm2) for b in blades
-                                             if b.axial_moment_gmm2 is not None]))
-    if any(s is not None for s in job.slots_now) or job.disc.pinned:
-        columns.append(("From", "l", ["stays", "here", "new", str(n)]
-                        + ([f"{n}, swap {n}"] if job.move == "fewest" else [])))
-    return columns
-
-
-def _table_pt(columns: list[tuple[str, str, list[str]]], width_in: float) -> float | None:
-    """The largest type size at which the table fits ``width_in`` [pt]; None when none does
-    (measured as :meth:`Page.table` measures, every cell in bold)."""
-    for size in (8.0, 7.5, 7.0, 6.5):
-        need = 0.28 + sum(max([text_width_in(head, size - 1, True)]
-                              + [text_width_in(c, size, True) for c in cells if c]) + 0.10
-                          for head, _, cells in columns)
-        if need <= width_in:
-            return size
-    return None
-
-
-def _table_plan(job: BladeJob, width_in: float, height_in: float | None) -> tuple[int, int,
-                                                                                 float]:
-    """(parts side by side, rows per part, type size [pt]) of the slot table.
-
-    On the disc page (``height_in`` None) two parts when the slots are more than
-    six and two fit the width, else one; on a page of its own, the most parts
-    that fit the width, as many rows as the height holds.
-    """
-    columns = _slot_columns(job)
-    n = job.disc.slot_count
-    counts = ([2, 1] if n > 6 else [1]) if height_in is None else [3, 2, 1]
-    for count in counts:
-        size = _table_pt(columns, (width_in - TABLE_GAP_IN * (count - 1)) / count)
-        if size is not None or count == counts[-1]:
-            size = size or 6.5
-            if height_in is None:
-                return count, -(-n // count), size
-            return count, max(1, int(height_in / (size * 1.75 / 72)) - 1), size
-    raise AssertionError("unreachable")
-
-
 def _table_top(job: BladeJob) -> float:
     """Where the slot table starts on a page of its own [in from the top]."""
     dry = Page(None)
@@ -321,58 +263,11 @@ def table_pages_of(job: BladeJob) -> int:
         else as many as the rows need.
     """
     n = job.disc.slot_count
-    if n <= TABLE_ON_DISC_UP_TO and _table_pt(_slot_columns(job), PAGE_IN[0] - 2 * MARGIN_IN):
+    if n <= TABLE_ON_DISC_UP_TO and table_size_pt(slot_columns(job), PAGE_IN[0] - 2 * MARGIN_IN):
         return 0
-    count, rows, _ = _table_plan(job, PAGE_IN[0] - 2 * MARGIN_IN,
+    count, rows, _ = table_plan(job, PAGE_IN[0] - 2 * MARGIN_IN,
                                  cautions_top(False) - 0.12 - _table_top(job))
     return -(-n // (count * rows))
-
-
-def _slot_rows(result: BladeResult) -> tuple[list[list[str]], set[int]]:
-    """Every slot's cells (as :func:`_slot_columns` lists the columns), and the rows of
-    blades that come to their slot (set in bold)."""
-    job = result.job
-    fitted = any(s is not None for s in job.slots_now)
-    heads = [head for head, _, _ in _slot_columns(job)]
-    steps = result.swap_steps()
-    rows, bold = [], set()
-    for i, row in enumerate(result.rows()):
-        b = row.blade
-        cell = {"Slot": str(row.slot), "Angle °": f"{row.angle_deg:.1f}", "Blade": b.blade_id,
-                "Moment g·mm": fmt_gmm(b.moment_gmm),
-                "Hz": "-" if b.frequency_hz is None else f"{b.frequency_hz:.1f}",
-                "Axial g·mm²": "-" if b.axial_moment_gmm2 is None
-                else fmt_gmm(b.axial_moment_gmm2)}
-        here = [str(k) for k, (p, q, _, _) in enumerate(steps, start=1) if row.slot in (p, q)]
-        cell["From"] = row_status(row, fitted, short=True) + (
-            f", swap {', '.join(here)}" if here else "")
-        rows.append([cell[h] for h in heads])
-        if row.moves or (fitted and row.from_slot is None and not row.stays):
-            bold.add(i)
-    return rows, bold
-
-
-def _tables(page: Page, x: float, y: float, w: float, result: BladeResult,
-            first: int, plan: tuple[int, int, float]) -> float:
-    """The slot table to tick off from row ``first``, ``plan`` parts side by side; the y
-    below."""
-    count, per, size = plan
-    columns = [(head, align) for head, align, _ in _slot_columns(result.job)]
-    page.text(x, y, "BLADES, SLOT BY SLOT", 8.5, weight="bold")
-    words = BLADE_STEP + (" " + FROM_TEXT if columns[-1][0] == "From" else "")
-    y = page.paragraph(x, y + 0.2, words, w, 7)
-    rows, bold = _slot_rows(result)
-    each = (w - TABLE_GAP_IN * (count - 1)) / count
-    ends = [y]
-    for c in range(count):
-        start = first + c * per
-        chunk = rows[start:start + per]
-        if chunk:
-            ends.append(page.table(x + c * (each + TABLE_GAP_IN), y + 0.04, columns, chunk,
-                                   each, bold={i - start for i in bold
-                                               if start <= i < start + per},
-                                   ticks=True, size=size))
-    return max(ends) + 0.06
 
 
 def _lower(page: Page, y: float, result: BladeResult, tables: bool) -> float:
@@ -388,8 +283,8 @@ def _lower(page: Page, y: float, result: BladeResult, tables: bool) -> float:
         y = page.paragraph(MARGIN_IN, y, "Limits kept: " + "; ".join(limits) + ".", width, 7.5)
     if tables:
         page.rule(y + 0.02, lw=0.4, color=GREY)
-        y = _tables(page, MARGIN_IN, y + 0.08, width, result, 0,
-                    _table_plan(result.job, width, None))
+        y = draw_slot_tables(page, MARGIN_IN, y + 0.08, width, result, 0,
+                    table_plan(result.job, width, None))
     for note in result.notes:
         y = page.paragraph(MARGIN_IN, y, f"Note: {note}", width, 7.5, weight="bold")
     return y
@@ -518,8 +413,8 @@ def table_page(result: BladeResult, when: date, number: int, total: int, first: 
     job = result.job
     y = _band(page, job, _header(page, job, when, number, total)) + 0.16
     width = PAGE_IN[0] - 2 * MARGIN_IN
-    plan = _table_plan(job, width, cautions_top(False) - 0.12 - _table_top(job))
-    end = _tables(page, MARGIN_IN, y, width, result, first, plan)
+    plan = table_plan(job, width, cautions_top(False) - 0.12 - _table_top(job))
+    end = draw_slot_tables(page, MARGIN_IN, y, width, result, first, plan)
     draw_cautions(page, max(end + 0.08, cautions_top(False)), when, number, total,
                   Path(job.source).name, False)
     return fig
@@ -566,7 +461,7 @@ def blade_pages(result: BladeResult, when: date | None = None, dpi: float = PNG_
     pages = table_pages_of(job)
     if pages:
         width = PAGE_IN[0] - 2 * MARGIN_IN
-        count, per, _ = _table_plan(job, width, cautions_top(False) - 0.12 - _table_top(job))
+        count, per, _ = table_plan(job, width, cautions_top(False) - 0.12 - _table_top(job))
         for k in range(pages):
             figures.append(table_page(result, when, 2 + k, total, k * count * per, dpi))
     if result.trim is not None:
