@@ -5,6 +5,7 @@ on the package index), its import name and command placer."""
 from __future__ import annotations
 
 import os
+import shutil
 import subprocess
 import sys
 import zipfile
@@ -15,7 +16,10 @@ ROOT = Path(__file__).resolve().parent.parent
 
 def test_wheel_finds_bundled_catalogues(tmp_path):
     out = tmp_path / "dist"
-    subprocess.run([sys.executable, "-m", "pip", "wheel", str(ROOT), "--no-deps",
+    checkout = tmp_path / "checkout"   # a clean copy: no build folder of earlier builds
+    shutil.copytree(ROOT, checkout, ignore=shutil.ignore_patterns(
+        "build", "*.egg-info", ".git", "__pycache__", "*.so", ".hypothesis"))
+    subprocess.run([sys.executable, "-m", "pip", "wheel", str(checkout), "--no-deps",
                     "--no-build-isolation", "-q", "-w", str(out)], check=True,
                    capture_output=True, text=True)
     wheel = next(out.glob("placer_balance-*.whl"))
@@ -25,6 +29,11 @@ def test_wheel_finds_bundled_catalogues(tmp_path):
     examples = sorted(p.name for p in (ROOT / "examples").iterdir()
                       if p.suffix in (".toml", ".csv"))
     assert {f"placer/examples/{name}" for name in examples} <= set(names)
+    # Every module of the source tree, and nothing else (a stale build folder once
+    # carried a module the tree no longer has, and hid a package the list left out).
+    source = {p.relative_to(ROOT).as_posix() for p in (ROOT / "placer").rglob("*.py")}
+    assert {n for n in names if n.startswith("placer/") and n.endswith(".py")
+            and not n.startswith(("placer/catalogs/", "placer/examples/"))} == source
     metadata = next(n for n in names if n.endswith(".dist-info/METADATA"))
     text = zipfile.ZipFile(wheel).read(metadata).decode("utf-8")
     assert "Name: placer-balance" in text
