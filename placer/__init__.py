@@ -59,7 +59,7 @@ _HOME = {
     "read_session": "placer.io.sessionfile", "solve_session": "placer.fieldplan",
     "solve_visit": "placer.io.fieldvisit", "field_dict": "placer.io.jsonout",
     "Session": "placer.session", "FieldResult": "placer.fieldplan",
-    "History": "placer.io.history", "default_db_path": "placer.io.history",
+    "History": "placer.io.history", "default_db_path": "placer.io.historyfile",
     # batches
     "read_template": "placer.io.batchresults", "read_readings": "placer.io.batchreadings",
     "solve_readings": "placer.batch", "run_batch": "placer.io.batchresults",

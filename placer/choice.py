@@ -42,7 +42,8 @@ import numpy as np
 
 from placer.engine.arrays import PlaneArrays
 from placer.engine.front import exact_front, improving
-from placer.engine.search import PlacementSearch, Selection
+from placer.engine.search import PlacementSearch
+from placer.engine.selection import Selection
 from placer.limits import (
     DEFAULT_EFFORT,
     DEFAULT_WORK,

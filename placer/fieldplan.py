@@ -21,7 +21,8 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from placer.engine.arrays import PlaneArrays, part_of_row, placement_arrays
-from placer.engine.search import PlacementSearch, Selection
+from placer.engine.search import PlacementSearch
+from placer.engine.selection import Selection
 from placer.errors import InputError
 from placer.fieldresult import FieldOption, FieldResult
 from placer.fourrun import FourRunSolution, four_run_checks, solve_four_run

@@ -43,7 +43,8 @@ import numpy as np
 from placer.catalog import Item
 from placer.choice import Aim, Choice, choose_plan
 from placer.engine.arrays import PlaneArrays, plane_arrays
-from placer.engine.search import PlacementSearch, Selection
+from placer.engine.search import PlacementSearch
+from placer.engine.selection import Selection
 from placer.job import PlaneJob
 from placer.limits import DEFAULT_EFFORT
 from placer.plan import FittedPart

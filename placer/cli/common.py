@@ -50,7 +50,7 @@ def db_path(args: argparse.Namespace) -> Path:
     args : argparse.Namespace
         The parsed command line.
     """
-    from placer.io.history import default_db_path
+    from placer.io.historyfile import default_db_path
 
     return Path(args.db) if args.db else default_db_path()
 

@@ -87,8 +87,8 @@ def _catalogs(args: argparse.Namespace) -> int:
 
 
 def _tolerance(args: argparse.Namespace) -> int:
-    from placer.io.jsonout import tolerance_dict
     from placer.errors import ToleranceError
+    from placer.io.jsonout import tolerance_dict
     from placer.tolerance import (
         allocate_to_planes,
         parse_grade,

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from placer.catalog import Catalog
-from placer.engine.search import Selection
+from placer.engine.selection import Selection
 from placer.geometry import PlaneGeometry, angle_of_deg
 from placer.job import ExistingPart, PlaneJob
 from placer.plan import FittedPart, PlanOption

@@ -15,7 +15,8 @@ from dataclasses import replace
 import numpy as np
 
 from placer.engine.arrays import PlaneArrays
-from placer.engine.search import ABS_TOL, REL_TOL, PlacementSearch, Selection
+from placer.engine.search import ABS_TOL, REL_TOL, PlacementSearch
+from placer.engine.selection import Selection
 from placer.limits import DEFAULT_EFFORT, DEFAULT_WORK
 
 

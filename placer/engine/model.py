@@ -30,7 +30,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from placer.budget import wall_clock_cap_s
-from placer.engine.search import PartList
+from placer.engine.selection import PartList
 from placer.limits import DEFAULT_EFFORT, DEFAULT_MODEL_EFFORT
 
 _SCALE_UNITS = 1.0e6

@@ -68,10 +68,10 @@ neighbours.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
 
 import numpy as np
 
+from placer.engine.selection import Front, PartList, Selection
 from placer.errors import PlacerError
 from placer.limits import DEFAULT_WORK
 from placer.residual import residual_of
@@ -84,8 +84,6 @@ except ImportError:                                   # pragma: no cover - a bro
 NORMS = ("euclidean", "max")
 """Norms the search can minimise over the channels of the residual."""
 
-PartList = tuple[tuple[int, int, int], ...]
-"""Parts as (position_index, item_index, count), sorted by position then item."""
 
 ABS_TOL = 0.01
 """Absolute proof tolerance on the residual, in the target's unit (g·mm)."""
@@ -117,67 +115,6 @@ def _require_kernel() -> None:
         raise PlacerError("placer's compiled search is not built",
                           expected="placer installed with `python -m pip install .`, which "
                           "needs a C compiler and the Python headers")
-
-
-@dataclass(frozen=True)
-class Selection:
-    """The best selection found with at most ``part_count`` parts.
-
-    Parameters
-    ----------
-    part_count : int
-        Most parts allowed (k).
-    parts : PartList
-        The parts, as (row, column, count) of the effects array.
-    residual : complex array (n_channels,)
-        ``target + Σ count·effect`` [the target's unit: g·mm for a plane].
-    residual_norm : float
-        Its norm, the one the search minimises [as ``residual``].
-    lower_bound : float
-        Proven least residual norm with at most ``part_count`` parts [as
-        ``residual``]; 0.0 when none is known.
-    proven : bool
-        Whether ``residual_norm`` is proven least (within the proof tolerances).
-    mass : float
-        Added mass of the parts [g] (:attr:`PlacementSearch.mass` of each).
-    """
-
-    part_count: int
-    parts: PartList
-    residual: np.ndarray = field(repr=False)
-    residual_norm: float
-    lower_bound: float
-    proven: bool
-    mass: float = 0.0
-
-    @property
-    def used_parts(self) -> int:
-        """Number of parts the selection really uses (may be below part_count)."""
-        return sum(count for _, _, count in self.parts)
-
-
-@dataclass(frozen=True)
-class Front:
-    """Least residual for every part count 0 .. max_parts.
-
-    Parameters
-    ----------
-    entries : tuple of Selection
-        Entry k: the least residual with at most k parts.
-    work : int
-        Work the search counted (head nodes, grid cells and rows looked at).
-    method : str
-        "exact", or "exact (not proven past its budget)" when a part count was
-        declined (its entry is the best with fewer parts, not proven).
-    """
-
-    entries: tuple[Selection, ...]
-    work: int
-    method: str
-
-    @property
-    def optimal(self) -> bool:
-        return all(entry.proven for entry in self.entries)
 
 
 class PlacementSearch:
@@ -582,53 +519,6 @@ class PlacementSearch:
 def _as_real(values: np.ndarray) -> np.ndarray:
     """Complex (rows, channels) to real (rows, 2*channels): real parts, then imaginary."""
     return np.concatenate([values.real, values.imag], axis=1)
-
-
-def feasible(rows: np.ndarray, pos_of: np.ndarray, item_of: np.ndarray,
-              capacity: np.ndarray, stock: np.ndarray) -> np.ndarray:
-    """Which multisets of placements (one per row) respect capacity and stock.
-
-    Parameters
-    ----------
-    rows : int array (n_rows, width)
-        Placement indices, one multiset per row.
-    pos_of : int array (n_placements,)
-        Position (row of the effects array) of each placement.
-    item_of : int array (n_placements,)
-        Item (column of the effects array) of each placement.
-    capacity : int array (n_positions,)
-        Most parts on each position.
-    stock : int array (n_items,)
-        Parts of each item on hand.
-
-    Returns
-    -------
-    bool array (n_rows,)
-        True where no position holds more parts than its capacity and no
-        item is used more often than its stock.
-    """
-    width = rows.shape[1]
-    ok = np.ones(len(rows), dtype=bool)
-    if width <= 1:
-        return ok
-    pos = pos_of[rows]
-    item = item_of[rows]
-    tight_pos = capacity.min() < width
-    tight_item = stock.min() < width
-    for c in range(width):
-        if tight_pos:
-            same = np.ones(len(rows), dtype=np.int64)
-            for d in range(width):
-                if d != c:
-                    same += pos[:, c] == pos[:, d]
-            ok &= same <= capacity[pos[:, c]]
-        if tight_item:
-            same = np.ones(len(rows), dtype=np.int64)
-            for d in range(width):
-                if d != c:
-                    same += item[:, c] == item[:, d]
-            ok &= same <= stock[item[:, c]]
-    return ok
 
 
 def _span(eff: np.ndarray) -> tuple[np.ndarray | None, np.ndarray]:

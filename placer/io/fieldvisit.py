@@ -10,7 +10,8 @@ from pathlib import Path
 
 from placer.errors import InputError
 from placer.fieldplan import FieldResult, solve_session
-from placer.io.history import History, default_db_path
+from placer.io.history import History
+from placer.io.historyfile import default_db_path
 from placer.limits import DEFAULT_EFFORT
 from placer.records import check_record, visit_record
 from placer.session import Session
@@ -25,7 +26,7 @@ def solve_visit(session: Session, db: Path | None = None,
     session : Session
         The visit, as :func:`placer.io.sessionfile.read_session` reads it.
     db : Path, optional
-        The history database (default :func:`placer.io.history.default_db_path`).
+        The history database (default :func:`placer.io.historyfile.default_db_path`).
         Only read, and only when the session says ``coefficients = "stored"``:
         the newest visit of the machine with the same sensor and plane names.
     effort : float
@@ -70,7 +71,7 @@ def open_for_saving(result: FieldResult, db: Path | None = None) -> tuple[Histor
     result : FieldResult
         The solved visit.
     db : Path or None
-        The history database; None for :func:`placer.io.history.default_db_path`.
+        The history database; None for :func:`placer.io.historyfile.default_db_path`.
 
     Returns
     -------

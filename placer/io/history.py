@@ -10,7 +10,7 @@ instead of repeating the trial runs; they come back with their unit,
 measure, angle sense and speed (:class:`placer.influence.StoredCoefficients`)
 so that the caller converts or refuses them.
 
-Where the file lives: see :func:`default_db_path`.
+Where the file lives: see :func:`placer.io.historyfile.default_db_path`.
 
 The tables and their versions: :mod:`placer.io.historyschema`.
 
@@ -51,10 +51,7 @@ BEGIN IMMEDIATE, UPSERT.  [XDG] ``$XDG_DATA_HOME``.
 from __future__ import annotations
 
 import json
-import math
-import os
 import sqlite3
-import sys
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from datetime import datetime, timezone
@@ -65,10 +62,10 @@ from typing import Any
 import numpy as np
 
 from placer.errors import HistoryError
-from placer.geometry import ANGLE_SENSES, ROTATIONS, PlaneGeometry
+from placer.geometry import ANGLE_SENSES, ROTATIONS
 from placer.influence import StoredCoefficients
 from placer.io.historyfile import DAMAGED, open_to_read, open_to_write
-from placer.limits import MAX_MAGNITUDE, MAX_WHOLE
+from placer.io.historyschema import STORED_KINDS, geometry_dict, geometry_of, of_kind
 from placer.readings import AMPLITUDE_UNITS, MEASURES
 from placer.records import (
     MASS_ROLES,
@@ -82,7 +79,6 @@ from placer.records import (
     utc_label,
 )
 
-DB_FILE_NAME = "history.sqlite"
 WRITABLE = ("a history database placer may write: not locked by another program, on a disk "
             "with room")
 
@@ -104,38 +100,6 @@ def _immediate(conn: sqlite3.Connection) -> Iterator[None]:
         if conn.in_transaction:
             conn.execute("ROLLBACK")
         raise
-
-
-def default_db_path() -> Path:
-    """Where the history database lives unless ``--db`` names one.
-
-    In this order: the environment variable ``PLACER_DB`` if set and not
-    empty; else ``$XDG_DATA_HOME/placer/history.sqlite`` if ``XDG_DATA_HOME``
-    is an absolute path; else on Windows ``%APPDATA%/placer/history.sqlite``
-    (``~/AppData/Roaming`` when ``APPDATA`` is unset) and elsewhere
-    ``~/.local/share/placer/history.sqlite``.
-
-    Returns
-    -------
-    Path
-        The file (it need not exist yet).
-
-    References
-    ----------
-    XDG Base Directory Specification 0.8: ``$XDG_DATA_HOME``, default
-    ``$HOME/.local/share``; relative paths in it are to be ignored.
-    """
-    explicit = os.environ.get("PLACER_DB")
-    if explicit:
-        return Path(explicit).expanduser()
-    xdg = os.environ.get("XDG_DATA_HOME")
-    if xdg and Path(xdg).is_absolute():
-        return Path(xdg) / "placer" / DB_FILE_NAME
-    if sys.platform == "win32":
-        appdata = os.environ.get("APPDATA")
-        base = Path(appdata) if appdata else Path.home() / "AppData" / "Roaming"
-        return base / "placer" / DB_FILE_NAME
-    return Path.home() / ".local" / "share" / "placer" / DB_FILE_NAME
 
 
 class History:
@@ -243,7 +207,7 @@ class History:
         conn.executemany(
             "INSERT INTO planes (visit_id, plane_index, name, geometry_json, catalog) "
             "VALUES (?, ?, ?, ?, ?)",
-            [(visit_id, i, name, None if g is None else json.dumps(_geometry_dict(g)), c)
+            [(visit_id, i, name, None if g is None else json.dumps(geometry_dict(g)), c)
              for i, (name, g, c) in enumerate(zip(record.plane_names, geometries, catalogs))])
         for seq, run in enumerate(record.runs):
             run_id = conn.execute(
@@ -349,9 +313,9 @@ class History:
             for value, (name, kind) in zip(row, spec, strict=True):
                 if value is None and kind.endswith("?"):
                     continue
-                if not _of_kind(value, kind[0]):
+                if not of_kind(value, kind[0]):
                     raise self._error(f"holds {value!r} in {name}", key=name,
-                                      expected=f"{_KINDS[kind[0]]} ({DAMAGED})")
+                                      expected=f"{STORED_KINDS[kind[0]]} ({DAMAGED})")
         return rows
 
     def _json(self, text: Any, visit_id: int, column: str, table: str = "visits") -> dict:
@@ -406,7 +370,7 @@ class History:
                              "visit_id = ? ORDER BY plane_index", (visit_id,),
                              "planes.name:t planes.geometry_json:t? planes.catalog:t?")
         geometries = tuple(
-            None if g is None else _geometry_of(name, self._json(g, visit_id, "geometry_json",
+            None if g is None else geometry_of(name, self._json(g, visit_id, "geometry_json",
                                                                  "planes"))
             for name, g, _ in planes)
         masses = self._read_masses(visit_id)
@@ -601,66 +565,3 @@ class History:
         return {run_id: tuple(masses) for run_id, masses in grouped.items()}
 
 
-_KINDS = {"t": "text", "i": f"a whole number of at most {MAX_WHOLE} in size",
-          "r": f"a number of at most {MAX_MAGNITUDE:g} in size"}
-"""What each kind of stored value must be (see :meth:`History._query`)."""
-
-
-def _of_kind(value: Any, kind: str) -> bool:
-    """Whether a value read from the file is of the kind ``t``, ``i`` or ``r``."""
-    if kind == "t":
-        return isinstance(value, str)
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        return False
-    if kind == "i":
-        return isinstance(value, int) and abs(value) <= MAX_WHOLE
-    return math.isfinite(value) and abs(value) <= MAX_MAGNITUDE
-
-
-def _geometry_dict(geometry: PlaneGeometry) -> dict[str, Any]:
-    """A plane's positions as the history stores them (JSON).
-
-    Parameters
-    ----------
-    geometry : PlaneGeometry
-        The positions.
-
-    Returns
-    -------
-    dict
-        angles_deg, radii_mm, blocked (sorted), capacity, accepts.
-    """
-    return {"angles_deg": list(geometry.angles_deg), "radii_mm": list(geometry.radii_mm),
-            "blocked": sorted(geometry.blocked), "capacity": geometry.capacity,
-            "accepts": list(geometry.accepts)}
-
-
-def _geometry_of(name: str, data: dict[str, Any]) -> PlaneGeometry:
-    """A plane's positions back from :func:`_geometry_dict`.
-
-    Parameters
-    ----------
-    name : str
-        The plane's name.
-    data : dict
-        What :func:`_geometry_dict` gave.
-
-    Returns
-    -------
-    PlaneGeometry
-        The positions.
-
-    Raises
-    ------
-    HistoryError
-        Data that does not make a plane's positions.
-    """
-    try:
-        return PlaneGeometry(name, tuple(float(a) for a in data["angles_deg"]),
-                             tuple(float(r) for r in data["radii_mm"]),
-                             frozenset(int(b) for b in data["blocked"]), int(data["capacity"]),
-                             tuple(str(a) for a in data["accepts"]))
-    except (KeyError, TypeError, ValueError) as exc:
-        raise HistoryError(f"positions of plane '{name}' cannot be read: {exc}",
-                           key="planes.geometry_json",
-                           expected="the positions as placer stored them") from None

@@ -30,8 +30,10 @@ SQLite" (hot journals, rolled back by the next writer); "URI Filenames"
 
 from __future__ import annotations
 
+import os
 import sqlite3
 import stat
+import sys
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -328,3 +330,38 @@ def _refuse_newer(path: Path, version: int) -> None:
                            f"placer reads up to {SCHEMA_VERSION}); update placer to use it",
                      key="schema_version",
                      expected=f"schema version {SCHEMA_VERSION} or older")
+
+
+DB_FILE_NAME = "history.sqlite"
+
+
+def default_db_path() -> Path:
+    """Where the history database lives unless ``--db`` names one.
+
+    In this order: the environment variable ``PLACER_DB`` if set and not
+    empty; else ``$XDG_DATA_HOME/placer/history.sqlite`` if ``XDG_DATA_HOME``
+    is an absolute path; else on Windows ``%APPDATA%/placer/history.sqlite``
+    (``~/AppData/Roaming`` when ``APPDATA`` is unset) and elsewhere
+    ``~/.local/share/placer/history.sqlite``.
+
+    Returns
+    -------
+    Path
+        The file (it need not exist yet).
+
+    References
+    ----------
+    XDG Base Directory Specification 0.8: ``$XDG_DATA_HOME``, default
+    ``$HOME/.local/share``; relative paths in it are to be ignored.
+    """
+    explicit = os.environ.get("PLACER_DB")
+    if explicit:
+        return Path(explicit).expanduser()
+    xdg = os.environ.get("XDG_DATA_HOME")
+    if xdg and Path(xdg).is_absolute():
+        return Path(xdg) / "placer" / DB_FILE_NAME
+    if sys.platform == "win32":
+        appdata = os.environ.get("APPDATA")
+        base = Path(appdata) if appdata else Path.home() / "AppData" / "Roaming"
+        return base / "placer" / DB_FILE_NAME
+    return Path.home() / ".local" / "share" / "placer" / DB_FILE_NAME

@@ -42,6 +42,11 @@ import json
 import math
 import sqlite3
 from collections.abc import Callable
+from typing import Any
+
+from placer.errors import HistoryError
+from placer.geometry import PlaneGeometry
+from placer.limits import MAX_MAGNITUDE, MAX_WHOLE
 
 SCHEMA_VERSION = 4
 """Schema version this placer writes; files of a newer version are refused."""
@@ -196,3 +201,76 @@ CREATE INDEX masses_by_run ON masses (run_id);
 TABLES = ("schema_version", "machines", "visits", "channels", "planes", "runs", "readings",
           "coefficients", "masses")
 """The tables of every version (later versions add columns, not tables)."""
+
+
+STORED_KINDS = {"t": "text", "i": f"a whole number of at most {MAX_WHOLE} in size",
+          "r": f"a number of at most {MAX_MAGNITUDE:g} in size"}
+"""What each kind of stored value must be (see :meth:`History._query`)."""
+
+
+def of_kind(value: Any, kind: str) -> bool:
+    """Whether a value read from the file is of the kind ``t``, ``i`` or ``r``.
+
+    Parameters
+    ----------
+    value : object
+        The value as SQLite gave it.
+    kind : str
+        "t" text, "i" a whole number, "r" a number (see :data:`STORED_KINDS`).
+    """
+    if kind == "t":
+        return isinstance(value, str)
+    if isinstance(value, bool) or not isinstance(value, (int, float)):
+        return False
+    if kind == "i":
+        return isinstance(value, int) and abs(value) <= MAX_WHOLE
+    return math.isfinite(value) and abs(value) <= MAX_MAGNITUDE
+
+
+def geometry_dict(geometry: PlaneGeometry) -> dict[str, Any]:
+    """A plane's positions as the history stores them (JSON).
+
+    Parameters
+    ----------
+    geometry : PlaneGeometry
+        The positions.
+
+    Returns
+    -------
+    dict
+        angles_deg, radii_mm, blocked (sorted), capacity, accepts.
+    """
+    return {"angles_deg": list(geometry.angles_deg), "radii_mm": list(geometry.radii_mm),
+            "blocked": sorted(geometry.blocked), "capacity": geometry.capacity,
+            "accepts": list(geometry.accepts)}
+
+
+def geometry_of(name: str, data: dict[str, Any]) -> PlaneGeometry:
+    """A plane's positions back from :func:`geometry_dict`.
+
+    Parameters
+    ----------
+    name : str
+        The plane's name.
+    data : dict
+        What :func:`geometry_dict` gave.
+
+    Returns
+    -------
+    PlaneGeometry
+        The positions.
+
+    Raises
+    ------
+    HistoryError
+        Data that does not make a plane's positions.
+    """
+    try:
+        return PlaneGeometry(name, tuple(float(a) for a in data["angles_deg"]),
+                             tuple(float(r) for r in data["radii_mm"]),
+                             frozenset(int(b) for b in data["blocked"]), int(data["capacity"]),
+                             tuple(str(a) for a in data["accepts"]))
+    except (KeyError, TypeError, ValueError) as exc:
+        raise HistoryError(f"positions of plane '{name}' cannot be read: {exc}",
+                           key="planes.geometry_json",
+                           expected="the positions as placer stored them") from None

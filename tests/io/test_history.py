@@ -30,7 +30,8 @@ from history_writer import (
 
 from placer.errors import HistoryError, PlacerError
 from placer.io import history, historyfile
-from placer.io.history import History, default_db_path
+from placer.io.history import History
+from placer.io.historyfile import default_db_path
 from placer.io.historyschema import SCHEMA_V1, SCHEMA_VERSION
 from placer.records import MachineSummary
 
