@@ -32,42 +32,10 @@ from pathlib import Path
 
 REPO = Path(__file__).resolve().parent.parent
 
-DISC_DRAWER = """name = "disc drawer"
-[[items]]
-id = "W3"
-mass_g = 3.0
-stock = 10
-[[items]]
-id = "W7"
-mass_g = 7.0
-stock = 4
-[[items]]
-id = "W15"
-mass_g = 15.0
-stock = 2
-"""
+sys.path.insert(0, str(REPO / "tests"))
+from test_stock import SHOP_DRAWER as DISC_DRAWER  # noqa: E402 - the job of the test
+from test_stock import SHOP_JOB as DISC_JOB  # noqa: E402
 
-DISC_JOB = """[rotor]
-name = "two-plane 16-hole disc"
-[[planes]]
-name = "A"
-radius_mm = 100.0
-positions = 16
-capacity = 4
-catalog = "drawer.toml"
-max_parts = 6
-correction = { mass_g = 31.0, angle_deg = 40.0 }
-tolerance_gmm = 40.0
-[[planes]]
-name = "B"
-radius_mm = 100.0
-positions = 16
-capacity = 4
-catalog = "drawer.toml"
-max_parts = 6
-correction = { mass_g = 36.0, angle_deg = 200.0 }
-tolerance_gmm = 40.0
-"""
 
 SIZES_G = (2, 3, 4, 5, 6, 8, 10, 12, 16, 20, 30, 40)
 CORRECTIONS = ((95.0, 20.0), (88.0, 130.0), (102.0, 250.0), (91.0, 310.0))
