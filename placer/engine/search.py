@@ -103,8 +103,9 @@ GRID_DIMS = 4
 """Most coordinates the grid indexes (the rest are scored, not indexed)."""
 INDEX = "grid"
 """How tails are looked up: "grid", or "scan" (one cell: every row is scored; for tests)."""
-MAX_COORDS = 32
-"""Most real coordinates of the span the compiled search takes (2 × rank)."""
+MAX_COORDS = 16
+"""Most real coordinates of the span the compiled search takes (2 × rank; MAXD in
+``_kernel.c``): eight correction planes, :data:`placer.limits.MAX_PLANES`."""
 MAX_FULL = 128
 """Most real coordinates of a full residual for the max norm (2 × channels)."""
 

@@ -158,3 +158,15 @@ def test_largest_channel_norm_on_a_larger_case():
     effects = (rng.normal(size=(10, 2, 4)) + 1j * rng.normal(size=(10, 2, 4)))
     target = 4 * (rng.normal(size=4) + 1j * rng.normal(size=4))
     check_against_oracle(effects, target, np.ones(10, int), np.array([3, 3]), 4, "max")
+
+
+def test_a_span_wider_than_the_compiled_search_takes_is_refused_in_python():
+    # The compiled core holds at most 16 real coordinates (eight planes, the limit of a
+    # job or session); wider effects are refused before the kernel sees them.
+    rng = np.random.default_rng(7)
+    wide = rng.normal(size=(10, 2, 9)) + 1j * rng.normal(size=(10, 2, 9))
+    with pytest.raises(ValueError, match="too many channels"):
+        PlacementSearch(wide, np.full(10, 2), np.full(2, 5), 2)
+    eight = wide[:, :, :8]
+    front = PlacementSearch(eight, np.full(10, 2), np.full(2, 5), 2).front(np.ones(8, complex))
+    assert len(front.entries) == 3
