@@ -86,9 +86,7 @@ def build_parser() -> argparse.ArgumentParser:
     solve.add_argument("--parts", type=int, default=None, metavar="N",
                        help="print and draw the plan of N parts on every plane instead of "
                             "the one chosen")
-    solve.add_argument("--width", type=int, default=None, metavar="COLUMNS",
-                       help="width of the sheet in columns (default: the terminal's, "
-                            "80 when not a terminal)")
+    _width_option(solve, "sheet")
     solve.add_argument("--min-chance", type=float, default=None, metavar="P",
                        help="choose the fewest parts whose chance of staying within tolerance "
                             "once fitted (mass tolerances, rotor.placement_error_deg) is at "
@@ -162,8 +160,7 @@ def build_parser() -> argparse.ArgumentParser:
     field.add_argument("--db", metavar="FILE",
                        help="history database (default: $PLACER_DB, else placer/history.sqlite "
                             "in the user's data folder)")
-    field.add_argument("--width", type=int, default=None, metavar="COLUMNS",
-                       help=f"width of the sheet in columns (at least {MIN_WIDTH})")
+    _width_option(field, "sheet")
     field.add_argument("--sheet", metavar="FILE",
                        help="also write the printable visit report: .pdf (every page), .png "
                             "or .svg (NAME-1.png... a file per page); needs matplotlib")
@@ -176,9 +173,7 @@ def build_parser() -> argparse.ArgumentParser:
                                           "(times in UTC).")
     machines.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
     machines.add_argument("--json", action="store_true", help="print JSON")
-    machines.add_argument("--width", type=int, default=None, metavar="COLUMNS",
-                          help="width of the table in columns (default: the terminal's, 80 "
-                               "when not a terminal)")
+    _width_option(machines, "table")
     _budget_options(machines)
     history = sub.add_parser("history", help="show one machine's visits, or one visit",
                              description="Show a machine's stored visits: date (UTC), "
@@ -196,9 +191,7 @@ def build_parser() -> argparse.ArgumentParser:
                             "(without it, says what would be removed and removes nothing)")
     history.add_argument("--db", metavar="FILE", help="history database (see 'placer field')")
     history.add_argument("--json", action="store_true", help="print JSON")
-    history.add_argument("--width", type=int, default=None, metavar="COLUMNS",
-                         help="width of the tables in columns (default: the terminal's, 80 "
-                              "when not a terminal)")
+    _width_option(history, "tables")
     history.add_argument("--sheet", metavar="FILE",
                          help="with --visit N: print that visit's report again (.pdf, .png "
                               "or .svg, as 'placer field --sheet')")
@@ -265,9 +258,7 @@ def build_parser() -> argparse.ArgumentParser:
     blades.add_argument("--aim-share", type=float, default=None, metavar="S",
                         help="share of the tolerance the trim aims at (default: [trim] "
                              "aim_share, else [rotor] aim_share, else 0.7)")
-    blades.add_argument("--width", type=int, default=None, metavar="COLUMNS",
-                        help="columns of the terminal output (default: the terminal's, 80 "
-                             "when not a terminal)")
+    _width_option(blades, "tables")
     blades.add_argument("--sheet", metavar="FILE",
                         help="also write the sheet to work from: the disc with every slot's "
                              "blade, the table to tick off and the trim page; .pdf, or "
@@ -337,6 +328,13 @@ def _new_parser(sub) -> None:
     example.add_argument("--folder", default=".", help="where to copy them (default: here)")
     example.add_argument("--force", action="store_true", help="replace files that exist")
     _budget_options(example)
+
+
+def _width_option(command: argparse.ArgumentParser, what: str) -> None:
+    """--width: the columns of the terminal output (checked in :func:`check_options`)."""
+    command.add_argument("--width", type=int, default=None, metavar="COLUMNS",
+                         help=f"width of the {what} in columns, {MIN_WIDTH} to {MAX_WIDTH} "
+                              "(default: the terminal's, 80 when not a terminal)")
 
 
 def _engine_options(command: argparse.ArgumentParser, time_limit_s: float) -> None:
