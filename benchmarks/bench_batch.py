@@ -83,6 +83,25 @@ max_parts = 4
 """
 
 
+DRAWER = ["bundled"]
+"""Which drawer the line draws on (``--drawer``): "bundled", the bundled catalogue with
+its stock counts, which runs dry after some dozens of rotors (from then on every rotor is
+planned twice: with the drawer left, and with a full one, both recorded); "refilled",
+the same sizes without stock counts, as a line whose drawer is kept filled."""
+
+
+def drawer_of(folder: Path, catalog: str) -> str:
+    """The catalogue the template names: the bundled name, or a copy without stock counts."""
+    if DRAWER[0] == "bundled":
+        return catalog
+    source = resolve_catalog(catalog, REPO, "bench", "catalog")
+    copy = folder / f"{catalog}-refilled.toml"
+    copy.write_text("".join(line for line in source.read_text(encoding="utf-8")
+                            .splitlines(keepends=True) if not line.startswith("stock")),
+                    encoding="utf-8")
+    return str(copy)
+
+
 def largest_gmm(catalog: str) -> float:
     items = read_catalog(resolve_catalog(catalog, REPO, "bench", "catalog")).items
     return max(item.mass_g for item in items) * 150.0
@@ -108,7 +127,7 @@ def batch_rate(folder: Path, positions: int, catalog: str, rows: int, seed: int,
                jobs: int) -> tuple[float, float, float]:
     """(wall seconds for the whole batch, rotors/s per core, rotors per CPU-second)."""
     template = folder / f"fh{positions}-{catalog}.toml"
-    template.write_text(template_text(positions, catalog), encoding="utf-8")
+    template.write_text(template_text(positions, drawer_of(folder, catalog)), encoding="utf-8")
     readings = folder / f"fh{positions}-{catalog}-{rows}.csv"
     readings.write_text(readings_text(rows, seed, largest_gmm(catalog)), encoding="utf-8")
     started, cpu = time.perf_counter(), _cpu_s()
@@ -188,7 +207,7 @@ def side_by_side(args: argparse.Namespace, argv: list[str]) -> int:
         for engine, source in sources.items():
             command = [sys.executable, str(Path(__file__).resolve()), "--source", source,
                        "--scaling-only", "--scale-rows", str(args.scale_rows or 200),
-                       "--seed", str(args.seed)]
+                       "--seed", str(args.seed), "--drawer", args.drawer]
             done = subprocess.run(command, capture_output=True, text=True, check=True)
             print(f"\n[{engine}, round {round_ + 1}] placer from {source}")
             print(done.stdout.rstrip())
@@ -229,8 +248,12 @@ def main(argv: list[str] | None = None) -> int:
                         help="rows per scaling case (default 200; 60 with --quick)")
     parser.add_argument("--seed", type=int, default=2026, help="seed of the rows")
     parser.add_argument("--quick", action="store_true", help="fewer rows")
+    parser.add_argument("--drawer", choices=("bundled", "refilled"), default="bundled",
+                        help="the bundled catalogue's stock, which runs dry (default), or the "
+                             "same sizes kept filled")
     argv = sys.argv[1:] if argv is None else argv
     args = parser.parse_args(argv)
+    DRAWER[0] = args.drawer
     if args.baseline:
         return side_by_side(args, argv)
     rows = args.rows or (3000 if args.quick else 20000)
