@@ -726,3 +726,24 @@ def test_error_lines_fold_every_line_break():
 
     text = InputError("bad\u2028value\r\nhere", file="f.toml", key="k").one_line()
     assert text == "f.toml: k: bad value here"
+
+
+@pytest.mark.parametrize("argv", [
+    ["solve", str(EXAMPLE_DIR / "supply-fan.toml"), "--json"],
+    ["tolerance", "--grade", "G6.3", "--mass-kg", "42", "--rpm", "1480"],
+    ["catalogs"],
+])
+def test_commands_that_need_no_sheet_and_no_blades_load_neither(argv):
+    # Start-up is the time of a small job (common practice, no source: a shop tool answers
+    # at once): the blade pipeline (and CP-SAT and pandas with it) and matplotlib load only
+    # for the commands that use them.
+    import subprocess
+    import sys
+
+    code = ("import sys, io, contextlib; from placer.cli import main\n"
+            "with contextlib.redirect_stdout(io.StringIO()): main(sys.argv[1:])\n"
+            "print(sorted(m for m in ('placer.arrange', 'ortools', 'matplotlib', 'pandas')"
+            " if m in sys.modules))")
+    out = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True, text=True,
+                         check=True).stdout
+    assert out.strip() == "[]"

@@ -73,9 +73,9 @@ def main(argv: list[str] | None = None) -> int:
         return EXIT_BAD_INPUT
     try:
         check_options(args)
-        from placer.views.sheet.glyphs import take_undrawn
-
-        take_undrawn()  # nothing left from an earlier run in this process
+        glyphs = sys.modules.get("placer.views.sheet.glyphs")  # loaded only by a sheet
+        if glyphs is not None:
+            glyphs.take_undrawn()  # nothing left from an earlier run in this process
         with command_budget(getattr(args, "time_limit", DEFAULT_TIME_LIMIT_S),
                             getattr(args, "memory_limit", DEFAULT_MEMORY_LIMIT_MB),
                             FIRST.get(args.command, "before it was done; nothing is printed"),

@@ -3,9 +3,8 @@
 from __future__ import annotations
 
 from collections.abc import Sequence
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from placer.arrange import BladeResult
 from placer.catalog import Catalog
 from placer.fieldresult import FieldOption, FieldResult
 from placer.geometry import angle_of_deg
@@ -19,6 +18,9 @@ from placer.records import (
 )
 from placer.tolerance import PlaneShare
 from placer.units import kg_mm2_from_gmm2, mass_at_radius_g
+
+if TYPE_CHECKING:  # the blade pipeline (and CP-SAT with it) loads only for placer blades
+    from placer.arrange import BladeResult
 
 
 def option_dict(option: PlanOption) -> dict[str, Any]:
