@@ -436,3 +436,22 @@ def test_outside_tolerance_is_not_a_list_to_tick_off(write_file):
     ticks = [line for ax in fig.axes for line in ax.lines if line.get_marker() == "s"
              and line.get_markersize() == 7.5]
     assert ticks == []
+
+
+def test_an_ascii_terminal_keeps_the_frame_of_a_name_in_wide_and_combining_script(tmp_path):
+    # A name in CJK (two columns a character) and Devanagari (combining marks take none):
+    # on an ASCII terminal each character becomes one "?" per column it took, so every
+    # line of the frame keeps its 80 columns (East Asian width and combining marks: Unicode
+    # UAX #11 and chapter 3, as rich counts them).
+    job = (REPO_DIR / "examples" / "supply-fan.toml").read_text(encoding="utf-8")
+    name = next(line for line in job.splitlines() if line.startswith("name = "))
+    path = tmp_path / "named.toml"
+    path.write_text(job.replace(name, 'name = "送風機 SF-2 पंखा"', 1), encoding="utf-8")
+    env = {k: v for k, v in os.environ.items() if k not in ("PYTHONIOENCODING", "LC_ALL")}
+    env.update(PYTHONIOENCODING="ascii", PYTHONPATH=str(REPO_DIR))
+    run = subprocess.run([sys.executable, "-m", "placer", "solve", str(path)],
+                         capture_output=True, env=env, cwd=REPO_DIR, timeout=300)
+    lines = run.stdout.decode("ascii").splitlines()
+    framed = [line for line in lines if line.startswith(("|", "+"))]
+    assert "?????? SF-2 ??" in run.stdout.decode("ascii")
+    assert framed and {len(line) for line in framed} == {80}

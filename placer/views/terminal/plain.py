@@ -16,6 +16,8 @@ import codecs
 import sys
 from typing import TextIO
 
+from rich.cells import cell_len
+
 PLAIN_WIDTH = 80
 """Columns of the output when it is not a terminal."""
 
@@ -26,7 +28,7 @@ ASCII_FOR = {
     "∠": "@",
 }
 """One ASCII character for each non-ASCII character placer prints (columns keep their
-width); any other becomes "?"."""
+width); any other becomes "?" once for each column it takes."""
 
 ERROR_HANDLER = "placer-ascii"
 
@@ -35,7 +37,9 @@ def _replace(error: UnicodeError) -> tuple[str, int]:
     if not isinstance(error, UnicodeEncodeError):
         raise error
     text = error.object[error.start:error.end]
-    return "".join(ASCII_FOR.get(ch, "?") for ch in text), error.end
+    # A character without its own ASCII stand-in takes as many "?" as the columns rich
+    # gave it (two for a wide one, none for a combining mark), so that borders stay put.
+    return "".join(ASCII_FOR.get(ch) or "?" * cell_len(ch) for ch in text), error.end
 
 
 codecs.register_error(ERROR_HANDLER, _replace)
