@@ -112,6 +112,47 @@ def print_plain(render, width: int | None, *values) -> None:
     finish(console)
 
 
+def print_result(args: argparse.Namespace, result, json_of, render) -> None:
+    """Print a result as JSON (--json) or through its terminal view.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+        The parsed command line (``json``, ``width``).
+    result : object
+        What the command computed.
+    json_of : callable
+        The result's JSON shape (:mod:`placer.io.jsonout`).
+    render : callable
+        Its terminal view, called with the result and a console.
+    """
+    if args.json:
+        from placer.io.values import json_text
+
+        print(json_text(json_of(result), indent=2))
+        return
+    from placer.views.terminal.plain import finish
+
+    console = plain_console(args.width)
+    render(result, console)
+    finish(console)
+
+
+def say_written(what: str, paths) -> None:
+    """Say on stderr which files a sheet or report went to, then what its font could not draw.
+
+    Parameters
+    ----------
+    what : str
+        "sheet" or "visit report".
+    paths : iterable of Path
+        The files written (a file named twice is said once).
+    """
+    files = ", ".join(dict.fromkeys(shown_path(path) for path in paths))
+    print(f"placer: {what} written to {files}", file=sys.stderr)
+    say_undrawn()
+
+
 def say_undrawn() -> None:
     """Say once which text of a sheet just written had characters its font cannot draw."""
     from placer.views.sheet.glyphs import REPLACEMENT, take_undrawn

@@ -16,7 +16,7 @@ from placer.cli.common import (
     print_plain,
     rich_console,
     say_rolled_back,
-    say_undrawn,
+    say_written,
 )
 from placer.errors import InputError, shown, shown_path
 from placer.io.values import json_text
@@ -79,10 +79,8 @@ def _field(args: argparse.Namespace) -> int:
 
             doing("while writing the visit report; the plan printed is final, the report is "
                   "not written and nothing is saved")
-            files = write_pages(pages, Path(args.sheet), session.machine_name, force=args.force)
-            print(f"placer: visit report written to {', '.join(map(shown_path, files))}",
-                  file=sys.stderr)
-            say_undrawn()
+            say_written("visit report", write_pages(pages, Path(args.sheet),
+                                                    session.machine_name, force=args.force))
         if db is not None:
             doing("while saving the visit; the plan printed is final, the visit is not saved")
             _save_once(db, record, session.machine_id, path)
@@ -191,10 +189,8 @@ def _history(args: argparse.Namespace) -> int:
         if pages is not None:
             from placer.views.report.output import write_pages
 
-            files = write_pages(pages, Path(args.sheet), record.machine_name, force=args.force)
-            print(f"placer: visit report written to {', '.join(map(shown_path, files))}",
-                  file=sys.stderr)
-            say_undrawn()
+            say_written("visit report", write_pages(pages, Path(args.sheet),
+                                                    record.machine_name, force=args.force))
         return EXIT_OK
     if args.json:
         print(json_text(visits_list(visits), indent=2))

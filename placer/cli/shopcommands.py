@@ -14,7 +14,8 @@ from placer.cli.common import (
     check_positive,
     metric_options,
     plain_console,
-    say_undrawn,
+    print_result,
+    say_written,
 )
 from placer.cli.options import FLAGS
 from placer.errors import InputError, fill_options, shown_path
@@ -35,26 +36,17 @@ def _solve(args: argparse.Namespace) -> int:
     result = solve_job(job, effort=args.effort, errors=errors, aim_share=args.aim_share,
                        parts=args.parts)
     doing("while printing the plans")
-    if args.json:
-        from placer.io.jsonout import job_dict
+    from placer.io.jsonout import job_dict
+    from placer.views.terminal.job import render_job
 
-        print(json_text(job_dict(result), indent=2))
-    else:
-        from placer.views.terminal.job import render_job
-        from placer.views.terminal.plain import finish
-
-        console = plain_console(args.width)
-        render_job(result, console)
-        finish(console)
+    print_result(args, result, job_dict, render_job)
     if args.sheet is not None:
         from placer.views.sheet import write_sheet
 
         doing("while drawing the sheet; the plans printed are final, the sheet is not "
               "written")
         pages = write_sheet(result, Path(args.sheet), force=args.force)
-        files = ", ".join(dict.fromkeys(shown_path(page.path) for page in pages))
-        print(f"placer: sheet written to {files}", file=sys.stderr)
-        say_undrawn()
+        say_written("sheet", (page.path for page in pages))
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
 
@@ -217,28 +209,19 @@ def _blades(args: argparse.Namespace) -> int:
         sheet_paths(Path(args.sheet), blade_page_count(job), force=args.force)
     result = arrange_blades(job, effort=args.effort, aim_share=args.aim_share)
     doing("while printing the arrangement")
-    if args.json:
-        from placer.io.jsonout import blades_dict
+    from placer.io.jsonout import blades_dict
+    from placer.views.terminal.blades import render_blades
 
-        print(json_text(blades_dict(result), indent=2))
-    else:
-        from placer.views.terminal.blades import render_blades
-        from placer.views.terminal.plain import finish
-
-        console = plain_console(args.width)
-        render_blades(result, console)
-        finish(console)
+    print_result(args, result, blades_dict, render_blades)
     if args.sheet is not None:
         from placer.views.sheet.bladepage import write_blade_sheet
 
         doing("while drawing the sheet; the arrangement printed is final, the sheet is not "
               "written")
-        paths = write_blade_sheet(result, Path(args.sheet), force=args.force)
-        print(f"placer: sheet written to {', '.join(dict.fromkeys(map(shown_path, paths)))}",
-              file=sys.stderr)
-        say_undrawn()
+        say_written("sheet", write_blade_sheet(result, Path(args.sheet), force=args.force))
     return EXIT_OK if result.all_within else EXIT_OUTSIDE
 
 
-COMMANDS = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance, "trial": _trial, "batch": _batch, "new": _new, "blades": _blades}
+COMMANDS = {"solve": _solve, "catalogs": _catalogs, "tolerance": _tolerance, "trial": _trial,
+            "batch": _batch, "new": _new, "blades": _blades}
 """The function that runs each of these commands, by name."""
