@@ -372,7 +372,7 @@ def worker(source: str, key: str, count: int, warm: bool) -> None:
     for correction in corrections:
         started = time.process_time()
         front = (shared if warm else build()).front(np.array([correction]))
-        out.append(dict(s=time.process_time() - started, proven=front.optimal,
+        out.append(dict(s=time.process_time() - started, proven=front.optimal, work=front.work,
                         residuals=[e.residual_norm for e in front.entries],
                         flags=[e.proven for e in front.entries]))
     peak_mb = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
@@ -425,8 +425,8 @@ def side_by_side(args: argparse.Namespace) -> int:
           f"k = 0..K, median over {args.count} corrections x {args.rounds} round(s), each "
           "round a fresh process per engine, engines alternating")
     head = (f"{'case':20} {'mode':4} {'base ms':>9} {'new ms':>9} {'new/base':>8} "
-            f"{'target':>7} {'base proven':>11} {'new proven':>10} {'same':>7} "
-            f"{'base MB':>8} {'new MB':>7}")
+            f"{'new max':>9} {'target':>7} {'base proven':>11} {'new proven':>10} "
+            f"{'same':>7} {'work':>5} {'base MB':>8} {'new MB':>7}")
     print(head)
     print("-" * len(head))
     for key in keys:
@@ -446,10 +446,12 @@ def side_by_side(args: argparse.Namespace) -> int:
             med = {e: statistics.median(t) if t else None for e, t in times.items()}
             proven = {e: (f"{sum(f['proven'] for f in last[e]['fronts'])}/{args.count}"
                           if last[e] else "timeout") for e in last}
-            same = "n/a"
+            same = work = "n/a"
             if last["new"] and last["base"]:
                 compared, differ = same_fronts(last["new"], last["base"])
                 same = f"{compared - differ}/{compared}"
+                pairs = list(zip(last["new"]["fronts"], last["base"]["fronts"]))
+                work = f"{sum(a.get('work') == b.get('work') for a, b in pairs)}/{len(pairs)}"
             ratio = (med["new"] / med["base"] if med["new"] and med["base"] else None)
             target = ("" if warm or not case.target_s
                       else ("pass" if med["new"] is not None and med["new"] < case.target_s
@@ -457,11 +459,16 @@ def side_by_side(args: argparse.Namespace) -> int:
             print(f"{label if not warm else '':20} {'warm' if warm else 'cold':4} "
                   f"{fmt(None if med['base'] is None else 1e3 * med['base'], '.2f'):>9} "
                   f"{fmt(None if med['new'] is None else 1e3 * med['new'], '.2f'):>9} "
-                  f"{fmt(ratio, '.3f'):>8} {target:>7} {proven['base']:>11} "
-                  f"{proven['new']:>10} {same:>7} {peak['base']:>8.0f} {peak['new']:>7.0f}",
+                  f"{fmt(ratio, '.3f'):>8} "
+                  f"{fmt(1e3 * max(times['new']) if times['new'] else None, '.2f'):>9} "
+                  f"{target:>7} {proven['base']:>11} "
+                  f"{proven['new']:>10} {same:>7} {work:>5} {peak['base']:>8.0f} "
+                  f"{peak['new']:>7.0f}",
                   flush=True)
     print("\n'same': front entries proven by both engines whose residuals agree within the "
-          "proof tolerance / entries proven by both.  MB: peak resident memory of the "
+          "proof tolerance / entries proven by both.  'work': fronts whose counted work "
+          "(head nodes, cells and rows looked at) is the same in both engines, i.e. the "
+          "same search in the same order.  'new max': the slowest front.  MB: peak resident memory of the "
           "process (ru_maxrss).  'timeout': the engine did not finish the case within "
           f"{args.timeout:g} s.")
     return 0

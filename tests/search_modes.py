@@ -9,16 +9,24 @@ import pytest
 import placer.engine.search
 
 
+MODES = ("grid", "scan", "ahead")
+"""Every way the search completes heads: the grid; one cell whose every row is scored; the
+grid with the last head level in two passes and its memory fetched ahead (used only for
+tables of over a megabyte, so forced here for small ones)."""
+
+
 @contextlib.contextmanager
 def completion(mode: str):
-    """Force the tail index: "grid" (cells around the point sought) or "scan" (one cell,
-    every row scored), for searches built inside the block."""
-    saved = placer.engine.search.INDEX
-    placer.engine.search.INDEX = mode
+    """Force how tails are completed (one of :data:`MODES`) for searches run inside the
+    block."""
+    search = placer.engine.search
+    saved = search.INDEX, search.FETCH_AHEAD_BYTES
+    search.INDEX = "scan" if mode == "scan" else "grid"
+    search.FETCH_AHEAD_BYTES = 0 if mode == "ahead" else 1 << 62
     try:
         yield
     finally:
-        placer.engine.search.INDEX = saved
+        search.INDEX, search.FETCH_AHEAD_BYTES = saved
 
 
 NEAR_ZERO = 0.01

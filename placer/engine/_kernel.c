@@ -36,6 +36,12 @@
 #define MAXK 16      /* longest plan */
 #define WORK_TICK 262144LL
 
+#if defined(__GNUC__) || defined(__clang__)
+#define FETCH(address) __builtin_prefetch(address)
+#else
+#define FETCH(address) ((void)(address))
+#endif
+
 enum { ST_RUN = 0, ST_BUDGET = 1, ST_STOP = 2, ST_ERROR = 3 };
 
 /* ------------------------------------------------------------ buffers */
@@ -313,6 +319,9 @@ typedef struct {
     double U, Upar2, best_mass, best_val;
     int32_t head[MAXK], best[MAXK];
     int have;
+    /* the last head level's candidates (see last_level), and whether to use it */
+    struct Next *next;
+    int fetch_ahead;
     int64_t work, limit, next_tick;
     int status;
 } Search;
@@ -381,12 +390,58 @@ static void take(Search *s, const int32_t *r, double value, double mass) {
 }
 
 /* Scan one cell's rows for the head whose residual is q (search space), qf (full). */
+/* A row near enough in the search space (squared distance d2): feasible beside the head,
+ * and better than the incumbent?  Then it becomes the incumbent.  1 to stop. */
+static int consider(Search *s, const int32_t *r, double d2, const double *qf, double hmass) {
+    int w = s->w;
+    if (!row_fits(s, r)) return 0;
+    double value;
+    if (s->maxnorm) {
+        double full[MAXF];
+        for (int f = 0; f < s->F; f++) {
+            double x = qf[f];
+            for (int c = 0; c < w; c++) x += s->full[(Py_ssize_t)r[c] * s->F + f];
+            full[f] = x;
+        }
+        value = max_norm(full, s->F);
+    } else {
+        value = sqrt(s->perp2 + d2);
+    }
+    if (s->lightest) {
+        if (value > s->radius) return 0;
+        double m = hmass;
+        for (int c = 0; c < w; c++) m += s->mass[r[c]];
+        if (m < s->best_mass - 1e-12 || (m <= s->best_mass + 1e-12 && value < s->best_val))
+            take(s, r, value, m);
+    } else if (value < s->U) {
+        take(s, r, value, 0.0);
+        if (s->status) return 1;
+    }
+    return 0;
+}
+
+/* Scan one cell's rows for the head whose residual is q (search space), qf (full). */
 static void scan_cell(Search *s, int64_t cell, const double *q, const double *qf,
                       double hmass) {
     uint32_t a = s->start[cell], b = s->start[cell + 1];
     if (a == b) return;
     int D = s->D, w = s->w;
     if (spend(s, (int64_t)(b - a))) return;
+    if (D == 2 && w == 2) {
+        /* One plane, pairs: the common case, the sums below written out (the same
+         * additions in the same order as the general loop, so the same bits). */
+        const double *co = s->co;
+        for (uint32_t j = a; j < b; j++) {
+            const int32_t *r = s->rows + (Py_ssize_t)j * 2;
+            const double *e0 = co + (Py_ssize_t)r[0] * 2, *e1 = co + (Py_ssize_t)r[1] * 2;
+            double x = q[0] + e0[0] + e1[0], y = q[1] + e0[1] + e1[1];
+            double d2 = 0.0 + x * x + y * y;
+            double limit2 = s->lightest ? s->radius_par2 : s->Upar2;
+            if (s->lightest ? d2 > limit2 : d2 >= limit2) continue;
+            if (consider(s, r, d2, qf, hmass)) return;
+        }
+        return;
+    }
     for (uint32_t j = a; j < b; j++) {
         const int32_t *r = s->rows + (Py_ssize_t)j * w;
         double d2 = 0.0;
@@ -397,29 +452,7 @@ static void scan_cell(Search *s, int64_t cell, const double *q, const double *qf
         }
         double limit2 = s->lightest ? s->radius_par2 : s->Upar2;
         if (s->lightest ? d2 > limit2 : d2 >= limit2) continue;
-        if (!row_fits(s, r)) continue;
-        double value;
-        if (s->maxnorm) {
-            double full[MAXF];
-            for (int f = 0; f < s->F; f++) {
-                double x = qf[f];
-                for (int c = 0; c < w; c++) x += s->full[(Py_ssize_t)r[c] * s->F + f];
-                full[f] = x;
-            }
-            value = max_norm(full, s->F);
-        } else {
-            value = sqrt(s->perp2 + d2);
-        }
-        if (s->lightest) {
-            if (value > s->radius) continue;
-            double m = hmass;
-            for (int c = 0; c < w; c++) m += s->mass[r[c]];
-            if (m < s->best_mass - 1e-12 || (m <= s->best_mass + 1e-12 && value < s->best_val))
-                take(s, r, value, m);
-        } else if (value < s->U) {
-            take(s, r, value, 0.0);
-            if (s->status) return;
-        }
+        if (consider(s, r, d2, qf, hmass)) return;
     }
 }
 
@@ -588,6 +621,85 @@ static inline int admit(Search *s, int depth, Py_ssize_t i, const double *q, con
     return !bound_cuts(s, *bound);
 }
 
+/* One candidate of the last head level: its placement, its bound, and the grid cell of the
+ * point that would cancel the head with it (-1 when the lookup will not start at one cell). */
+typedef struct Next {
+    Py_ssize_t i;
+    double bound;
+    int64_t cell;
+} Next;
+
+#define AHEAD 4   /* candidates whose rows are fetched from memory ahead of their lookup */
+
+/* The grid cell holding point p (clamped to the grid), as lookup() finds it. */
+static inline int64_t cell_at(const Search *s, const double *p) {
+    int64_t cell = 0;
+    for (int d = 0; d < s->G; d++) {
+        double f = s->h > 0 ? floor((p[d] - s->lo[d]) / s->h) : 0.0;
+        int64_t c = f < 0 ? 0 : (f >= (double)(s->gn[d] - 1) ? s->gn[d] - 1 : (int64_t)f);
+        cell += c * s->stride[d];
+    }
+    return cell;
+}
+
+/* The last level of the head, the loop of dfs() below in two passes with the same result
+ * and the same work counted.  The lookups it leads to wait on memory (a cell's start, then
+ * its rows, scattered over a table of megabytes), so the first pass lists the candidates
+ * that pass the bound as it stands, with their cells; the second pass walks placement by
+ * placement exactly as dfs() would (work, the bound's cut, the candidate's bound against
+ * the incumbent as it is now, which can only have shrunk), asking the processor for the
+ * start of the cell 2 * AHEAD candidates on and for the rows of the cell AHEAD candidates
+ * on before each lookup, so that several fetches are under way at once.  A placement
+ * the first pass left out fails again in the second (its bound only grows against a
+ * shrinking incumbent; counts and stock are those of the same head), so the same heads
+ * are completed in the same order. */
+static void last_level(Search *s, int depth, Py_ssize_t first, const double *q,
+                       const double *qf, double hmass) {
+    int rem = s->k - depth;
+    double qn = sqrt(sq_norm(q, s->D)), qm = s->maxnorm ? max_norm(qf, s->F) : 0.0;
+    Next *next = s->next;
+    Py_ssize_t m = 0;
+    for (Py_ssize_t i = first; i < s->n; i++) {
+        if (bound_cuts(s, head_bound(s, qn, qm, rem, i))) break;
+        double bound;
+        if (!admit(s, depth, i, q, qf, hmass, &bound)) continue;
+        next[m].i = i;
+        next[m].bound = bound;
+        next[m].cell = -1;
+        if (s->h > 0) {
+            double p[MAXG];
+            for (int d = 0; d < s->G; d++) p[d] = -(q[d] + s->co[i * s->D + d]);
+            next[m].cell = cell_at(s, p);
+            if (m < 2 * AHEAD) FETCH(s->start + next[m].cell);
+        }
+        m++;
+    }
+    Py_ssize_t i = first;
+    for (Py_ssize_t c = 0; c < m; c++) {
+        if (c + 2 * AHEAD < m && next[c + 2 * AHEAD].cell >= 0)
+            FETCH(s->start + next[c + 2 * AHEAD].cell);
+        if (c + AHEAD < m && next[c + AHEAD].cell >= 0) {
+            const int32_t *r = s->rows + (Py_ssize_t)s->start[next[c + AHEAD].cell] * s->w;
+            FETCH(r);
+            FETCH(r + 16);
+        }
+        Py_ssize_t at = next[c].i;
+        for (; i <= at; i++) {
+            if (spend(s, 1)) return;
+            if (bound_cuts(s, head_bound(s, qn, qm, rem, i))) return;
+        }
+        if (s->lightest && hmass + s->mass[at] + (rem - 1) * s->wmin >= s->best_mass + 1e-12)
+            continue;
+        if (bound_cuts(s, next[c].bound)) continue;
+        extend(s, depth, at, q, qf, hmass);
+        if (s->status) return;
+    }
+    for (; i < s->n; i++) {
+        if (spend(s, 1)) return;
+        if (bound_cuts(s, head_bound(s, qn, qm, rem, i))) return;
+    }
+}
+
 static void dfs(Search *s, int depth, Py_ssize_t first, const double *q, const double *qf,
                 double hmass) {
     if (s->status) return;
@@ -619,6 +731,10 @@ static void dfs(Search *s, int depth, Py_ssize_t first, const double *q, const d
             extend(s, depth, i, q, qf, hmass);
         }
         free(cand);
+        return;
+    }
+    if (depth == s->hsize - 1 && s->fetch_ahead) {
+        last_level(s, depth, first, q, qf, hmass);
         return;
     }
     double qn = sqrt(sq_norm(q, s->D)), qm = s->maxnorm ? max_norm(qf, s->F) : 0.0;
@@ -654,7 +770,7 @@ static int load_doubles(PyObject *seq, double *out, int size, const char *what) 
  *   table      = (rows, start, lo, h, n_rows, gn, width)
  *   placements = (coords, D, full, F, pos, item, cap, mag, mag2s, mass, n_positions)
  *   query      = (t, tf, perp2, stock, k, maxnorm, lightest, bound_or_radius, stop,
- *                 best_mass, best_value, work_limit)
+ *                 best_mass, best_value, work_limit, fetch_bytes)
  * Returns (status, rows, value, mass, work): status 0 done (rows None if nothing beat the
  * incumbent), 1 over budget, 2 stopped at a plan within `stop` (not every head examined). */
 static PyObject *k_search(PyObject *self, PyObject *args) {
@@ -668,15 +784,15 @@ static PyObject *k_search(PyObject *self, PyObject *args) {
         *o_mag2s, *o_mass, *o_t, *o_tf, *o_stock;
     Py_ssize_t n_rows, n_positions;
     double bound;
-    long long limit;
+    long long limit, fetch_bytes;
     if (!PyArg_ParseTuple(table, "OOOdnOi", &o_rows, &o_start, &o_lo, &s.h, &n_rows, &o_gn, &s.w))
         return NULL;
     if (!PyArg_ParseTuple(placements, "OiOiOOOOOOn", &o_co, &s.D, &o_full, &s.F, &o_pos, &o_item,
                           &o_cap, &o_mag, &o_mag2s, &o_mass, &n_positions))
         return NULL;
-    if (!PyArg_ParseTuple(query, "OOdOiiiddddL", &o_t, &o_tf, &s.perp2, &o_stock, &s.k,
+    if (!PyArg_ParseTuple(query, "OOdOiiiddddLL", &o_t, &o_tf, &s.perp2, &o_stock, &s.k,
                           &s.maxnorm, &s.lightest, &bound, &s.stop, &s.best_mass, &s.best_val,
-                          &limit))
+                          &limit, &fetch_bytes))
         return NULL;
     if (s.D < 1 || s.D > MAXD || s.F < 0 || s.F > MAXF || s.k < s.w || s.k > MAXK ||
         s.w < 1 || s.w > 3) {
@@ -726,6 +842,11 @@ static PyObject *k_search(PyObject *self, PyObject *args) {
     Py_ssize_t n_items = stock.view.len / 8;
     counts = calloc((size_t)(n_positions + n_items + 1), sizeof(int64_t));
     if (!counts) { PyErr_NoMemory(); goto done; }
+    /* A table that stays in the processor's caches gains nothing from fetching ahead,
+     * and small jobs would pay for the second pass. */
+    s.fetch_ahead = (double)n_rows * s.w * sizeof(int32_t) > (double)fetch_bytes;
+    s.next = malloc(sizeof(Next) * (size_t)(s.n + 1));
+    if (!s.next) { PyErr_NoMemory(); goto done; }
     s.pcnt = counts;
     s.icnt = counts + n_positions;
     s.hsize = s.k - s.w;
@@ -774,6 +895,7 @@ static PyObject *k_search(PyObject *self, PyObject *args) {
                            s.lightest ? s.best_mass : 0.0, (long long)s.work);
 done:
     free(counts);
+    free(s.next);
     for (size_t j = 0; j < sizeof all / sizeof all[0]; j++) rel_buf(all[j]);
     return result;
 }

@@ -103,6 +103,10 @@ GRID_DIMS = 4
 """Most coordinates the grid indexes (the rest are scored, not indexed)."""
 INDEX = "grid"
 """How tails are looked up: "grid", or "scan" (one cell: every row is scored; for tests)."""
+FETCH_AHEAD_BYTES = 1 << 20
+"""Tail tables larger than this [bytes] are walked with their memory fetched ahead (the last
+head level in two passes, ``last_level`` in ``_kernel.c``): the same heads, order and work;
+smaller tables stay in the processor's caches and take the one-pass loop."""
 MAX_COORDS = 16
 """Most real coordinates of the span the compiled search takes (2 × rank; MAXD in
 ``_kernel.c``): eight correction planes, :data:`placer.limits.MAX_PLANES`."""
@@ -253,7 +257,7 @@ class PlacementSearch:
         query = (tuple(coords), tuple(t_real) if maxnorm else (), perp2, self._stock, k,
                  int(maxnorm), int(lightest), float(radius if lightest else bound),
                  float(stop), float(best_mass), float(best_value),
-                 max(0, self._work_limit - self._work))
+                 max(0, self._work_limit - self._work), FETCH_AHEAD_BYTES)
         status, rows, value, mass, work = _kernel.search(table, placements, query)
         self._work += work
         if status == 1:

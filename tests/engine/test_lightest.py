@@ -14,7 +14,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 from oracle import all_plans, brute_front, brute_lightest
-from search_modes import completion, same_least
+from search_modes import MODES, completion, same_least
 
 from placer.engine.search import PlacementSearch
 
@@ -49,7 +49,7 @@ def test_lightest_within_a_radius_is_the_enumerated_one(inst, share):
         return
     radius = min(residuals) + share * (max(residuals) - min(residuals))
     expected = brute_lightest(effects, target, capacity, stock, weights, parts, radius)
-    for mode in ("grid", "scan"):
+    for mode in MODES:
         with completion(mode):
             search = PlacementSearch(effects, capacity, stock, 4, masses=weights)
             found = search.lightest(target, parts, radius)
@@ -69,7 +69,7 @@ def test_a_query_with_less_stock_is_the_enumerated_front_of_that_stock(inst, dat
     effects, capacity, stock, target, parts, weights = inst
     less = np.array([data.draw(st.integers(0, int(s))) for s in stock])
     expected = brute_front(effects, target, capacity, less, 4)
-    for mode in ("grid", "scan"):
+    for mode in MODES:
         with completion(mode):
             search = PlacementSearch(effects, capacity, stock, 4, masses=weights)
             front = search.front(target, stock=less)
