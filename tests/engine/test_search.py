@@ -85,6 +85,56 @@ def test_random_geometry_and_vector_effects_match_enumeration(seed, channels, no
     check_against_oracle(effects, target, capacity, stock, int(rng.integers(1, 5)), norm)
 
 
+def _small_random_instance(seed, channels, most_placements, scale):
+    """Uneven geometry and limits with at most ``most_placements`` placements (so that
+    enumerating long plans stays quick) and room for long plans: every position takes
+    one to three parts and every item has one to six in stock, one position in four
+    blocked; the target ``scale`` times a typical part."""
+    rng = np.random.default_rng(seed)
+    n_pos = int(rng.integers(3, 6))
+    n_items = max(2, min(4, most_placements // n_pos))
+    effects = (rng.normal(size=(n_pos, n_items, channels))
+               + 1j * rng.normal(size=(n_pos, n_items, channels)))
+    target = scale * (rng.normal(size=channels) + 1j * rng.normal(size=channels))
+    capacity = rng.integers(1, 4, size=n_pos) * (rng.random(n_pos) > 0.25)
+    stock = rng.integers(1, 7, size=n_items)
+    return effects, target, capacity, stock
+
+
+@settings(max_examples=40, deadline=None, derandomize=True,
+          suppress_health_check=[HealthCheck.too_slow])
+@given(seed=st.integers(0, 10**6), channels=st.integers(1, 2),
+       norm=st.sampled_from(["euclidean", "max"]), max_parts=st.integers(5, 6))
+def test_five_and_six_parts_match_enumeration(seed, channels, norm, max_parts):
+    """Heads of three and four parts completed by pairs, against every plan of up to six
+    parts listed by enumeration (tests/oracle.py), in every completion mode."""
+    effects, target, capacity, stock = _small_random_instance(seed, channels, 14, 5.0)
+    check_against_oracle(effects, target, capacity, stock, max_parts, norm)
+
+
+@settings(max_examples=20, deadline=None, derandomize=True,
+          suppress_health_check=[HealthCheck.too_slow])
+@given(seed=st.integers(0, 10**6), norm=st.sampled_from(["euclidean", "max"]),
+       max_parts=st.integers(7, 8))
+def test_seven_and_eight_parts_complete_heads_from_triples_and_match_enumeration(
+        seed, norm, max_parts):
+    """Plans of seven and eight parts take their tails from the table of triples; against
+    enumeration (tests/oracle.py), in every completion mode.  A correction five to eight
+    times the largest part on three or four positions, so the best plans are long."""
+    rng = np.random.default_rng(seed)
+    n_pos, n_items = int(rng.integers(3, 5)), int(rng.integers(2, 4))
+    angles = 2 * np.pi * (np.arange(n_pos) / n_pos + rng.uniform(-0.05, 0.05, n_pos))
+    sizes = rng.uniform(0.3, 1.0, n_items)
+    channel_two = rng.uniform(0.2, 1.0, n_pos) * np.exp(1j * rng.uniform(0, 6.3, n_pos))
+    effects = -np.stack([np.exp(1j * angles)[:, None] * sizes[None, :],
+                         channel_two[:, None] * sizes[None, :]], axis=2)
+    target = rng.uniform(5.0, 8.0) * np.exp(1j * rng.uniform(0, 6.3)) * np.array([1.0, 0.3])
+    capacity, stock = rng.integers(2, 5, size=n_pos), rng.integers(3, 9, size=n_items)
+    search = PlacementSearch(effects, capacity, stock, max_parts, norm=norm)
+    assert search._width(max_parts) == 3
+    check_against_oracle(effects, target, capacity, stock, max_parts, norm)
+
+
 def test_bolt_circle_with_stacking_matches_enumeration():
     """12 holes, 3 sizes, washers stack 3 deep: a size the oracle still enumerates."""
     effects = ring_effects(12, [1.83, 3.57, 6.27], 150.0)
