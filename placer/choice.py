@@ -50,6 +50,7 @@ from placer.limits import (
     NO_TOLERANCE_AIM_SHARE,
     PAYOFF_SHARE,
 )
+from placer.plan import LEAST_RESIDUAL, LIGHTEST
 
 
 @dataclass(frozen=True)
@@ -140,6 +141,13 @@ class Choice:
     score: tuple[float, ...]
     work: int
     method: str
+
+    @property
+    def kind(self) -> str:
+        """What the chosen plan is least in: :data:`placer.plan.LIGHTEST` when it is one
+        of the lightest plans, else :data:`placer.plan.LEAST_RESIDUAL`."""
+        return LIGHTEST if any(self.chosen.parts == s.parts for s in self.lighter) \
+            else LEAST_RESIDUAL
 
     @property
     def improving(self) -> list[Selection]:

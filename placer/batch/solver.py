@@ -34,13 +34,13 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from placer.choice import aim_of
+from placer.choice import Aim, aim_of
 from placer.engine.arrays import PlaneArrays, option_of, plane_arrays
 from placer.engine.search import PlacementSearch
 from placer.errors import JobError
 from placer.job import Job, PlaneJob
 from placer.limits import DEFAULT_EFFORT
-from placer.plan import LIGHTEST, PlanOption
+from placer.plan import PlanOption
 from placer.solve import aim_share_of
 from placer.stock import PlanePlanner, share_stock, shared_stock_groups
 from placer.tolerance import job_tolerances
@@ -281,6 +281,7 @@ class BatchSolver:
             self._narrowed.append({})
             # The target is linear in the correction: correction + its value at zero.
             self.offsets_gmm.append(complex(_row_plane(plane, 0j).further_correction_gmm))
+        self._last: tuple[RotorReading, tuple] | None = None
 
     @property
     def n_planes(self) -> int:
@@ -331,18 +332,10 @@ class BatchSolver:
         (RotorOutcome, dict of str to int)
             The plans, and the parts they take from each drawer (by stock key).
         """
-        if len(reading.corrections_gmm) != self.n_planes:
-            raise ValueError(f"rotor {reading.serial} has {len(reading.corrections_gmm)} "
-                             f"corrections for {self.n_planes} planes")
         planners = []
-        for index, correction in enumerate(reading.corrections_gmm):
-            plane = _row_plane(self.template.planes[index], correction)
-            arrays = replace(self.arrays[index],
-                             target=np.array([complex(correction) + self.offsets_gmm[index]]))
-            tolerance = self.tolerances_gmm[index]
-            aim = aim_of(tolerance, abs(arrays.target[0]), *self.shares[index])
-            planners.append(PlanePlanner(plane, arrays, self.searches[index], tolerance, aim,
-                                         self.effort,
+        for index, (plane, arrays, aim) in enumerate(self._rotor(reading)):
+            planners.append(PlanePlanner(plane, arrays, self.searches[index],
+                                         self.tolerances_gmm[index], aim, self.effort,
                                          drawer=None if drawer is None else drawer.left,
                                          tradeoff=False))
             if drawer is not None:
@@ -353,9 +346,7 @@ class BatchSolver:
             choices, together, _, short = share_stock(planners, choices, self.effort)
         planes = []
         for index, (planner, choice) in enumerate(zip(planners, choices)):
-            option = option_of(planner.plane, choice.chosen, planner.arrays)
-            if any(choice.chosen.parts == s.parts for s in choice.lighter):
-                option = replace(option, kind=LIGHTEST)
+            option = option_of(planner.plane, choice.chosen, planner.arrays, choice.kind)
             planes.append(self._outcome(index, planner.plane, option))
         use: dict[str, int] = {}
         for planner, choice in zip(planners, choices):
@@ -363,6 +354,29 @@ class BatchSolver:
                 use[key] = use.get(key, 0) + count
         return RotorOutcome(reading.line, reading.serial, tuple(planes),
                             solved_together=bool(together), stock_short=short), use
+
+    def _rotor(self, reading: RotorReading) -> tuple[tuple[PlaneJob, PlaneArrays, Aim], ...]:
+        """Each plane of one rotor: the plane with the rotor's correction, its arrays (the
+        target: the correction plus the plane's offset) and its aim.
+
+        They depend on the rotor's corrections alone, not on the drawer, so a rotor
+        planned twice (with full drawers, then with what is left) builds them once: the
+        last rotor's are kept.
+        """
+        if self._last is not None and self._last[0] is reading:
+            return self._last[1]
+        if len(reading.corrections_gmm) != self.n_planes:
+            raise ValueError(f"rotor {reading.serial} has {len(reading.corrections_gmm)} "
+                             f"corrections for {self.n_planes} planes")
+        planes = []
+        for index, correction in enumerate(reading.corrections_gmm):
+            plane = _row_plane(self.template.planes[index], correction)
+            arrays = replace(self.arrays[index],
+                             target=np.array([complex(correction) + self.offsets_gmm[index]]))
+            aim = aim_of(self.tolerances_gmm[index], abs(arrays.target[0]), *self.shares[index])
+            planes.append((plane, arrays, aim))
+        self._last = (reading, tuple(planes))
+        return self._last[1]
 
     def _outcome(self, index: int, plane: PlaneJob, option: PlanOption) -> PlaneOutcome:
         tolerance = self.tolerances_gmm[index]
@@ -399,9 +413,9 @@ def draw_down(solver: BatchSolver, reading: RotorReading, drawer: Drawer,
         drawer would have given when they differ.
     """
     outcome, use = full if full is not None else solver.solve(reading)
+    full_planes = None
     if drawer.limited and not drawer.fits(use):
         full_planes = outcome.planes
         outcome, use = solver.solve(reading, drawer)
-        outcome = replace(outcome, full_drawer=full_planes)
     drawer.take(use)
-    return replace(outcome, drawer_left=drawer.state())
+    return replace(outcome, full_drawer=full_planes, drawer_left=drawer.state())

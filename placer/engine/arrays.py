@@ -18,7 +18,7 @@ from placer.catalog import Catalog
 from placer.engine.selection import Selection
 from placer.geometry import PlaneGeometry, angle_of_deg
 from placer.job import ExistingPart, PlaneJob
-from placer.plan import FittedPart, PlanOption
+from placer.plan import LEAST_RESIDUAL, FittedPart, PlanOption
 from placer.residual import residual_vector_gmm
 
 
@@ -199,8 +199,8 @@ def plane_arrays(plane: PlaneJob) -> PlaneArrays:
                             plane.further_correction_gmm)
 
 
-def option_of(plane: PlaneJob, entry: Selection,
-              rows: PlaneArrays | None = None) -> PlanOption:
+def option_of(plane: PlaneJob, entry: Selection, rows: PlaneArrays | None = None,
+              kind: str = LEAST_RESIDUAL) -> PlanOption:
     """A search result in domain terms, its residual recomputed from the listed parts.
 
     Parts to remove come first (they are taken off before new ones go on).
@@ -213,6 +213,8 @@ def option_of(plane: PlaneJob, entry: Selection,
         The search's answer, parts as (row, column, count) of the plane's arrays.
     rows : PlaneArrays or None
         The plane's arrays; built again from ``plane`` when None.
+    kind : str
+        What the plan is least in (:attr:`PlanOption.kind`).
 
     Returns
     -------
@@ -232,4 +234,4 @@ def option_of(plane: PlaneJob, entry: Selection,
     return PlanOption(part_count=sum(p.count for p in parts), parts=parts,
                       residual_gmm=float(abs(vector)),
                       residual_angle_deg=angle_of_deg(vector),
-                      lower_bound_gmm=entry.lower_bound, proven=entry.proven)
+                      lower_bound_gmm=entry.lower_bound, proven=entry.proven, kind=kind)

@@ -194,6 +194,10 @@ class PlacementSearch:
         self._index: dict[tuple[int, int], int] | None = None
         self._lists: tuple[list[int], list[int]] | None = None
         self._stock = self.stock
+        self._stock_key: bytes | None = None
+        self._all_in_stock = bool((self.stock[self.item_of] > 0).all())
+        self._widths: dict[int, int] = {}
+        self._placements: tuple | None = None
         self._work = 0
         self._work_limit = DEFAULT_WORK
 
@@ -220,16 +224,19 @@ class PlacementSearch:
 
     def _width(self, k: int) -> int:
         """Tail width for a plan of k parts (k >= 2): triples for long plans when their
-        table fits, else pairs when theirs fits, else single placements."""
-        if k >= LONG_PLAN and self._table(3) is not None:
-            return 3
-        return 2 if self._table(2) is not None else 1
+        table fits, else pairs when theirs fits, else single placements (kept per k)."""
+        if k not in self._widths:
+            if k >= LONG_PLAN and self._table(3) is not None:
+                self._widths[k] = 3
+            else:
+                self._widths[k] = 2 if self._table(2) is not None else 1
+        return self._widths[k]
 
     def _query_target(self, t_real: np.ndarray) -> tuple[np.ndarray, float]:
         """The target in the span's coordinates, and the squared norm of the rest."""
-        target = t_real[:self.n_channels] + 1j * t_real[self.n_channels:]
         if self._basis is None:
             return np.ascontiguousarray(t_real, dtype=float), 0.0
+        target = t_real[:self.n_channels] + 1j * t_real[self.n_channels:]
         inside = target @ self._basis.conj().T
         rest = target - inside @ self._basis
         coords = np.stack([inside.real, inside.imag], axis=1).reshape(-1)
@@ -245,10 +252,13 @@ class PlacementSearch:
         table = self._table(width)
         coords, perp2 = self._query_target(t_real)
         maxnorm = self.norm == "max"
-        full = self.eff_real if maxnorm else None
-        placements = (self.coords, self.coords.shape[1], full,
-                      self.eff_real.shape[1] if maxnorm else 0, self.pos_of, self.item_of,
-                      self.capacity, self.mag, self.span_mag, self.mass, self.n_positions)
+        if self._placements is None:
+            full = self.eff_real if maxnorm else None
+            self._placements = (self.coords, self.coords.shape[1], full,
+                                self.eff_real.shape[1] if maxnorm else 0, self.pos_of,
+                                self.item_of, self.capacity, self.mag, self.span_mag, self.mass,
+                                self.n_positions)
+        placements = self._placements
         lightest = radius is not None
         query = (tuple(coords), tuple(t_real) if maxnorm else (), perp2, self._stock, k,
                  int(maxnorm), int(lightest), float(radius if lightest else bound),
@@ -295,8 +305,7 @@ class PlacementSearch:
         """
         self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
-        target = np.atleast_1d(np.asarray(target, dtype=complex))
-        t_real = _as_real(target[None, :])[0]
+        target, t_real = _target_arrays(target)
         best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
         best_norm = self._norm_of(t_real)
         entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
@@ -376,15 +385,15 @@ class PlacementSearch:
             the radius (proven: the search finished) or none was found.
         """
         self._begin(stock, work)
-        target = np.atleast_1d(np.asarray(target, dtype=complex))
-        t_real = _as_real(target[None, :])[0]
+        target, t_real = _target_arrays(target)
         k = int(parts)
         # Sums in another order differ in the last bits: a plan exactly at the radius counts.
         size = max(self._norm_of(t_real), self._mag_max)
         radius = float(radius) * (1.0 + 1e-12) + 1e-12 * size
         best_row, best_mass, best_value = None, np.inf, np.inf
+        known_row = None
         if known is not None:
-            best_row = self.rows_of(known)
+            best_row = known_row = self.rows_of(known)
             best_mass = float(self.mass[best_row].sum())
             best_value = self._norm_of(t_real + self.eff_real[best_row].sum(axis=0))
         if k == 0:
@@ -407,7 +416,8 @@ class PlacementSearch:
                 best_row, best_mass, best_value = found
         if best_row is None:
             return None
-        return self._selection(k, target, best_row, best_value, best_value, finished)
+        return self._selection(k, target, best_row, best_value, best_value, finished,
+                               mass=best_mass if best_row is known_row else None)
 
     def _lightest_single(self, t_real: np.ndarray, radius: float, best_mass: float,
                          best_value: float):
@@ -425,9 +435,20 @@ class PlacementSearch:
         return np.array([first]), float(self.mass[first]), float(values[first])
 
     def _begin(self, stock: np.ndarray | None, work: int) -> None:
-        """Set the stock and the work budget of one query."""
-        self._stock = self.stock if stock is None else np.ascontiguousarray(np.minimum(
-            np.asarray(stock, dtype=np.int64), self.stock))
+        """Set the stock and the work budget of one query (the stock of the query before
+        is kept when the same stock comes again: a batch asks with one stock rotor after
+        rotor)."""
+        if stock is None:
+            if self._stock_key is not None:
+                self._stock, self._stock_key = self.stock, None
+                self._all_in_stock = bool(self._in_stock().all())
+        else:
+            stock = np.asarray(stock, dtype=np.int64)
+            key = stock.tobytes()
+            if key != self._stock_key:
+                self._stock = np.ascontiguousarray(np.minimum(stock, self.stock))
+                self._stock_key = key
+                self._all_in_stock = bool(self._in_stock().all())
         self._work, self._work_limit = 0, int(work)
 
     def _spend(self, amount: int) -> bool:
@@ -462,11 +483,13 @@ class PlacementSearch:
         """Best selection of exactly k parts below ``bound``: (rows or None, value,
         stopped at a plan within ``stop``); None past the work budget."""
         if k == 1:
-            values = np.where(self._in_stock(), self._norm(t_real + self.eff_real), np.inf)
+            values = self._norm(t_real + self.eff_real)
+            if not self._all_in_stock:
+                values = np.where(self._in_stock(), values, np.inf)
             self._spend(self.n)
-            i = int(np.argmin(values))
-            return ((np.array([i]), float(values[i]), False) if np.isfinite(values[i])
-                    else (None, np.inf, False))
+            i = int(values.argmin())
+            value = float(values[i])
+            return (np.array([i]), value, False) if math.isfinite(value) else (None, np.inf, False)
         found = self._run(k, t_real, bound=bound, stop=stop)
         if found is None:
             return None
@@ -498,23 +521,39 @@ class PlacementSearch:
 
     # ----------------------------------------------------------------- output
     def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
-                   lower: float, proven: bool) -> Selection:
-        counts: dict[tuple[int, int], int] = {}
-        if len(row):
-            if self._lists is None:
-                self._lists = (self.pos_of.tolist(), self.item_of.tolist())
-            pos, item = self._lists
-            for placement in np.asarray(row).tolist():
-                key = (pos[placement], item[placement])
-                counts[key] = counts.get(key, 0) + 1
-        parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
+                   lower: float, proven: bool, parts: PartList | None = None,
+                   mass: float | None = None) -> Selection:
+        """The Selection of placements ``row``; ``parts`` and ``mass`` when the caller
+        has them already (the parts of ``row``, the mass summed over ``row`` in its order)."""
+        if parts is None:
+            counts: dict[tuple[int, int], int] = {}
+            if len(row):
+                if self._lists is None:
+                    self._lists = (self.pos_of.tolist(), self.item_of.tolist())
+                pos, item = self._lists
+                for placement in np.asarray(row).tolist():
+                    key = (pos[placement], item[placement])
+                    counts[key] = counts.get(key, 0) + 1
+            parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
         residual = residual_of(target, self.effects, parts)
         if len(residual) == 1:
-            value = self._norm_of(np.array([residual[0].real, residual[0].imag]))
+            one = complex(residual[0])
+            value = self._norm_of((one.real, one.imag))
         else:
             value = self._norm_of(_as_real(residual[None, :])[0])
-        mass = float(self.mass[np.asarray(row, dtype=np.int64)].sum()) if len(row) else 0.0
+        if mass is None:
+            mass = float(self.mass[np.asarray(row, dtype=np.int64)].sum()) if len(row) else 0.0
         return Selection(k, parts, residual, value, float(lower), proven, mass)
+
+
+def _target_arrays(target: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """A query's target as a complex array (n_channels,) and as real numbers (real parts,
+    then imaginary: :func:`_as_real`)."""
+    target = np.atleast_1d(np.asarray(target, dtype=complex))
+    if len(target) == 1:
+        one = complex(target[0])
+        return target, np.array([one.real, one.imag])
+    return target, _as_real(target[None, :])[0]
 
 
 def _as_real(values: np.ndarray) -> np.ndarray:
