@@ -305,8 +305,10 @@ def _lighter_rows(lighter: list[Selection], front: list[Selection], radius: floa
 
 
 def _with_mass(search: PlacementSearch, entry: Selection) -> Selection:
-    """The entry with its added mass filled in."""
-    return replace(entry, mass=_mass(search, entry))
+    """The entry with its added mass filled in (the entry itself when it holds that mass
+    already: a sum of masses of one sign, equal as floats, is the same float)."""
+    mass = _mass(search, entry)
+    return entry if mass == entry.mass else replace(entry, mass=mass)
 
 
 def _score(chosen: Selection, tolerance_gmm: float | None, aim: Aim,

@@ -136,7 +136,7 @@ class PlanePlanner:
             named keep the plane's own stock.
         """
         stock = self.stock(caps)
-        signature = tuple(int(v) for v in stock)
+        signature = tuple(stock.tolist())
         if signature in self.memo:
             return self.memo[signature]
         for wider, known in self.memo.items():
@@ -160,12 +160,14 @@ class PlanePlanner:
         caps : dict of str to int, optional
             Parts the plane may take from a drawer (by stock key).
         """
-        stock = self.arrays.stock.copy()
+        if not self.drawer and not caps:
+            return self.arrays.stock.copy()
+        stock = self.arrays.stock.tolist()
         for column, key in enumerate(self.keys()):
             for limits in (self.drawer, caps):
                 if limits and key in limits:
                     stock[column] = min(stock[column], limits[key])
-        return stock
+        return np.array(stock, dtype=self.arrays.stock.dtype)
 
     def column_use(self, choice: Choice) -> list[int]:
         """Parts of each column the choice fits (parts taken off are not drawn from stock).

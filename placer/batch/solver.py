@@ -263,6 +263,7 @@ class BatchSolver:
         self.shares_stock = bool(shared_stock_groups(template.planes))
         self.searches = []
         self._narrowed: list[dict[tuple[bool, ...], PlacementSearch]] = []
+        self._stocked: list[list[int]] = []   # per plane, the columns its search has stock of
         self.arrays: list[PlaneArrays] = []
         self.offsets_gmm: list[complex] = []
         for number, plane in enumerate(template.planes, start=1):
@@ -279,6 +280,8 @@ class BatchSolver:
                                                  plane.max_parts, masses=arrays.masses))
             self.arrays.append(arrays)
             self._narrowed.append({})
+            self._stocked.append([column for column, count
+                                  in enumerate(self.searches[-1].stock.tolist()) if count > 0])
             # The target is linear in the correction: correction + its value at zero.
             self.offsets_gmm.append(complex(_row_plane(plane, 0j).further_correction_gmm))
         self._last: tuple[RotorReading, tuple] | None = None
@@ -304,8 +307,8 @@ class BatchSolver:
         most once per item that runs out, and kept.
         """
         full = self.searches[index]
-        left = tuple(bool(v > 0) for v in stock)
-        if all(left[column] for column in range(len(left)) if full.stock[column] > 0):
+        left = tuple(v > 0 for v in stock.tolist())
+        if all(left[column] for column in self._stocked[index]):
             return full
         narrowed = self._narrowed[index]
         if left not in narrowed:
