@@ -76,6 +76,10 @@ from placer.errors import PlacerError
 from placer.limits import DEFAULT_WORK
 from placer.residual import residual_of
 
+_NO_ROWS = np.zeros(0, dtype=np.int64)
+"""No placements (the plan of no parts); never written to."""
+_NO_ROWS.setflags(write=False)
+
 try:
     from placer.engine import _kernel
 except ImportError:                                   # pragma: no cover - a broken install
@@ -180,6 +184,10 @@ class PlacementSearch:
         self.mass = np.ascontiguousarray(weights[self.pos_of, self.item_of], dtype=float)
         self.n = len(self.pos_of)
         self.eff_real = np.ascontiguousarray(_as_real(self.eff))
+        # One channel, Euclidean: the effects' real and imaginary parts as columns of their own.
+        self._columns = ((np.ascontiguousarray(self.eff_real[:, 0]),
+                          np.ascontiguousarray(self.eff_real[:, 1]))
+                         if self.norm == "euclidean" and self.eff_real.shape[1] == 2 else None)
         self._basis, self.coords = _span(self.eff)
         if self.coords.shape[1] > MAX_COORDS or (self.norm == "max"
                                                  and self.eff_real.shape[1] > MAX_FULL):
@@ -306,9 +314,9 @@ class PlacementSearch:
         self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
         target, t_real = _target_arrays(target)
-        best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
+        best_rows: list[np.ndarray] = [_NO_ROWS]
         best_norm = self._norm_of(t_real)
-        entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
+        entries = [self._selection(0, target, _NO_ROWS, best_norm, best_norm, True, (), 0.0)]
 
         def entry(k: int, lower: float, proven: bool) -> Selection:
             """Entry k: the best rows so far (the last entry's, unless they changed)."""
@@ -400,7 +408,7 @@ class PlacementSearch:
             value = self._norm_of(t_real)
             if value > radius:
                 return None
-            return self._selection(0, target, np.zeros(0, dtype=np.int64), value, value, True)
+            return self._selection(0, target, _NO_ROWS, value, value, True, (), 0.0)
         finished = True
         if self.n:
             if k == 1:
@@ -424,7 +432,7 @@ class PlacementSearch:
         """The lightest single part within ``radius`` (see :meth:`lightest`):
         (rows, mass, value), (None, ...) when none beats the known plan."""
         self._spend(self.n)
-        values = self._norm(t_real + self.eff_real)
+        values = self._single_norms(t_real)
         ok = (values <= radius) & self._in_stock()
         better = ok & ((self.mass < best_mass - 1e-12)
                        | ((self.mass <= best_mass + 1e-12) & (values < best_value)))
@@ -483,7 +491,7 @@ class PlacementSearch:
         """Best selection of exactly k parts below ``bound``: (rows or None, value,
         stopped at a plan within ``stop``); None past the work budget."""
         if k == 1:
-            values = self._norm(t_real + self.eff_real)
+            values = self._single_norms(t_real)
             if not self._all_in_stock:
                 values = np.where(self._in_stock(), values, np.inf)
             self._spend(self.n)
@@ -507,6 +515,15 @@ class PlacementSearch:
             return math.sqrt(x * x + y * y)
         return float(self._norm(real[None, :])[0])
 
+    def _single_norms(self, t_real: np.ndarray) -> np.ndarray:
+        """The norm of the target plus each placement's effect: ``_norm(t_real + eff_real)``,
+        for one channel from the columns (the same sums, squares and roots)."""
+        if self._columns is None:
+            return self._norm(t_real + self.eff_real)
+        x = t_real[0] + self._columns[0]
+        y = t_real[1] + self._columns[1]
+        return np.sqrt(x * x + y * y)
+
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
         if self.norm == "euclidean":
@@ -526,15 +543,18 @@ class PlacementSearch:
         """The Selection of placements ``row``; ``parts`` and ``mass`` when the caller
         has them already (the parts of ``row``, the mass summed over ``row`` in its order)."""
         if parts is None:
-            counts: dict[tuple[int, int], int] = {}
-            if len(row):
-                if self._lists is None:
-                    self._lists = (self.pos_of.tolist(), self.item_of.tolist())
-                pos, item = self._lists
-                for placement in np.asarray(row).tolist():
+            if self._lists is None:
+                self._lists = (self.pos_of.tolist(), self.item_of.tolist())
+            pos, item = self._lists
+            placements = np.asarray(row).tolist()
+            if len(placements) == 1:
+                parts = ((pos[placements[0]], item[placements[0]], 1),)
+            else:
+                counts: dict[tuple[int, int], int] = {}
+                for placement in placements:
                     key = (pos[placement], item[placement])
                     counts[key] = counts.get(key, 0) + 1
-            parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
+                parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
         residual = residual_of(target, self.effects, parts)
         if len(residual) == 1:
             one = complex(residual[0])
