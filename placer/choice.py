@@ -183,7 +183,7 @@ def payoff_count(residuals: list[float], required_gmm: float,
 
 def _mass(search: PlacementSearch, entry: Selection) -> float:
     """The added mass of an entry's parts [g]."""
-    return float(search.mass[search.rows_of(entry.parts)].sum()) if entry.parts else 0.0
+    return search.mass_of(entry.parts)
 
 
 def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None, aim: Aim, *,
@@ -231,7 +231,7 @@ def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None
     front, work, method = exact_front(arrays, max_parts, effort, search, stock, end_at)
     residuals = [e.residual_norm for e in front]
     budget = int(DEFAULT_WORK * effort)
-    proven = all(e.proven for e in front)
+    proven = all([e.proven for e in front])
 
     def lightest(k: int, radius: float) -> Selection:
         """The lightest plan of the parts of front entry k within radius (else that entry)."""
@@ -248,7 +248,10 @@ def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None
                          entry.lower_bound, entry.proven, mass=found.mass)
 
     def first_within(radius: float) -> int | None:
-        return next((k for k, r in enumerate(residuals) if r <= radius), None)
+        for k, r in enumerate(residuals):
+            if r <= radius:
+                return k
+        return None
 
     lighter: list[Selection] = []
     reach = first_within(aim.radius_gmm)

@@ -58,7 +58,7 @@ def fitted_gmm(parts: Iterable[FittedPart]) -> complex:
     ----------
     Unbalances in one plane add as vectors [StaticCouple].
     """
-    return sum((part_gmm(part) for part in parts), 0j)
+    return sum([part_gmm(part) for part in parts], 0j)
 
 
 def residual_vector_gmm(correction_gmm: complex, parts: Iterable[FittedPart]) -> complex:

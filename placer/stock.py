@@ -120,7 +120,7 @@ class PlanePlanner:
         return cls(plane, arrays, search, tolerance_gmm, aim, effort, parts)
 
     def __post_init__(self) -> None:
-        self._keys = tuple(item.stock_key for item in self.plane.catalog.items)
+        self._keys = self.plane.catalog.stock_keys
 
     def keys(self) -> tuple[str, ...]:
         """The drawer of each of the plane's catalogue columns."""

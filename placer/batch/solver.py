@@ -217,7 +217,11 @@ class Drawer:
         use : dict of str to int
             Parts to take, by stock key.
         """
-        return all(count <= self.left.get(key, count) for key, count in use.items())
+        left = self.left
+        for key, count in use.items():
+            if count > left.get(key, count):
+                return False
+        return True
 
     def take(self, use: dict[str, int]) -> None:
         """Take parts out; drawers never go below zero.
@@ -233,7 +237,8 @@ class Drawer:
 
     def state(self) -> tuple[tuple[str, str, int], ...]:
         """(catalogue, item, parts left) of every drawer, in template order."""
-        return tuple((item.catalog, item.id, self.left[key]) for key, item in self.items.items())
+        return tuple([(item.catalog, item.id, self.left[key])
+                      for key, item in self.items.items()])
 
 
 class BatchSolver:
@@ -307,7 +312,7 @@ class BatchSolver:
         most once per item that runs out, and kept.
         """
         full = self.searches[index]
-        left = tuple(v > 0 for v in stock.tolist())
+        left = tuple([count > 0 for count in stock.tolist()])
         if all(left[column] for column in self._stocked[index]):
             return full
         narrowed = self._narrowed[index]
@@ -335,6 +340,23 @@ class BatchSolver:
         (RotorOutcome, dict of str to int)
             The plans, and the parts they take from each drawer (by stock key).
         """
+        planes, together, short, use = self.plan(reading, drawer)
+        return RotorOutcome(reading.line, reading.serial, planes, solved_together=together,
+                            stock_short=short), use
+
+    def plan(self, reading: RotorReading, drawer: Drawer | None = None) -> tuple[
+            tuple[PlaneOutcome, ...], bool, tuple[str, ...], dict[str, int]]:
+        """What :meth:`solve` returns, in pieces: the plans of the planes, whether they
+        were planned together, the items still short, and the parts they take from each
+        drawer (by stock key); :func:`draw_down` puts them in one :class:`RotorOutcome`.
+
+        Parameters
+        ----------
+        reading : RotorReading
+            The rotor.
+        drawer : Drawer, optional
+            What is left in the drawers (default: full drawers).
+        """
         planners = []
         for index, (plane, arrays, aim) in enumerate(self._rotor(reading)):
             planners.append(PlanePlanner(plane, arrays, self.searches[index],
@@ -355,8 +377,7 @@ class BatchSolver:
         for planner, choice in zip(planners, choices):
             for key, count in planner.drawer_use(choice).items():
                 use[key] = use.get(key, 0) + count
-        return RotorOutcome(reading.line, reading.serial, tuple(planes),
-                            solved_together=bool(together), stock_short=short), use
+        return tuple(planes), bool(together), short, use
 
     def _rotor(self, reading: RotorReading) -> tuple[tuple[PlaneJob, PlaneArrays, Aim], ...]:
         """Each plane of one rotor: the plane with the rotor's correction, its arrays (the
@@ -415,10 +436,15 @@ def draw_down(solver: BatchSolver, reading: RotorReading, drawer: Drawer,
         Planned with what was left; ``full_drawer`` holds the plans a full
         drawer would have given when they differ.
     """
-    outcome, use = full if full is not None else solver.solve(reading)
+    if full is None:
+        planes, together, short, use = solver.plan(reading)
+    else:
+        outcome, use = full
+        planes, together, short = outcome.planes, outcome.solved_together, outcome.stock_short
     full_planes = None
     if drawer.limited and not drawer.fits(use):
-        full_planes = outcome.planes
-        outcome, use = solver.solve(reading, drawer)
+        full_planes = planes
+        planes, together, short, use = solver.plan(reading, drawer)
     drawer.take(use)
-    return replace(outcome, full_drawer=full_planes, drawer_left=drawer.state())
+    return RotorOutcome(reading.line, reading.serial, planes, solved_together=together,
+                        stock_short=short, full_drawer=full_planes, drawer_left=drawer.state())

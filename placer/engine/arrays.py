@@ -181,6 +181,11 @@ def part_of_row(geometry: PlaneGeometry, catalog: Catalog, existing: Sequence[Ex
                       count=count, action=action)
 
 
+def _removals_first(part: FittedPart) -> tuple[bool, int, str]:
+    """Order of a plan's parts: parts to remove first, then by position and item."""
+    return (part.action != "remove", part.position, part.item)
+
+
 def plane_arrays(plane: PlaneJob) -> PlaneArrays:
     """A job's plane as arrays (see :func:`placement_arrays`), target the further correction.
 
@@ -227,11 +232,11 @@ def option_of(plane: PlaneJob, entry: Selection, rows: PlaneArrays | None = None
     Residual unbalance as the vector left after correction [ISO21940-11].
     """
     arrays = plane_arrays(plane) if rows is None else rows
-    parts = tuple(sorted((part_of_row(plane.geometry, plane.catalog, plane.existing, arrays,
-                                      r, k, c) for r, k, c in entry.parts),
-                         key=lambda p: (p.action != "remove", p.position, p.item)))
+    parts = tuple(sorted([part_of_row(plane.geometry, plane.catalog, plane.existing, arrays,
+                                      r, k, c) for r, k, c in entry.parts],
+                         key=_removals_first))
     vector = residual_vector_gmm(plane.further_correction_gmm, parts)
-    return PlanOption(part_count=sum(p.count for p in parts), parts=parts,
+    return PlanOption(part_count=sum([p.count for p in parts]), parts=parts,
                       residual_gmm=float(abs(vector)),
                       residual_angle_deg=angle_of_deg(vector),
                       lower_bound_gmm=entry.lower_bound, proven=entry.proven, kind=kind)

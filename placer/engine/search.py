@@ -76,9 +76,8 @@ from placer.errors import PlacerError
 from placer.limits import DEFAULT_WORK
 from placer.residual import residual_of
 
-_NO_ROWS = np.zeros(0, dtype=np.int64)
-"""No placements (the plan of no parts); never written to."""
-_NO_ROWS.setflags(write=False)
+_NO_ROWS: tuple[int, ...] = ()
+"""No placements (the plan of no parts)."""
 
 try:
     from placer.engine import _kernel
@@ -182,12 +181,16 @@ class PlacementSearch:
         weights = (np.linalg.norm(effects, axis=2) if masses is None
                    else np.abs(np.asarray(masses, dtype=float)))
         self.mass = np.ascontiguousarray(weights[self.pos_of, self.item_of], dtype=float)
+        self._mass_floats = self.mass.tolist()
         self.n = len(self.pos_of)
         self.eff_real = np.ascontiguousarray(_as_real(self.eff))
-        # One channel, Euclidean: the effects' real and imaginary parts as columns of their own.
+        # One channel, Euclidean: the effects' real and imaginary parts as columns of their own,
+        # and as Python floats (sums of one or two placements, see _mass_of).
         self._columns = ((np.ascontiguousarray(self.eff_real[:, 0]),
                           np.ascontiguousarray(self.eff_real[:, 1]))
                          if self.norm == "euclidean" and self.eff_real.shape[1] == 2 else None)
+        self._floats = None if self._columns is None else (self._columns[0].tolist(),
+                                                           self._columns[1].tolist())
         self._basis, self.coords = _span(self.eff)
         if self.coords.shape[1] > MAX_COORDS or (self.norm == "max"
                                                  and self.eff_real.shape[1] > MAX_FULL):
@@ -278,7 +281,7 @@ class PlacementSearch:
             return None
         if rows is None:
             return None, np.inf, np.inf, False
-        return np.array(rows, dtype=np.int64), value, mass, status == 2
+        return tuple(rows), value, mass, status == 2
 
     # ----------------------------------------------------------------- search
     def front(self, target: np.ndarray, max_parts: int | None = None, *,
@@ -314,7 +317,7 @@ class PlacementSearch:
         self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
         target, t_real = _target_arrays(target)
-        best_rows: list[np.ndarray] = [_NO_ROWS]
+        best_rows: list[tuple[int, ...]] = [_NO_ROWS]
         best_norm = self._norm_of(t_real)
         entries = [self._selection(0, target, _NO_ROWS, best_norm, best_norm, True, (), 0.0)]
 
@@ -401,9 +404,9 @@ class PlacementSearch:
         best_row, best_mass, best_value = None, np.inf, np.inf
         known_row = None
         if known is not None:
-            best_row = known_row = self.rows_of(known)
-            best_mass = float(self.mass[best_row].sum())
-            best_value = self._norm_of(t_real + self.eff_real[best_row].sum(axis=0))
+            best_row = known_row = self._rows_list(known)
+            best_mass = self._mass_of(best_row)
+            best_value = self._total_norm(t_real, best_row)
         if k == 0:
             value = self._norm_of(t_real)
             if value > radius:
@@ -439,8 +442,8 @@ class PlacementSearch:
         if not better.any():
             return None, np.inf, np.inf
         cand = np.nonzero(better)[0]
-        first = cand[np.lexsort((values[cand], self.mass[cand]))[0]]
-        return np.array([first]), float(self.mass[first]), float(values[first])
+        first = int(cand[np.lexsort((values[cand], self.mass[cand]))[0]])
+        return (first,), float(self.mass[first]), float(values[first])
 
     def _begin(self, stock: np.ndarray | None, work: int) -> None:
         """Set the stock and the work budget of one query (the stock of the query before
@@ -481,11 +484,50 @@ class PlacementSearch:
         parts : tuple of (position, item, count)
             The parts (position and item as indices of the effects array).
         """
+        return np.array(self._rows_list(parts), dtype=np.int64)
+
+    def _rows_list(self, parts: PartList) -> tuple[int, ...]:
+        """Placement indices of a part list (:meth:`rows_of`), as a tuple."""
         if self._index is None:
             self._index = {(int(p), int(i)): r
                            for r, (p, i) in enumerate(zip(self.pos_of, self.item_of))}
         index = self._index
-        return np.array([index[(p, i)] for p, i, c in parts for _ in range(c)], dtype=np.int64)
+        return tuple([index[(p, i)] for p, i, c in parts for _ in range(c)])
+
+    def mass_of(self, parts: PartList) -> float:
+        """Added mass of a part list [g]: the parts' :attr:`mass` summed in the order of
+        :meth:`rows_of` (0.0 for no parts).
+
+        Parameters
+        ----------
+        parts : tuple of (position, item, count)
+            The parts.
+        """
+        return self._mass_of(self._rows_list(parts)) if parts else 0.0
+
+    def _mass_of(self, rows: tuple[int, ...]) -> float:
+        """Mass of placements ``rows`` summed as numpy sums ``mass[rows]``.  One or two
+        placements in Python floats: one addition at most, which every order and every
+        summation numpy may use rounds alike (tests/engine/test_search.py checks it)."""
+        if len(rows) == 1:
+            return self._mass_floats[rows[0]]
+        if len(rows) == 2:
+            return self._mass_floats[rows[0]] + self._mass_floats[rows[1]]
+        return float(self.mass[np.asarray(rows, dtype=np.int64)].sum()) if rows else 0.0
+
+    def _total_norm(self, t_real: np.ndarray, rows: tuple[int, ...]) -> float:
+        """Norm of the target plus the effects of placements ``rows``: the effects summed
+        (as numpy sums them), then added to the target.  One channel and one or two
+        placements in Python floats (one addition per component, see :meth:`_mass_of`)."""
+        if self._floats is not None and 1 <= len(rows) <= 2:
+            xs, ys = self._floats
+            if len(rows) == 2:
+                sx, sy = xs[rows[0]] + xs[rows[1]], ys[rows[0]] + ys[rows[1]]
+            else:
+                sx, sy = xs[rows[0]], ys[rows[0]]
+            x, y = float(t_real[0]) + sx, float(t_real[1]) + sy
+            return math.sqrt(x * x + y * y)
+        return self._norm_of(t_real + self.eff_real[np.asarray(rows, dtype=np.int64)].sum(axis=0))
 
     def _best_with(self, k: int, t_real: np.ndarray, bound: float, stop: float = 0.0):
         """Best selection of exactly k parts below ``bound``: (rows or None, value,
@@ -497,15 +539,14 @@ class PlacementSearch:
             self._spend(self.n)
             i = int(values.argmin())
             value = float(values[i])
-            return (np.array([i]), value, False) if math.isfinite(value) else (None, np.inf, False)
+            return ((i,), value, False) if math.isfinite(value) else (None, np.inf, False)
         found = self._run(k, t_real, bound=bound, stop=stop)
         if found is None:
             return None
         rows, value, _, stopped = found
         if rows is None:
             return None, np.inf, False
-        total = t_real + self.eff_real[rows].sum(axis=0)
-        return rows, self._norm_of(total), stopped
+        return rows, self._total_norm(t_real, rows), stopped
 
     def _norm_of(self, real: np.ndarray) -> float:
         """The chosen norm of one real vector (real parts, then imaginary), as :meth:`_norm`."""
@@ -537,7 +578,7 @@ class PlacementSearch:
         return np.sqrt((real_rows[:, :c] ** 2 + real_rows[:, c:] ** 2).max(axis=1))
 
     # ----------------------------------------------------------------- output
-    def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
+    def _selection(self, k: int, target: np.ndarray, row: tuple[int, ...], norm: float,
                    lower: float, proven: bool, parts: PartList | None = None,
                    mass: float | None = None) -> Selection:
         """The Selection of placements ``row``; ``parts`` and ``mass`` when the caller
@@ -546,7 +587,7 @@ class PlacementSearch:
             if self._lists is None:
                 self._lists = (self.pos_of.tolist(), self.item_of.tolist())
             pos, item = self._lists
-            placements = np.asarray(row).tolist()
+            placements = row
             if len(placements) == 1:
                 parts = ((pos[placements[0]], item[placements[0]], 1),)
             else:
@@ -554,7 +595,8 @@ class PlacementSearch:
                 for placement in placements:
                     key = (pos[placement], item[placement])
                     counts[key] = counts.get(key, 0) + 1
-                parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
+                # Sorted by (position, item), each pair once: as (position, item, count).
+                parts = tuple([(p, i, c) for (p, i), c in sorted(counts.items())])
         residual = residual_of(target, self.effects, parts)
         if len(residual) == 1:
             one = complex(residual[0])
@@ -562,7 +604,7 @@ class PlacementSearch:
         else:
             value = self._norm_of(_as_real(residual[None, :])[0])
         if mass is None:
-            mass = float(self.mass[np.asarray(row, dtype=np.int64)].sum()) if len(row) else 0.0
+            mass = self._mass_of(row)
         return Selection(k, parts, residual, value, float(lower), proven, mass)
 
 
