@@ -170,3 +170,27 @@ def test_a_span_wider_than_the_compiled_search_takes_is_refused_in_python():
     eight = wide[:, :, :8]
     front = PlacementSearch(eight, np.full(10, 2), np.full(2, 5), 2).front(np.ones(8, complex))
     assert len(front.entries) == 3
+
+
+def test_small_sums_are_numpy_sums_bit_for_bit():
+    # The mass and the residual norm of one or two placements are summed in Python floats
+    # (one addition per component); source: numpy's own sum of the same rows, the form
+    # used before (mass[rows].sum(), t + eff_real[rows].sum(axis=0), then the norm).
+    rng = np.random.default_rng(2026)
+    masses = rng.uniform(0.2, 40.0, size=7)
+    effects = ring_effects(12, list(masses[:5]), 150.0)
+    search = PlacementSearch(effects, np.full(12, 3), np.full(5, 9), 4)
+    for _ in range(400):
+        k = int(rng.integers(1, 5))
+        rows = tuple(int(r) for r in rng.integers(0, search.n, size=k))
+        t_real = np.array([rng.uniform(-3000, 3000), rng.uniform(-3000, 3000)])
+        index = np.asarray(rows, dtype=np.int64)
+        mass = float(search.mass[index].sum())
+        total = t_real + search.eff_real[index].sum(axis=0)
+        x, y = float(total[0]), float(total[1])
+        norm = math.sqrt(x * x + y * y)
+        assert search._mass_of(rows).hex() == mass.hex()
+        assert search._total_norm(t_real, rows).hex() == norm.hex()
+    parts = ((0, 1, 2), (5, 4, 1))
+    assert search.mass_of(parts) == float(search.mass[search.rows_of(parts)].sum())
+    assert search.mass_of(()) == 0.0
