@@ -121,6 +121,7 @@ class PlanePlanner:
 
     def __post_init__(self) -> None:
         self._keys = self.plane.catalog.stock_keys
+        self._own_stock: np.ndarray | None = None   # stock() without caps, worked out once
 
     def keys(self) -> tuple[str, ...]:
         """The drawer of each of the plane's catalogue columns."""
@@ -162,12 +163,17 @@ class PlanePlanner:
         """
         if not self.drawer and not caps:
             return self.arrays.stock.copy()
+        if not caps and self._own_stock is not None:
+            return self._own_stock.copy()
         stock = self.arrays.stock.tolist()
         for column, key in enumerate(self.keys()):
             for limits in (self.drawer, caps):
                 if limits and key in limits:
                     stock[column] = min(stock[column], limits[key])
-        return np.array(stock, dtype=self.arrays.stock.dtype)
+        if caps:
+            return np.array(stock, dtype=self.arrays.stock.dtype)
+        self._own_stock = np.array(stock, dtype=self.arrays.stock.dtype)
+        return self._own_stock.copy()
 
     def column_use(self, choice: Choice) -> list[int]:
         """Parts of each column the choice fits (parts taken off are not drawn from stock).

@@ -30,7 +30,8 @@ from __future__ import annotations
 
 import hashlib
 from collections.abc import Iterable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, fields, replace
+from typing import Any
 
 import numpy as np
 
@@ -270,6 +271,8 @@ class BatchSolver:
         self._narrowed: list[dict[tuple[bool, ...], PlacementSearch]] = []
         self._stocked: list[list[int]] = []   # per plane, the columns its search has stock of
         self.arrays: list[PlaneArrays] = []
+        # Per plane, what every rotor's plane and arrays share (all but the correction).
+        self._same: list[tuple[dict[str, Any], dict[str, Any]]] = []
         self.offsets_gmm: list[complex] = []
         for number, plane in enumerate(template.planes, start=1):
             arrays = plane_arrays(plane)
@@ -284,6 +287,8 @@ class BatchSolver:
             self.searches.append(PlacementSearch(arrays.effects, arrays.capacity, arrays.stock,
                                                  plane.max_parts, masses=arrays.masses))
             self.arrays.append(arrays)
+            self._same.append((_fields_of(plane, "correction_gmm", "given_as"),
+                               _fields_of(arrays, "target")))
             self._narrowed.append({})
             self._stocked.append([column for column, count
                                   in enumerate(self.searches[-1].stock.tolist()) if count > 0])
@@ -394,9 +399,10 @@ class BatchSolver:
                              f"corrections for {self.n_planes} planes")
         planes = []
         for index, correction in enumerate(reading.corrections_gmm):
-            plane = _row_plane(self.template.planes[index], correction)
-            arrays = replace(self.arrays[index],
-                             target=np.array([complex(correction) + self.offsets_gmm[index]]))
+            same_plane, same_arrays = self._same[index]
+            plane = _row_plane(self.template.planes[index], correction, same_plane)
+            arrays = PlaneArrays(**same_arrays, target=np.array([complex(correction)
+                                                                 + self.offsets_gmm[index]]))
             aim = aim_of(self.tolerances_gmm[index], abs(arrays.target[0]), *self.shares[index])
             planes.append((plane, arrays, aim))
         self._last = (reading, tuple(planes))
@@ -409,9 +415,21 @@ class BatchSolver:
                             tolerance, within, complex(plane.correction_gmm))
 
 
-def _row_plane(plane: PlaneJob, correction_gmm: complex) -> PlaneJob:
-    return replace(plane, correction_gmm=complex(correction_gmm),
-                   given_as=f"correction {abs(correction_gmm):g} g·mm from the batch readings")
+def _row_plane(plane: PlaneJob, correction_gmm: complex,
+               same: dict[str, Any] | None = None) -> PlaneJob:
+    """The template's plane with one rotor's correction; ``same``: the plane's other
+    fields (:func:`_fields_of`), when at hand (as ``dataclasses.replace``, without
+    looking them up again)."""
+    given_as = f"correction {abs(correction_gmm):g} g·mm from the batch readings"
+    if same is None:
+        return replace(plane, correction_gmm=complex(correction_gmm), given_as=given_as)
+    return type(plane)(**same, correction_gmm=complex(correction_gmm), given_as=given_as)
+
+
+def _fields_of(value: Any, *but: str) -> dict[str, Any]:
+    """The fields of a dataclass value, but those named: what ``dataclasses.replace``
+    copies when the named ones change."""
+    return {f.name: getattr(value, f.name) for f in fields(value) if f.init and f.name not in but}
 
 
 def draw_down(solver: BatchSolver, reading: RotorReading, drawer: Drawer,

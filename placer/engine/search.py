@@ -333,11 +333,11 @@ class PlacementSearch:
         entries_rows = [best_rows[0]]
         method = "exact"
         total = 0
-        stop = self._near_zero(best_norm)
+        stop = self._near_zero(best_norm) if self.n else 0.0
         for k in range(1, k_max + 1):
             if reach is not None and entries[-1].residual_norm <= reach:
                 break
-            if best_norm <= stop or self.n == 0:
+            if self.n == 0 or best_norm <= stop:
                 entries.append(entry(k, min(best_norm, entries[-1].lower_bound), True))
                 continue
             self._work = 0
