@@ -320,6 +320,14 @@ class PlacementSearch:
         best_rows: list[tuple[int, ...]] = [_NO_ROWS]
         best_norm = self._norm_of(t_real)
         entries = [self._selection(0, target, _NO_ROWS, best_norm, best_norm, True, (), 0.0)]
+        if self.n == 0:
+            # No placements (every item used up): each count keeps the plan of no parts,
+            # proven, its lower bound the target's norm (the loop below, in one step).
+            zero = entries[0]
+            if reach is None or zero.residual_norm > reach:
+                entries += [Selection(k, zero.parts, zero.residual, zero.residual_norm,
+                                      best_norm, True, zero.mass) for k in range(1, k_max + 1)]
+            return Front(tuple(entries), 0, "exact")
 
         def entry(k: int, lower: float, proven: bool) -> Selection:
             """Entry k: the best rows so far (the last entry's, unless they changed)."""
@@ -333,11 +341,11 @@ class PlacementSearch:
         entries_rows = [best_rows[0]]
         method = "exact"
         total = 0
-        stop = self._near_zero(best_norm) if self.n else 0.0
+        stop = self._near_zero(best_norm)
         for k in range(1, k_max + 1):
             if reach is not None and entries[-1].residual_norm <= reach:
                 break
-            if self.n == 0 or best_norm <= stop:
+            if best_norm <= stop:
                 entries.append(entry(k, min(best_norm, entries[-1].lower_bound), True))
                 continue
             self._work = 0

@@ -194,3 +194,23 @@ def test_small_sums_are_numpy_sums_bit_for_bit():
     parts = ((0, 1, 2), (5, 4, 1))
     assert search.mass_of(parts) == float(search.mass[search.rows_of(parts)].sum())
     assert search.mass_of(()) == 0.0
+
+
+def test_no_placements_left_keeps_the_plan_of_no_parts():
+    # Every item used up (a drained drawer): source, enumeration (tests/oracle.py) gives
+    # the target's own norm for every count; each entry is proven, holds no parts, and a
+    # front asked to end at a reach stops at once when the target is within it.
+    effects = ring_effects(12, [1.0, 3.5], 150.0)
+    target = np.array([420.0 - 180.0j])
+    search = PlacementSearch(effects, np.full(12, 3), np.zeros(2, int), 4)
+    assert search.n == 0
+    expected = brute_front(effects, target, np.full(12, 3), np.zeros(2, int), 4)
+    front = search.front(target)
+    assert [e.residual_norm for e in front.entries] == pytest.approx(expected, abs=1e-9)
+    assert [e.part_count for e in front.entries] == [0, 1, 2, 3, 4]
+    assert all(e.parts == () and e.proven and e.mass == 0.0 for e in front.entries)
+    assert all(e.lower_bound == front.entries[0].residual_norm for e in front.entries)
+    assert front.optimal and front.work == 0
+    size = abs(target[0])
+    assert len(search.front(target, reach=size + 1.0).entries) == 1
+    assert len(search.front(target, reach=size - 1.0).entries) == 5
