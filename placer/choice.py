@@ -146,8 +146,11 @@ class Choice:
     def kind(self) -> str:
         """What the chosen plan is least in: :data:`placer.plan.LIGHTEST` when it is one
         of the lightest plans, else :data:`placer.plan.LEAST_RESIDUAL`."""
-        return LIGHTEST if any(self.chosen.parts == s.parts for s in self.lighter) \
-            else LEAST_RESIDUAL
+        parts = self.chosen.parts
+        for light in self.lighter:
+            if light.parts == parts:
+                return LIGHTEST
+        return LEAST_RESIDUAL
 
     @property
     def improving(self) -> list[Selection]:

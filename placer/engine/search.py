@@ -78,6 +78,7 @@ from placer.residual import residual_of
 
 _NO_ROWS: tuple[int, ...] = ()
 """No placements (the plan of no parts)."""
+_COMPLEX = np.dtype(complex)
 
 try:
     from placer.engine import _kernel
@@ -619,7 +620,8 @@ class PlacementSearch:
 def _target_arrays(target: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """A query's target as a complex array (n_channels,) and as real numbers (real parts,
     then imaginary: :func:`_as_real`)."""
-    target = np.atleast_1d(np.asarray(target, dtype=complex))
+    if not (type(target) is np.ndarray and target.ndim == 1 and target.dtype == _COMPLEX):
+        target = np.atleast_1d(np.asarray(target, dtype=complex))
     if len(target) == 1:
         one = complex(target[0])
         return target, np.array([one.real, one.imag])
