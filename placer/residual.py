@@ -100,7 +100,7 @@ def residual_of(target: np.ndarray, effects: np.ndarray,
     complex array (n_channels,)
         The residual [as ``target``].
     """
-    if len(target) == 1:
+    if len(target) == 1 and np.ndim(effects) == 3:
         # One channel (a correction plane): the same products and sums in Python complex,
         # without numpy's overhead on one-element arrays.  A whole count c times a + bi is
         # (c·a - 0·b) + (c·b + 0·a)i in both (numpy turns c into c + 0i; Python 3.11
