@@ -26,9 +26,10 @@ Scaling: the same line with 12, 36 and 72 positions and 5 sizes
 (``BatchSolver.solve`` alone, the median) beside the time of the
 first rotor, which pays for building the grid of pairs (both
 over the first 40 rows; "steady /s" is 1000 / median).  "rotors/s" is the
-whole batch of that case, first rotor included.  "per CPU-s" is rows over the CPU time of this
-process and its workers: it is less disturbed than the wall-clock rate by
-other work on the machine, though a busy machine slows that too.
+whole batch of that case, first rotor included (``--cases`` picks some of
+them).  "per CPU-s" is rows over the CPU time of this process and its
+workers: it is less disturbed than the wall-clock rate by other work on the
+machine, though a busy machine slows that too.
 
 Printing is the point of this script; it is not part of the package.
 Timings depend on the machine and on whatever else runs on it.
@@ -207,7 +208,8 @@ def side_by_side(args: argparse.Namespace, argv: list[str]) -> int:
         for engine, source in sources.items():
             command = [sys.executable, str(Path(__file__).resolve()), "--source", source,
                        "--scaling-only", "--scale-rows", str(args.scale_rows or 200),
-                       "--seed", str(args.seed), "--drawer", args.drawer]
+                       "--seed", str(args.seed), "--drawer", args.drawer,
+                       "--cases", ",".join(args.cases)]
             done = subprocess.run(command, capture_output=True, text=True, check=True)
             print(f"\n[{engine}, round {round_ + 1}] placer from {source}")
             print(done.stdout.rstrip())
@@ -216,8 +218,9 @@ def side_by_side(args: argparse.Namespace, argv: list[str]) -> int:
                 if len(cells) == 8 and cells[0].isdigit():
                     rates[engine].setdefault((cells[0], cells[1]), []).append(float(cells[6]))
                     per_cpu[engine].setdefault((cells[0], cells[1]), []).append(float(cells[7]))
-    print(f"\nrotors/s on one core (whole batch, median over {args.rounds} round(s)): wall "
-          "clock, and per CPU-second of the process")
+    print(f"\nrotors/s on one core (whole batch of {args.scale_rows or 200} rows, drawer "
+          f"{args.drawer}, median over {args.rounds} round(s)): wall clock, and per CPU-second "
+          "of the process")
     print(f"{'positions':>9} {'sizes':>5} {'base':>9} {'new':>9} {'new/base':>8} "
           f"{'base CPU':>9} {'new CPU':>9} {'new/base':>8} {'target':>7}")
     for key, base in rates["base"].items():
@@ -230,6 +233,18 @@ def side_by_side(args: argparse.Namespace, argv: list[str]) -> int:
         print(f"{key[0]:>9} {key[1]:>5} {b:>9.0f} {n:>9.0f} {n / b:>8.2f} {bc:>9.0f} {nc:>9.0f} "
               f"{nc / bc:>8.2f} {verdict:>7}")
     return 0
+
+
+CASES = ("12x5", "36x5", "72x5", "12x12", "36x12", "72x12")
+"""The scaling cases: positions x sizes (5: "washers-steel", 12: "rim-clips-5g")."""
+
+
+def _cases(text: str) -> list[str]:
+    cases = [c.strip() for c in text.split(",") if c.strip()]
+    unknown = [c for c in cases if c not in CASES]
+    if unknown or not cases:
+        raise argparse.ArgumentTypeError(f"expected some of {','.join(CASES)}, not {text!r}")
+    return cases
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -251,6 +266,9 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--drawer", choices=("bundled", "refilled"), default="bundled",
                         help="the bundled catalogue's stock, which runs dry (default), or the "
                              "same sizes kept filled")
+    parser.add_argument("--cases", type=_cases, default=list(CASES),
+                        help="scaling cases to run, as POSITIONSxSIZES joined by commas "
+                             f"(default all: {','.join(CASES)})")
     argv = sys.argv[1:] if argv is None else argv
     args = parser.parse_args(argv)
     DRAWER[0] = args.drawer
@@ -276,6 +294,8 @@ def main(argv: list[str] | None = None) -> int:
               f"{'median ms':>9} {'steady /s':>9} {'rotors/s':>9} {'per CPU-s':>10}")
         for catalog, sizes in (("washers-steel", 5), ("rim-clips-5g", 12)):
             for positions in (12, 36, 72):
+                if f"{positions}x{sizes}" not in args.cases:
+                    continue
                 _, per_core, per_cpu = batch_rate(folder, positions, catalog, scale_rows,
                                                   args.seed, 1)
                 first_ms, median_ms = front_times(folder, positions, catalog, scale_rows,

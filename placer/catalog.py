@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from dataclasses import dataclass
+from functools import cached_property
 
 from placer import validate
 from placer.errors import InputError
@@ -98,6 +99,11 @@ class Catalog:
         ids = [item.id for item in self.items]
         if len(set(ids)) != len(ids):
             raise InputError("has an item id twice", key="items", expected="each id once")
+
+    @cached_property
+    def stock_keys(self) -> tuple[str, ...]:
+        """:attr:`Item.stock_key` of each item, in order (worked out once)."""
+        return tuple(item.stock_key for item in self.items)
 
     def item_index(self, item_id: str) -> int:
         """Index in :attr:`items` of the item labelled ``item_id``.

@@ -50,6 +50,7 @@ from placer.limits import (
     NO_TOLERANCE_AIM_SHARE,
     PAYOFF_SHARE,
 )
+from placer.plan import LEAST_RESIDUAL, LIGHTEST
 
 
 @dataclass(frozen=True)
@@ -142,6 +143,16 @@ class Choice:
     method: str
 
     @property
+    def kind(self) -> str:
+        """What the chosen plan is least in: :data:`placer.plan.LIGHTEST` when it is one
+        of the lightest plans, else :data:`placer.plan.LEAST_RESIDUAL`."""
+        parts = self.chosen.parts
+        for light in self.lighter:
+            if light.parts == parts:
+                return LIGHTEST
+        return LEAST_RESIDUAL
+
+    @property
     def improving(self) -> list[Selection]:
         """The front's entries that improve on fewer parts (the rows a sheet shows)."""
         return improving(list(self.front))
@@ -175,7 +186,7 @@ def payoff_count(residuals: list[float], required_gmm: float,
 
 def _mass(search: PlacementSearch, entry: Selection) -> float:
     """The added mass of an entry's parts [g]."""
-    return float(search.mass[search.rows_of(entry.parts)].sum()) if entry.parts else 0.0
+    return search.mass_of(entry.parts)
 
 
 def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None, aim: Aim, *,
@@ -223,7 +234,7 @@ def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None
     front, work, method = exact_front(arrays, max_parts, effort, search, stock, end_at)
     residuals = [e.residual_norm for e in front]
     budget = int(DEFAULT_WORK * effort)
-    proven = all(e.proven for e in front)
+    proven = all([e.proven for e in front])
 
     def lightest(k: int, radius: float) -> Selection:
         """The lightest plan of the parts of front entry k within radius (else that entry)."""
@@ -240,7 +251,10 @@ def choose_plan(arrays: PlaneArrays, max_parts: int, tolerance_gmm: float | None
                          entry.lower_bound, entry.proven, mass=found.mass)
 
     def first_within(radius: float) -> int | None:
-        return next((k for k, r in enumerate(residuals) if r <= radius), None)
+        for k, r in enumerate(residuals):
+            if r <= radius:
+                return k
+        return None
 
     lighter: list[Selection] = []
     reach = first_within(aim.radius_gmm)
@@ -297,8 +311,10 @@ def _lighter_rows(lighter: list[Selection], front: list[Selection], radius: floa
 
 
 def _with_mass(search: PlacementSearch, entry: Selection) -> Selection:
-    """The entry with its added mass filled in."""
-    return replace(entry, mass=_mass(search, entry))
+    """The entry with its added mass filled in (the entry itself when it holds that mass
+    already: a sum of masses of one sign, equal as floats, is the same float)."""
+    mass = _mass(search, entry)
+    return entry if mass == entry.mass else replace(entry, mass=mass)
 
 
 def _score(chosen: Selection, tolerance_gmm: float | None, aim: Aim,

@@ -109,13 +109,13 @@ class PlanOption:
     @property
     def used_parts(self) -> int:
         """Operations: parts fitted plus parts removed."""
-        return sum(p.count for p in self.parts)
+        return sum([p.count for p in self.parts])
 
     @property
     def mass_g(self) -> float:
         """Added mass [g]: every part by the magnitude of its mass (a hole drilled or a
         part taken off counts as what it moves)."""
-        return float(sum(abs(p.mass_g) * p.count for p in self.parts))
+        return float(sum([abs(p.mass_g) * p.count for p in self.parts]))
 
 
 @dataclass(frozen=True)

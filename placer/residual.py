@@ -58,7 +58,7 @@ def fitted_gmm(parts: Iterable[FittedPart]) -> complex:
     ----------
     Unbalances in one plane add as vectors [StaticCouple].
     """
-    return sum((part_gmm(part) for part in parts), 0j)
+    return sum([part_gmm(part) for part in parts], 0j)
 
 
 def residual_vector_gmm(correction_gmm: complex, parts: Iterable[FittedPart]) -> complex:
@@ -100,6 +100,16 @@ def residual_of(target: np.ndarray, effects: np.ndarray,
     complex array (n_channels,)
         The residual [as ``target``].
     """
+    if len(target) == 1 and np.ndim(effects) == 3:
+        # One channel (a correction plane): the same products and sums in Python complex,
+        # without numpy's overhead on one-element arrays.  A whole count c times a + bi is
+        # (c·a - 0·b) + (c·b + 0·a)i in both (numpy turns c into c + 0i; Python 3.11
+        # multiplies int by complex the same way), and the sums are per component, so
+        # the bits are the same (tests/test_residual.py checks it against the array form).
+        one = complex(target[0])
+        for row, column, count in parts:
+            one = one + count * complex(effects[row, column, 0])
+        return np.array([one])
     total = np.array(target, dtype=complex, copy=True)
     for row, column, count in parts:
         total = total + count * effects[row, column]

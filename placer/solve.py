@@ -139,12 +139,10 @@ def _plane_result(planner: PlanePlanner, choice: Choice, source: str, notes: lis
                   placement_error_deg: float) -> PlaneResult:
     """A plane's choice in domain terms, rated for fitting errors when they are given."""
     plane, arrays, tolerance = planner.plane, planner.arrays, planner.tolerance_gmm
-    option = option_of(plane, choice.chosen, arrays)
-    if any(choice.chosen.parts == s.parts for s in choice.lighter):
-        option = replace(option, kind=LIGHTEST)
+    option = option_of(plane, choice.chosen, arrays, choice.kind)
     zero = option_of(plane, choice.front[0], arrays)
     front = [option_of(plane, e, arrays) for e in choice.improving]
-    lighter = [replace(option_of(plane, e, arrays), kind=LIGHTEST) for e in choice.lighter]
+    lighter = [option_of(plane, e, arrays, LIGHTEST) for e in choice.lighter]
     rule = choice.rule
     if tolerance is None and errors.min_chance is not None:
         notes = notes + ["a least chance of staying within tolerance needs a tolerance; "

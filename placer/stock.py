@@ -120,7 +120,8 @@ class PlanePlanner:
         return cls(plane, arrays, search, tolerance_gmm, aim, effort, parts)
 
     def __post_init__(self) -> None:
-        self._keys = tuple(item.stock_key for item in self.plane.catalog.items)
+        self._keys = self.plane.catalog.stock_keys
+        self._own_stock: np.ndarray | None = None   # stock() without caps, worked out once
 
     def keys(self) -> tuple[str, ...]:
         """The drawer of each of the plane's catalogue columns."""
@@ -136,7 +137,7 @@ class PlanePlanner:
             named keep the plane's own stock.
         """
         stock = self.stock(caps)
-        signature = tuple(int(v) for v in stock)
+        signature = tuple(stock.tolist())
         if signature in self.memo:
             return self.memo[signature]
         for wider, known in self.memo.items():
@@ -160,12 +161,19 @@ class PlanePlanner:
         caps : dict of str to int, optional
             Parts the plane may take from a drawer (by stock key).
         """
-        stock = self.arrays.stock.copy()
+        if not self.drawer and not caps:
+            return self.arrays.stock.copy()
+        if not caps and self._own_stock is not None:
+            return self._own_stock.copy()
+        stock = self.arrays.stock.tolist()
         for column, key in enumerate(self.keys()):
             for limits in (self.drawer, caps):
                 if limits and key in limits:
                     stock[column] = min(stock[column], limits[key])
-        return stock
+        if caps:
+            return np.array(stock, dtype=self.arrays.stock.dtype)
+        self._own_stock = np.array(stock, dtype=self.arrays.stock.dtype)
+        return self._own_stock.copy()
 
     def column_use(self, choice: Choice) -> list[int]:
         """Parts of each column the choice fits (parts taken off are not drawn from stock).

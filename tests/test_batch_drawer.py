@@ -173,3 +173,32 @@ def test_random_line_drawn_down_against_single_jobs(tmp_path):
         assert min(left) >= 0
     # The drawers ran out along the line (the narrowed searches were used).
     assert sum(left) < sum(stock) // 2 and left.count(0) >= 2
+
+
+def test_a_rotor_planned_twice_is_two_fresh_plans(tmp_path):
+    # A rotor the drawer cannot supply is planned twice, the second plan reusing what the
+    # first built (its planes, targets and aims).  Each must equal the plan of a fresh
+    # solver that never saw the rotor before: full drawers, then the drawer left.
+    from placer.batch.solver import BatchSolver, Drawer, draw_down
+
+    template_path, _ = write(tmp_path, heavy=1)
+    template = read_template(template_path)
+    readings = [RotorReading(i + 2, s, (polar(m * 150.0, a),)) for i, (s, m, a) in
+                enumerate(ROWS)]
+    solver, drawer = BatchSolver(template), Drawer(template)
+    twice = 0
+    for reading in readings:
+        before = dict(drawer.left)
+        outcome = draw_down(solver, reading, drawer)
+        full, _ = BatchSolver(template).solve(reading)
+        if outcome.full_drawer is None:
+            assert outcome.planes == full.planes
+            continue
+        twice += 1
+        left = Drawer(template)
+        left.left = before
+        again, _ = BatchSolver(template).solve(reading, left)
+        assert outcome.full_drawer == full.planes
+        assert outcome.planes == again.planes
+        assert outcome.drawer_left == drawer.state()
+    assert twice >= 3

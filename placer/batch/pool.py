@@ -196,7 +196,7 @@ class _Here:
     def __init__(self, template: Job, effort: float, built: BatchSolver | None) -> None:
         self.template, self.effort, self.solver = template, effort, built
 
-    def solve(self, reading: RotorReading, drawer: Drawer | None = None):
+    def plan(self, reading: RotorReading, drawer: Drawer | None = None):
         if self.solver is None:
             self.solver = BatchSolver(self.template, self.effort)
-        return self.solver.solve(reading, drawer)
+        return self.solver.plan(reading, drawer)

@@ -30,17 +30,18 @@ from __future__ import annotations
 
 import hashlib
 from collections.abc import Iterable
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, fields, replace
+from typing import Any
 
 import numpy as np
 
-from placer.choice import aim_of
+from placer.choice import Aim, aim_of
 from placer.engine.arrays import PlaneArrays, option_of, plane_arrays
 from placer.engine.search import PlacementSearch
 from placer.errors import JobError
 from placer.job import Job, PlaneJob
 from placer.limits import DEFAULT_EFFORT
-from placer.plan import LIGHTEST, PlanOption
+from placer.plan import PlanOption
 from placer.solve import aim_share_of
 from placer.stock import PlanePlanner, share_stock, shared_stock_groups
 from placer.tolerance import job_tolerances
@@ -217,7 +218,11 @@ class Drawer:
         use : dict of str to int
             Parts to take, by stock key.
         """
-        return all(count <= self.left.get(key, count) for key, count in use.items())
+        left = self.left
+        for key, count in use.items():
+            if count > left.get(key, count):
+                return False
+        return True
 
     def take(self, use: dict[str, int]) -> None:
         """Take parts out; drawers never go below zero.
@@ -233,7 +238,8 @@ class Drawer:
 
     def state(self) -> tuple[tuple[str, str, int], ...]:
         """(catalogue, item, parts left) of every drawer, in template order."""
-        return tuple((item.catalog, item.id, self.left[key]) for key, item in self.items.items())
+        return tuple([(item.catalog, item.id, self.left[key])
+                      for key, item in self.items.items()])
 
 
 class BatchSolver:
@@ -263,7 +269,10 @@ class BatchSolver:
         self.shares_stock = bool(shared_stock_groups(template.planes))
         self.searches = []
         self._narrowed: list[dict[tuple[bool, ...], PlacementSearch]] = []
+        self._stocked: list[list[int]] = []   # per plane, the columns its search has stock of
         self.arrays: list[PlaneArrays] = []
+        # Per plane, what every rotor's plane and arrays share (all but the correction).
+        self._same: list[tuple[dict[str, Any], dict[str, Any]]] = []
         self.offsets_gmm: list[complex] = []
         for number, plane in enumerate(template.planes, start=1):
             arrays = plane_arrays(plane)
@@ -278,9 +287,14 @@ class BatchSolver:
             self.searches.append(PlacementSearch(arrays.effects, arrays.capacity, arrays.stock,
                                                  plane.max_parts, masses=arrays.masses))
             self.arrays.append(arrays)
+            self._same.append((_fields_of(plane, "correction_gmm", "given_as"),
+                               _fields_of(arrays, "target")))
             self._narrowed.append({})
+            self._stocked.append([column for column, count
+                                  in enumerate(self.searches[-1].stock.tolist()) if count > 0])
             # The target is linear in the correction: correction + its value at zero.
             self.offsets_gmm.append(complex(_row_plane(plane, 0j).further_correction_gmm))
+        self._last: tuple[RotorReading, tuple] | None = None
 
     @property
     def n_planes(self) -> int:
@@ -303,8 +317,8 @@ class BatchSolver:
         most once per item that runs out, and kept.
         """
         full = self.searches[index]
-        left = tuple(bool(v > 0) for v in stock)
-        if all(left[column] for column in range(len(left)) if full.stock[column] > 0):
+        left = tuple([count > 0 for count in stock.tolist()])
+        if all(left[column] for column in self._stocked[index]):
             return full
         narrowed = self._narrowed[index]
         if left not in narrowed:
@@ -331,18 +345,27 @@ class BatchSolver:
         (RotorOutcome, dict of str to int)
             The plans, and the parts they take from each drawer (by stock key).
         """
-        if len(reading.corrections_gmm) != self.n_planes:
-            raise ValueError(f"rotor {reading.serial} has {len(reading.corrections_gmm)} "
-                             f"corrections for {self.n_planes} planes")
+        planes, together, short, use = self.plan(reading, drawer)
+        return RotorOutcome(reading.line, reading.serial, planes, solved_together=together,
+                            stock_short=short), use
+
+    def plan(self, reading: RotorReading, drawer: Drawer | None = None) -> tuple[
+            tuple[PlaneOutcome, ...], bool, tuple[str, ...], dict[str, int]]:
+        """What :meth:`solve` returns, in pieces: the plans of the planes, whether they
+        were planned together, the items still short, and the parts they take from each
+        drawer (by stock key); :func:`draw_down` puts them in one :class:`RotorOutcome`.
+
+        Parameters
+        ----------
+        reading : RotorReading
+            The rotor.
+        drawer : Drawer, optional
+            What is left in the drawers (default: full drawers).
+        """
         planners = []
-        for index, correction in enumerate(reading.corrections_gmm):
-            plane = _row_plane(self.template.planes[index], correction)
-            arrays = replace(self.arrays[index],
-                             target=np.array([complex(correction) + self.offsets_gmm[index]]))
-            tolerance = self.tolerances_gmm[index]
-            aim = aim_of(tolerance, abs(arrays.target[0]), *self.shares[index])
-            planners.append(PlanePlanner(plane, arrays, self.searches[index], tolerance, aim,
-                                         self.effort,
+        for index, (plane, arrays, aim) in enumerate(self._rotor(reading)):
+            planners.append(PlanePlanner(plane, arrays, self.searches[index],
+                                         self.tolerances_gmm[index], aim, self.effort,
                                          drawer=None if drawer is None else drawer.left,
                                          tradeoff=False))
             if drawer is not None:
@@ -353,16 +376,37 @@ class BatchSolver:
             choices, together, _, short = share_stock(planners, choices, self.effort)
         planes = []
         for index, (planner, choice) in enumerate(zip(planners, choices)):
-            option = option_of(planner.plane, choice.chosen, planner.arrays)
-            if any(choice.chosen.parts == s.parts for s in choice.lighter):
-                option = replace(option, kind=LIGHTEST)
+            option = option_of(planner.plane, choice.chosen, planner.arrays, choice.kind)
             planes.append(self._outcome(index, planner.plane, option))
         use: dict[str, int] = {}
         for planner, choice in zip(planners, choices):
             for key, count in planner.drawer_use(choice).items():
                 use[key] = use.get(key, 0) + count
-        return RotorOutcome(reading.line, reading.serial, tuple(planes),
-                            solved_together=bool(together), stock_short=short), use
+        return tuple(planes), bool(together), short, use
+
+    def _rotor(self, reading: RotorReading) -> tuple[tuple[PlaneJob, PlaneArrays, Aim], ...]:
+        """Each plane of one rotor: the plane with the rotor's correction, its arrays (the
+        target: the correction plus the plane's offset) and its aim.
+
+        They depend on the rotor's corrections alone, not on the drawer, so a rotor
+        planned twice (with full drawers, then with what is left) builds them once: the
+        last rotor's are kept.
+        """
+        if self._last is not None and self._last[0] is reading:
+            return self._last[1]
+        if len(reading.corrections_gmm) != self.n_planes:
+            raise ValueError(f"rotor {reading.serial} has {len(reading.corrections_gmm)} "
+                             f"corrections for {self.n_planes} planes")
+        planes = []
+        for index, correction in enumerate(reading.corrections_gmm):
+            same_plane, same_arrays = self._same[index]
+            plane = _row_plane(self.template.planes[index], correction, same_plane)
+            arrays = PlaneArrays(**same_arrays, target=np.array([complex(correction)
+                                                                 + self.offsets_gmm[index]]))
+            aim = aim_of(self.tolerances_gmm[index], abs(arrays.target[0]), *self.shares[index])
+            planes.append((plane, arrays, aim))
+        self._last = (reading, tuple(planes))
+        return self._last[1]
 
     def _outcome(self, index: int, plane: PlaneJob, option: PlanOption) -> PlaneOutcome:
         tolerance = self.tolerances_gmm[index]
@@ -371,9 +415,21 @@ class BatchSolver:
                             tolerance, within, complex(plane.correction_gmm))
 
 
-def _row_plane(plane: PlaneJob, correction_gmm: complex) -> PlaneJob:
-    return replace(plane, correction_gmm=complex(correction_gmm),
-                   given_as=f"correction {abs(correction_gmm):g} g·mm from the batch readings")
+def _row_plane(plane: PlaneJob, correction_gmm: complex,
+               same: dict[str, Any] | None = None) -> PlaneJob:
+    """The template's plane with one rotor's correction; ``same``: the plane's other
+    fields (:func:`_fields_of`), when at hand (as ``dataclasses.replace``, without
+    looking them up again)."""
+    given_as = f"correction {abs(correction_gmm):g} g·mm from the batch readings"
+    if same is None:
+        return replace(plane, correction_gmm=complex(correction_gmm), given_as=given_as)
+    return type(plane)(**same, correction_gmm=complex(correction_gmm), given_as=given_as)
+
+
+def _fields_of(value: Any, *but: str) -> dict[str, Any]:
+    """The fields of a dataclass value, but those named: what ``dataclasses.replace``
+    copies when the named ones change."""
+    return {f.name: getattr(value, f.name) for f in fields(value) if f.init and f.name not in but}
 
 
 def draw_down(solver: BatchSolver, reading: RotorReading, drawer: Drawer,
@@ -398,10 +454,15 @@ def draw_down(solver: BatchSolver, reading: RotorReading, drawer: Drawer,
         Planned with what was left; ``full_drawer`` holds the plans a full
         drawer would have given when they differ.
     """
-    outcome, use = full if full is not None else solver.solve(reading)
+    if full is None:
+        planes, together, short, use = solver.plan(reading)
+    else:
+        outcome, use = full
+        planes, together, short = outcome.planes, outcome.solved_together, outcome.stock_short
+    full_planes = None
     if drawer.limited and not drawer.fits(use):
-        full_planes = outcome.planes
-        outcome, use = solver.solve(reading, drawer)
-        outcome = replace(outcome, full_drawer=full_planes)
+        full_planes = planes
+        planes, together, short, use = solver.plan(reading, drawer)
     drawer.take(use)
-    return replace(outcome, drawer_left=drawer.state())
+    return RotorOutcome(reading.line, reading.serial, planes, solved_together=together,
+                        stock_short=short, full_drawer=full_planes, drawer_left=drawer.state())

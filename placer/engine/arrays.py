@@ -18,7 +18,7 @@ from placer.catalog import Catalog
 from placer.engine.selection import Selection
 from placer.geometry import PlaneGeometry, angle_of_deg
 from placer.job import ExistingPart, PlaneJob
-from placer.plan import FittedPart, PlanOption
+from placer.plan import LEAST_RESIDUAL, FittedPart, PlanOption
 from placer.residual import residual_vector_gmm
 
 
@@ -181,6 +181,11 @@ def part_of_row(geometry: PlaneGeometry, catalog: Catalog, existing: Sequence[Ex
                       count=count, action=action)
 
 
+def _removals_first(part: FittedPart) -> tuple[bool, int, str]:
+    """Order of a plan's parts: parts to remove first, then by position and item."""
+    return (part.action != "remove", part.position, part.item)
+
+
 def plane_arrays(plane: PlaneJob) -> PlaneArrays:
     """A job's plane as arrays (see :func:`placement_arrays`), target the further correction.
 
@@ -199,8 +204,8 @@ def plane_arrays(plane: PlaneJob) -> PlaneArrays:
                             plane.further_correction_gmm)
 
 
-def option_of(plane: PlaneJob, entry: Selection,
-              rows: PlaneArrays | None = None) -> PlanOption:
+def option_of(plane: PlaneJob, entry: Selection, rows: PlaneArrays | None = None,
+              kind: str = LEAST_RESIDUAL) -> PlanOption:
     """A search result in domain terms, its residual recomputed from the listed parts.
 
     Parts to remove come first (they are taken off before new ones go on).
@@ -213,6 +218,8 @@ def option_of(plane: PlaneJob, entry: Selection,
         The search's answer, parts as (row, column, count) of the plane's arrays.
     rows : PlaneArrays or None
         The plane's arrays; built again from ``plane`` when None.
+    kind : str
+        What the plan is least in (:attr:`PlanOption.kind`).
 
     Returns
     -------
@@ -225,11 +232,11 @@ def option_of(plane: PlaneJob, entry: Selection,
     Residual unbalance as the vector left after correction [ISO21940-11].
     """
     arrays = plane_arrays(plane) if rows is None else rows
-    parts = tuple(sorted((part_of_row(plane.geometry, plane.catalog, plane.existing, arrays,
-                                      r, k, c) for r, k, c in entry.parts),
-                         key=lambda p: (p.action != "remove", p.position, p.item)))
+    parts = tuple(sorted([part_of_row(plane.geometry, plane.catalog, plane.existing, arrays,
+                                      r, k, c) for r, k, c in entry.parts],
+                         key=_removals_first))
     vector = residual_vector_gmm(plane.further_correction_gmm, parts)
-    return PlanOption(part_count=sum(p.count for p in parts), parts=parts,
+    return PlanOption(part_count=sum([p.count for p in parts]), parts=parts,
                       residual_gmm=float(abs(vector)),
                       residual_angle_deg=angle_of_deg(vector),
-                      lower_bound_gmm=entry.lower_bound, proven=entry.proven)
+                      lower_bound_gmm=entry.lower_bound, proven=entry.proven, kind=kind)

@@ -80,7 +80,7 @@ def exact_front(arrays: PlaneArrays, max_parts: int, effort: float = DEFAULT_EFF
     front = search.front(arrays.target, stock=stock, work=int(DEFAULT_WORK * effort),
                          reach=reach)
     entries = list(front.entries)
-    method = ("exact search" if all(entry.proven for entry in entries)
+    method = ("exact search" if all([entry.proven for entry in entries])
               else "exact search (not proven past its budget)")
     # At most k parts is never worse than at most k - 1, and is proven only if both are.
     for k in range(1, len(entries)):

@@ -76,6 +76,10 @@ from placer.errors import PlacerError
 from placer.limits import DEFAULT_WORK
 from placer.residual import residual_of
 
+_NO_ROWS: tuple[int, ...] = ()
+"""No placements (the plan of no parts)."""
+_COMPLEX = np.dtype(complex)
+
 try:
     from placer.engine import _kernel
 except ImportError:                                   # pragma: no cover - a broken install
@@ -182,8 +186,16 @@ class PlacementSearch:
         weights = (np.linalg.norm(effects, axis=2) if masses is None
                    else np.abs(np.asarray(masses, dtype=float)))
         self.mass = np.ascontiguousarray(weights[self.pos_of, self.item_of], dtype=float)
+        self._mass_floats = self.mass.tolist()
         self.n = len(self.pos_of)
         self.eff_real = np.ascontiguousarray(_as_real(self.eff))
+        # One channel, Euclidean: the effects' real and imaginary parts as columns of their own,
+        # and as Python floats (sums of one or two placements, see _mass_of).
+        self._columns = ((np.ascontiguousarray(self.eff_real[:, 0]),
+                          np.ascontiguousarray(self.eff_real[:, 1]))
+                         if self.norm == "euclidean" and self.eff_real.shape[1] == 2 else None)
+        self._floats = None if self._columns is None else (self._columns[0].tolist(),
+                                                           self._columns[1].tolist())
         self._basis, self.coords = _span(self.eff)
         if self.coords.shape[1] > MAX_COORDS or (self.norm == "max"
                                                  and self.eff_real.shape[1] > MAX_FULL):
@@ -198,6 +210,10 @@ class PlacementSearch:
         self._index: dict[tuple[int, int], int] | None = None
         self._lists: tuple[list[int], list[int]] | None = None
         self._stock = self.stock
+        self._stock_key: bytes | None = None
+        self._all_in_stock = bool((self.stock[self.item_of] > 0).all())
+        self._widths: dict[int, int] = {}
+        self._placements: tuple | None = None
         self._work = 0
         self._work_limit = DEFAULT_WORK
 
@@ -224,16 +240,19 @@ class PlacementSearch:
 
     def _width(self, k: int) -> int:
         """Tail width for a plan of k parts (k >= 2): triples for long plans when their
-        table fits, else pairs when theirs fits, else single placements."""
-        if k >= LONG_PLAN and self._table(3) is not None:
-            return 3
-        return 2 if self._table(2) is not None else 1
+        table fits, else pairs when theirs fits, else single placements (kept per k)."""
+        if k not in self._widths:
+            if k >= LONG_PLAN and self._table(3) is not None:
+                self._widths[k] = 3
+            else:
+                self._widths[k] = 2 if self._table(2) is not None else 1
+        return self._widths[k]
 
     def _query_target(self, t_real: np.ndarray) -> tuple[np.ndarray, float]:
         """The target in the span's coordinates, and the squared norm of the rest."""
-        target = t_real[:self.n_channels] + 1j * t_real[self.n_channels:]
         if self._basis is None:
             return np.ascontiguousarray(t_real, dtype=float), 0.0
+        target = t_real[:self.n_channels] + 1j * t_real[self.n_channels:]
         inside = target @ self._basis.conj().T
         rest = target - inside @ self._basis
         coords = np.stack([inside.real, inside.imag], axis=1).reshape(-1)
@@ -249,10 +268,13 @@ class PlacementSearch:
         table = self._table(width)
         coords, perp2 = self._query_target(t_real)
         maxnorm = self.norm == "max"
-        full = self.eff_real if maxnorm else None
-        placements = (self.coords, self.coords.shape[1], full,
-                      self.eff_real.shape[1] if maxnorm else 0, self.pos_of, self.item_of,
-                      self.capacity, self.mag, self.span_mag, self.mass, self.n_positions)
+        if self._placements is None:
+            full = self.eff_real if maxnorm else None
+            self._placements = (self.coords, self.coords.shape[1], full,
+                                self.eff_real.shape[1] if maxnorm else 0, self.pos_of,
+                                self.item_of, self.capacity, self.mag, self.span_mag, self.mass,
+                                self.n_positions)
+        placements = self._placements
         lightest = radius is not None
         query = (tuple(coords), tuple(t_real) if maxnorm else (), perp2, self._stock, k,
                  int(maxnorm), int(lightest), float(radius if lightest else bound),
@@ -264,7 +286,7 @@ class PlacementSearch:
             return None
         if rows is None:
             return None, np.inf, np.inf, False
-        return np.array(rows, dtype=np.int64), value, mass, status == 2
+        return tuple(rows), value, mass, status == 2
 
     # ----------------------------------------------------------------- search
     def front(self, target: np.ndarray, max_parts: int | None = None, *,
@@ -299,11 +321,18 @@ class PlacementSearch:
         """
         self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
-        target = np.atleast_1d(np.asarray(target, dtype=complex))
-        t_real = _as_real(target[None, :])[0]
-        best_rows: list[np.ndarray] = [np.zeros(0, dtype=np.int64)]
+        target, t_real = _target_arrays(target)
+        best_rows: list[tuple[int, ...]] = [_NO_ROWS]
         best_norm = self._norm_of(t_real)
-        entries = [self._selection(0, target, best_rows[0], best_norm, best_norm, True)]
+        entries = [self._selection(0, target, _NO_ROWS, best_norm, best_norm, True, (), 0.0)]
+        if self.n == 0:
+            # No placements (every item used up): each count keeps the plan of no parts,
+            # proven, its lower bound the target's norm (the loop below, in one step).
+            zero = entries[0]
+            if reach is None or zero.residual_norm > reach:
+                entries += [Selection(k, zero.parts, zero.residual, zero.residual_norm,
+                                      best_norm, True, zero.mass) for k in range(1, k_max + 1)]
+            return Front(tuple(entries), 0, "exact")
 
         def entry(k: int, lower: float, proven: bool) -> Selection:
             """Entry k: the best rows so far (the last entry's, unless they changed)."""
@@ -321,7 +350,7 @@ class PlacementSearch:
         for k in range(1, k_max + 1):
             if reach is not None and entries[-1].residual_norm <= reach:
                 break
-            if best_norm <= stop or self.n == 0:
+            if best_norm <= stop:
                 entries.append(entry(k, min(best_norm, entries[-1].lower_bound), True))
                 continue
             self._work = 0
@@ -380,22 +409,22 @@ class PlacementSearch:
             the radius (proven: the search finished) or none was found.
         """
         self._begin(stock, work)
-        target = np.atleast_1d(np.asarray(target, dtype=complex))
-        t_real = _as_real(target[None, :])[0]
+        target, t_real = _target_arrays(target)
         k = int(parts)
         # Sums in another order differ in the last bits: a plan exactly at the radius counts.
         size = max(self._norm_of(t_real), self._mag_max)
         radius = float(radius) * (1.0 + 1e-12) + 1e-12 * size
         best_row, best_mass, best_value = None, np.inf, np.inf
+        known_row = None
         if known is not None:
-            best_row = self.rows_of(known)
-            best_mass = float(self.mass[best_row].sum())
-            best_value = self._norm_of(t_real + self.eff_real[best_row].sum(axis=0))
+            best_row = known_row = self._rows_list(known)
+            best_mass = self._mass_of(best_row)
+            best_value = self._total_norm(t_real, best_row)
         if k == 0:
             value = self._norm_of(t_real)
             if value > radius:
                 return None
-            return self._selection(0, target, np.zeros(0, dtype=np.int64), value, value, True)
+            return self._selection(0, target, _NO_ROWS, value, value, True, (), 0.0)
         finished = True
         if self.n:
             if k == 1:
@@ -411,27 +440,39 @@ class PlacementSearch:
                 best_row, best_mass, best_value = found
         if best_row is None:
             return None
-        return self._selection(k, target, best_row, best_value, best_value, finished)
+        return self._selection(k, target, best_row, best_value, best_value, finished,
+                               mass=best_mass if best_row is known_row else None)
 
     def _lightest_single(self, t_real: np.ndarray, radius: float, best_mass: float,
                          best_value: float):
         """The lightest single part within ``radius`` (see :meth:`lightest`):
         (rows, mass, value), (None, ...) when none beats the known plan."""
         self._spend(self.n)
-        values = self._norm(t_real + self.eff_real)
+        values = self._single_norms(t_real)
         ok = (values <= radius) & self._in_stock()
         better = ok & ((self.mass < best_mass - 1e-12)
                        | ((self.mass <= best_mass + 1e-12) & (values < best_value)))
         if not better.any():
             return None, np.inf, np.inf
         cand = np.nonzero(better)[0]
-        first = cand[np.lexsort((values[cand], self.mass[cand]))[0]]
-        return np.array([first]), float(self.mass[first]), float(values[first])
+        first = int(cand[np.lexsort((values[cand], self.mass[cand]))[0]])
+        return (first,), float(self.mass[first]), float(values[first])
 
     def _begin(self, stock: np.ndarray | None, work: int) -> None:
-        """Set the stock and the work budget of one query."""
-        self._stock = self.stock if stock is None else np.ascontiguousarray(np.minimum(
-            np.asarray(stock, dtype=np.int64), self.stock))
+        """Set the stock and the work budget of one query (the stock of the query before
+        is kept when the same stock comes again: a batch asks with one stock rotor after
+        rotor)."""
+        if stock is None:
+            if self._stock_key is not None:
+                self._stock, self._stock_key = self.stock, None
+                self._all_in_stock = bool(self._in_stock().all())
+        else:
+            stock = np.asarray(stock, dtype=np.int64)
+            key = stock.tobytes()
+            if key != self._stock_key:
+                self._stock = np.ascontiguousarray(np.minimum(stock, self.stock))
+                self._stock_key = key
+                self._all_in_stock = bool(self._in_stock().all())
         self._work, self._work_limit = 0, int(work)
 
     def _spend(self, amount: int) -> bool:
@@ -456,29 +497,69 @@ class PlacementSearch:
         parts : tuple of (position, item, count)
             The parts (position and item as indices of the effects array).
         """
+        return np.array(self._rows_list(parts), dtype=np.int64)
+
+    def _rows_list(self, parts: PartList) -> tuple[int, ...]:
+        """Placement indices of a part list (:meth:`rows_of`), as a tuple."""
         if self._index is None:
             self._index = {(int(p), int(i)): r
                            for r, (p, i) in enumerate(zip(self.pos_of, self.item_of))}
         index = self._index
-        return np.array([index[(p, i)] for p, i, c in parts for _ in range(c)], dtype=np.int64)
+        return tuple([index[(p, i)] for p, i, c in parts for _ in range(c)])
+
+    def mass_of(self, parts: PartList) -> float:
+        """Added mass of a part list [g]: the parts' :attr:`mass` summed in the order of
+        :meth:`rows_of` (0.0 for no parts).
+
+        Parameters
+        ----------
+        parts : tuple of (position, item, count)
+            The parts.
+        """
+        return self._mass_of(self._rows_list(parts)) if parts else 0.0
+
+    def _mass_of(self, rows: tuple[int, ...]) -> float:
+        """Mass of placements ``rows`` summed as numpy sums ``mass[rows]``.  One or two
+        placements in Python floats: one addition at most, which every order and every
+        summation numpy may use rounds alike (tests/engine/test_search.py checks it)."""
+        if len(rows) == 1:
+            return self._mass_floats[rows[0]]
+        if len(rows) == 2:
+            return self._mass_floats[rows[0]] + self._mass_floats[rows[1]]
+        return float(self.mass[np.asarray(rows, dtype=np.int64)].sum()) if rows else 0.0
+
+    def _total_norm(self, t_real: np.ndarray, rows: tuple[int, ...]) -> float:
+        """Norm of the target plus the effects of placements ``rows``: the effects summed
+        (as numpy sums them), then added to the target.  One channel and one or two
+        placements in Python floats (one addition per component, see :meth:`_mass_of`)."""
+        if self._floats is not None and 1 <= len(rows) <= 2:
+            xs, ys = self._floats
+            if len(rows) == 2:
+                sx, sy = xs[rows[0]] + xs[rows[1]], ys[rows[0]] + ys[rows[1]]
+            else:
+                sx, sy = xs[rows[0]], ys[rows[0]]
+            x, y = float(t_real[0]) + sx, float(t_real[1]) + sy
+            return math.sqrt(x * x + y * y)
+        return self._norm_of(t_real + self.eff_real[np.asarray(rows, dtype=np.int64)].sum(axis=0))
 
     def _best_with(self, k: int, t_real: np.ndarray, bound: float, stop: float = 0.0):
         """Best selection of exactly k parts below ``bound``: (rows or None, value,
         stopped at a plan within ``stop``); None past the work budget."""
         if k == 1:
-            values = np.where(self._in_stock(), self._norm(t_real + self.eff_real), np.inf)
+            values = self._single_norms(t_real)
+            if not self._all_in_stock:
+                values = np.where(self._in_stock(), values, np.inf)
             self._spend(self.n)
-            i = int(np.argmin(values))
-            return ((np.array([i]), float(values[i]), False) if np.isfinite(values[i])
-                    else (None, np.inf, False))
+            i = int(values.argmin())
+            value = float(values[i])
+            return ((i,), value, False) if math.isfinite(value) else (None, np.inf, False)
         found = self._run(k, t_real, bound=bound, stop=stop)
         if found is None:
             return None
         rows, value, _, stopped = found
         if rows is None:
             return None, np.inf, False
-        total = t_real + self.eff_real[rows].sum(axis=0)
-        return rows, self._norm_of(total), stopped
+        return rows, self._total_norm(t_real, rows), stopped
 
     def _norm_of(self, real: np.ndarray) -> float:
         """The chosen norm of one real vector (real parts, then imaginary), as :meth:`_norm`."""
@@ -487,6 +568,15 @@ class PlacementSearch:
             x, y = float(real[0]), float(real[1])
             return math.sqrt(x * x + y * y)
         return float(self._norm(real[None, :])[0])
+
+    def _single_norms(self, t_real: np.ndarray) -> np.ndarray:
+        """The norm of the target plus each placement's effect: ``_norm(t_real + eff_real)``,
+        for one channel from the columns (the same sums, squares and roots)."""
+        if self._columns is None:
+            return self._norm(t_real + self.eff_real)
+        x = t_real[0] + self._columns[0]
+        y = t_real[1] + self._columns[1]
+        return np.sqrt(x * x + y * y)
 
     def _norm(self, real_rows: np.ndarray) -> np.ndarray:
         """The chosen norm of each row of real vectors (real parts, then imaginary)."""
@@ -501,24 +591,45 @@ class PlacementSearch:
         return np.sqrt((real_rows[:, :c] ** 2 + real_rows[:, c:] ** 2).max(axis=1))
 
     # ----------------------------------------------------------------- output
-    def _selection(self, k: int, target: np.ndarray, row: np.ndarray, norm: float,
-                   lower: float, proven: bool) -> Selection:
-        counts: dict[tuple[int, int], int] = {}
-        if len(row):
+    def _selection(self, k: int, target: np.ndarray, row: tuple[int, ...], norm: float,
+                   lower: float, proven: bool, parts: PartList | None = None,
+                   mass: float | None = None) -> Selection:
+        """The Selection of placements ``row``; ``parts`` and ``mass`` when the caller
+        has them already (the parts of ``row``, the mass summed over ``row`` in its order)."""
+        if parts is None:
             if self._lists is None:
                 self._lists = (self.pos_of.tolist(), self.item_of.tolist())
             pos, item = self._lists
-            for placement in np.asarray(row).tolist():
-                key = (pos[placement], item[placement])
-                counts[key] = counts.get(key, 0) + 1
-        parts = tuple(sorted((p, i, c) for (p, i), c in counts.items()))
+            placements = row
+            if len(placements) == 1:
+                parts = ((pos[placements[0]], item[placements[0]], 1),)
+            else:
+                counts: dict[tuple[int, int], int] = {}
+                for placement in placements:
+                    key = (pos[placement], item[placement])
+                    counts[key] = counts.get(key, 0) + 1
+                # Sorted by (position, item), each pair once: as (position, item, count).
+                parts = tuple([(p, i, c) for (p, i), c in sorted(counts.items())])
         residual = residual_of(target, self.effects, parts)
         if len(residual) == 1:
-            value = self._norm_of(np.array([residual[0].real, residual[0].imag]))
+            one = complex(residual[0])
+            value = self._norm_of((one.real, one.imag))
         else:
             value = self._norm_of(_as_real(residual[None, :])[0])
-        mass = float(self.mass[np.asarray(row, dtype=np.int64)].sum()) if len(row) else 0.0
+        if mass is None:
+            mass = self._mass_of(row)
         return Selection(k, parts, residual, value, float(lower), proven, mass)
+
+
+def _target_arrays(target: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """A query's target as a complex array (n_channels,) and as real numbers (real parts,
+    then imaginary: :func:`_as_real`)."""
+    if not (type(target) is np.ndarray and target.ndim == 1 and target.dtype == _COMPLEX):
+        target = np.atleast_1d(np.asarray(target, dtype=complex))
+    if len(target) == 1:
+        one = complex(target[0])
+        return target, np.array([one.real, one.imag])
+    return target, _as_real(target[None, :])[0]
 
 
 def _as_real(values: np.ndarray) -> np.ndarray:

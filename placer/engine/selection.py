@@ -48,7 +48,7 @@ class Selection:
     @property
     def used_parts(self) -> int:
         """Number of parts the selection really uses (may be below part_count)."""
-        return sum(count for _, _, count in self.parts)
+        return sum([count for _, _, count in self.parts])
 
 
 @dataclass(frozen=True)

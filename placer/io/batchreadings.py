@@ -306,19 +306,18 @@ def _number(raw: Any, name: str, text: bool) -> float | str:
     if isinstance(raw, str) and not text:
         return f"{name} is the text '{shown(raw)}' (expected a JSON number, without quotes)"
     if isinstance(raw, str):
-        echo = shown(raw)
         if raw.lower() in NON_FINITE:
             value = float(raw)
         elif PLAIN_NUMBER.fullmatch(raw):
             value = float(raw)  # a long string of digits overflows to inf, never raises
             if not math.isfinite(value):
-                return f"{name} is '{echo}' (expected {RANGE_EXPECTED})"
+                return f"{name} is '{shown(raw)}' (expected {RANGE_EXPECTED})"
         else:
             try:
                 float(raw)
             except (ValueError, OverflowError):
-                return f"{name} is '{echo}', not a number (expected {PLAIN_EXPECTED})"
-            return f"{name} is '{echo}', not a plain number (expected {PLAIN_EXPECTED})"
+                return f"{name} is '{shown(raw)}', not a number (expected {PLAIN_EXPECTED})"
+            return f"{name} is '{shown(raw)}', not a plain number (expected {PLAIN_EXPECTED})"
     elif isinstance(raw, _OutOfRange):
         return f"{name} is {raw.shown} (expected {RANGE_EXPECTED})"
     elif isinstance(raw, bool) or not isinstance(raw, (int, float)):

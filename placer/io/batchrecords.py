@@ -25,7 +25,7 @@ def parts_text(fitted: list[dict]) -> str:
     str
         The parts as text, e.g. ``3:M10×2;7:M6×1``.
     """
-    return ";".join(f"{p['position']}:{p['item']}×{_signed(p)}" for p in fitted)
+    return ";".join([f"{p['position']}:{p['item']}×{_signed(p)}" for p in fitted])
 
 
 def _signed(part: dict) -> int:

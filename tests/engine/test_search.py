@@ -274,3 +274,47 @@ def test_a_table_over_a_megabyte_is_fetched_ahead_with_the_same_answer():
     assert placer.engine.search.FETCH_AHEAD_BYTES < 165_000 * 8
     assert [e.parts for e in default.entries] == [e.parts for e in one_pass.entries]
     assert default.work == one_pass.work and default.optimal
+
+
+def test_small_sums_are_numpy_sums_bit_for_bit():
+    # The mass and the residual norm of one or two placements are summed in Python floats
+    # (one addition per component); source: numpy's own sum of the same rows, the form
+    # used before (mass[rows].sum(), t + eff_real[rows].sum(axis=0), then the norm).
+    rng = np.random.default_rng(2026)
+    masses = rng.uniform(0.2, 40.0, size=7)
+    effects = ring_effects(12, list(masses[:5]), 150.0)
+    search = PlacementSearch(effects, np.full(12, 3), np.full(5, 9), 4)
+    for _ in range(400):
+        k = int(rng.integers(1, 5))
+        rows = tuple(int(r) for r in rng.integers(0, search.n, size=k))
+        t_real = np.array([rng.uniform(-3000, 3000), rng.uniform(-3000, 3000)])
+        index = np.asarray(rows, dtype=np.int64)
+        mass = float(search.mass[index].sum())
+        total = t_real + search.eff_real[index].sum(axis=0)
+        x, y = float(total[0]), float(total[1])
+        norm = math.sqrt(x * x + y * y)
+        assert search._mass_of(rows).hex() == mass.hex()
+        assert search._total_norm(t_real, rows).hex() == norm.hex()
+    parts = ((0, 1, 2), (5, 4, 1))
+    assert search.mass_of(parts) == float(search.mass[search.rows_of(parts)].sum())
+    assert search.mass_of(()) == 0.0
+
+
+def test_no_placements_left_keeps_the_plan_of_no_parts():
+    # Every item used up (a drained drawer): source, enumeration (tests/oracle.py) gives
+    # the target's own norm for every count; each entry is proven, holds no parts, and a
+    # front asked to end at a reach stops at once when the target is within it.
+    effects = ring_effects(12, [1.0, 3.5], 150.0)
+    target = np.array([420.0 - 180.0j])
+    search = PlacementSearch(effects, np.full(12, 3), np.zeros(2, int), 4)
+    assert search.n == 0
+    expected = brute_front(effects, target, np.full(12, 3), np.zeros(2, int), 4)
+    front = search.front(target)
+    assert [e.residual_norm for e in front.entries] == pytest.approx(expected, abs=1e-9)
+    assert [e.part_count for e in front.entries] == [0, 1, 2, 3, 4]
+    assert all(e.parts == () and e.proven and e.mass == 0.0 for e in front.entries)
+    assert all(e.lower_bound == front.entries[0].residual_norm for e in front.entries)
+    assert front.optimal and front.work == 0
+    size = abs(target[0])
+    assert len(search.front(target, reach=size + 1.0).entries) == 1
+    assert len(search.front(target, reach=size - 1.0).entries) == 5
