@@ -17,11 +17,9 @@ How the search proves its answer (Notes)
 * Placements (position, item) are sorted by the norm of their effect,
   largest first, so a multiset written in non-decreasing index order lists
   its parts from largest to smallest.
-* The span: every effect lies in the span of the effects (for a field visit,
-  of the planes' influence columns, whatever the number of sensors).  In an
-  orthonormal basis of it a residual splits into a part in the span and a
-  part orthogonal to it that no plan changes, so the search works in the
-  span's coordinates (2 × rank real numbers) and adds the constant back.
+* The span (:mod:`placer.engine.coordinates`): the search works in the
+  coordinates of the effects' span (2 × rank real numbers) and adds back the
+  part of the target outside it, which no plan changes.
 * Meet in the middle: every feasible multiset of w placements (w = 2, pairs;
   3 for plans of seven parts or more when the table stays small; 1 past the
   pair budget) is tabulated once in a uniform grid over its summed effect.
@@ -71,6 +69,8 @@ import math
 
 import numpy as np
 
+from placer.engine.coordinates import (NORMS, as_real, in_span, norm_of, norms, span_of,
+                                       target_arrays)
 from placer.engine.selection import Front, PartList, Selection
 from placer.errors import PlacerError
 from placer.limits import DEFAULT_WORK
@@ -78,15 +78,11 @@ from placer.residual import residual_of
 
 _NO_ROWS: tuple[int, ...] = ()
 """No placements (the plan of no parts)."""
-_COMPLEX = np.dtype(complex)
 
 try:
     from placer.engine import _kernel
 except ImportError:                                   # pragma: no cover - a broken install
     _kernel = None
-
-NORMS = ("euclidean", "max")
-"""Norms the search can minimise over the channels of the residual."""
 
 
 ABS_TOL = 0.01
@@ -177,7 +173,7 @@ class PlacementSearch:
         usable &= np.linalg.norm(effects, axis=2) > 0
         pos, item = np.nonzero(usable)
         eff = effects[pos, item, :]
-        size = self._norm(_as_real(eff))
+        size = norms(self.norm, as_real(eff))
         order = np.lexsort((item, pos, -size))
         self.pos_of = np.ascontiguousarray(pos[order], dtype=np.int64)
         self.item_of = np.ascontiguousarray(item[order], dtype=np.int64)
@@ -188,7 +184,7 @@ class PlacementSearch:
         self.mass = np.ascontiguousarray(weights[self.pos_of, self.item_of], dtype=float)
         self._mass_floats = self.mass.tolist()
         self.n = len(self.pos_of)
-        self.eff_real = np.ascontiguousarray(_as_real(self.eff))
+        self.eff_real = np.ascontiguousarray(as_real(self.eff))
         # One channel, Euclidean: the effects' real and imaginary parts as columns of their own,
         # and as Python floats (sums of one or two placements, see _mass_of).
         self._columns = ((np.ascontiguousarray(self.eff_real[:, 0]),
@@ -196,7 +192,7 @@ class PlacementSearch:
                          if self.norm == "euclidean" and self.eff_real.shape[1] == 2 else None)
         self._floats = None if self._columns is None else (self._columns[0].tolist(),
                                                            self._columns[1].tolist())
-        self._basis, self.coords = _span(self.eff)
+        self._basis, self.coords = span_of(self.eff)
         if self.coords.shape[1] > MAX_COORDS or (self.norm == "max"
                                                  and self.eff_real.shape[1] > MAX_FULL):
             raise ValueError("too many channels for the compiled search "
@@ -248,16 +244,6 @@ class PlacementSearch:
                 self._widths[k] = 2 if self._table(2) is not None else 1
         return self._widths[k]
 
-    def _query_target(self, t_real: np.ndarray) -> tuple[np.ndarray, float]:
-        """The target in the span's coordinates, and the squared norm of the rest."""
-        if self._basis is None:
-            return np.ascontiguousarray(t_real, dtype=float), 0.0
-        target = t_real[:self.n_channels] + 1j * t_real[self.n_channels:]
-        inside = target @ self._basis.conj().T
-        rest = target - inside @ self._basis
-        coords = np.stack([inside.real, inside.imag], axis=1).reshape(-1)
-        return np.ascontiguousarray(coords), float(np.vdot(rest, rest).real)
-
     def _run(self, k: int, t_real: np.ndarray, *, bound: float = np.inf,
              radius: float | None = None, best_mass: float = np.inf,
              best_value: float = np.inf, stop: float = 0.0):
@@ -266,7 +252,7 @@ class PlacementSearch:
         value, mass, stopped) or None past the work budget."""
         width = min(self._width(k), k)
         table = self._table(width)
-        coords, perp2 = self._query_target(t_real)
+        coords, perp2 = in_span(self._basis, t_real)
         maxnorm = self.norm == "max"
         if self._placements is None:
             full = self.eff_real if maxnorm else None
@@ -321,9 +307,9 @@ class PlacementSearch:
         """
         self._begin(stock, work)
         k_max = self.max_parts if max_parts is None else min(int(max_parts), self.max_parts)
-        target, t_real = _target_arrays(target)
+        target, t_real = target_arrays(target)
         best_rows: list[tuple[int, ...]] = [_NO_ROWS]
-        best_norm = self._norm_of(t_real)
+        best_norm = norm_of(self.norm, t_real)
         entries = [self._selection(0, target, _NO_ROWS, best_norm, best_norm, True, (), 0.0)]
         if self.n == 0:
             # No placements (every item used up): each count keeps the plan of no parts,
@@ -409,10 +395,10 @@ class PlacementSearch:
             the radius (proven: the search finished) or none was found.
         """
         self._begin(stock, work)
-        target, t_real = _target_arrays(target)
+        target, t_real = target_arrays(target)
         k = int(parts)
         # Sums in another order differ in the last bits: a plan exactly at the radius counts.
-        size = max(self._norm_of(t_real), self._mag_max)
+        size = max(norm_of(self.norm, t_real), self._mag_max)
         radius = float(radius) * (1.0 + 1e-12) + 1e-12 * size
         best_row, best_mass, best_value = None, np.inf, np.inf
         known_row = None
@@ -421,7 +407,7 @@ class PlacementSearch:
             best_mass = self._mass_of(best_row)
             best_value = self._total_norm(t_real, best_row)
         if k == 0:
-            value = self._norm_of(t_real)
+            value = norm_of(self.norm, t_real)
             if value > radius:
                 return None
             return self._selection(0, target, _NO_ROWS, value, value, True, (), 0.0)
@@ -540,7 +526,7 @@ class PlacementSearch:
                 sx, sy = xs[rows[0]], ys[rows[0]]
             x, y = float(t_real[0]) + sx, float(t_real[1]) + sy
             return math.sqrt(x * x + y * y)
-        return self._norm_of(t_real + self.eff_real[np.asarray(rows, dtype=np.int64)].sum(axis=0))
+        return norm_of(self.norm, t_real + self.eff_real[np.asarray(rows, dtype=np.int64)].sum(axis=0))
 
     def _best_with(self, k: int, t_real: np.ndarray, bound: float, stop: float = 0.0):
         """Best selection of exactly k parts below ``bound``: (rows or None, value,
@@ -561,34 +547,14 @@ class PlacementSearch:
             return None, np.inf, False
         return rows, self._total_norm(t_real, rows), stopped
 
-    def _norm_of(self, real: np.ndarray) -> float:
-        """The chosen norm of one real vector (real parts, then imaginary), as :meth:`_norm`."""
-        if self.norm == "euclidean" and len(real) == 2:
-            # The same products, sum and square root as _norm, in Python floats.
-            x, y = float(real[0]), float(real[1])
-            return math.sqrt(x * x + y * y)
-        return float(self._norm(real[None, :])[0])
-
     def _single_norms(self, t_real: np.ndarray) -> np.ndarray:
         """The norm of the target plus each placement's effect: ``_norm(t_real + eff_real)``,
         for one channel from the columns (the same sums, squares and roots)."""
         if self._columns is None:
-            return self._norm(t_real + self.eff_real)
+            return norms(self.norm, t_real + self.eff_real)
         x = t_real[0] + self._columns[0]
         y = t_real[1] + self._columns[1]
         return np.sqrt(x * x + y * y)
-
-    def _norm(self, real_rows: np.ndarray) -> np.ndarray:
-        """The chosen norm of each row of real vectors (real parts, then imaginary)."""
-        if self.norm == "euclidean":
-            if real_rows.shape[1] == 2:
-                # One channel: the same sum of squares np.linalg.norm forms, without its
-                # overhead (the bits are the same: one addition, one square root).
-                x, y = real_rows[:, 0], real_rows[:, 1]
-                return np.sqrt(x * x + y * y)
-            return np.linalg.norm(real_rows, axis=1)
-        c = real_rows.shape[1] // 2
-        return np.sqrt((real_rows[:, :c] ** 2 + real_rows[:, c:] ** 2).max(axis=1))
 
     # ----------------------------------------------------------------- output
     def _selection(self, k: int, target: np.ndarray, row: tuple[int, ...], norm: float,
@@ -613,42 +579,12 @@ class PlacementSearch:
         residual = residual_of(target, self.effects, parts)
         if len(residual) == 1:
             one = complex(residual[0])
-            value = self._norm_of((one.real, one.imag))
+            value = norm_of(self.norm, (one.real, one.imag))
         else:
-            value = self._norm_of(_as_real(residual[None, :])[0])
+            value = norm_of(self.norm, as_real(residual[None, :])[0])
         if mass is None:
             mass = self._mass_of(row)
         return Selection(k, parts, residual, value, float(lower), proven, mass)
-
-
-def _target_arrays(target: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """A query's target as a complex array (n_channels,) and as real numbers (real parts,
-    then imaginary: :func:`_as_real`)."""
-    if not (type(target) is np.ndarray and target.ndim == 1 and target.dtype == _COMPLEX):
-        target = np.atleast_1d(np.asarray(target, dtype=complex))
-    if len(target) == 1:
-        one = complex(target[0])
-        return target, np.array([one.real, one.imag])
-    return target, _as_real(target[None, :])[0]
-
-
-def _as_real(values: np.ndarray) -> np.ndarray:
-    """Complex (rows, channels) to real (rows, 2*channels): real parts, then imaginary."""
-    return np.concatenate([values.real, values.imag], axis=1)
-
-
-def _span(eff: np.ndarray) -> tuple[np.ndarray | None, np.ndarray]:
-    """An orthonormal basis of the span of the effects (None for one channel) and each
-    effect's real coordinates in it (real and imaginary part of each basis coordinate)."""
-    n, channels = eff.shape
-    if channels == 1 or n == 0:
-        return None, np.ascontiguousarray(_as_real(eff) if n else np.zeros((0, 2)))
-    _, singular, vh = np.linalg.svd(eff, full_matrices=False)
-    rank = max(1, int(np.sum(singular > 1e-13 * singular[0])))
-    basis = vh[:rank]
-    inside = eff @ basis.conj().T
-    coords = np.stack([inside.real, inside.imag], axis=2).reshape(n, 2 * rank)
-    return basis, np.ascontiguousarray(coords)
 
 
 def _multisets(n: int, width: int) -> int:
