@@ -37,16 +37,16 @@ import io
 import json
 import os
 import re
-import signal
 import sys
 from collections import Counter
 from collections.abc import Iterator
-from contextlib import contextmanager
 from pathlib import Path
 
 import pytest
 from hypothesis import HealthCheck, Phase, given, settings
 from hypothesis import strategies as st
+
+from deadline import deadline
 
 from placer.cli import main
 
@@ -216,22 +216,10 @@ class Hang(BaseException):
     """Raised by the timer into a run that took longer than EXAMPLE_TIMEOUT_S."""
 
 
-@contextmanager
-def time_bound(seconds: float | None = None) -> Iterator[None]:
+def time_bound(seconds: float | None = None):
     """Raise :class:`Hang` when the block runs past ``seconds`` (SIGALRM; default
     :data:`EXAMPLE_TIMEOUT_S`)."""
-    seconds = EXAMPLE_TIMEOUT_S if seconds is None else seconds
-
-    def alarm(signum, frame):
-        raise Hang(f"no answer within {seconds:g} s")
-
-    previous = signal.signal(signal.SIGALRM, alarm)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
-    try:
-        yield
-    finally:
-        signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
+    return deadline(EXAMPLE_TIMEOUT_S if seconds is None else seconds, Hang)
 
 
 def strict_json(text: str) -> object:

@@ -20,10 +20,8 @@ from __future__ import annotations
 
 import os
 import re
-import signal
 import stat
 import sys
-from contextlib import contextmanager
 from pathlib import Path
 
 import pytest
@@ -35,24 +33,15 @@ from placer.limits import MAX_FILE_BYTES, MAX_NAME_BYTES, MAX_READINGS_BYTES
 REPO = Path(__file__).resolve().parents[2]
 EXAMPLES = REPO / "examples"
 sys.path.insert(0, str(REPO / "tests"))
+from deadline import deadline  # noqa: E402
 from test_fuzz import CATALOGUE_JOB, ROWS_TEMPLATE, rows_csv, rows_jsonl  # noqa: E402
 
 BOM = "\ufeff".encode("utf-8")
 
 
-@contextmanager
 def bounded(seconds: float = 10.0):
     """Fail instead of hanging: a blocking open or read is interrupted by SIGALRM."""
-    def alarm(signum, frame):
-        raise TimeoutError(f"no answer within {seconds} s")
-
-    previous = signal.signal(signal.SIGALRM, alarm)
-    signal.setitimer(signal.ITIMER_REAL, seconds)
-    try:
-        yield
-    finally:
-        signal.setitimer(signal.ITIMER_REAL, 0)
-        signal.signal(signal.SIGALRM, previous)
+    return deadline(seconds)
 
 
 def one_line(code: int, err: str, file: str, *parts: str) -> str:
